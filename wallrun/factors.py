@@ -1,0 +1,72 @@
+"""Partial factor sets of EN 1997-1:2004 Annex A (recommended values).
+
+Design-basis section 4. A national annex may change any value; ``site.toml``
+``[factors.<set>]`` tables override them key by key.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+
+@dataclass(frozen=True)
+class FactorSet:
+    """One set of partial factors (dimensionless).
+
+    gG_unfav, gG_fav: permanent actions, unfavourable / favourable (A.1, A.2).
+    gQ: variable actions, unfavourable (favourable variable actions take 0).
+    g_phi, g_c, g_cu: soil parameters tan phi', c', cu (A.2, A.4).
+    gR_bearing, gR_sliding, gR_passive: resistances (A.5, A.13).
+    gG_unfav_ground: unfavourable permanent *ground* actions (soil weight, earth and
+    water pressure); equal to gG_unfav except in DA3, where gG_unfav is the A1 factor
+    on structural (concrete) actions and the ground actions take the A2 value.
+    """
+
+    name: str
+    gG_unfav: float
+    gG_fav: float
+    gQ: float
+    g_phi: float
+    g_c: float
+    g_cu: float
+    gR_bearing: float = 1.0
+    gR_sliding: float = 1.0
+    gR_passive: float = 1.0
+    gG_unfav_ground: float | None = None
+
+    @property
+    def gG_ground(self) -> float:
+        """Factor on unfavourable permanent ground actions."""
+        return self.gG_unfav if self.gG_unfav_ground is None else self.gG_unfav_ground
+
+
+#: EN 1997-1 Annex A recommended values (Tables A.2, A.3, A.4, A.5, A.13).
+RECOMMENDED: dict[str, FactorSet] = {
+    "EQU": FactorSet("EQU", 1.10, 0.90, 1.50, 1.25, 1.25, 1.40),
+    "DA1-1": FactorSet("DA1-1", 1.35, 1.00, 1.50, 1.00, 1.00, 1.00, 1.0, 1.0, 1.0),
+    "DA1-2": FactorSet("DA1-2", 1.00, 1.00, 1.30, 1.25, 1.25, 1.40, 1.0, 1.0, 1.0),
+    "DA2": FactorSet("DA2", 1.35, 1.00, 1.50, 1.00, 1.00, 1.00, 1.4, 1.1, 1.4),
+    "DA3": FactorSet("DA3", 1.35, 1.00, 1.30, 1.25, 1.25, 1.40, 1.0, 1.0, 1.0,
+                     gG_unfav_ground=1.00),
+}
+
+#: Keys a ``[factors.<set>]`` table may give.
+OVERRIDE_KEYS = ("gG_unfav", "gG_fav", "gQ", "g_phi", "g_c", "g_cu",
+                 "gR_bearing", "gR_sliding", "gR_passive", "gG_unfav_ground")
+
+#: Sets used by each design approach, EQU always included (design-basis section 4).
+SETS_OF_APPROACH = {"DA1": ("EQU", "DA1-1", "DA1-2"), "DA2": ("EQU", "DA2"),
+                    "DA3": ("EQU", "DA3")}
+
+
+def resolve(approach: str, overrides: dict[str, dict[str, float]] | None = None) -> dict[str, FactorSet]:
+    """Factor sets in use for ``approach``, with ``overrides`` applied key by key."""
+    overrides = overrides or {}
+    out = {}
+    for name in SETS_OF_APPROACH[approach]:
+        out[name] = replace(RECOMMENDED[name], **overrides.get(name, {}))
+    return out
+
+
+SLS = FactorSet("SLS", 1.0, 1.0, 1.0, 1.0, 1.0, 1.0)
+"""Characteristic combination: every factor 1.0 (eccentricity_sls, bearing_sls)."""

@@ -1,0 +1,1 @@
+"""Writers of the output folder: tables, JSON, drawings, previews and the report."""

@@ -1,0 +1,306 @@
+"""Result objects of a design, named like the output columns of ``shared/interfaces.md``.
+
+The output files are plain renderings of these objects: ``panels.csv`` rows are
+:class:`PanelResult`, ``joints.csv`` rows :class:`Joint`, and so on.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from wallrun.section import Section
+from wallrun.settings import Backfill, Foundation
+
+
+# --- checks --------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class CheckArray:
+    """One check in one combination and case, for n candidates at once.
+
+    effect, resistance: arrays of shape (n,) in ``unit``; utilization = effect /
+    resistance (pass at <= 1.0). A resistance <= 0 gives utilization inf where the
+    effect is positive and 0 where it is not.
+    """
+
+    check: str
+    combination: str
+    case: str
+    unit: str
+    clause: str
+    effect: np.ndarray
+    resistance: np.ndarray
+
+    @property
+    def utilization(self) -> np.ndarray:
+        return utilization(self.effect, self.resistance)
+
+
+def utilization(effect, resistance) -> np.ndarray:
+    """effect / resistance with the conventions of :class:`CheckArray`."""
+    e = np.asarray(effect, dtype=float)
+    r = np.asarray(resistance, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        u = np.where(r > 0, e / np.where(r > 0, r, 1.0), np.where(e > 0, np.inf, 0.0))
+    return u
+
+
+@dataclass(frozen=True)
+class CheckEntry:
+    """One entry of ``design.json`` ``panels[].checks``."""
+
+    check: str
+    combination: str
+    case: str
+    effect: float
+    resistance: float
+    unit: str
+    utilization: float
+    clause: str
+    governs: bool = False
+
+
+def max_utilization(checks: list[CheckArray] | tuple[CheckArray, ...]) -> np.ndarray:
+    """Largest utilization of every candidate over all ``checks``, shape (n,)."""
+    return np.max(np.vstack([np.broadcast_to(c.utilization, np.shape(checks[0].effect))
+                             for c in checks]), axis=0)
+
+
+def entries(checks, i: int) -> tuple[CheckEntry, ...]:
+    """The checks of candidate ``i`` as entries, ``governs`` set on the worst entry of
+    each (check, combination)."""
+    out = []
+    for c in checks:
+        e = float(np.broadcast_to(c.effect, np.shape(checks[0].effect))[i])
+        r = float(np.broadcast_to(c.resistance, np.shape(checks[0].effect))[i])
+        out.append(CheckEntry(c.check, c.combination, c.case, e, r, c.unit,
+                              float(utilization(e, r)), c.clause))
+    worst: dict[tuple[str, str], int] = {}
+    for k, e in enumerate(out):
+        key = (e.check, e.combination)
+        if key not in worst or e.utilization > out[worst[key]].utilization:
+            worst[key] = k
+    gov = set(worst.values())
+    return tuple(CheckEntry(**{**e.__dict__, "governs": k in gov}) for k, e in enumerate(out))
+
+
+# --- reinforcement -------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class BarSet:
+    """Bars of one member: diameter mm, spacing mm, areas mm2/m, effective depth mm."""
+
+    bar_mm: int
+    spacing_mm: int
+    as_prov_mm2_per_m: float
+    as_req_mm2_per_m: float
+    d_mm: float
+
+
+@dataclass(frozen=True)
+class Reinforcement:
+    """The bars of a section (``design.json`` ``panels[].reinforcement``).
+
+    stem: vertical main bars at the back (retained) face; heel: top mat of the base;
+    toe: bottom mat of the base; stem_horizontal: horizontal bars, each face;
+    base_distribution: transverse (along the wall) bars of the base, each mat.
+    stem_front: vertical bars of the front face (minimum steel).
+    """
+
+    stem: BarSet
+    heel: BarSet
+    toe: BarSet
+    stem_horizontal: BarSet
+    base_distribution: BarSet
+    stem_front: BarSet | None = None
+    stem_curtail_m: float | None = None  # height above the top of the base where half
+    # the stem main bars stop (None: all bars run full height)
+
+
+@dataclass(frozen=True)
+class BarMark:
+    """One row of ``bar_schedule.csv`` (BS 8666 / ISO 4066 shape codes)."""
+
+    section: str
+    member: str
+    bar_mark: str
+    bar_mm: int
+    shape_code: str
+    length_mm: int
+    number: int
+    total_length_m: float
+    mass_kg: float
+    dims_mm: dict[str, int] = field(default_factory=dict)  # shape dimensions A, B, ...
+
+
+# --- run, panels and joints -------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Panel:
+    """A panel's extent and levels (the level columns of ``panels.csv``), m."""
+
+    panel: str
+    run: int
+    side: str  # fill | cut
+    ch_start_m: float
+    ch_end_m: float
+    retained_top_m: float
+    front_min_m: float
+    founding_m: float
+    wall_top_start_m: float
+    wall_top_end_m: float
+    foundation: Foundation
+    backfill: Backfill
+    surcharge_kpa: float
+    water_level_m: float | None  # absolute, as used after capping at the backfill surface
+
+    @property
+    def length_m(self) -> float:
+        return self.ch_end_m - self.ch_start_m
+
+    @property
+    def retained_height_m(self) -> float:
+        return self.retained_top_m - self.front_min_m
+
+    @property
+    def total_height_m(self) -> float:
+        return self.retained_top_m - self.founding_m
+
+
+@dataclass(frozen=True)
+class PanelResult:
+    """A designed panel: one row of ``panels.csv`` and one entry of ``design.json``."""
+
+    panel: Panel
+    section_type: str
+    section: Section
+    reinforcement: Reinforcement
+    checks: tuple[CheckEntry, ...]
+    status: str  # ok | flagged
+    reason: str = ""
+    quantities: dict[str, float] = field(default_factory=dict)  # per-panel take-off
+    concrete_m3: float = 0.0
+    steel_kg: float = 0.0
+    cost: float = 0.0
+
+    def util(self, *checks: str) -> float:
+        us = [c.utilization for c in self.checks if c.check in checks]
+        return max(us) if us else 0.0
+
+    @property
+    def governing(self) -> str:
+        """Largest utilization overall as ``check combination``."""
+        if not self.checks:
+            return ""
+        c = max(self.checks, key=lambda c: c.utilization)
+        return f"{c.check} {c.combination}"
+
+
+@dataclass(frozen=True)
+class Joint:
+    """One row of ``joints.csv``."""
+
+    joint: str
+    ch_m: float
+    left: str
+    right: str
+    founding_step_m: float
+    top_step_m: float
+    pressure_ratio: float
+    status: str  # ok | flagged
+    reason: str = ""
+
+
+@dataclass(frozen=True)
+class SectionType:
+    """A section type in use: one row of ``sections.csv`` (output)."""
+
+    section_type: str
+    section: Section
+    reinforcement: Reinforcement
+    governing: str  # check and combination that governs over its panels
+    utilization: float
+    panels: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Quantity:
+    item: str
+    unit: str
+    quantity: float
+
+
+@dataclass(frozen=True)
+class CostRow:
+    item: str
+    unit: str
+    quantity: float
+    rate: float | None  # None: no rate given (unpriced)
+    amount: float | None
+
+
+@dataclass(frozen=True)
+class Cost:
+    rows: tuple[CostRow, ...]
+    total: float
+    complete: bool  # False when any item is unpriced
+    demo_rates: bool  # True when the invented demo rates were used
+
+
+@dataclass(frozen=True)
+class Run:
+    """A continuous wall on one side (``wallrun check --json`` ``runs[]``), m."""
+
+    run: int
+    side: str  # fill | cut
+    ch_start_m: float
+    ch_end_m: float
+    max_retained_height_m: float
+    at_ch_m: float
+
+    @property
+    def length_m(self) -> float:
+        return self.ch_end_m - self.ch_start_m
+
+
+@dataclass(frozen=True)
+class ActionRow:
+    """One characteristic action on a section, for the report's actions table.
+
+    vertical_kn_m: downward positive; horizontal_kn_m: towards the front positive;
+    x_m, z_m: point of application from the toe edge and the underside of the base;
+    moment_kn_m_m: about the toe edge at the underside, restoring positive.
+    kind: ``permanent`` or ``variable``.
+    """
+
+    name: str
+    kind: str
+    vertical_kn_m: float
+    horizontal_kn_m: float
+    x_m: float
+    z_m: float
+    moment_kn_m_m: float
+
+
+@dataclass(frozen=True)
+class DesignResult:
+    """Everything a design produced; the output files render exactly this."""
+
+    site: "object"  # wallrun.settings.Site
+    profiles: "object"  # wallrun.profile.Profiles
+    runs: tuple[Run, ...]
+    panels: tuple[PanelResult, ...]
+    joints: tuple[Joint, ...]
+    section_types: tuple[SectionType, ...]
+    actions: dict[str, tuple[ActionRow, ...]]  # per section type, at its governing panel
+    bar_schedule: tuple[BarMark, ...]
+    quantities: tuple[Quantity, ...]
+    cost: Cost
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def ok(self) -> bool:
+        return all(p.status == "ok" for p in self.panels) and all(
+            j.status == "ok" for j in self.joints)
