@@ -59,3 +59,189 @@ class SectionArrays:
 
     def subset(self, idx) -> "SectionArrays":
         return SectionArrays(**{f.name: np.asarray(getattr(self, f.name))[idx] for f in fields(self)})
+
+
+# --- geometry functions (design-basis section 2) ----------------------------------------
+#
+# Vertex arrays: ``xs``, ``zs`` of shape (n, k) (n candidates, k vertices, listed
+# anticlockwise) or (k,) for one polygon. Builders take dimension arrays of shape (n,)
+# (or floats) and return (xs, zs) of shape (n, k). Coordinates: x from the toe edge,
+# z from the underside of the base, m.
+
+
+def area_centroid(xs, zs):
+    """Area and centroid of polygons by the shoelace formula, vectorised.
+
+    xs, zs: vertex coordinates, shape (n, k) or (k,), m; the polygon closes from the
+    last vertex back to the first; either orientation.
+    Returns (A, cx, cz): area m2 (>= 0) and centroid m, shape (n,) (or scalars for 1-D
+    input). A degenerate polygon (A = 0, e.g. an absent key) gets the mean of its
+    vertices as centroid, so that weight x lever arm stays 0 and finite.
+    """
+    x = np.asarray(xs, dtype=float)
+    z = np.asarray(zs, dtype=float)
+    x1 = np.roll(x, -1, axis=-1)
+    z1 = np.roll(z, -1, axis=-1)
+    cross = x * z1 - x1 * z
+    a2 = cross.sum(axis=-1)  # twice the signed area
+    sx = ((x + x1) * cross).sum(axis=-1)
+    sz = ((z + z1) * cross).sum(axis=-1)
+    ok = np.abs(a2) > 1e-15
+    safe = np.where(ok, a2, 1.0)
+    cx = np.where(ok, sx / (3.0 * safe), x.mean(axis=-1))
+    cz = np.where(ok, sz / (3.0 * safe), z.mean(axis=-1))
+    A = 0.5 * np.abs(a2)
+    if x.ndim == 1:
+        return float(A), float(cx), float(cz)
+    return A, cx, cz
+
+
+def _cols(*cols):
+    """Stack broadcast columns into an (n, k) array."""
+    arrs = np.broadcast_arrays(*[np.asarray(c, dtype=float) for c in cols])
+    return np.stack(arrs, axis=-1)
+
+
+def stem_vertices(toe, t_base, t_stem_base, t_stem_top, h_checked, h_drawn=None):
+    """Stem outline (5 vertices): front face vertical at x = toe; back face tapering
+    from t_stem_base at the top of the base (z = t_base) to t_stem_top at
+    z = t_base + h_checked (z_top), vertical above it up to z = t_base + h_drawn.
+
+    Without ``h_drawn`` the stem stops at z_top (the checked section). m.
+    """
+    if h_drawn is None:
+        h_drawn = h_checked
+    zb = np.asarray(t_base, dtype=float)
+    xs = _cols(toe, np.asarray(toe) + t_stem_base, np.asarray(toe) + t_stem_top,
+               np.asarray(toe) + t_stem_top, toe)
+    zs = _cols(zb, zb, zb + h_checked, zb + np.asarray(h_drawn, dtype=float), zb + h_drawn)
+    return xs, zs
+
+
+def base_vertices(B, t_base):
+    """Base rectangle 0 <= x <= B, 0 <= z <= t_base (4 vertices), m."""
+    z0 = np.zeros_like(np.asarray(B, dtype=float))
+    return _cols(z0, B, B, z0), _cols(z0, z0, t_base, t_base)
+
+
+def key_vertices(toe, d_key, w_key):
+    """Shear key below the base (4 vertices): front face at x = toe, from z = -d_key to
+    z = 0, width w_key. A zero key gives a degenerate (zero-area) polygon. m."""
+    toe = np.asarray(toe, dtype=float)
+    d = np.asarray(d_key, dtype=float)
+    z0 = np.zeros_like(d)
+    return _cols(toe, toe + w_key, toe + w_key, toe), _cols(-d, -d, z0, z0)
+
+
+def soil_vertices(toe, t_base, t_stem_base, t_stem_top, B, h_checked, slope_deg=0.0):
+    """Soil block over the heel (4 vertices): bounded by the stem back face, the top of
+    the base, the virtual back x = B and the backfill surface, which leaves the back
+    face at z_top (z = t_base + h_checked) and rises at ``slope_deg`` (beta). m."""
+    toe = np.asarray(toe, dtype=float)
+    zb = np.asarray(t_base, dtype=float)
+    ztop = zb + h_checked
+    xb = toe + t_stem_top
+    zs_B = ztop + (np.asarray(B, dtype=float) - xb) * np.tan(np.radians(slope_deg))
+    return _cols(toe + t_stem_base, B, B, xb), _cols(zb, zb, zs_B, ztop)
+
+
+def polygons(section: Section, stem_height_m: float, checked_stem_height_m: float | None = None,
+             slope_deg: float = 0.0) -> dict:
+    """shapely polygons of one section (design-basis section 2), section coordinates.
+
+    stem_height_m: from the top of the base to the top of the drawn stem, m.
+    checked_stem_height_m: from the top of the base to z_top, m (the back face tapers up
+    to it, vertical above); None: the taper runs the full drawn height and no soil
+    block is returned.
+    Keys: "stem", "base", "key" (only with a key), "soil" (only with
+    checked_stem_height_m, under the backfill slope ``slope_deg``).
+    """
+    from shapely.geometry import Polygon
+
+    s = section
+    hc = stem_height_m if checked_stem_height_m is None else checked_stem_height_m
+
+    def poly(xs, zs):
+        pts = []
+        for x, z in zip(np.ravel(xs), np.ravel(zs)):
+            p = (float(x), float(z))
+            if not pts or abs(p[0] - pts[-1][0]) > 1e-12 or abs(p[1] - pts[-1][1]) > 1e-12:
+                pts.append(p)
+        if len(pts) > 1 and pts[0] == pts[-1]:
+            pts.pop()
+        return Polygon(pts)
+
+    out = {"stem": poly(*stem_vertices(s.toe_m, s.base_thickness_m, s.stem_base_m,
+                                        s.stem_top_m, hc, max(stem_height_m, hc))),
+           "base": poly(*base_vertices(s.base_width_m, s.base_thickness_m))}
+    if s.key_depth_m > 0 and s.key_width_m > 0:
+        out["key"] = poly(*key_vertices(s.toe_m, s.key_depth_m, s.key_width_m))
+    if checked_stem_height_m is not None:
+        out["soil"] = poly(*soil_vertices(s.toe_m, s.base_thickness_m, s.stem_base_m,
+                                          s.stem_top_m, s.base_width_m, hc, slope_deg))
+    return out
+
+
+def section_problems(sec: SectionArrays) -> np.ndarray:
+    """Boolean mask (n,) of candidates whose dimensions do not close (see
+    :func:`validate_section`); vectorised for the sizing search."""
+    B = np.asarray(sec.base_width_m, dtype=float)
+    bad = ~np.isfinite(B)
+    for f in fields(sec):
+        bad |= ~np.isfinite(np.asarray(getattr(sec, f.name), dtype=float))
+    bad |= (sec.stem_top_m <= 0) | (sec.stem_base_m <= 0) | (B <= 0) | (sec.base_thickness_m <= 0)
+    bad |= (sec.toe_m < 0) | (sec.key_depth_m < 0) | (sec.key_width_m < 0)
+    bad |= sec.stem_top_m > sec.stem_base_m + 1e-12
+    bad |= sec.heel_m <= 1e-12
+    bad |= (sec.key_depth_m > 0) != (sec.key_width_m > 0)
+    bad |= sec.toe_m + sec.key_width_m > B + 1e-12
+    return bad
+
+
+def validate_section(section: Section, where: str = "section") -> list[str]:
+    """Problems with one section's dimensions, each naming the dimension (the
+    ``sections.csv`` column); empty when the section closes.
+
+    Rules: every dimension finite; stem_top_m, stem_base_m, base_width_m,
+    base_thickness_m > 0; toe_m, key_depth_m, key_width_m >= 0; stem_top_m <=
+    stem_base_m (the back face tapers outwards downwards); stem not thicker than the
+    base; heel_m = base_width_m - toe_m - stem_base_m > 0; a key has both depth and
+    width; the key (front face at the stem front face) fits under the base.
+    """
+    s = section
+    p = []
+    vals = {f.name: getattr(s, f.name) for f in fields(s)}
+    for k, v in vals.items():
+        try:
+            fv = float(v)
+        except (TypeError, ValueError):
+            p.append(f"{where}: {k} = {v!r}: not a number")
+            continue
+        if not np.isfinite(fv):
+            p.append(f"{where}: {k} = {v!r}: not a finite number")
+    if p:
+        return p
+    for k in ("stem_top_m", "stem_base_m", "base_width_m", "base_thickness_m"):
+        if vals[k] <= 0:
+            p.append(f"{where}: {k} = {vals[k]:g}: must be > 0")
+    for k in ("toe_m", "key_depth_m", "key_width_m"):
+        if vals[k] < 0:
+            p.append(f"{where}: {k} = {vals[k]:g}: must be >= 0")
+    if s.stem_top_m > s.stem_base_m:
+        p.append(f"{where}: stem_top_m = {s.stem_top_m:g} is thicker than stem_base_m = "
+                 f"{s.stem_base_m:g}: the stem must not thicken upwards")
+    if s.stem_base_m >= s.base_width_m:
+        p.append(f"{where}: stem_base_m = {s.stem_base_m:g} is not thinner than "
+                 f"base_width_m = {s.base_width_m:g}: the stem is thicker than the base")
+    elif s.heel_m <= 0:
+        p.append(f"{where}: heel_m = base_width_m - toe_m - stem_base_m = "
+                 f"{s.base_width_m:g} - {s.toe_m:g} - {s.stem_base_m:g} = {s.heel_m:g}: "
+                 f"must be > 0 (toe_m too long for the base)")
+    if (s.key_depth_m > 0) != (s.key_width_m > 0):
+        p.append(f"{where}: key_depth_m = {s.key_depth_m:g}, key_width_m = {s.key_width_m:g}: "
+                 f"a key needs both (or set both to 0)")
+    if s.key_width_m > 0 and s.toe_m + s.key_width_m > s.base_width_m:
+        p.append(f"{where}: key_width_m = {s.key_width_m:g}: the key from the stem front face "
+                 f"(toe_m = {s.toe_m:g}) runs past the heel edge (base_width_m = "
+                 f"{s.base_width_m:g})")
+    return p
