@@ -299,6 +299,7 @@ class DesignResult:
     quantities: tuple[Quantity, ...]
     cost: Cost
     warnings: tuple[str, ...] = ()
+    timings: dict[str, float] = field(default_factory=dict)  # seconds per stage
 
     @property
     def ok(self) -> bool:

@@ -1,0 +1,259 @@
+"""The whole job: site -> profile -> panels -> designs -> quantities, as one pure function.
+
+``design(site)`` returns a :class:`wallrun.results.DesignResult`; writing it to files is
+``wallrun.outputs.write``'s job.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+
+from wallrun import bars as bars_mod
+from wallrun import panels as pn
+from wallrun import sizing, stability, takeoff
+from wallrun.profile import build_profiles, find_runs
+from wallrun.results import (DesignResult, Joint, Panel, PanelResult, Quantity,
+                             SectionType)
+from wallrun.settings import Site
+
+
+@dataclass
+class _Designer:
+    """Designs a demand in the site's sections mode, each distinct demand once."""
+
+    site: Site
+    cache: dict = field(default_factory=dict)
+    seconds: float = 0.0
+
+    def __call__(self, demand: sizing.Demand) -> sizing.SizedDesign:
+        d = self.cache.get(demand)
+        if d is None:
+            t0 = time.perf_counter()
+            basis, rates = self.site.basis, self.site.rates
+            if self.site.design.sections == "catalogue":
+                d = sizing.catalogue_design(demand, basis, rates, self.site.catalogue)
+            else:  # bespoke, and the first pass of rationalised
+                d = sizing.bespoke(demand, basis, rates, self.site.design.dimension_step_m)
+            self.seconds += time.perf_counter() - t0
+            self.cache[demand] = d
+        return d
+
+
+def demand_of(ext: pn.Extent, site: Site) -> sizing.Demand:
+    """The section-independent conditions of a panel (design-basis section 1)."""
+    mid = 0.5 * (ext.ch_start + ext.ch_end)
+    return sizing.Demand(
+        z_top=round(ext.z_top, 6), z_front=round(ext.z_front, 6), backfill=site.backfill,
+        foundation=site.foundation_at(mid), surcharge_kpa=site.loads.surcharge_kpa,
+        water=site.water, wall_top_m=round(max(ext.wall_top_start, ext.wall_top_end), 6),
+        min_founding_depth_m=site.wall.min_founding_depth_m,
+        founding_step_m=site.wall.founding_step_m)
+
+
+def _joint(ext_l, d_l, ext_r, d_r, wall):
+    fig = pn.joint_figures(d_l.z_found, d_r.z_found, ext_l.wall_top_end, ext_r.wall_top_start,
+                           d_l.edge_pressure_sls_kpa, d_r.edge_pressure_sls_kpa)
+    return fig, pn.joint_problems(fig, wall)
+
+
+def settle_run(profiles, run, site: Site, designer) -> tuple[list, list, list]:
+    """Panels of one run with every curable joint cured (design-basis section 1).
+
+    Returns the extents, their designs and, per joint, (figures, problems). A failing
+    joint halves the longer of its two panels (the later when equal); a joint whose
+    half would be shorter than ``min_panel_length_m`` stays failing (flagged).
+    """
+    wall = site.wall
+    bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
+    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, wall)
+    ext_cache: dict = {}
+
+    def ext_of(a, b):
+        key = (a, b)
+        if key not in ext_cache:
+            ext_cache[key] = pn.extent(profiles, run.run, run.side, a, b, wall)
+        return ext_cache[key]
+
+    while True:
+        exts = [ext_of(a, b) for a, b in zip(pts[:-1], pts[1:])]
+        designs = [designer(demand_of(e, site)) for e in exts]
+        joints = [_joint(exts[i], designs[i], exts[i + 1], designs[i + 1], wall)
+                  for i in range(len(exts) - 1)]
+        split = None
+        for i, (_, problems) in enumerate(joints):
+            if not problems:
+                continue
+            k = i + pn.halve_target(exts[i].length, exts[i + 1].length)
+            if exts[k].length / 2 >= wall.min_panel_length_m - 1e-9:
+                split = k
+                break
+        if split is None:
+            return exts, designs, joints
+        a, b = pts[split], pts[split + 1]
+        pts.insert(split + 1, 0.5 * (a + b))
+
+
+def water_level_used(demand: sizing.Demand, d: sizing.SizedDesign, beta_deg: float):
+    """Absolute water level behind the wall as used, after capping, m (design-basis 3).
+
+    The level (``level_m``, or the underside of the base plus ``height_above_base_m``)
+    is capped at the backfill surface at the virtual back x = B, which rises at beta
+    from the back face of the stem at z_top. None for a drained wall.
+    """
+    if demand.water is None:
+        return None
+    w = demand.water
+    level = w.level_m if w.level_m is not None else d.z_found + w.height_above_base_m
+    s = d.section
+    surface = demand.z_top + (s.base_width_m - s.toe_m - s.stem_top_m) * math.tan(
+        math.radians(beta_deg))
+    return float(min(level, surface))
+
+
+def _type_key(d: sizing.SizedDesign):
+    r = d.reinforcement
+    bars = tuple((b.bar_mm, b.spacing_mm) if b is not None else None
+                 for b in (r.stem, r.heel, r.toe, r.stem_horizontal, r.base_distribution,
+                           r.stem_front))
+    return (d.section, bars, r.stem_curtail_m, getattr(d, "section_type", ""))
+
+
+def design(site: Site, progress=None) -> DesignResult:
+    """Design the whole wall of ``site`` (design-basis sections 1 to 7)."""
+    tick = progress or (lambda stage, done, total: None)
+    timings: dict[str, float] = {}
+    t0 = time.perf_counter()
+    profiles = build_profiles(site)
+    runs = find_runs(profiles, site.wall)
+    timings["profile"] = time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    designer = _Designer(site)
+    laid = []  # (run, extents, designs, joints)
+    for i, run in enumerate(runs):
+        laid.append((run, *settle_run(profiles, run, site, designer)))
+        tick("panels", i + 1, len(runs))
+    timings["panels"] = time.perf_counter() - t0 - designer.seconds
+    timings["sizing"] = designer.seconds
+
+    if site.design.sections == "rationalised":
+        t0 = time.perf_counter()
+        laid = _rationalise(site, laid)
+        timings["sizing"] += time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    panel_rows = []  # (panel, design, demand)
+    joints: list[Joint] = []
+    n = 0
+    for run, exts, designs, jfigs in laid:
+        names = []
+        for ext, d in zip(exts, designs):
+            n += 1
+            demand = demand_of(ext, site)
+            panel = Panel(
+                panel=f"P{n:03d}", run=run.run, side=run.side, ch_start_m=ext.ch_start,
+                ch_end_m=ext.ch_end, retained_top_m=ext.z_top, front_min_m=ext.z_front,
+                founding_m=float(d.z_found), wall_top_start_m=ext.wall_top_start,
+                wall_top_end_m=ext.wall_top_end, foundation=demand.foundation,
+                backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,
+                water_level_m=water_level_used(demand, d, site.backfill.slope_deg))
+            panel_rows.append((panel, d, demand))
+            names.append(panel.panel)
+        for i, (fig, problems) in enumerate(jfigs):
+            joints.append(Joint(
+                joint=f"J{len(joints) + 1:03d}", ch_m=exts[i].ch_end, left=names[i],
+                right=names[i + 1], founding_step_m=fig.founding_step_m,
+                top_step_m=fig.top_step_m, pressure_ratio=fig.pressure_ratio,
+                status="flagged" if problems else "ok",
+                reason=("cannot split further: " + "; ".join(problems)) if problems else ""))
+
+    # section types in chainage order of first use
+    type_names: dict = {}
+    for _, d, _ in panel_rows:
+        key = _type_key(d)
+        if key not in type_names:
+            given = getattr(d, "section_type", "")
+            type_names[key] = given or f"S{len(type_names) + 1:02d}"
+
+    results = []
+    all_bars = []
+    per_panel_bars = []
+    for panel, d, _ in panel_rows:
+        name = type_names[_type_key(d)]
+        rows = bars_mod.panel_bars(name, d.section, d.reinforcement, panel, site.basis)
+        per_panel_bars.append(rows)
+        all_bars.extend(rows)
+    schedule = bars_mod.schedule(all_bars)
+    timings["reinforcement"] = time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    per_panel_q = []
+    for k, ((panel, d, _), rows) in enumerate(zip(panel_rows, per_panel_bars)):
+        q = takeoff.panel_quantities(panel, d.section, rows, site.takeoff,
+                                     **_end_kwargs(panel_rows, k))
+        per_panel_q.append(q)
+        pq = tuple(Quantity(item, takeoff.UNITS.get(item, ""), v) for item, v in q.items())
+        pcost = takeoff.cost(pq, site.rates)
+        results.append(PanelResult(
+            panel=panel, section_type=type_names[_type_key(d)], section=d.section,
+            reinforcement=d.reinforcement, checks=d.checks, status=d.status, reason=d.reason,
+            quantities=q, concrete_m3=q.get("concrete_total", 0.0),
+            steel_kg=q.get("reinforcement_total", 0.0), cost=pcost.total))
+    quantities = takeoff.totals(per_panel_q)
+    cost = takeoff.cost(quantities, site.rates)
+    timings["takeoff"] = time.perf_counter() - t0
+
+    section_types = []
+    actions = {}
+    for key, name in type_names.items():
+        members = [(r, d, dem) for r, (_, d, dem) in zip(results, panel_rows)
+                   if r.section_type == name]
+        worst_r, worst_d, worst_dem = max(
+            members, key=lambda m: max((c.utilization for c in m[0].checks), default=0.0))
+        section_types.append(SectionType(
+            section_type=name, section=worst_d.section, reinforcement=worst_d.reinforcement,
+            governing=worst_r.governing,
+            utilization=max((c.utilization for c in worst_r.checks), default=0.0),
+            panels=tuple(m[0].panel.panel for m in members)))
+        cond = sizing.conditions_for(worst_dem, worst_d.section.base_thickness_m)
+        actions[name] = stability.action_table(worst_d.section, cond, site.basis)
+
+    warnings = tuple(site.warnings)
+    return DesignResult(site=site, profiles=profiles, runs=tuple(runs), panels=tuple(results),
+                        joints=tuple(joints), section_types=tuple(section_types),
+                        actions=actions, bar_schedule=tuple(schedule),
+                        quantities=tuple(quantities), cost=cost, warnings=warnings,
+                        timings=timings)
+
+
+def _end_kwargs(panel_rows, k: int) -> dict:
+    """Joint facts at the ends of panel k for the take-off: a sealed joint at its end
+    when the next panel is on the same run (one seal per joint)."""
+    panel = panel_rows[k][0]
+    nxt = panel_rows[k + 1][0] if k + 1 < len(panel_rows) else None
+    sealed = 1 if (nxt is not None and nxt.run == panel.run) else 0
+    return {"stop_ends": 2, "joint_seals": sealed}
+
+
+def _rationalise(site: Site, laid):
+    """Replace the bespoke designs by at most ``max_types`` sections (design-basis 6),
+    then re-check the joints with the assigned sections (no further splitting)."""
+    demands, lengths, where = [], [], []
+    for r, (run, exts, designs, jfigs) in enumerate(laid):
+        for i, e in enumerate(exts):
+            demands.append(demand_of(e, site))
+            lengths.append(e.length)
+            where.append((r, i))
+    assigned = sizing.rationalise(demands, lengths, site.basis, site.rates,
+                                  site.design.max_types)
+    out = []
+    k = 0
+    for run, exts, designs, _ in laid:
+        new = list(assigned[k:k + len(exts)])
+        k += len(exts)
+        jfigs = [_joint(exts[i], new[i], exts[i + 1], new[i + 1], site.wall)
+                 for i in range(len(exts) - 1)]
+        out.append((run, exts, new, jfigs))
+    return out
