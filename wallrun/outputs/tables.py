@@ -1,0 +1,285 @@
+"""The tables of the output folder: CSV files and ``design.json`` (shared/interfaces.md).
+
+Every table is a plain rendering of the result objects. Numbers are rounded to fixed
+decimals so that the same site gives byte-identical files; text cells that a
+spreadsheet would read as a formula are neutralised.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+
+from wallrun import __version__
+from wallrun.results import DesignResult, PanelResult
+
+SCHEMA = "wallrun-design/1"
+
+PANEL_COLUMNS = (
+    "panel", "run", "side", "ch_start_m", "ch_end_m", "length_m", "retained_top_m",
+    "front_min_m", "founding_m", "wall_top_start_m", "wall_top_end_m", "retained_height_m",
+    "total_height_m", "section", "stem_top_m", "stem_base_m", "base_width_m", "toe_m",
+    "heel_m", "base_thickness_m", "key_depth_m", "key_width_m", "util_overturning",
+    "util_sliding", "util_bearing", "util_structural", "governing", "status", "reason",
+    "concrete_m3", "steel_kg", "cost")
+JOINT_COLUMNS = ("joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
+                 "pressure_ratio", "status", "reason")
+BAR_COLUMNS = ("section", "member", "bar_mark", "bar_mm", "shape_code", "length_mm", "number",
+               "total_length_m", "mass_kg")
+SECTION_COLUMNS = (
+    "section", "stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
+    "base_thickness_m", "key_depth_m", "key_width_m", "stem_bar_mm", "stem_spacing_mm",
+    "stem_curtail_m", "stem_front_bar_mm", "stem_front_spacing_mm", "stem_horizontal_bar_mm",
+    "stem_horizontal_spacing_mm", "heel_bar_mm", "heel_spacing_mm", "toe_bar_mm",
+    "toe_spacing_mm", "dist_bar_mm", "dist_spacing_mm", "panels", "utilization", "governing")
+
+STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear", "toe_bending",
+                     "toe_shear", "crack_spacing", "min_steel")
+DIMENSIONS = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
+              "base_thickness_m", "key_depth_m", "key_width_m")
+
+
+def safe_text(s: str) -> str:
+    """Neutralise spreadsheet formula injection: a cell starting with = + - @ (or a
+    tab/CR) gets a leading apostrophe so a spreadsheet shows it as text."""
+    s = str(s)
+    if s and s[0] in "=+-@\t\r":
+        return "'" + s
+    return s
+
+
+def num(x, nd: int = 3):
+    """A float rounded to ``nd`` decimals for output; None for inf/NaN (JSON null)."""
+    if x is None:
+        return None
+    x = float(x)
+    if not math.isfinite(x):
+        return None
+    r = round(x, nd)
+    return 0.0 if r == 0 else r
+
+
+def _cell(v, nd=3) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int):
+        return str(v)
+    if isinstance(v, float):
+        if math.isinf(v):
+            return "inf"
+        if math.isnan(v):
+            return ""
+        return f"{num(v, nd):.{nd}f}"
+    return safe_text(v)
+
+
+def to_csv(columns, rows, decimals: dict | None = None) -> str:
+    """CSV text with a header row; ``decimals`` maps column -> decimals (default 3)."""
+    decimals = decimals or {}
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(columns)
+    for row in rows:
+        w.writerow([_cell(row.get(c), decimals.get(c, 3)) for c in columns])
+    return buf.getvalue()
+
+
+def panel_row(p: PanelResult) -> dict:
+    """One ``panels.csv`` row (shared/interfaces.md). util_bearing is the bearing
+    resistance check; the eccentricity checks count in ``governing``."""
+    pa, s = p.panel, p.section
+    row = {
+        "panel": pa.panel, "run": pa.run, "side": pa.side, "ch_start_m": pa.ch_start_m,
+        "ch_end_m": pa.ch_end_m, "length_m": pa.length_m, "retained_top_m": pa.retained_top_m,
+        "front_min_m": pa.front_min_m, "founding_m": pa.founding_m,
+        "wall_top_start_m": pa.wall_top_start_m, "wall_top_end_m": pa.wall_top_end_m,
+        "retained_height_m": pa.retained_height_m, "total_height_m": pa.total_height_m,
+        "section": p.section_type,
+        "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
+        "util_bearing": p.util("bearing"), "util_structural": p.util(*STRUCTURAL_CHECKS),
+        "governing": p.governing, "status": p.status, "reason": p.reason,
+        "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
+    }
+    for dim in DIMENSIONS:
+        row[dim] = getattr(s, dim)
+    return row
+
+
+def panels_csv(result: DesignResult) -> str:
+    return to_csv(PANEL_COLUMNS, [panel_row(p) for p in result.panels],
+                  {"cost": 2, "steel_kg": 1})
+
+
+def joints_csv(result: DesignResult) -> str:
+    return to_csv(JOINT_COLUMNS, [j.__dict__ for j in result.joints])
+
+
+def _bars_of(r, member):
+    b = getattr(r, member)
+    return (b.bar_mm, b.spacing_mm) if b is not None else (None, None)
+
+
+def section_row(t) -> dict:
+    s, r = t.section, t.reinforcement
+    row = {"section": t.section_type, "panels": " ".join(t.panels),
+           "utilization": t.utilization, "governing": t.governing,
+           "stem_curtail_m": r.stem_curtail_m}
+    for dim in DIMENSIONS:
+        row[dim] = getattr(s, dim)
+    for col, member in (("stem", "stem"), ("stem_front", "stem_front"),
+                        ("stem_horizontal", "stem_horizontal"), ("heel", "heel"),
+                        ("toe", "toe"), ("dist", "base_distribution")):
+        row[f"{col}_bar_mm"], row[f"{col}_spacing_mm"] = _bars_of(r, member)
+    return row
+
+
+def sections_csv(result: DesignResult) -> str:
+    return to_csv(SECTION_COLUMNS, [section_row(t) for t in result.section_types])
+
+
+def bar_schedule_csv(result: DesignResult) -> str:
+    rows = [{c: getattr(b, c) for c in BAR_COLUMNS} for b in result.bar_schedule]
+    return to_csv(BAR_COLUMNS, rows, {"mass_kg": 2, "total_length_m": 2})
+
+
+def quantities_csv(result: DesignResult) -> str:
+    return to_csv(("item", "unit", "quantity"), [q.__dict__ for q in result.quantities])
+
+
+def cost_csv(result: DesignResult) -> str:
+    c = result.cost
+    rows = [{"item": r.item, "unit": r.unit, "quantity": r.quantity,
+             "rate": r.rate if r.rate is not None else "unpriced",
+             "amount": r.amount} for r in c.rows]
+    total = {"item": "total", "unit": "", "quantity": None, "rate": None,
+             "amount": c.total}
+    if not c.complete:
+        total["unit"] = "incomplete: unpriced items"
+    rows.append(total)
+    text = to_csv(("item", "unit", "quantity", "rate", "amount"), rows,
+                  {"rate": 2, "amount": 2})
+    if c.demo_rates:
+        text = ("# rates are invented example figures for the demo, not market prices\n"
+                + text)
+    return text
+
+
+# --- design.json ---------------------------------------------------------------------
+
+def _bar_json(b):
+    if b is None:
+        return None
+    return {"bar_mm": b.bar_mm, "spacing_mm": b.spacing_mm,
+            "as_prov_mm2_per_m": num(b.as_prov_mm2_per_m, 1),
+            "as_req_mm2_per_m": num(b.as_req_mm2_per_m, 1), "d_mm": num(b.d_mm, 1)}
+
+
+def panel_json(p: PanelResult) -> dict:
+    pa, s, r = p.panel, p.section, p.reinforcement
+    f = pa.foundation
+    reinf = {m: _bar_json(getattr(r, m)) for m in
+             ("stem", "heel", "toe", "stem_horizontal", "base_distribution", "stem_front")}
+    reinf["stem_curtail_m"] = num(r.stem_curtail_m)
+    return {
+        "panel": pa.panel, "run": pa.run, "side": pa.side,
+        "ch_start_m": num(pa.ch_start_m), "ch_end_m": num(pa.ch_end_m),
+        "levels": {"retained_top_m": num(pa.retained_top_m), "front_min_m": num(pa.front_min_m),
+                   "founding_m": num(pa.founding_m),
+                   "wall_top_start_m": num(pa.wall_top_start_m),
+                   "wall_top_end_m": num(pa.wall_top_end_m)},
+        "section": {"type": p.section_type, **{d: num(getattr(s, d)) for d in DIMENSIONS}},
+        "ground": {
+            "backfill": {k: num(v) for k, v in pa.backfill.__dict__.items()},
+            "foundation": {"unit_weight_kn_m3": num(f.unit_weight_kn_m3),
+                           "friction_angle_deg": num(f.friction_angle_deg),
+                           "critical_state_angle_deg": num(f.phi_cv_deg),
+                           "cohesion_kpa": num(f.cohesion_kpa),
+                           "undrained_strength_kpa": num(f.undrained_strength_kpa),
+                           "allowable_bearing_kpa": num(f.allowable_bearing_kpa)},
+            "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
+        "reinforcement": reinf,
+        "checks": [{"check": c.check, "combination": c.combination, "case": c.case,
+                    "effect": num(c.effect), "resistance": num(c.resistance), "unit": c.unit,
+                    "utilization": num(c.utilization), "clause": c.clause,
+                    "governs": c.governs} for c in p.checks],
+        "quantities": {k: num(v) for k, v in p.quantities.items()},
+        "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),
+        "cost": num(p.cost, 2),
+        "status": p.status, "reason": p.reason,
+    }
+
+
+def design_dict(result: DesignResult) -> dict:
+    site = result.site
+    factors = {name: {k: v for k, v in fs.__dict__.items() if k != "name" and v is not None}
+               for name, fs in site.factors.items()}
+    from wallrun.codes import ec2  # materials as used
+    mats = {"strength_class": site.concrete.strength_class,
+            "fck_mpa": num(ec2.fck(site.concrete.strength_class)),
+            "fyk_mpa": num(site.steel.fyk_mpa), "alpha_cc": num(site.concrete.alpha_cc),
+            "cover_mm": num(site.concrete.cover_mm),
+            "cover_ground_mm": num(site.concrete.cover_ground_mm)}
+    c = result.cost
+    return {
+        "schema": SCHEMA,
+        "wallrun_version": __version__,
+        "project": {"name": site.project.name, "reference": site.project.reference},
+        "caution": CAUTION,
+        "not_checked": list(NOT_CHECKED),
+        "basis": {"approach": site.design.approach, "factors": factors, "materials": mats,
+                  "earth_pressure": site.design.earth_pressure, "passive": site.design.passive,
+                  "sections": site.design.sections},
+        "runs": [{"run": r.run, "side": r.side, "ch_start_m": num(r.ch_start_m),
+                  "ch_end_m": num(r.ch_end_m), "length_m": num(r.length_m),
+                  "max_retained_height_m": num(r.max_retained_height_m),
+                  "at_ch_m": num(r.at_ch_m)} for r in result.runs],
+        "panels": [panel_json(p) for p in result.panels],
+        "joints": [{"joint": j.joint, "ch_m": num(j.ch_m), "left": j.left, "right": j.right,
+                    "founding_step_m": num(j.founding_step_m), "top_step_m": num(j.top_step_m),
+                    "pressure_ratio": num(j.pressure_ratio), "status": j.status,
+                    "reason": j.reason} for j in result.joints],
+        "sections": [section_row(t) | {"utilization": num(t.utilization)}
+                     for t in result.section_types],
+        "bar_schedule": [{c_: (num(getattr(b, c_), 2) if isinstance(getattr(b, c_), float)
+                               else getattr(b, c_)) for c_ in BAR_COLUMNS}
+                         for b in result.bar_schedule],
+        "quantities": {q.item: {"unit": q.unit, "quantity": num(q.quantity)}
+                       for q in result.quantities},
+        "cost": {"rows": [{"item": r.item, "unit": r.unit, "quantity": num(r.quantity),
+                           "rate": num(r.rate, 2), "amount": num(r.amount, 2)}
+                          for r in c.rows],
+                 "total": num(c.total, 2), "complete": c.complete,
+                 "demo_rates": c.demo_rates},
+        "warnings": list(result.warnings),
+    }
+
+
+def design_json(result: DesignResult) -> str:
+    return json.dumps(design_dict(result), indent=1, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+CAUTION = ("wallrun is a preliminary design aid. Every result is to be checked and signed "
+           "by a qualified engineer under the local codes and the national annex in force.")
+NOT_CHECKED = (
+    "overall (deep-seated) stability",
+    "settlement and tilt beyond the middle-third and edge-pressure-ratio rules",
+    "seismic actions",
+    "compaction pressures",
+    "frost action",
+    "chemical attack and durability beyond the covers given",
+)
+
+
+TABLES = {
+    "panels.csv": panels_csv,
+    "joints.csv": joints_csv,
+    "sections.csv": sections_csv,
+    "bar_schedule.csv": bar_schedule_csv,
+    "quantities.csv": quantities_csv,
+    "cost.csv": cost_csv,
+    "design.json": design_json,
+}
