@@ -2,6 +2,31 @@
 
 Preliminary design aid: every result is to be checked and signed by a qualified
 engineer under the local codes and national annex.
+
+Scripting::
+
+    import wallrun
+    site = wallrun.load_site("sites/access-road-fill")
+    result = wallrun.design(site)          # a wallrun.results.DesignResult
+    wallrun.write_outputs(result, "out")   # the same files as ``wallrun design``
 """
 
 __version__ = "0.1.0"
+
+
+def load_site(path):
+    """Read and validate a site folder (raises ``wallrun.errors.InputError``)."""
+    from wallrun.site import load_site as _load
+    return _load(path)
+
+
+def design(site, progress=None):
+    """Design the whole wall of a loaded site; returns a ``DesignResult``."""
+    from wallrun.pipeline import design as _design
+    return _design(site, progress=progress)
+
+
+def write_outputs(result, out_dir):
+    """Write the output folder of a result atomically."""
+    from wallrun.outputs.write import write_outputs as _write
+    return _write(result, out_dir)
