@@ -1,0 +1,327 @@
+"""Command line: ``wallrun design | check | new SITE_DIR``.
+
+Exit status (shared/interfaces.md): 0 every panel passes; 3 outputs written but some
+panels or joints are flagged; 2 bad input (each problem on its own line on stderr,
+nothing written); 1 internal error (one line and a hint; the traceback with --debug).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+import traceback
+from pathlib import Path
+
+from wallrun import __version__
+from wallrun.errors import InputError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_FLAGGED = 0, 1, 2, 3
+
+
+def _parser() -> argparse.ArgumentParser:
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true",
+                        help="show the full traceback of an internal error")
+    p = argparse.ArgumentParser(
+        prog="wallrun",
+        description="Preliminary design of a long reinforced-concrete cantilever retaining "
+                    "wall along a run (EN 1997-1, EN 1992-1-1). Results are to be checked "
+                    "and signed by a qualified engineer.",
+        parents=[common])
+    p.add_argument("--version", action="version", version=f"wallrun {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    d = sub.add_parser("design", parents=[common], help="design the wall and write every output")
+    d.add_argument("site", metavar="SITE_DIR")
+    d.add_argument("--out", metavar="DIR", help="output folder (default SITE_DIR/out)")
+    d.add_argument("--quiet", action="store_true", help="no progress bar")
+    c = sub.add_parser("check", parents=[common],
+                       help="validate the site folder and print the wall runs; writes nothing")
+    c.add_argument("site", metavar="SITE_DIR")
+    c.add_argument("--json", action="store_true", help="print the runs as JSON")
+    n = sub.add_parser("new", parents=[common], help="write a starter site folder to edit")
+    n.add_argument("site", metavar="SITE_DIR")
+    return p
+
+
+def main(argv=None) -> int:
+    """Run the command line; returns the exit status."""
+    parser = _parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as e:  # --help, --version or a usage error (argparse printed it)
+        return int(e.code) if isinstance(e.code, int) else EXIT_INPUT
+    try:
+        if args.command == "check":
+            return cmd_check(args.site, as_json=args.json)
+        if args.command == "new":
+            return cmd_new(args.site)
+        return cmd_design(args.site, out=args.out, quiet=args.quiet)
+    except InputError as e:
+        for line in e.problems:
+            print(line, file=sys.stderr)
+        n = len(e.problems)
+        print(f"wallrun: {n} input problem{'s' if n != 1 else ''}; nothing written",
+              file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("wallrun: interrupted", file=sys.stderr)
+        return EXIT_INTERNAL
+    except Exception as e:  # noqa: BLE001 - the one place that turns faults into status 1
+        msg = str(e).splitlines()[0] if str(e) else ""
+        print(f"wallrun: internal error: {type(e).__name__}" + (f": {msg}" if msg else ""),
+              file=sys.stderr)
+        if args.debug:
+            traceback.print_exc()
+        else:
+            print("wallrun: rerun with --debug for the traceback", file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+# --- check ---------------------------------------------------------------------------
+
+def run_summary(site):
+    """(profiles, runs) of a loaded site."""
+    from wallrun.profile import build_profiles, find_runs
+    profiles = build_profiles(site)
+    return profiles, find_runs(profiles, site.wall)
+
+
+def panels_at_max(length_m: float, max_panel_length_m: float) -> int:
+    """Panels of a run cut at the maximum panel length: ceil(L / max), at least 1."""
+    return max(1, math.ceil(length_m / max_panel_length_m - 1e-9))
+
+
+def _r3(x: float) -> float:
+    return round(float(x), 3)
+
+
+def cmd_check(site_dir: str, as_json: bool = False) -> int:
+    from wallrun.site import load_site
+    site = load_site(site_dir)
+    profiles, runs = run_summary(site)
+    if as_json:
+        doc = {"runs": [{"run": r.run, "side": r.side, "ch_start_m": _r3(r.ch_start_m),
+                         "ch_end_m": _r3(r.ch_end_m), "length_m": _r3(r.length_m),
+                         "max_retained_height_m": _r3(r.max_retained_height_m),
+                         "at_ch_m": _r3(r.at_ch_m)} for r in runs],
+               "warnings": list(site.warnings)}
+        print(json.dumps(doc, indent=2))
+        return EXIT_OK
+    w = site.wall
+    title = site.project.name + (f" ({site.project.reference})" if site.project.reference else "")
+    print(f"Site: {title}")
+    fin = (f"{site.finished.source}" if site.finished is not None
+           else f"vertical alignment of {len(site.alignment)} points")
+    print(f"Profiles: ground {site.ground.source}, finished level {fin}; "
+          f"common range ch {profiles.ch_start:.3f} to {profiles.ch_end:.3f}")
+    print(f"A wall is needed where the retained height is at least {w.min_retained_height_m:g} m "
+          f"(same-side gaps under {w.merge_gap_m:g} m are bridged).")
+    if not runs:
+        print("No wall needed on this site.")
+    else:
+        print()
+        print(f"{'run':>3}  {'side':<4}  {'from ch':>10}  {'to ch':>10}  {'length m':>9}  "
+              f"{'max h m':>7}  {'at ch':>10}  {'panels':>6}")
+        for r in runs:
+            print(f"{r.run:>3}  {r.side:<4}  {r.ch_start_m:>10.3f}  {r.ch_end_m:>10.3f}  "
+                  f"{r.length_m:>9.3f}  {r.max_retained_height_m:>7.3f}  {r.at_ch_m:>10.3f}  "
+                  f"{panels_at_max(r.length_m, w.max_panel_length_m):>6}")
+        total = sum(r.length_m for r in runs)
+        print(f"\nTotal {total:.3f} m of wall in {len(runs)} run{'s' if len(runs) != 1 else ''}; "
+              f"panels counted at the maximum panel length of {w.max_panel_length_m:g} m "
+              "(joint checks may add more).")
+    if site.warnings:
+        print("\nWarnings:")
+        for m in site.warnings:
+            print(f"  - {m}")
+    return EXIT_OK
+
+
+# --- new -----------------------------------------------------------------------------
+
+STARTER_TOML = '''\
+# wallrun site file: settings of one retaining wall along a run.
+# Units: lengths m, pressures kPa, unit weights kN/m3, angles degrees, bars mm.
+# Every key below [profiles] is optional; the values shown are the defaults or an
+# example. The full list of keys is in the project's interfaces document.
+
+[project]
+name = "Starter wall"            # shown on every output
+reference = "EXAMPLE-01"
+
+[profiles]
+ground = "ground.csv"            # existing ground along the wall line
+finished = "finished.csv"        # finished level along the wall line
+# Instead of finished.csv, a road vertical alignment (one table per intersection
+# point; the first and last have curve_length_m = 0):
+# [[profiles.finished_alignment]]
+# chainage_m = 0.0
+# level_m = 20.0
+
+[wall]
+min_retained_height_m = 0.5      # a wall is needed where |finished - ground| >= this
+merge_gap_m = 5.0                # same-side stretches closer than this become one run
+max_panel_length_m = 8.0         # movement joints at most this far apart
+min_panel_length_m = 2.0         # at most half of max_panel_length_m
+min_founding_depth_m = 0.6       # underside of base below the front level
+top = "stepped"                  # stepped | sloped
+
+[backfill]
+unit_weight_kn_m3 = 19.0
+friction_angle_deg = 32.0
+slope_deg = 0.0                  # backfill surface rising away from the wall
+
+[foundation]
+unit_weight_kn_m3 = 19.0
+friction_angle_deg = 30.0
+# allowable_bearing_kpa = 150.0  # > 0 adds a characteristic edge-pressure check
+
+# [water]                        # absent: a drained wall
+# height_above_base_m = 1.0
+
+[loads]
+surcharge_kpa = 10.0             # variable surcharge on the retained surface
+
+[design]
+approach = "DA1"                 # DA1 | DA2 | DA3
+sections = "bespoke"             # bespoke | catalogue (needs sections.csv) | rationalised
+'''
+
+STARTER_GROUND = """\
+# Existing ground along the wall line (invented example levels).
+chainage_m,level_m
+0,20.00
+10,19.80
+20,19.40
+30,18.90
+40,18.60
+50,18.70
+60,19.10
+70,19.70
+80,20.10
+"""
+
+STARTER_FINISHED = """\
+# Finished level along the wall line (invented example: a platform at 20.50).
+chainage_m,level_m
+0,20.10
+15,20.50
+65,20.50
+80,20.20
+"""
+
+
+def cmd_new(site_dir: str) -> int:
+    root = Path(site_dir)
+    if root.exists():
+        if not root.is_dir():
+            raise InputError(f"{site_dir}: exists and is not a folder")
+        if any(root.iterdir()):
+            raise InputError(f"{site_dir}: folder exists and is not empty; "
+                             "give a new or empty folder")
+    root.mkdir(parents=True, exist_ok=True)
+    for name, text in (("site.toml", STARTER_TOML), ("ground.csv", STARTER_GROUND),
+                       ("finished.csv", STARTER_FINISHED)):
+        with open(root / name, "x", encoding="utf-8", newline="\n") as f:
+            f.write(text)
+    print(f"Wrote a starter site in {root}: site.toml, ground.csv, finished.csv.")
+    print(f"Edit them, then run: wallrun check {site_dir}")
+    return EXIT_OK
+
+
+# --- design --------------------------------------------------------------------------
+
+class _Progress:
+    """Progress callback ``cb(stage, done, total)`` drawing one tqdm bar per stage."""
+
+    def __init__(self, enabled: bool):
+        self.enabled = enabled
+        self.bar = None
+        self.stage = None
+
+    def __call__(self, stage: str, done: int, total: int):
+        if not self.enabled:
+            return
+        from tqdm import tqdm
+        if stage != self.stage or self.bar is None:
+            self.close()
+            self.stage = stage
+            self.bar = tqdm(total=total, desc=stage, file=sys.stderr, leave=False,
+                            dynamic_ncols=True)
+        if total != self.bar.total:
+            self.bar.total = total
+        self.bar.n = done
+        self.bar.refresh()
+
+    def close(self):
+        if self.bar is not None:
+            self.bar.close()
+            self.bar = None
+
+
+def _quantity(result, item: str):
+    for q in result.quantities:
+        if q.item == item:
+            return q.quantity, q.unit
+    return None, None
+
+
+def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False) -> int:
+    from wallrun.site import load_site
+    out_dir = Path(out) if out else Path(site_dir) / "out"
+    site = load_site(site_dir)
+    from wallrun import pipeline
+    from wallrun.outputs import write
+    write.check_writable(out_dir)
+    cb = _Progress(enabled=(not quiet) and sys.stderr.isatty())
+    try:
+        result = pipeline.design(site, progress=cb)
+    finally:
+        cb.close()
+    write.write_outputs(result, out_dir)
+    print_design_summary(result, out_dir)
+    return EXIT_OK if result.ok else EXIT_FLAGGED
+
+
+def print_design_summary(result, out_dir) -> None:
+    site = result.site
+    panels = result.panels
+    length = sum(r.length_m for r in result.runs)
+    print(f"Site: {site.project.name}")
+    print(f"Wall: {length:.2f} m in {len(result.runs)} run{'s' if len(result.runs) != 1 else ''}, "
+          f"{len(panels)} panels")
+    types: dict[str, int] = {}
+    for p in panels:
+        types[p.section_type] = types.get(p.section_type, 0) + 1
+    if types:
+        print("Section types: " + ", ".join(f"{t} ({n} panels)" for t, n in types.items()))
+    conc, cu = _quantity(result, "concrete_total")
+    steel, su = _quantity(result, "reinforcement_total")
+    print(f"Concrete: {conc:.1f} {cu}" if conc is not None else "Concrete: not reported")
+    print(f"Reinforcement: {steel:.0f} {su}" if steel is not None else "Reinforcement: not reported")
+    worst = None
+    for p in panels:
+        u = max((c.utilization for c in p.checks), default=0.0)
+        if worst is None or u > worst[0]:
+            worst = (u, p)
+    if worst is not None:
+        u, p = worst
+        print(f"Worst utilization: {u:.3f} at {p.panel.panel} (ch {p.panel.ch_start_m:.2f} to "
+              f"{p.panel.ch_end_m:.2f}), {p.governing}")
+    flagged = [p for p in panels if p.status != "ok"]
+    fj = [j for j in result.joints if j.status != "ok"]
+    if flagged or fj:
+        print(f"Flagged: {len(flagged)} panel{'s' if len(flagged) != 1 else ''}, "
+              f"{len(fj)} joint{'s' if len(fj) != 1 else ''}")
+        for p in flagged:
+            print(f"  {p.panel.panel}: {p.reason}")
+        for j in fj:
+            print(f"  {j.joint} at ch {j.ch_m:.2f}: {j.reason}")
+    else:
+        print("Every panel and joint passes.")
+    for m in result.warnings:
+        print(f"warning: {m}")
+    print(f"Outputs in {out_dir}")
+    print("Preliminary design aid: check and sign under the local codes and national annex.")
