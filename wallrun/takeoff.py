@@ -85,7 +85,8 @@ def _bar_mm(item: str) -> int | None:
     return None
 
 
-def _sort_key(item: str) -> tuple[int, float, str]:
+def item_order(item: str) -> tuple[int, float, str]:
+    """Sort key of take-off items: the quantities.csv order, steel diameters ascending."""
     if item in _ORDER:
         return (_ORDER[item], 0.0, item)
     mm = _bar_mm(item)
@@ -288,7 +289,7 @@ def totals(per_panel: Iterable[Mapping[str, float]]) -> tuple[Quantity, ...]:
         for item, v in q.items():
             acc.setdefault(item, []).append(float(v))
     return tuple(Quantity(item, unit_of(item), math.fsum(acc[item]))
-                 for item in sorted(acc, key=_sort_key))
+                 for item in sorted(acc, key=item_order))
 
 
 # --- rates and cost --------------------------------------------------------------------
@@ -384,7 +385,7 @@ def cost(quantities: Iterable[Quantity], rates: Iterable[Rate] | None) -> Cost:
     qs = list(quantities)
     qty = {q.item: float(q.quantity) for q in qs}
     unit = {q.item: q.unit for q in qs}
-    items = sorted(qty, key=_sort_key)
+    items = sorted(qty, key=item_order)
     rows = []
     for item in _priced_items(items, qty, table):
         if item in table:
