@@ -1,0 +1,399 @@
+"""Drafting conventions shared by wallrun's DXF drawings, set once here.
+
+Layer scheme (wallrun's own descriptive names, colour, linetype and lineweight by
+layer), the one text style and the one dimension style of a drawing, drawing scales,
+the title block, the notes with the cautions, and the section outline.
+
+Model space is in metres (``$INSUNITS`` = 6). Sizes of text, ticks and symbols are
+given in paper millimetres and converted with the drawing's nominal scale 1:N
+(``paper(mm, N)`` = mm * N / 1000 m), so a drawing printed at its stated scale has
+2.5 mm text. Linetype patterns are built in model metres for that scale
+(``$LTSCALE`` = 1).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import math
+from dataclasses import dataclass
+
+import ezdxf
+import numpy as np
+from ezdxf.enums import TextEntityAlignment
+
+# --- layers --------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Layer:
+    name: str
+    color: int  # AutoCAD colour index (ACI)
+    linetype: str  # "CONTINUOUS" or one of the linetypes of :data:`LINETYPES`
+    lineweight: int  # 1/100 mm
+    description: str
+
+
+#: Linetypes: name -> (description, pattern in paper mm: dash > 0, gap < 0, dot 0).
+LINETYPES = {
+    "WALLRUN_DASH": ("dashes 6 mm, gaps 2 mm", (6.0, -2.0)),
+    "WALLRUN_CHAIN": ("long dash, gap, short dash, gap", (10.0, -2.0, 2.0, -2.0)),
+    "WALLRUN_SPOT": ("spots 0.5 mm every 2 mm", (0.5, -1.5)),
+}
+
+_L = [
+    # elevation and plan
+    Layer("WALLRUN-GROUND-SURVEYED", 34, "WALLRUN_DASH", 25, "existing ground, surveyed"),
+    Layer("WALLRUN-LEVEL-FINISHED", 94, "CONTINUOUS", 25, "finished level"),
+    Layer("WALLRUN-WALL-TOP", 5, "CONTINUOUS", 50, "top of wall and run end faces"),
+    Layer("WALLRUN-BASE-UNDERSIDE", 1, "CONTINUOUS", 50, "underside of base (founding)"),
+    Layer("WALLRUN-BASE-TOPSIDE", 8, "WALLRUN_DASH", 18, "top of base, hidden"),
+    Layer("WALLRUN-MOVEMENT-JOINTS", 6, "WALLRUN_CHAIN", 35, "movement joints between panels"),
+    Layer("WALLRUN-PANEL-NAMES", 7, "CONTINUOUS", 18, "panel names and section types"),
+    Layer("WALLRUN-RUN-NAMES", 7, "CONTINUOUS", 25, "run names"),
+    Layer("WALLRUN-CHAINAGE-MARKS", 8, "CONTINUOUS", 18, "chainage ticks and figures"),
+    Layer("WALLRUN-LEVEL-STAFF", 8, "CONTINUOUS", 18, "level scale"),
+    Layer("WALLRUN-LINE-OF-WALL", 5, "CONTINUOUS", 70, "wall line in plan"),
+    Layer("WALLRUN-SETTING-OUT", 8, "WALLRUN_CHAIN", 18, "profile reference line in plan"),
+    Layer("WALLRUN-NORTH-POINT", 7, "CONTINUOUS", 25, "north point"),
+    # sections
+    Layer("WALLRUN-CONCRETE-EDGE", 7, "CONTINUOUS", 50, "concrete outline"),
+    Layer("WALLRUN-GROUND-FRONT", 34, "CONTINUOUS", 25, "ground in front of the wall"),
+    Layer("WALLRUN-FILL-BEHIND", 52, "WALLRUN_DASH", 25, "backfill surface behind the wall"),
+    Layer("WALLRUN-WATER-BEHIND", 150, "WALLRUN_DASH", 18, "design water level behind the wall"),
+    Layer("WALLRUN-STEEL-MAIN", 1, "CONTINUOUS", 35, "main bars in elevation"),
+    Layer("WALLRUN-STEEL-CROSS", 1, "CONTINUOUS", 25, "distribution bars cut (dots)"),
+    Layer("WALLRUN-STEEL-MARKS", 174, "CONTINUOUS", 18, "bar marks and their leaders"),
+    Layer("WALLRUN-STEEL-TABLE", 7, "CONTINUOUS", 18, "bar tables"),
+    Layer("WALLRUN-SIZES", 140, "CONTINUOUS", 18, "dimensions"),
+    Layer("WALLRUN-LEVEL-TAGS", 7, "CONTINUOUS", 18, "level labels"),
+    Layer("WALLRUN-DESIGN-DATA", 7, "CONTINUOUS", 18, "design conditions text"),
+    Layer("WALLRUN-CELL-TITLES", 7, "CONTINUOUS", 35, "section titles in the grid"),
+    # every sheet
+    Layer("WALLRUN-SHEET-FRAME", 7, "CONTINUOUS", 35, "title block frame and text"),
+    Layer("WALLRUN-CAUTIONS", 1, "CONTINUOUS", 25, "notes and cautions"),
+]
+LAYERS: dict[str, Layer] = {lay.name: lay for lay in _L}
+
+# Short names for the code.
+L_GROUND = "WALLRUN-GROUND-SURVEYED"
+L_FINISHED = "WALLRUN-LEVEL-FINISHED"
+L_TOP = "WALLRUN-WALL-TOP"
+L_UNDERSIDE = "WALLRUN-BASE-UNDERSIDE"
+L_BASE_TOP = "WALLRUN-BASE-TOPSIDE"
+L_JOINTS = "WALLRUN-MOVEMENT-JOINTS"
+L_PANELS = "WALLRUN-PANEL-NAMES"
+L_RUNS = "WALLRUN-RUN-NAMES"
+L_CHAINAGE = "WALLRUN-CHAINAGE-MARKS"
+L_LEVELS = "WALLRUN-LEVEL-STAFF"
+L_WALL_PLAN = "WALLRUN-LINE-OF-WALL"
+L_REFERENCE = "WALLRUN-SETTING-OUT"
+L_NORTH = "WALLRUN-NORTH-POINT"
+L_CONCRETE = "WALLRUN-CONCRETE-EDGE"
+L_FRONT = "WALLRUN-GROUND-FRONT"
+L_FILL = "WALLRUN-FILL-BEHIND"
+L_WATER = "WALLRUN-WATER-BEHIND"
+L_BARS = "WALLRUN-STEEL-MAIN"
+L_DOTS = "WALLRUN-STEEL-CROSS"
+L_MARKS = "WALLRUN-STEEL-MARKS"
+L_TABLE = "WALLRUN-STEEL-TABLE"
+L_DIMS = "WALLRUN-SIZES"
+L_LEVEL_TAGS = "WALLRUN-LEVEL-TAGS"
+L_CONDITIONS = "WALLRUN-DESIGN-DATA"
+L_TITLES = "WALLRUN-CELL-TITLES"
+L_FRAME = "WALLRUN-SHEET-FRAME"
+L_NOTES = "WALLRUN-CAUTIONS"
+
+TEXT_STYLE = "WALLRUN-LETTERING"
+DIM_STYLE = "WALLRUN-SIZING"
+TEXT_MM = 2.5  # ordinary text height on paper, mm
+SMALL_MM = 1.8  # small text, mm
+TITLE_MM = 3.5  # titles, mm
+
+#: Standard drawing scales 1:N that wallrun chooses from.
+SCALES = (10, 20, 25, 50, 100, 200, 250, 500, 1000, 1250, 2000, 2500, 5000, 10000,
+          20000, 25000, 50000, 100000)
+
+CAUTION_LINES = (
+    "PRELIMINARY DESIGN AID - NOT FOR CONSTRUCTION UNTIL CHECKED.",
+    "This drawing was generated by wallrun. Every figure on it is to be checked, and the "
+    "design taken over and signed, by a qualified engineer under the local codes and the "
+    "national annex in force.",
+    "NOT CHECKED by wallrun: overall (deep-seated) stability; settlement and tilt beyond "
+    "the middle-third and edge-pressure-ratio rules; seismic actions; compaction "
+    "pressures; frost; chemical attack on concrete or steel.",
+    "Levels and chainages in metres; section dimensions in millimetres.",
+)
+
+
+def paper(mm: float, scale: float) -> float:
+    """Model length in m of ``mm`` paper millimetres at scale 1:``scale``."""
+    return mm * scale / 1000.0
+
+
+def pick_scale(wanted: float) -> int:
+    """Smallest standard scale 1:N with N >= ``wanted`` (the largest listed if none)."""
+    for s in SCALES:
+        if s >= wanted - 1e-9:
+            return s
+    return SCALES[-1]
+
+
+def pick_scale_down(wanted: float, lowest: int = 50) -> int:
+    """Largest standard scale 1:N with N <= ``wanted``, at least ``lowest``."""
+    best = lowest
+    for s in SCALES:
+        if lowest <= s <= wanted + 1e-9:
+            best = s
+    return best
+
+
+def along_wall_scale(panel_lengths) -> int:
+    """Scale of drawings along the wall (elevation, plan), 1:N.
+
+    Chosen so that the median panel is at least 25 mm long on paper (room for its name
+    and section type at 2.5 mm text): the largest standard N <= 40 x median length in
+    m, and at least 1:50.
+    """
+    lengths = np.asarray(list(panel_lengths), dtype=float)
+    med = float(np.median(lengths)) if lengths.size else 10.0
+    return pick_scale_down(40.0 * med, lowest=50)
+
+
+# --- document ------------------------------------------------------------------------
+
+def new_document(scale: int, title: str = "") -> "ezdxf.document.Drawing":
+    """A new DXF R2013 drawing in metres with wallrun's layers, linetypes, text style
+    and dimension style, sized for printing at 1:``scale``."""
+    doc = ezdxf.new("R2013", setup=False)
+    doc.units = ezdxf.units.M
+    doc.header["$INSUNITS"] = 6
+    doc.header["$MEASUREMENT"] = 1
+    doc.header["$LUNITS"] = 2
+    doc.header["$LTSCALE"] = 1.0
+    doc.header["$PSLTSCALE"] = 0
+    for name, (desc, pat) in LINETYPES.items():
+        elems = [paper(v, scale) for v in pat]
+        doc.linetypes.add(name, pattern=[sum(abs(e) for e in elems)] + elems, description=desc)
+    for lay in _L:
+        layer = doc.layers.add(lay.name, color=lay.color, linetype=lay.linetype)
+        layer.dxf.lineweight = lay.lineweight
+        layer.description = lay.description
+    doc.styles.add(TEXT_STYLE, font="DejaVuSans.ttf")
+    ds = doc.dimstyles.new(DIM_STYLE)
+    ds.dxf.dimscale = scale / 1000.0  # every size below is in paper mm
+    ds.dxf.dimtxsty = TEXT_STYLE
+    ds.dxf.dimtxt = TEXT_MM
+    ds.dxf.dimasz = 2.0
+    ds.dxf.dimtsz = 1.5  # oblique ticks instead of arrows
+    ds.dxf.dimexe = 1.5
+    ds.dxf.dimexo = 1.0
+    ds.dxf.dimgap = 0.8
+    ds.dxf.dimtad = 1  # text above the dimension line
+    ds.dxf.dimtih = 0
+    ds.dxf.dimtoh = 0
+    ds.dxf.dimlunit = 2  # decimal
+    ds.dxf.dimlfac = 1000.0  # model metres shown as millimetres
+    ds.dxf.dimdec = 0
+    ds.dxf.dimzin = 8
+    ds.dxf.dimclrd = 140
+    ds.dxf.dimclre = 140
+    ds.dxf.dimclrt = 7
+    doc.header.custom_vars.append("WALLRUN_SCALE", f"1:{scale}")
+    if title:
+        doc.header.custom_vars.append("WALLRUN_DRAWING", title)
+    return doc
+
+
+def add_text(msp, text: str, xy, height: float, layer: str,
+             align: TextEntityAlignment = TextEntityAlignment.MIDDLE_LEFT,
+             rotation: float = 0.0):
+    """One TEXT entity in wallrun's text style, placed at ``xy`` with ``align``."""
+    t = msp.add_text(text, height=height, rotation=rotation,
+                     dxfattribs={"layer": layer, "style": TEXT_STYLE})
+    t.set_placement((float(xy[0]), float(xy[1])), align=align)
+    return t
+
+
+def audit_or_raise(doc, path) -> None:
+    """Run the DXF audit and refuse to write a drawing with errors."""
+    auditor = doc.audit()
+    if auditor.has_errors:
+        msgs = "; ".join(str(e.message) for e in auditor.errors[:5])
+        raise RuntimeError(f"{path}: the DXF audit found errors: {msgs}")
+
+
+# --- title block and notes -------------------------------------------------------------
+
+TITLE_W_MM = 180.0
+TITLE_H_MM = 48.0
+NOTES_W_MM = 170.0
+
+
+def title_block(msp, right_bottom, scale: int, project, drawing: str,
+                scale_text: str, extra: tuple[str, ...] = (), date: str | None = None):
+    """Boxed title block with its lower right corner at ``right_bottom``; returns its
+    (xmin, ymin, xmax, ymax) in model metres.
+
+    Lists the project name and reference, the drawing, the date, the scale and any
+    ``extra`` lines (e.g. the vertical exaggeration), and the generator.
+    """
+    p = lambda mm: paper(mm, scale)  # noqa: E731
+    x1, y0 = float(right_bottom[0]), float(right_bottom[1])
+    x0, y1 = x1 - p(TITLE_W_MM), y0 + p(TITLE_H_MM)
+    msp.add_lwpolyline([(x0, y0), (x1, y0), (x1, y1), (x0, y1)], close=True,
+                       dxfattribs={"layer": L_FRAME})
+    split = y1 - p(12.0)
+    msp.add_line((x0, split), (x1, split), dxfattribs={"layer": L_FRAME})
+    name = getattr(project, "name", "") or "(unnamed project)"
+    ref = getattr(project, "reference", "") or "-"
+    add_text(msp, name, (x0 + p(3), y1 - p(4.5)), p(TITLE_MM), L_FRAME)
+    add_text(msp, f"{drawing}", (x0 + p(3), y1 - p(9.5)), p(TEXT_MM), L_FRAME)
+    rows = [f"Reference: {ref}",
+            f"Date: {date or _dt.date.today().isoformat()}",
+            f"Scale: {scale_text}",
+            *extra,
+            "Units: metres (levels, chainage, coordinates)",
+            "Produced by wallrun - preliminary, to be checked"]
+    y = split - p(4.0)
+    for r in rows:
+        add_text(msp, r, (x0 + p(3), y), p(SMALL_MM + 0.2), L_FRAME)
+        y -= p(4.2)
+    return x0, y0, x1, y1
+
+
+def notes_block(msp, right_top, scale: int, extra: tuple[str, ...] = ()):
+    """Notes with the cautions as one MTEXT whose upper right corner is ``right_top``;
+    returns the MTEXT."""
+    lines = ["NOTES AND CAUTIONS"] + [f"{i}. {t}" for i, t in
+                                      enumerate(CAUTION_LINES + tuple(extra), start=1)]
+    m = msp.add_mtext("\\P".join(lines), dxfattribs={
+        "layer": L_NOTES, "style": TEXT_STYLE, "char_height": paper(TEXT_MM, scale),
+        "width": paper(NOTES_W_MM, scale)})
+    m.set_location((float(right_top[0]) - paper(NOTES_W_MM, scale), float(right_top[1])),
+                   attachment_point=ezdxf.enums.MTextEntityAlignment.TOP_LEFT)
+    return m
+
+
+def sheet_furniture(msp, right_bottom, scale: int, project, drawing: str, scale_text: str,
+                    extra_title: tuple[str, ...] = (), extra_notes: tuple[str, ...] = ()):
+    """Title block at ``right_bottom`` with the notes block to its left, top-aligned."""
+    box = title_block(msp, right_bottom, scale, project, drawing, scale_text, extra_title)
+    notes_block(msp, (box[0] - paper(6, scale), box[3]), scale, extra_notes)
+    return box
+
+
+# --- section outline -----------------------------------------------------------------
+
+def section_outline(section, stem_height_m: float, checked_stem_height_m: float,
+                    slope_deg: float = 0.0) -> dict:
+    """Polygons ``stem``, ``base``, ``key`` (with a key) and ``soil`` of a section in
+    section coordinates (x from the toe edge, z from the underside of the base), m.
+
+    Uses ``wallrun.section.polygons`` where present; otherwise builds the same outline
+    from the dimensions (design-basis section 2).
+    """
+    from wallrun import section as _sec
+
+    if hasattr(_sec, "polygons"):
+        try:
+            return _sec.polygons(section, stem_height_m, checked_stem_height_m, slope_deg)
+        except TypeError:  # an older signature without the checked height
+            out = dict(_sec.polygons(section, stem_height_m))
+            if "soil" not in out:
+                out["soil"] = _own_outline(section, stem_height_m, checked_stem_height_m,
+                                           slope_deg)["soil"]
+            return out
+    return _own_outline(section, stem_height_m, checked_stem_height_m, slope_deg)
+
+
+def _own_outline(s, hd: float, hc: float, slope_deg: float) -> dict:
+    from shapely.geometry import Polygon
+
+    hd = max(hd, hc)
+    tb, toe = s.base_thickness_m, s.toe_m
+    out = {
+        "stem": Polygon([(toe, tb), (toe + s.stem_base_m, tb), (toe + s.stem_top_m, tb + hc),
+                         (toe + s.stem_top_m, tb + hd), (toe, tb + hd)]),
+        "base": Polygon([(0, 0), (s.base_width_m, 0), (s.base_width_m, tb), (0, tb)]),
+    }
+    if s.key_depth_m > 0 and s.key_width_m > 0:
+        out["key"] = Polygon([(toe, -s.key_depth_m), (toe + s.key_width_m, -s.key_depth_m),
+                              (toe + s.key_width_m, 0), (toe, 0)])
+    xb = toe + s.stem_top_m
+    zB = tb + hc + (s.base_width_m - xb) * math.tan(math.radians(slope_deg))
+    out["soil"] = Polygon([(toe + s.stem_base_m, tb), (s.base_width_m, tb),
+                           (s.base_width_m, zB), (xb, tb + hc)])
+    return out
+
+
+def concrete_outline(polys: dict):
+    """Outer boundary of stem + base + key as a list of (x, z), m (shapely union)."""
+    from shapely.ops import unary_union
+
+    parts = [polys[k] for k in ("stem", "base", "key") if k in polys and not polys[k].is_empty]
+    u = unary_union(parts)
+    if u.geom_type != "Polygon":  # touching parts only; keep the largest
+        u = max(u.geoms, key=lambda g: g.area)
+    u = u.simplify(1e-9)
+    return [(float(x), float(z)) for x, z in list(u.exterior.coords)[:-1]]
+
+
+# --- profile helpers -------------------------------------------------------------------
+
+def xy_array(profiles, ch) -> np.ndarray:
+    """Plan positions (n, 2) of chainages ``ch`` from ``profiles.xy_at``, accepting a
+    (n, 2) array, a (2, n) array or an (x, y) pair of arrays from it."""
+    ch = np.atleast_1d(np.asarray(ch, dtype=float))
+    n = ch.size
+    if n == 2:  # avoid the (2, 2) ambiguity
+        both = xy_array(profiles, np.array([ch[0], 0.5 * (ch[0] + ch[1]), ch[1]]))
+        return both[[0, 2]]
+    r = profiles.xy_at(ch)
+    if isinstance(r, tuple) and len(r) == 2:
+        return np.column_stack([np.ravel(np.asarray(r[0], dtype=float)),
+                                np.ravel(np.asarray(r[1], dtype=float))])
+    a = np.asarray(r, dtype=float)
+    if a.ndim == 1 and a.size == 2 and n == 1:
+        return a.reshape(1, 2)
+    if a.ndim == 2 and a.shape == (n, 2):
+        return a
+    if a.ndim == 2 and a.shape == (2, n):
+        return a.T
+    raise ValueError(f"profiles.xy_at returned an array of shape {a.shape} for {n} chainages")
+
+
+def sample_chainages(profiles, a: float, b: float, extra=(), max_step: float = 2.0,
+                     max_points: int = 20000) -> np.ndarray:
+    """Chainages from ``a`` to ``b``: the profile breakpoints inside, ``extra`` points
+    and a regular grid (step <= ``max_step``, at most ``max_points``) so that curved
+    alignments draw smoothly; sorted and unique, m."""
+    bp = np.asarray(getattr(profiles, "breakpoints", ()), dtype=float)
+    bp = bp[(bp > a) & (bp < b)]
+    n = int(min(max_points, max(2, math.ceil((b - a) / max_step) + 1)))
+    grid = np.linspace(a, b, n)
+    ex = np.asarray(list(extra), dtype=float)
+    ex = ex[(ex >= a) & (ex <= b)]
+    pts = np.unique(np.concatenate([[a, b], bp, grid, ex]))
+    keep = np.concatenate([[True], np.diff(pts) > 1e-9])
+    return pts[keep]
+
+
+def chainage_label(ch: float) -> str:
+    """Chainage as km+m, e.g. 1+240 (metres rounded to a millimetre when not whole)."""
+    neg = ch < 0
+    ch = abs(ch)
+    km = int(ch // 1000)
+    m = ch - 1000 * km
+    ms = f"{m:03.0f}" if abs(m - round(m)) < 1e-6 else f"{m:07.3f}"
+    if ms.startswith("1000"):
+        km, ms = km + 1, "000"
+    return f"{'-' if neg else ''}{km}+{ms}"
+
+
+def tick_values(a: float, b: float, step: float) -> np.ndarray:
+    """Multiples of ``step`` from ``a`` to ``b`` inclusive."""
+    if step <= 0:
+        return np.array([])
+    k0 = math.ceil(a / step - 1e-9)
+    k1 = math.floor(b / step + 1e-9)
+    return np.arange(k0, k1 + 1) * step
