@@ -1,0 +1,590 @@
+"""Actions and every EN 1997-1 stability check of a cantilever wall, vectorised.
+
+Design-basis sections 2 to 5. Every function evaluates n candidate sections at once
+(``SectionArrays``, arrays of shape (n,)); loops run only over the factor sets and
+the four bearing sub-cases. Section coordinates: x from the toe edge towards the
+retained side, z from the underside of the base; units m, kN/m, kNm/m, kPa.
+
+Readings taken where the design basis is silent (also listed in the module report):
+
+- The heel's critical section carries only the soil with x >= the stem back face at
+  the top of the base; the small wedge over the tapered back face loads the stem.
+- Undrained sliding: H_d and the V_d of the 0.4 V_d limit come from the same
+  (key-extended) actions as drained sliding; the compressed width uses e from the
+  non-extended actions (as the basis says).
+- Where V <= 0 (the wall lifts off) e is taken as infinite: eccentricity fails with an
+  infinite utilization, bearing resistance is 0.
+- Undrained bearing with H > A' cu (outside D.3) has resistance 0.
+- Passive pressure in front uses the total unit weight of the foundation (free
+  drainage in front, water behind only).
+- The stem pressure uses the backfill surface level with the stem top (z_top); the
+  rising slope behind only enters through Ka.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from wallrun.codes import ec7
+from wallrun.conditions import Conditions
+from wallrun.errors import InputError
+from wallrun.factors import SLS, FactorSet
+from wallrun.members import MemberActions
+from wallrun.results import ActionRow, CheckArray
+from wallrun.section import (Section, SectionArrays, area_centroid, base_vertices,
+                             key_vertices, section_problems, soil_vertices, stem_vertices,
+                             validate_section)
+from wallrun.settings import Basis
+
+GAMMA_C = 25.0  # reinforced concrete, kN/m3 (EN 1991-1-1 Table A.1)
+GAMMA_W = ec7.GAMMA_W
+
+#: Bearing sub-cases: (label, permanent vertical actions unfavourable, heel load on).
+SUBCASES = (("G unfav, heel load on", True, True), ("G unfav, heel load off", True, False),
+            ("G fav, heel load on", False, True), ("G fav, heel load off", False, False))
+SLS_CASES = (("heel load on", True), ("heel load off", False))
+
+CLAUSE = {
+    "overturning": "EN 1997-1 2.4.7.2 (EQU)",
+    "sliding drained": "EN 1997-1 6.5.3 Eq. 6.3a",
+    "sliding undrained": "EN 1997-1 6.5.3 Eq. 6.4a, 6.5.3(12)",
+    "bearing drained": "EN 1997-1 6.5.2, Annex D.4",
+    "bearing undrained": "EN 1997-1 6.5.2, Annex D.3",
+    "eccentricity": "EN 1997-1 6.5.4",
+    "eccentricity_sls": "EN 1997-1 6.5.4; middle third (common practice)",
+    "bearing_sls": "EN 1997-1 2.4.8(4); allowable pressure from the ground report",
+}
+
+
+# --- validation --------------------------------------------------------------------------
+
+def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
+    """Physical ranges of the ground, loads and settings (scalars only)."""
+    p = []
+    bf, fd = cond.backfill, cond.foundation
+
+    def num(key, v, lo=None, hi=None, lo_open=False, hi_open=False, what=""):
+        try:
+            v = float(v)
+        except (TypeError, ValueError):
+            p.append(f"{key}: {v!r} is not a number")
+            return
+        if not np.isfinite(v):
+            p.append(f"{key}: {v!r} is not a finite number")
+            return
+        if lo is not None and (v < lo or (lo_open and v <= lo)):
+            p.append(f"{key} = {v:g}: must be {'>' if lo_open else '>='} {lo:g}{what}")
+        if hi is not None and (v > hi or (hi_open and v >= hi)):
+            p.append(f"{key} = {v:g}: must be {'<' if hi_open else '<='} {hi:g}{what}")
+
+    num("[backfill] friction_angle_deg", bf.friction_angle_deg, 0, 50, True, True)
+    num("[backfill] unit_weight_kn_m3", bf.unit_weight_kn_m3, 0, 30, True)
+    num("[backfill] slope_deg", bf.slope_deg, 0, 89)
+    num("[backfill] wall_friction_deg", bf.wall_friction_deg, 0, bf.friction_angle_deg)
+    num("[foundation] friction_angle_deg", fd.friction_angle_deg, 0, 50, True, True)
+    num("[foundation] critical_state_angle_deg", fd.phi_cv_deg, 0, 50, True, True)
+    num("[foundation] unit_weight_kn_m3", fd.unit_weight_kn_m3, 0, 30, True)
+    num("[foundation] cohesion_kpa", fd.cohesion_kpa, 0)
+    num("[foundation] undrained_strength_kpa", fd.undrained_strength_kpa, 0)
+    num("[foundation] allowable_bearing_kpa", fd.allowable_bearing_kpa, 0)
+    num("[loads] surcharge_kpa", cond.surcharge_kpa, 0)
+    num("[loads] psi2", basis.loads.psi2, 0, 1)
+    num("[design] base_friction_factor", basis.design.base_friction_factor, 0, 1, True)
+    if p:
+        return p
+    if cond.water_level_m is not None:
+        if bf.unit_weight_kn_m3 <= GAMMA_W:
+            p.append(f"[backfill] unit_weight_kn_m3 = {bf.unit_weight_kn_m3:g}: must exceed "
+                     f"the unit weight of water {GAMMA_W} with water behind the wall")
+        if fd.unit_weight_kn_m3 <= GAMMA_W:
+            p.append(f"[foundation] unit_weight_kn_m3 = {fd.unit_weight_kn_m3:g}: must exceed "
+                     f"the unit weight of water {GAMMA_W} with water behind the wall")
+    d = basis.design
+    if d.approach not in ("DA1", "DA2", "DA3"):
+        p.append(f"[design] approach = {d.approach!r}: must be DA1, DA2 or DA3")
+    if d.earth_pressure not in ("rankine", "coulomb"):
+        p.append(f"[design] earth_pressure = {d.earth_pressure!r}: must be rankine or coulomb")
+    if d.passive not in ("none", "key", "full"):
+        p.append(f"[design] passive = {d.passive!r}: must be none, key or full")
+    if p:
+        return p
+    sets = {"EQU": basis.factors.get("EQU")} | {s: basis.factors.get(s) for s in basis.uls_sets}
+    for name, fs in sets.items():
+        if fs is None:
+            p.append(f"[factors.{name}]: factor set missing from the basis")
+            continue
+        for k in ("gG_unfav", "gG_fav", "gQ", "g_phi", "g_c", "g_cu", "gR_bearing",
+                  "gR_sliding", "gR_passive", "gG_ground"):
+            v = getattr(fs, k)
+            if not (np.isfinite(v) and v > 0) and not (k in ("gG_fav", "gQ") and v == 0):
+                p.append(f"[factors.{name}] {k} = {v:g}: must be > 0")
+    if p:
+        return p
+    for name, fs in sets.items():
+        phid = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
+        if bf.slope_deg >= phid:
+            p.append(f"[backfill] slope_deg = {bf.slope_deg:g}: at or above the design friction "
+                     f"angle {phid:.2f} of the backfill in {name} (friction_angle_deg "
+                     f"{bf.friction_angle_deg:g} / g_phi {fs.g_phi:g}): no active limit state")
+    if cond.z_top < cond.z_front:
+        p.append(f"retained level z_top = {cond.z_top:g} is below the front level "
+                 f"z_front = {cond.z_front:g}")
+    if np.any(np.asarray(cond.z_found) >= cond.z_front):
+        p.append("founding level z_found is not below the front level z_front")
+    return p
+
+
+def validate(section_or_arrays, cond: Conditions, basis: Basis) -> list[str]:
+    """Every problem with a section (or candidate arrays), its conditions and basis,
+    before any arithmetic; each names its key or dimension. Empty list: fine.
+
+    Ranges: phi' in (0, 50) deg, unit weights in (0, 30], cohesion, cu, allowable,
+    surcharge >= 0; backfill slope below the design friction angle of every
+    combination in use (EQU and the approach's sets); wall friction within
+    [0, phi'_k]; the stem height z_top - z_found - base_thickness_m > 0.
+    """
+    p = _ground_problems(cond, basis)
+    s = section_or_arrays
+    if isinstance(s, Section):
+        p += validate_section(s)
+        t = np.asarray(s.base_thickness_m)
+    else:
+        bad = section_problems(s)
+        if bad.any():
+            i = int(np.argmax(bad))
+            first = validate_section(s.take(i), where=f"candidate {i}")
+            p.append(f"{int(bad.sum())} of {len(s)} candidate sections do not close; "
+                     + "; ".join(first))
+        t = np.asarray(s.base_thickness_m)
+    hc = cond.z_top - np.asarray(cond.z_found, dtype=float) - t
+    if np.any(hc <= 0):
+        p.append("base_thickness_m: the base reaches z_top (stem height z_top - z_found - "
+                 "base_thickness_m <= 0)")
+    return p
+
+
+# --- characteristic geometry ------------------------------------------------------------------
+
+class _Geom:
+    """Characteristic, factor-free quantities of n candidates (design-basis 2 and 3)."""
+
+    def __init__(self, sec: SectionArrays, cond: Conditions):
+        f = lambda a: np.asarray(a, dtype=float)
+        self.B, self.toe, self.t = f(sec.base_width_m), f(sec.toe_m), f(sec.base_thickness_m)
+        self.tsb, self.tst = f(sec.stem_base_m), f(sec.stem_top_m)
+        self.dk, self.wk = f(sec.key_depth_m), f(sec.key_width_m)
+        n = self.B.shape[0]
+        self.n = n
+        zf = np.broadcast_to(f(cond.z_found), (n,))
+        self.z_found = zf
+        bf, fd = cond.backfill, cond.foundation
+        self.beta = float(bf.slope_deg)
+        tb = np.tan(np.radians(self.beta))
+        self.cb, self.sb = np.cos(np.radians(self.beta)), np.sin(np.radians(self.beta))
+        self.H = cond.z_top - zf  # total height, m
+        self.hc = np.maximum(self.H - self.t, 0.0)  # checked stem height, m
+        self.q = float(cond.surcharge_kpa)
+        g = self.gb = float(bf.unit_weight_kn_m3)
+        self.gf = float(fd.unit_weight_kn_m3)
+        B, toe, t = self.B, self.toe, self.t
+        # concrete: stem to z_top, base, key (shoelace)
+        As, xs, _ = area_centroid(*stem_vertices(toe, t, self.tsb, self.tst, self.hc))
+        Ab, xb, _ = area_centroid(*base_vertices(B, t))
+        Ak, xk, _ = area_centroid(*key_vertices(toe, self.dk, self.wk))
+        self.W_stem, self.x_stem = GAMMA_C * As, xs
+        self.W_base, self.x_base = GAMMA_C * Ab, xb
+        self.W_key, self.x_key = GAMMA_C * Ak, xk
+        self.W_c = self.W_stem + self.W_base + self.W_key
+        self.M_c = self.W_stem * xs + self.W_base * xb + self.W_key * xk
+        # soil over the heel (total unit weight above and below water)
+        Asl, xsl, _ = area_centroid(*soil_vertices(toe, t, self.tsb, self.tst, B, self.hc, self.beta))
+        self.W_s, self.x_s = g * Asl, xsl
+        # the part of it beyond the heel's critical section x_h = toe + t_stem_base
+        self.x_h = toe + self.tsb
+        z_top_rel = t + self.hc
+        zs_xh = z_top_rel + (self.x_h - toe - self.tst) * tb
+        self.Hv = z_top_rel + (B - toe - self.tst) * tb  # surface at x = B above underside
+        xq = np.stack([self.x_h, B, B, self.x_h], axis=-1)
+        zq = np.stack([t, t, self.Hv, zs_xh], axis=-1)
+        Ah, xhh, _ = area_centroid(xq, zq)
+        self.W_s_heel, self.x_s_heel = g * Ah, xhh
+        # water behind the wall, relative to the underside of the base, capped at the
+        # backfill surface at x = B (virtual back) and at z_top (stem)
+        if cond.water_level_m is None:
+            w = np.full(n, -np.inf)
+        else:
+            w = np.broadcast_to(f(cond.water_level_m), (n,)) - zf
+        wc = np.minimum(w, self.Hv)
+        self.water_above_base = wc > 0
+        self.hw = np.clip(wc, 0.0, self.Hv)  # on the virtual back, above the underside
+        self.hw_k = np.clip(wc + self.dk, 0.0, self.Hv + self.dk)  # above the key bottom
+        self.hw_stem = np.clip(np.minimum(w, self.H) - t, 0.0, self.hc)
+        self._w_stem_rel = np.minimum(w, self.H)  # absolute water on the stem, rel. underside
+        # soil thrust per unit Ka on the virtual back: S (kN/m) and moment about its bottom
+        self.S, self.Sm = self._thrust_per_ka(g, self.Hv, self.hw)
+        self.S_k, _ = self._thrust_per_ka(g, self.Hv + self.dk, self.hw_k)
+        self.Pw, self.Pw_k = 0.5 * GAMMA_W * self.hw ** 2, 0.5 * GAMMA_W * self.hw_k ** 2
+        self.Mw = self.Pw * self.hw / 3.0
+        # triangular uplift: gamma_w hw at the heel edge, 0 at the toe edge, at 2B/3
+        self.U = 0.5 * GAMMA_W * self.hw * B
+        self.xU = 2.0 * B / 3.0
+        self.MU = self.U * self.xU
+        # heel load: q on the plan width from the stem back face at z_top to x = B
+        bq = B - toe - self.tst
+        self.Q, self.xQ = self.q * bq, B - 0.5 * bq
+        # bearing: overburden on the front and the unit weight in the Ngamma term
+        self.D = np.maximum(cond.z_front - zf, 0.0)
+        self.q_over = self.gf * self.D
+        self.g_eff_found = np.where(self.water_above_base, self.gf - GAMMA_W, self.gf)
+
+    def _thrust_per_ka(self, g, Hb, hw):
+        """Integral of the effective vertical stress down a vertical plane of height Hb
+        with water hw above its bottom (effective weight g - gamma_w below the water):
+        (S, moment of S about the bottom), per unit Ka (design-basis 3)."""
+        d1 = Hb - hw
+        ge = g - GAMMA_W
+        t1, t2, t3 = 0.5 * g * d1 ** 2, g * d1 * hw, 0.5 * ge * hw ** 2
+        return t1 + t2 + t3, t1 * (hw + d1 / 3.0) + t2 * hw / 2.0 + t3 * hw / 3.0
+
+
+def _stem_pressure_per_k(g, h, hw, q):
+    """Forces and moments at the bottom of a stem length h (m) with water hw above that
+    bottom: (S, Sm) soil per unit K, (Sq, Sqm) surcharge per unit K, (Pw, Mw) water."""
+    d1 = h - hw
+    ge = g - GAMMA_W
+    t1, t2, t3 = 0.5 * g * d1 ** 2, g * d1 * hw, 0.5 * ge * hw ** 2
+    S = t1 + t2 + t3
+    Sm = t1 * (hw + d1 / 3.0) + t2 * hw / 2.0 + t3 * hw / 3.0
+    Pw = 0.5 * GAMMA_W * hw ** 2
+    return S, Sm, q * h, 0.5 * q * h ** 2, Pw, Pw * hw / 3.0
+
+
+# --- factored actions of one set ---------------------------------------------------------------
+
+class _SetActions:
+    """Design values of one factor set: Ka, thrust components and their moments."""
+
+    def __init__(self, g: _Geom, fs: FactorSet, cond: Conditions, basis: Basis):
+        self.fs = fs
+        bf, fd = cond.backfill, cond.foundation
+        self.phi_b = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
+        self.Ka = float(ec7.ka_rankine(self.phi_b, g.beta))
+        Ka = self.Ka
+        self.Pa_h, self.Pa_v = Ka * g.S * g.cb, Ka * g.S * g.sb
+        self.Ma_h = Ka * g.Sm * g.cb  # about the toe at the underside (bottom of the back)
+        self.Pq_h, self.Pq_v = Ka * g.q * g.Hv * g.cb, Ka * g.q * g.Hv * g.sb
+        self.Mq_h = 0.5 * Ka * g.q * g.Hv ** 2 * g.cb
+        self.phi_f = float(ec7.design_friction_angle(fd.friction_angle_deg, fs.g_phi))
+        self.c_d = float(ec7.design_cohesion(fd.cohesion_kpa, fs.g_c))
+        self.cu_d = float(ec7.design_undrained_strength(fd.undrained_strength_kpa, fs.g_cu))
+
+    def subcase(self, g: _Geom, unfav: bool, heel_on: bool):
+        """V (net of uplift), H, M about the toe (restoring positive) and e of a bearing
+        sub-case (design-basis 4): permanent vertical actions at gG unfav or fav, heel
+        load at gQ or off; thrusts (and both components of Pq) unfavourable."""
+        fs = self.fs
+        gc = fs.gG_unfav if unfav else fs.gG_fav
+        gg = fs.gG_ground if unfav else fs.gG_fav
+        gh, gQ = fs.gG_ground, fs.gQ
+        on = gQ if heel_on else 0.0
+        V = gc * g.W_c + gg * (g.W_s + self.Pa_v - g.U) + gQ * self.Pq_v + on * g.Q
+        H = gh * (self.Pa_h + g.Pw) + gQ * self.Pq_h
+        M = (gc * g.M_c + gg * (g.W_s * g.x_s + self.Pa_v * g.B - g.MU) + gQ * self.Pq_v * g.B
+             + on * g.Q * g.xQ - gh * (self.Ma_h + g.Mw) - gQ * self.Mq_h)
+        return V, H, M, _ecc(V, M, g.B), gc, gg
+
+
+def _ecc(V, M, B):
+    """e = B/2 - M/V about the base centreline (positive towards the toe), m; inf where
+    V <= 0."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(V > 1e-9, B / 2.0 - M / np.where(V > 1e-9, V, 1.0), np.inf)
+
+
+def _sets(basis: Basis):
+    return [(name, basis.factors[name]) for name in basis.uls_sets]
+
+
+def _check(cond, basis, sec):
+    p = _ground_problems(cond, basis)
+    if p:
+        raise InputError(p)
+
+
+# --- stability checks ---------------------------------------------------------------------------
+
+def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[CheckArray]:
+    """Every stability check of design-basis section 4 for n candidates.
+
+    Order: overturning (EQU); per ULS set: sliding drained (+ undrained), then bearing
+    drained (+ undrained) per sub-case, then eccentricity per sub-case; then
+    eccentricity_sls and bearing_sls where they apply. Candidates whose dimensions do
+    not close get infinite effects. Raises InputError for ground out of range.
+    """
+    _check(cond, basis, sec)
+    g = _Geom(sec, cond)
+    out: list[CheckArray] = []
+    fd = cond.foundation
+    # overturning, EQU (2.4.7.2)
+    e = basis.factors["EQU"]
+    a = _SetActions(g, e, cond, basis)
+    M_dst = e.gG_ground * (a.Ma_h + g.Mw + g.MU) + e.gQ * a.Mq_h
+    M_stb = e.gG_fav * (g.M_c + g.W_s * g.x_s + a.Pa_v * g.B)
+    out.append(CheckArray("overturning", "EQU", "about toe", "kNm/m", CLAUSE["overturning"],
+                          M_dst, M_stb))
+    h = cond.h
+    z_p = cond.z_front - float(ec7.unplanned_excavation(h))
+    undrained = fd.undrained_strength_kpa > 0
+    for name, fs in _sets(basis):
+        a = _SetActions(g, fs, cond, basis)
+        gh, gf = fs.gG_ground, fs.gG_fav
+        # sliding (6.5.3), virtual back extended to the key bottom
+        S_k = g.S_k * a.Ka
+        Hk = g.Hv + g.dk
+        H_d = gh * (S_k * g.cb + g.Pw_k) + fs.gQ * a.Ka * g.q * Hk * g.cb
+        V_d0 = gf * (g.W_c + g.W_s + S_k * g.sb)
+        V_eff = V_d0 - gh * g.U
+        delta_d = ec7.base_friction_angle(fd.phi_cv_deg, fs.g_phi, basis.design.base_friction_factor)
+        R = ec7.sliding_resistance_drained(V_eff, delta_d, fs.gR_sliding)
+        Pp = _passive(g, a, cond, basis, z_p)
+        R = R + Pp / fs.gR_passive
+        out.append(CheckArray("sliding", name, "drained", "kN/m", CLAUSE["sliding drained"], H_d, R))
+        if undrained:
+            Vu = gf * (g.W_c + g.W_s + a.Pa_v) - gh * g.U
+            Mu = (gf * (g.M_c + g.W_s * g.x_s + a.Pa_v * g.B) - gh * (g.MU + a.Ma_h + g.Mw)
+                  - fs.gQ * a.Mq_h)
+            eu = _ecc(Vu, Mu, g.B)
+            Ac = np.where(np.isfinite(eu), ec7.compressed_width(g.B, np.where(np.isfinite(eu), eu, 0)), 0.0)
+            Ru = ec7.sliding_resistance_undrained(Ac, a.cu_d, V_d0, fs.gR_sliding,
+                                                  basis.design.undrained_interface_open)
+            out.append(CheckArray("sliding", name, "undrained", "kN/m", CLAUSE["sliding undrained"],
+                                  H_d, Ru))
+        # bearing (6.5.2, Annex D) and eccentricity (6.5.4)
+        ecc = []
+        for label, unfav, on in SUBCASES:
+            V, H, M, ev, _, _ = a.subcase(g, unfav, on)
+            Bp = np.where(np.isfinite(ev), ec7.effective_width(g.B, np.where(np.isfinite(ev), ev, 0)), 0.0)
+            qd = ec7.bearing_drained(a.c_d, g.q_over, g.g_eff_found, Bp, a.phi_f, H, V)
+            out.append(CheckArray("bearing", name, f"{label}, drained", "kN/m",
+                                  CLAUSE["bearing drained"], V, qd * Bp / fs.gR_bearing))
+            if undrained:
+                qu = ec7.bearing_undrained(a.cu_d, g.q_over, H, Bp)
+                out.append(CheckArray("bearing", name, f"{label}, undrained", "kN/m",
+                                      CLAUSE["bearing undrained"], V, qu * Bp / fs.gR_bearing))
+            ecc.append(CheckArray("eccentricity", name, label, "m", CLAUSE["eccentricity"],
+                                  np.abs(ev), g.B / 3.0))
+        out.extend(ecc)
+    out.extend(_sls_checks(g, cond, basis))
+    bad = section_problems(sec)
+    if bad.any():
+        out = [CheckArray(c.check, c.combination, c.case, c.unit, c.clause,
+                          np.where(bad, np.inf, c.effect), c.resistance) for c in out]
+    return out
+
+
+def _passive(g: _Geom, a: _SetActions, cond: Conditions, basis: Basis, z_p: float):
+    """Passive resistance in front (design-basis 3), kN/m: Rankine Kp from the
+    foundation's phi'_d, below the front level lowered by delta_a; ``key``: front face of
+    the key below the underside; ``full``: also the front edge of the base."""
+    mode = basis.design.passive
+    if mode == "none":
+        return np.zeros(g.n)
+    Kp = float(ec7.kp_rankine(a.phi_f))
+    low = g.z_found - g.dk
+    high = g.z_found + (g.t if mode == "full" else 0.0)
+    P, _ = ec7.passive_force(Kp, g.gf, z_p, low, high)
+    return P
+
+
+def _sls_cases(g: _Geom, cond: Conditions, basis: Basis):
+    """(label, V, e) of the characteristic cases (all factors 1.0, phi'_k, Pq on)."""
+    a = _SetActions(g, SLS, cond, basis)
+    out = []
+    for label, on in SLS_CASES:
+        V, H, M, e, _, _ = a.subcase(g, True, on)
+        out.append((label, V, e))
+    return out
+
+
+def _sls_checks(g: _Geom, cond: Conditions, basis: Basis) -> list[CheckArray]:
+    out = []
+    cases = _sls_cases(g, cond, basis) if (basis.design.sls_middle_third or
+                                           cond.foundation.allowable_bearing_kpa > 0) else []
+    if basis.design.sls_middle_third:
+        for label, V, e in cases:
+            out.append(CheckArray("eccentricity_sls", "SLS", label, "m", CLAUSE["eccentricity_sls"],
+                                  np.abs(e), g.B / 6.0))
+    allow = cond.foundation.allowable_bearing_kpa
+    if allow > 0:
+        for label, V, e in cases:
+            out.append(CheckArray("bearing_sls", "SLS", label, "kPa", CLAUSE["bearing_sls"],
+                                  _sigma_max(V, e, g.B), np.full(g.n, float(allow))))
+    return out
+
+
+def _sigma_max(V, e, B):
+    ok = np.isfinite(e)
+    return np.where(ok, ec7.edge_pressure(V, np.where(ok, e, 0.0), B), np.inf)
+
+
+def edge_pressure_sls(sec: SectionArrays, cond: Conditions, basis: Basis) -> np.ndarray:
+    """Maximum characteristic edge pressure, kPa, shape (n,): the larger of the two SLS
+    cases (heel load on/off), for the joint pressure ratio (design-basis 1 and 4)."""
+    _check(cond, basis, sec)
+    g = _Geom(sec, cond)
+    return np.max(np.vstack([_sigma_max(V, e, g.B) for _, V, e in _sls_cases(g, cond, basis)]), axis=0)
+
+
+# --- actions table -----------------------------------------------------------------------------
+
+def action_table(section: Section, cond: Conditions, basis: Basis) -> tuple[ActionRow, ...]:
+    """Characteristic actions on one section (phi'_k, factors 1.0) with their points of
+    application and moments about the toe edge at the underside (restoring positive),
+    for the report. Vertical downward positive, horizontal towards the front positive."""
+    _check(cond, basis, section)
+    g = _Geom(SectionArrays.of([section]), cond)
+    a = _SetActions(g, SLS, cond, basis)
+    v = lambda x: float(np.asarray(x)[0])
+    rows = []
+
+    def row(name, kind, V, Hh, x, z):
+        V, Hh, x, z = v(V), v(Hh), v(x), v(z)
+        rows.append(ActionRow(name, kind, V, Hh, x, z, V * x - Hh * z))
+
+    zeros = np.zeros(1)
+    row("stem self-weight", "permanent", g.W_stem, zeros, g.x_stem, zeros)
+    row("base self-weight", "permanent", g.W_base, zeros, g.x_base, zeros)
+    if section.key_depth_m > 0:
+        row("key self-weight", "permanent", g.W_key, zeros, g.x_key, zeros)
+    row("soil over heel", "permanent", g.W_s, zeros, g.x_s, zeros)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        za = np.where(g.S > 0, g.Sm / np.where(g.S > 0, g.S, 1), 0)
+    row(f"active thrust (Ka = {a.Ka:.3f})", "permanent", a.Pa_v, a.Pa_h, g.B, za)
+    if v(g.hw) > 0:
+        row("water thrust", "permanent", zeros, g.Pw, g.B, g.hw / 3.0)
+        row("uplift", "permanent", -g.U, zeros, g.xU, zeros)
+    if g.q > 0:
+        row("surcharge thrust", "variable", a.Pq_v, a.Pq_h, g.B, g.Hv / 2.0)
+        row("surcharge on heel", "variable", g.Q, zeros, g.xQ, zeros)
+    return tuple(rows)
+
+
+# --- member actions (design-basis 5) ----------------------------------------------------------
+
+def _stem_K(cond: Conditions, basis: Basis, fs: FactorSet) -> float:
+    """Horizontal earth-pressure coefficient on the stem for a factor set: Rankine
+    Ka(phi'_d, beta) cos beta, or Coulomb Ka(phi'_d, delta_d, beta) cos delta_d."""
+    bf = cond.backfill
+    phi = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
+    if basis.design.earth_pressure == "coulomb":
+        dd = float(ec7.design_friction_angle(bf.wall_friction_deg, fs.g_phi))
+        return float(ec7.ka_coulomb(phi, dd, bf.slope_deg)) * np.cos(np.radians(dd))
+    return float(ec7.ka_rankine(phi, bf.slope_deg)) * np.cos(np.radians(bf.slope_deg))
+
+
+def _lin_integral(c0, c1, s0, s1, a, b, p):
+    """Integral of sigma = c0 + c1 x over [a, b] within its support [s0, s1]: (force,
+    moment about x = p with arm x - p)."""
+    lo = np.maximum(a, s0)
+    hi = np.maximum(np.minimum(b, s1), lo)
+    F = c0 * (hi - lo) + c1 * (hi ** 2 - lo ** 2) / 2.0
+    Mx = c0 * (hi ** 2 - lo ** 2) / 2.0 + c1 * (hi ** 3 - lo ** 3) / 3.0
+    return F, Mx - p * F
+
+
+def _contact(V, e, B):
+    """Linear, no-tension contact pressure under the base as sigma = c0 + c1 x on the
+    support [s0, s1] (x from the toe edge), kPa; zero where V <= 0."""
+    ok = np.isfinite(e) & (V > 0)
+    e = np.where(ok, e, 0.0)
+    V = np.where(ok, V, 0.0)
+    full = np.abs(e) <= B / 6.0
+    c0_f = V / B * (1.0 + 6.0 * e / B)
+    c1_f = -12.0 * V * e / B ** 3
+    L_t = np.maximum(3.0 * (B / 2.0 - e), 1e-6)  # toe-side triangle
+    L_h = np.maximum(3.0 * (B / 2.0 + e), 1e-6)  # heel-side triangle
+    toe_side = e > 0
+    L = np.where(toe_side, L_t, L_h)
+    c0_t = np.where(toe_side, 2 * V / L, 2 * V / L * (1.0 - B / L))
+    c1_t = np.where(toe_side, -2 * V / L ** 2, 2 * V / L ** 2)
+    s0 = np.where(full | toe_side, 0.0, B - L)
+    s1 = np.where(full | ~toe_side, B, L)
+    return np.where(full, c0_f, c0_t), np.where(full, c1_f, c1_t), s0, s1
+
+
+def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool,
+                 sub=None):
+    """(M, V) of stem, heel and toe for one factor set and sub-case."""
+    fs = a.fs
+    gh, gQ = fs.gG_ground, fs.gQ
+    S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, g.hc, g.hw_stem, g.q)
+    M_stem = gh * (K_stem * Sm + Mw) + gQ * K_stem * Sqm
+    V_stem = gh * (K_stem * S + Pw) + gQ * K_stem * Sq
+    V, H, M, e, gc, gg = a.subcase(g, unfav, on) if sub is None else sub
+    c0, c1, s0, s1 = _contact(V, e, g.B)
+    B, xh, toe = g.B, g.x_h, g.toe
+    # heel, about the back face of the stem x_h
+    Lh = B - xh
+    onf = gQ if on else 0.0
+    down_F = (gc * GAMMA_C * g.t * Lh + gg * g.W_s_heel + onf * g.q * Lh + gg * a.Pa_v
+              + gQ * a.Pq_v)
+    down_M = (gc * GAMMA_C * g.t * Lh ** 2 / 2 + gg * g.W_s_heel * (g.x_s_heel - xh)
+              + onf * g.q * Lh ** 2 / 2 + (gg * a.Pa_v + gQ * a.Pq_v) * Lh)
+    cF, cM = _lin_integral(c0, c1, s0, s1, xh, B, xh)
+    uc1 = gg * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
+    uF, uM = _lin_integral(0.0, uc1, 0.0, B, xh, B, xh)
+    M_heel = down_M - cM - uM
+    V_heel = np.abs(down_F - cF - uF)
+    # toe, about the front face of the stem x = toe (arm toe - x)
+    cF2, cM2 = _lin_integral(c0, c1, s0, s1, 0.0, toe, toe)
+    uF2, uM2 = _lin_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
+    wF = gc * GAMMA_C * g.t * toe
+    M_toe = -(cM2 + uM2) - wF * toe / 2.0
+    V_toe = np.abs(cF2 + uF2 - wF)
+    return (M_stem, V_stem), (M_heel, V_heel), (M_toe, V_toe)
+
+
+def member_actions(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[MemberActions]:
+    """ULS actions at the critical sections of stem, heel and toe for every set of the
+    approach x the four bearing sub-cases (design-basis 5); the envelope governs."""
+    _check(cond, basis, sec)
+    g = _Geom(sec, cond)
+    out = []
+    for name, fs in _sets(basis):
+        a = _SetActions(g, fs, cond, basis)
+        K = _stem_K(cond, basis, fs)
+        for label, unfav, on in SUBCASES:
+            res = _members_for(g, a, K, unfav, on)
+            for member, (M, V) in zip(("stem", "heel", "toe"), res):
+                out.append(MemberActions(member, name, label, M, V))
+    return out
+
+
+def member_moments_qp(sec: SectionArrays, cond: Conditions, basis: Basis) -> dict[str, np.ndarray]:
+    """Quasi-permanent moments (kNm/m) at the critical sections: characteristic
+    permanent actions with phi'_k and psi2 times the surcharge (thrust on the stem, Pq
+    and heel load), for crack control (EN 1990 6.5.3 Eq. 6.16b; design-basis 5)."""
+    _check(cond, basis, sec)
+    g = _Geom(sec, cond)
+    psi2 = float(basis.loads.psi2)
+    fs = FactorSet("QP", 1.0, 1.0, psi2, 1.0, 1.0, 1.0)
+    a = _SetActions(g, fs, cond, basis)
+    K = _stem_K(cond, basis, fs)
+    (ms, _), (mh, _), (mt, _) = _members_for(g, a, K, True, True)
+    return {"stem": ms, "heel": mh, "toe": mt}
+
+
+def stem_moment(sec: SectionArrays, cond: Conditions, basis: Basis, y) -> np.ndarray:
+    """ULS envelope bending moment in the stem at depth y (m, scalar or (n,)) below
+    z_top, kNm/m, tension on the retained face positive (for curtailment)."""
+    _check(cond, basis, sec)
+    g = _Geom(sec, cond)
+    y = np.clip(np.broadcast_to(np.asarray(y, dtype=float), (g.n,)), 0.0, g.hc)
+    # water on the stem above the section at depth y: level above the section
+    hw = np.clip(g._w_stem_rel - (g.H - y), 0.0, y)
+    S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, y, hw, g.q)
+    best = np.full(g.n, -np.inf)
+    for name, fs in _sets(basis):
+        K = _stem_K(cond, basis, fs)
+        best = np.maximum(best, fs.gG_ground * (K * Sm + Mw) + fs.gQ * K * Sqm)
+    return best
