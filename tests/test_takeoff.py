@@ -47,7 +47,7 @@ BARS = [bar(16, 40, 3900, "stem", "01"), bar(12, 30, 2400, "heel", "02"),
 
 
 def test_straight_panel_by_hand():
-    q = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, TK, stop_ends=2, sealed_joints=1)
+    q = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, TK, stop_ends=2, joint_seals=1)
     # Hand calculation. L = 6. Top of base z_b = 100.0 + 0.4 = 100.4; taper height
     # h_s = 103.4 - 100.4 = 3.0 = stem height y (stepped top at the retained level).
     # Stem area (0.45 + 0.25)/2 x 3.0 = 1.05 m2 -> 6.3 m3.
@@ -88,7 +88,7 @@ def test_straight_panel_by_hand():
 
 
 def test_sloped_panel_by_hand():
-    q = panel_quantities(SLOPED, SLOPED_SEC, [], TK, stop_ends=2, sealed_joints=1)
+    q = panel_quantities(SLOPED, SLOPED_SEC, [], TK, stop_ends=2, joint_seals=1)
     # Hand calculation. L = 4. z_b = 50.35; h_s = 52.35 - 50.35 = 2.0; stem height y
     # runs linearly from 51.85 - 50.35 = 1.5 to 52.85 - 50.35 = 2.5 along the panel.
     # A(y) = 0.45 y - 0.2 y^2 / (2 x 2) = 0.45 y - 0.05 y^2 for y <= 2; A(2) = 0.7;
@@ -153,8 +153,8 @@ def test_stem_volume_matches_shapely_integration(t1, dt, hs, y0, y1, L):
 
 
 def test_totals_are_the_sum_over_panels_in_item_order():
-    a = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, TK, sealed_joints=1)
-    b = panel_quantities(SLOPED, SLOPED_SEC, BARS[:2], TK, sealed_joints=0)
+    a = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, TK, joint_seals=1)
+    b = panel_quantities(SLOPED, SLOPED_SEC, BARS[:2], TK, joint_seals=0)
     t = totals([a, b])
     items = [x.item for x in t]
     base = [i for i, _ in ITEMS]
@@ -171,6 +171,15 @@ def test_totals_are_the_sum_over_panels_in_item_order():
     # Steel total equals the bar schedule (every bar row of both panels).
     assert d["reinforcement_total"].quantity == pytest.approx(
         sum(r.mass_kg for r in BARS + BARS[:2]), rel=1e-14)
+
+
+def test_units_mapping():
+    from wallrun.takeoff import UNITS
+    assert UNITS["concrete_total"] == "m3" and UNITS.get("reinforcement_25") == "kg"
+    assert UNITS.get("nonsense", "") == "" and "reinforcement_8" in UNITS
+    # A Quantity without a unit is priced with the item's own unit.
+    c = cost([Quantity("reinforcement_16", "", 10.0)], [Rate("reinforcement_16", "kg", 2.0)])
+    assert c.rows[0].unit == "kg" and c.rows[0].amount == pytest.approx(20.0)
 
 
 def test_switches_drop_items():
@@ -242,6 +251,16 @@ def test_unit_mismatch_is_an_input_error():
         cost_per_metre(SectionArrays.of([STRAIGHT_SEC]), 3.0, 1.0, 100.0, rates)
 
 
+def test_check_rates_lists_every_problem():
+    from wallrun.takeoff import check_rates, unknown_rate_items
+    bad = [Rate("excavation", "m2", 10.0), Rate("joint_seal", "m", -1.0),
+           Rate("reinforcement_16", "t", 1200.0), Rate("mystery", "nr", 5.0)]
+    probs = check_rates(bad)
+    assert len(probs) == 3 and all(p.startswith("rates.csv: item ") for p in probs)
+    assert check_rates(DEMO_RATES) == []
+    assert unknown_rate_items(bad) == ["rates.csv: item mystery: not a take-off item, ignored"]
+
+
 def test_cost_per_metre_matches_one_metre_panel():
     secs = [STRAIGHT_SEC, SLOPED_SEC,
             Section(0.3, 0.3, 3.2, 0.9, 0.5, 0.0, 0.0)]
@@ -257,7 +276,7 @@ def test_cost_per_metre_matches_one_metre_panel():
             zb = found + sec.base_thickness_m
             p = make_panel(ch0=0.0, ch1=1.0, retained=zb + hs[i], front=found + D[i],
                            found=found, top0=zb + hs[i], top1=zb + hs[i])
-            q = panel_quantities(p, sec, [], TK, stop_ends=0, sealed_joints=0)
+            q = panel_quantities(p, sec, [], TK, stop_ends=0, joint_seals=0)
             q["reinforcement_total"] = steel[i]
             c = cost(totals([q]), rates)
             assert got[i] == pytest.approx(c.total, rel=1e-12)

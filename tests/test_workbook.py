@@ -28,8 +28,8 @@ def _reinf():
 
 
 def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand"):
-    qa = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, Takeoff(), sealed_joints=1)
-    qb = panel_quantities(SLOPED, SLOPED_SEC, BARS[:2], Takeoff(), sealed_joints=0)
+    qa = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, Takeoff(), joint_seals=1)
+    qb = panel_quantities(SLOPED, SLOPED_SEC, BARS[:2], Takeoff(), joint_seals=0)
     checks = (CheckEntry("sliding", "DA1-2", "drained", 61.2, 70.4, "kN/m", 0.87,
                          "EN 1997-1 6.5.3", True),
               CheckEntry("stem_bending", "DA1-1", "G unfav, heel load on", 90.0, 100.0, "kNm/m",

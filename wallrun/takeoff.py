@@ -57,6 +57,28 @@ ITEMS: tuple[tuple[str, str], ...] = (
     ("reinforcement_total", "kg"),
 )
 _UNITS = dict(ITEMS)
+
+
+class _Units(dict):
+    """``{item: unit}`` of the take-off items; also answers any ``reinforcement_<mm>``."""
+
+    def __missing__(self, item: str) -> str:
+        if _bar_mm(item) is not None:
+            return "kg"
+        raise KeyError(item)
+
+    def get(self, item, default=None):
+        try:
+            return self[item]
+        except KeyError:
+            return default
+
+    def __contains__(self, item) -> bool:
+        return dict.__contains__(self, item) or _bar_mm(str(item)) is not None
+
+
+#: Units of the take-off items (m3, m2, m, kg), ``UNITS[item]`` / ``UNITS.get(item)``.
+UNITS = _Units(ITEMS)
 _ORDER = {item: k for k, (item, _) in enumerate(ITEMS)}
 
 #: Items priced as a group: the total when the rate table prices it, else the parts
@@ -175,7 +197,7 @@ def _check_geometry(panel: Panel, section: Section) -> list[str]:
 
 
 def panel_quantities(panel: Panel, section: Section, bars: list[BarMark] | tuple[BarMark, ...],
-                     takeoff: Takeoff, stop_ends: int = 2, sealed_joints: int = 1,
+                     takeoff: Takeoff, stop_ends: int = 2, joint_seals: int = 1,
                      front_level_m: float | None = None) -> dict[str, float]:
     """Take-off of one panel, ``{item: quantity}`` in the units of :data:`ITEMS`.
 
@@ -218,7 +240,7 @@ def panel_quantities(panel: Panel, section: Section, bars: list[BarMark] | tuple
     - ``drain_pipe`` (m) = L, when ``takeoff.drain_pipe`` (absent otherwise).
     - ``joint_seal`` (m): sealant round the stem at the movement joint at the panel's
       end: front edge + back edge (true length) + top edge of the stem there, times
-      ``sealed_joints``: 1 for every panel but the last of its run, 0 for the last (the
+      ``joint_seals``: 1 for every panel but the last of its run, 0 for the last (the
       pipeline passes the count; each joint is then counted once).
     - ``waterproofing`` (m2): back face of the stem below the retained level (true
       area of the tapered part), when ``takeoff.waterproofing`` (absent otherwise).
@@ -226,8 +248,8 @@ def panel_quantities(panel: Panel, section: Section, bars: list[BarMark] | tuple
       ``reinforcement_<bar mm>`` (kg) the same by diameter.
     """
     problems = _check_geometry(panel, section)
-    if stop_ends < 0 or sealed_joints < 0:
-        problems.append(f"{panel.panel}: stop_ends and sealed_joints must be >= 0")
+    if stop_ends < 0 or joint_seals < 0:
+        problems.append(f"{panel.panel}: stop_ends and joint_seals must be >= 0")
     if problems:
         raise ValueError("; ".join(problems))
 
@@ -264,7 +286,7 @@ def panel_quantities(panel: Panel, section: Section, bars: list[BarMark] | tuple
                            * max(panel.retained_top_m - front, 0.0) * L)
     if takeoff.drain_pipe:
         q["drain_pipe"] = L
-    q["joint_seal"] = sealed_joints * (y1 + stem.back(y1) + stem.thickness(y1))
+    q["joint_seal"] = joint_seals * (y1 + stem.back(y1) + stem.thickness(y1))
     if takeoff.waterproofing:
         q["waterproofing"] = stem.along("back_retained", y0, y1, L)
 
@@ -350,6 +372,26 @@ def _rate_table(rates: Iterable[Rate], needed: Iterable[str] = ()) -> dict[str, 
     return table
 
 
+def check_rates(rates: Iterable[Rate]) -> list[str]:
+    """Problems of a rate table (for ``wallrun check``, before any design): a unit that
+    differs from the item's unit, a rate that is not a number >= 0, an item given twice
+    with different rates. Each names ``rates.csv`` and the item. Empty when fine."""
+    try:
+        _rate_table(rates)
+    except InputError as e:
+        return list(e.problems)
+    return []
+
+
+def unknown_rate_items(rates: Iterable[Rate]) -> list[str]:
+    """Warnings for rate items that are not take-off items (they are ignored)."""
+    out = []
+    for r in rates:
+        if r.item not in UNITS:
+            out.append(f"rates.csv: item {r.item}: not a take-off item, ignored")
+    return out
+
+
 def _priced_items(items: list[str], qty: Mapping[str, float],
                   table: Mapping[str, float]) -> list[str]:
     """The items that get a cost row: each group priced by its total when the table has
@@ -384,7 +426,7 @@ def cost(quantities: Iterable[Quantity], rates: Iterable[Rate] | None) -> Cost:
     table = _rate_table(DEMO_RATES if demo else rates)
     qs = list(quantities)
     qty = {q.item: float(q.quantity) for q in qs}
-    unit = {q.item: q.unit for q in qs}
+    unit = {q.item: q.unit or UNITS.get(q.item, "") for q in qs}
     items = sorted(qty, key=item_order)
     rows = []
     for item in _priced_items(items, qty, table):
