@@ -1,0 +1,1023 @@
+"""The calculation report: one self-contained ``report.html``.
+
+Layout (plain engineering order, each part starting a new printed page):
+
+1. Front matter: project, reference, date, wallrun version, a summary of the run and
+   the cautions (preliminary design aid, what is not checked, invented demo rates).
+2. Design basis: codes, approach, the partial factors actually used, materials and
+   covers, ground parameters and zones, water, loads, design and run settings.
+3. The run: a long section of ground, finished level, wall top, founding level and
+   retained height along chainage with panels and section types; the panel schedule
+   (the ``panels.csv`` columns); the joints.
+4. One part per section type: a dimensioned cross-section, the characteristic
+   actions at its governing panel, every check of that panel per combination, the
+   reinforcement with its checks, its bar marks and the panels that use it.
+5. Quantities and cost.
+6. Appendix: every panel's checks, one row per check entry, with the utilization
+   rendered exactly as ``design.json`` gives it (``f"{u:.3f}"``).
+
+Everything is inline: CSS in a ``<style>`` element, figures as base64 PNG drawn with
+matplotlib (Agg backend). All text passes through :func:`html.escape`. Status is
+always written in words (``ok``, ``FLAGGED``, ``pass``, ``FAILS``); colour only
+repeats it.
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime as _dt
+import html
+import io
+import math
+import os
+import re
+from dataclasses import fields
+from pathlib import Path
+
+import numpy as np
+
+import wallrun
+from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED, resolve
+
+__all__ = ["write_report", "render_report", "governing_panel", "panel_row",
+           "PANEL_COLUMNS", "NOT_CHECKED"]
+
+#: What wallrun does not check (design-basis section 8).
+NOT_CHECKED = (
+    "overall (deep-seated) stability of the slope and wall together",
+    "settlement and tilt, beyond the middle-third rule and the edge-pressure ratio "
+    "between neighbouring panels",
+    "seismic actions",
+    "compaction pressures from placing and compacting the backfill",
+    "frost action and frost heave",
+    "chemical attack on the concrete or the reinforcement (exposure and durability "
+    "beyond the covers given)",
+)
+
+#: ``panels.csv`` columns, in order (``shared/interfaces.md``).
+PANEL_COLUMNS = (
+    "panel", "run", "side", "ch_start_m", "ch_end_m", "length_m", "retained_top_m",
+    "front_min_m", "founding_m", "wall_top_start_m", "wall_top_end_m",
+    "retained_height_m", "total_height_m", "section", "stem_top_m", "stem_base_m",
+    "base_width_m", "toe_m", "heel_m", "base_thickness_m", "key_depth_m", "key_width_m",
+    "util_overturning", "util_sliding", "util_bearing", "util_structural", "governing",
+    "status", "reason", "concrete_m3", "steel_kg", "cost")
+
+STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear",
+                     "toe_bending", "toe_shear", "crack_spacing", "min_steel")
+GEOTECHNICAL_CHECKS = ("overturning", "sliding", "bearing", "eccentricity",
+                       "eccentricity_sls", "bearing_sls")
+CHECK_ORDER = GEOTECHNICAL_CHECKS + STRUCTURAL_CHECKS
+COMBINATION_ORDER = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", "SLS")
+
+CHECK_WORDS = {
+    "overturning": "overturning about the toe edge",
+    "sliding": "sliding along the underside of the base",
+    "bearing": "bearing resistance of the foundation",
+    "eccentricity": "eccentricity of the resultant, ULS (|e| <= B/3)",
+    "eccentricity_sls": "resultant within the middle third, characteristic (|e| <= B/6)",
+    "bearing_sls": "maximum edge pressure against the allowable pressure",
+    "stem_bending": "stem bending at the top of the base",
+    "stem_shear": "stem shear at the top of the base",
+    "heel_bending": "heel bending at the back face of the stem",
+    "heel_shear": "heel shear at the back face of the stem",
+    "toe_bending": "toe bending at the front face of the stem",
+    "toe_shear": "toe shear at the front face of the stem",
+    "crack_spacing": "bar spacing for crack control",
+    "min_steel": "minimum reinforcement",
+}
+
+COMBINATION_WORDS = {
+    "EQU": "EQU, loss of static equilibrium (EN 1997-1 Tables A.2, A.4)",
+    "DA1-1": "Design Approach 1, combination 1: A1 + M1 + R1",
+    "DA1-2": "Design Approach 1, combination 2: A2 + M2 + R1",
+    "DA2": "Design Approach 2: A1 + M1 + R2",
+    "DA3": "Design Approach 3: A1 on structural actions, A2 on ground actions, M2 + R3",
+    "SLS": "characteristic / quasi-permanent actions, every factor 1.0",
+}
+
+FACTOR_WORDS = {
+    "gG_unfav": "gamma_G, permanent, unfavourable",
+    "gG_fav": "gamma_G, permanent, favourable",
+    "gQ": "gamma_Q, variable, unfavourable (favourable: 0)",
+    "g_phi": "gamma_phi' on tan phi'",
+    "g_c": "gamma_c' on c'",
+    "g_cu": "gamma_cu on cu",
+    "gR_bearing": "gamma_R;v bearing",
+    "gR_sliding": "gamma_R;h sliding",
+    "gR_passive": "gamma_R;e passive resistance",
+    "gG_unfav_ground": "gamma_G, unfavourable ground actions (DA3)",
+}
+
+MEMBER_WORDS = {
+    "stem": "stem, vertical main bars, retained face",
+    "stem_front": "stem, vertical bars, front face",
+    "stem_horizontal": "stem, horizontal bars, each face",
+    "heel": "base, top mat (heel main bars)",
+    "toe": "base, bottom mat (toe main bars)",
+    "base_distribution": "base, distribution bars along the wall, each mat",
+}
+
+
+# --- small formatting helpers ---------------------------------------------------------
+
+def _e(x) -> str:
+    """Escaped text of anything (None as an empty string)."""
+    return "" if x is None else html.escape(str(x), quote=True)
+
+
+def _num(x, nd: int = 2) -> str:
+    """A number to ``nd`` decimals; blank for None; ``inf``/``nan`` spelled out."""
+    if x is None:
+        return ""
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return _e(x)
+    if math.isnan(v):
+        return "nan"
+    if math.isinf(v):
+        return "inf" if v > 0 else "-inf"
+    return f"{v:.{nd}f}"
+
+
+def _util(u) -> str:
+    """Utilization text, identical to ``design.json`` rounding to 3 decimals."""
+    return f"{float(u):.3f}"
+
+
+def _decimals(unit: str) -> int:
+    return {"m": 3, "mm2/m": 0, "mm": 0}.get(unit, 2)
+
+
+def _status_word(status: str) -> str:
+    return "ok" if status == "ok" else "FLAGGED"
+
+
+def _status_cell(status: str) -> str:
+    cls = "ok" if status == "ok" else "bad"
+    return f'<td class="{cls}">{_e(_status_word(status))}</td>'
+
+
+def _pass_cell(u: float) -> str:
+    ok = np.isfinite(u) and u <= 1.0
+    return f'<td class="{"ok" if ok else "bad"}">{"pass" if ok else "FAILS"}</td>'
+
+
+def _table(head, rows, cls: str = "") -> str:
+    """A table from header labels and rows of already-rendered ``<td>`` strings."""
+    h = "".join(f"<th>{_e(c)}</th>" for c in head)
+    body = "\n".join(f"<tr>{r}</tr>" for r in rows)
+    c = f' class="{cls}"' if cls else ""
+    return f"<table{c}><thead><tr>{h}</tr></thead>\n<tbody>\n{body}\n</tbody></table>\n"
+
+
+def _td(x, cls: str = "") -> str:
+    c = f' class="{cls}"' if cls else ""
+    return f"<td{c}>{x}</td>"
+
+
+def _kv_table(pairs) -> str:
+    """Two-column table of (label, value text) pairs; the value is escaped here."""
+    rows = "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in pairs)
+    return f'<table class="kv"><tbody>{rows}</tbody></table>\n'
+
+
+def _fck(strength_class: str) -> float | None:
+    """fck, MPa, from a class name ``Cfck/fck,cube`` (EN 1992-1-1 Table 3.1)."""
+    m = re.match(r"\s*C\s*(\d+(?:\.\d+)?)\s*/", str(strength_class))
+    return float(m.group(1)) if m else None
+
+
+def _order(seq, key, order):
+    rank = {n: i for i, n in enumerate(order)}
+    return sorted(seq, key=lambda x: rank.get(key(x), len(rank)))
+
+
+# --- panel figures, shared with panels.csv --------------------------------------------
+
+def governing_panel(result, section_type: str):
+    """The panel of ``section_type`` with the highest utilization over all its checks
+    (the first such panel in chainage order); None when no panel uses the type."""
+    members = [p for p in result.panels if p.section_type == section_type]
+    if not members:
+        return None
+    return max(members, key=lambda p: max((c.utilization for c in p.checks), default=0.0))
+
+
+def panel_row(p) -> dict:
+    """One ``panels.csv`` row of a :class:`~wallrun.results.PanelResult`, as values.
+
+    util_bearing is the larger of ``bearing`` and ``bearing_sls``; util_structural the
+    largest of the EN 1992-1-1 member checks (interfaces.md).
+    """
+    pn, s = p.panel, p.section
+    return {
+        "panel": pn.panel, "run": pn.run, "side": pn.side,
+        "ch_start_m": pn.ch_start_m, "ch_end_m": pn.ch_end_m, "length_m": pn.length_m,
+        "retained_top_m": pn.retained_top_m, "front_min_m": pn.front_min_m,
+        "founding_m": pn.founding_m, "wall_top_start_m": pn.wall_top_start_m,
+        "wall_top_end_m": pn.wall_top_end_m, "retained_height_m": pn.retained_height_m,
+        "total_height_m": pn.total_height_m, "section": p.section_type,
+        "stem_top_m": s.stem_top_m, "stem_base_m": s.stem_base_m,
+        "base_width_m": s.base_width_m, "toe_m": s.toe_m, "heel_m": s.heel_m,
+        "base_thickness_m": s.base_thickness_m, "key_depth_m": s.key_depth_m,
+        "key_width_m": s.key_width_m,
+        "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
+        "util_bearing": p.util("bearing", "bearing_sls"),
+        "util_structural": p.util(*STRUCTURAL_CHECKS),
+        "governing": p.governing, "status": p.status, "reason": p.reason,
+        "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
+    }
+
+
+# --- figures --------------------------------------------------------------------------
+
+def _png(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=fig.dpi)
+    return buf.getvalue()
+
+
+def _img(data: bytes | str, alt: str) -> str:
+    """An embedded figure: PNG bytes as a base64 data URI, or SVG markup inline (its
+    XML prologue removed)."""
+    if isinstance(data, str):
+        svg = re.sub(r"^\s*<\?xml[^>]*>\s*", "", data)
+        svg = re.sub(r"<!DOCTYPE[^>]*>\s*", "", svg)
+        return f'<div class="fig" role="img" aria-label="{_e(alt)}">{svg}</div>'
+    b64 = base64.b64encode(data).decode("ascii")
+    return f'<div class="fig"><img alt="{_e(alt)}" src="data:image/png;base64,{b64}"></div>'
+
+
+def _pyplot():
+    import matplotlib
+    matplotlib.use("Agg", force=False)
+    import matplotlib.pyplot as plt
+    return plt
+
+
+def _type_colours(names):
+    plt = _pyplot()
+    cmap = plt.get_cmap("tab20")
+    return {n: cmap(i % 20) for i, n in enumerate(names)}
+
+
+def run_figure(result) -> bytes | None:
+    """Long section along chainage (PNG): ground, finished level, wall top and
+    founding level per panel, panel boundaries, a band of section types, and below it
+    the retained height h = |F - G| with the threshold of a needed wall."""
+    plt = _pyplot()
+    from matplotlib.collections import LineCollection
+
+    prof = result.profiles
+    panels = result.panels
+    try:
+        c0, c1 = float(prof.ch_start), float(prof.ch_end)
+        bp = np.asarray(prof.breakpoints, dtype=float)
+        ch = np.union1d(bp[(bp >= c0) & (bp <= c1)], np.linspace(c0, c1, 2001))
+        G = np.asarray(prof.ground(ch), dtype=float)
+        F = np.asarray(prof.finished(ch), dtype=float)
+    except Exception:  # profiles missing: draw the panels alone
+        ch = G = F = None
+    if ch is None and not panels:
+        return None
+
+    fig, (ax, axh) = plt.subplots(2, 1, figsize=(10.5, 5.6), dpi=110, sharex=True,
+                                  gridspec_kw={"height_ratios": [3, 1.3]})
+    if ch is not None:
+        ax.plot(ch, G, color="#7a5230", lw=1.0, label="existing ground")
+        ax.plot(ch, F, color="black", lw=1.0, ls="--", label="finished level")
+    if panels:
+        tops = [((p.panel.ch_start_m, p.panel.wall_top_start_m),
+                 (p.panel.ch_end_m, p.panel.wall_top_end_m)) for p in panels]
+        founds = [((p.panel.ch_start_m, p.panel.founding_m),
+                   (p.panel.ch_end_m, p.panel.founding_m)) for p in panels]
+        ax.add_collection(LineCollection(tops, colors="#1f4e9a", lw=1.6, label="top of wall"))
+        ax.add_collection(LineCollection(founds, colors="#555555", lw=1.0,
+                                         label="underside of base"))
+        ends = sorted({p.panel.ch_start_m for p in panels} | {p.panel.ch_end_m for p in panels})
+        lo = min(p.panel.founding_m for p in panels)
+        hi = max(max(p.panel.wall_top_start_m, p.panel.wall_top_end_m) for p in panels)
+        ax.vlines(ends, lo, hi, colors="#999999", lw=0.4)
+        names = [st.section_type for st in result.section_types] or sorted(
+            {p.section_type for p in panels})
+        col = _type_colours(names)
+        band_lo = lo - 0.08 * max(hi - lo, 1.0)
+        band_h = 0.05 * max(hi - lo, 1.0)
+        for n in names:
+            spans = [(p.panel.ch_start_m, p.panel.length_m) for p in panels
+                     if p.section_type == n]
+            if spans:
+                ax.broken_barh(spans, (band_lo, band_h), facecolors=col[n], edgecolor="none")
+        if len(panels) <= 60:
+            for p in panels:
+                ax.text(0.5 * (p.panel.ch_start_m + p.panel.ch_end_m), band_lo - 0.2 * band_h,
+                        p.section_type, ha="center", va="top", fontsize=6)
+        if len(names) <= 20:
+            from matplotlib.patches import Patch
+            handles, labels = ax.get_legend_handles_labels()
+            handles += [Patch(color=col[n]) for n in names]
+            labels += [f"type {n}" for n in names]
+            ax.legend(handles, labels, fontsize=6, ncol=4, loc="best", framealpha=0.8)
+        else:
+            ax.legend(fontsize=6, loc="best", framealpha=0.8)
+        ax.set_ylim(band_lo - 2.0 * band_h, None)
+    else:
+        ax.legend(fontsize=6, loc="best")
+    ax.autoscale_view()
+    ax.set_ylabel("level (m)")
+    ax.grid(True, lw=0.3, color="#dddddd")
+    ax.set_title("Long section along the wall line (section types as a coloured band)",
+                 fontsize=9)
+
+    if ch is not None:
+        h = np.abs(F - G)
+        axh.fill_between(ch, 0, h, where=F >= G, color="#c9a77c", lw=0, label="fill side (F > G)")
+        axh.fill_between(ch, 0, h, where=F < G, color="#9fb8d8", lw=0, label="cut side (F < G)")
+        axh.plot(ch, h, color="black", lw=0.6)
+        hmin = getattr(getattr(result.site, "wall", None), "min_retained_height_m", None)
+        if hmin is not None:
+            axh.axhline(hmin, color="#b00000", lw=0.7, ls=":",
+                        label=f"wall needed from h = {hmin:g} m")
+        axh.legend(fontsize=6, loc="best", framealpha=0.8)
+    if panels:
+        axh.vlines(ends, 0, axh.get_ylim()[1], colors="#999999", lw=0.4)
+    axh.set_ylabel("retained h (m)")
+    axh.set_xlabel("chainage (m)")
+    axh.grid(True, lw=0.3, color="#dddddd")
+    fig.tight_layout()
+    data = _png(fig)
+    plt.close(fig)
+    return data
+
+
+def _dim(ax, p, q, text, side=(0.0, 0.0), fs=6.5, rot=0):
+    """A dimension line with arrows at both ends from p to q and its text."""
+    ax.annotate("", xy=q, xytext=p, arrowprops=dict(arrowstyle="<|-|>", lw=0.6,
+                                                     color="#333333", shrinkA=0, shrinkB=0,
+                                                     mutation_scale=6))
+    mx, mz = 0.5 * (p[0] + q[0]) + side[0], 0.5 * (p[1] + q[1]) + side[1]
+    ax.text(mx, mz, text, fontsize=fs, ha="center", va="center", rotation=rot,
+            bbox=dict(fc="white", ec="none", pad=0.5))
+
+
+def section_figure(result, st, gov) -> bytes:
+    """Dimensioned cross-section of a section type at its governing panel (PNG), in
+    section coordinates (x from the toe edge, z from the underside of the base), from
+    :func:`wallrun.section.polygons`."""
+    plt = _pyplot()
+    from wallrun.section import polygons
+
+    s = st.section
+    B, t, toe = s.base_width_m, s.base_thickness_m, s.toe_m
+    beta = float(getattr(getattr(result.site, "backfill", None), "slope_deg", 0.0) or 0.0)
+    if gov is not None:
+        pn = gov.panel
+        hc = max(pn.retained_top_m - pn.founding_m - t, 0.05)
+        hd = max(max(pn.wall_top_start_m, pn.wall_top_end_m) - pn.founding_m - t, hc)
+        D = pn.front_min_m - pn.founding_m
+        beta = float(pn.backfill.slope_deg)
+        wl = None if pn.water_level_m is None else pn.water_level_m - pn.founding_m
+        zf = pn.founding_m
+    else:
+        hc = hd = max(3.0 * s.stem_base_m, 1.0)
+        D, wl, zf = None, None, None
+    polys = polygons(s, hd, hc, beta)
+
+    fig, ax = plt.subplots(figsize=(6.6, 5.4), dpi=110)
+    for key, fc in (("soil", "#eadcc3"), ("base", "#d0d0d0"), ("stem", "#d0d0d0"),
+                    ("key", "#d0d0d0")):
+        if key in polys:
+            x, z = polys[key].exterior.xy
+            ax.fill(x, z, facecolor=fc, edgecolor="black", lw=0.9 if key != "soil" else 0.4,
+                    hatch="..." if key == "soil" else None)
+    span = max(B, hd + t)
+    ext = 0.12 * span
+    # backfill surface beyond the virtual back, front ground, water
+    xb = toe + s.stem_top_m
+    zt = t + hc
+    xs_end = B + ext
+    ax.plot([xb, xs_end], [zt, zt + (xs_end - xb) * math.tan(math.radians(beta))],
+            color="#7a5230", lw=1.0)
+    ax.plot([B, B], [0, zt + (B - xb) * math.tan(math.radians(beta))], color="#7a5230",
+            lw=0.5, ls=":")
+    ax.text(B, 0.02 * span, " virtual back", fontsize=6, rotation=90, va="bottom",
+            color="#7a5230")
+    if D is not None:
+        ax.plot([-ext, toe], [D, D], color="#7a5230", lw=1.0)
+        ax.text(-ext, D, "front level", fontsize=6, va="bottom", color="#7a5230")
+    if wl is not None and wl > 0:
+        zw = min(wl, zt)
+        ax.plot([toe + s.stem_base_m, B + ext], [zw, zw], color="#1f5fbf", lw=0.9, ls="--")
+        ax.text(B + ext, zw, " water", fontsize=6, va="center", color="#1f5fbf")
+
+    # dimensions: base below, heights left, stem thicknesses at top
+    zk = -s.key_depth_m
+    y1 = zk - 0.10 * span
+    y2 = zk - 0.20 * span
+    _dim(ax, (0, y1), (toe, y1), f"toe {toe:.2f}")
+    _dim(ax, (toe, y1), (toe + s.stem_base_m, y1), f"{s.stem_base_m:.2f}")
+    _dim(ax, (toe + s.stem_base_m, y1), (B, y1), f"heel {s.heel_m:.2f}")
+    _dim(ax, (0, y2), (B, y2), f"B = {B:.2f}")
+    xl1 = -0.10 * span
+    xl2 = -0.22 * span
+    xl3 = -0.34 * span
+    _dim(ax, (xl1, 0), (xl1, t), f"{t:.2f}", rot=90)
+    if D is not None and D > 0:
+        _dim(ax, (xl2, 0), (xl2, D), f"D {D:.2f}", rot=90)
+    _dim(ax, (xl3, 0), (xl3, t + hc), f"H {t + hc:.2f}", rot=90)
+    if D is not None:
+        _dim(ax, (xl2, max(D, 0)), (xl2, t + hc), f"h {t + hc - D:.2f}", rot=90)
+    ztop_d = t + hd
+    yt = ztop_d + 0.07 * span
+    _dim(ax, (toe, yt), (toe + s.stem_top_m, yt), f"{s.stem_top_m:.2f}",
+         side=(0, 0.03 * span))
+    if hd > hc + 1e-6:
+        ax.plot([toe + s.stem_top_m, toe + s.stem_top_m + 0.15 * span], [zt, zt],
+                color="#b00000", lw=0.5, ls=":")
+        ax.text(toe + s.stem_top_m + 0.15 * span, zt, " top of checked section",
+                fontsize=6, va="center", color="#b00000")
+    if s.key_depth_m > 0:
+        xk = toe + s.key_width_m + 0.06 * span
+        _dim(ax, (xk, -s.key_depth_m), (xk, 0), f"key {s.key_depth_m:.2f}", rot=90)
+        _dim(ax, (toe, -s.key_depth_m - 0.04 * span), (toe + s.key_width_m,
+             -s.key_depth_m - 0.04 * span), f"{s.key_width_m:.2f}")
+    if zf is not None:
+        ax.text(B + 0.02 * span, 0, f" underside {zf:.2f} m", fontsize=6, va="top")
+        ax.text(xb + 0.02 * span, zt + 0.02 * span, f"retained {zf + zt:.2f} m", fontsize=6,
+                va="bottom")
+    ax.set_aspect("equal")
+    ax.set_xlim(xl3 - 0.08 * span, B + 0.30 * span)
+    ax.set_ylim(y2 - 0.08 * span, yt + 0.12 * span)
+    ax.axis("off")
+    ax.set_title(f"Section type {st.section_type}: dimensions in m"
+                 + (f" (at panel {gov.panel.panel})" if gov is not None else ""), fontsize=8)
+    fig.tight_layout()
+    data = _png(fig)
+    plt.close(fig)
+    return data
+
+
+# --- report parts ---------------------------------------------------------------------
+
+CSS = """
+:root { --ink:#1a1a1a; --rule:#9a9a9a; --pale:#f3f3f3; }
+body { font-family: "DejaVu Sans", Arial, Helvetica, sans-serif; color: var(--ink);
+       font-size: 10pt; line-height: 1.35; max-width: 1150px; margin: 1.5em auto; padding: 0 1em; }
+h1 { font-size: 17pt; margin: 0.2em 0 0.4em; }
+h2 { font-size: 13pt; border-bottom: 1.5px solid var(--ink); padding-bottom: 2px; margin-top: 1.6em; }
+h3 { font-size: 11pt; margin: 1.2em 0 0.4em; }
+h4 { font-size: 10pt; margin: 0.9em 0 0.3em; }
+h2, h3, h4 { break-after: avoid; page-break-after: avoid; }
+table { border-collapse: collapse; margin: 0.3em 0 0.9em; font-size: 8.5pt; }
+th, td { border: 0.5px solid var(--rule); padding: 1px 5px; vertical-align: top; }
+thead th { background: var(--pale); text-align: left; }
+td { text-align: right; font-variant-numeric: tabular-nums; }
+td.t, th.t { text-align: left; }
+table.kv th { text-align: left; background: var(--pale); font-weight: normal; width: 22em; }
+table.kv td { text-align: left; }
+table.wide { font-size: 7pt; }
+table.wide td, table.wide th { padding: 1px 3px; }
+td.ok { color: #1d5e20; text-align: left; }
+td.bad { color: #8b0000; background: #f8dcdc; font-weight: bold; text-align: left; }
+tr.gov td { font-weight: bold; }
+tr.total td { font-weight: bold; border-top: 1.5px solid var(--ink); }
+.caution { border: 2px solid #8b0000; padding: 0.5em 1em; margin: 1em 0; background: #fff8f0; }
+.caution h2 { border: none; margin-top: 0.2em; color: #8b0000; }
+.note { font-size: 8.5pt; color: #333; }
+.fig { margin: 0.5em 0 1em; }
+.fig img { max-width: 100%; height: auto; border: 0.5px solid #cccccc; }
+.panels-list { font-size: 8.5pt; }
+nav ol { columns: 2; font-size: 9pt; }
+section.part, section.sectype { margin-top: 2em; }
+.pblock { margin: 0.5em 0 0.8em; }
+.pblock table { font-size: 7.5pt; margin: 0.1em 0 0.3em; }
+.pblock h4 { margin: 0.5em 0 0.1em; }
+@page { size: A4; margin: 14mm 12mm 14mm 12mm; }
+@page wide { size: A4 landscape; margin: 10mm 10mm; }
+@media print {
+  body { max-width: none; margin: 0; padding: 0; font-size: 9pt; }
+  section.part, section.sectype { break-before: page; page-break-before: always; margin-top: 0; }
+  section.landscape { page: wide; }
+  .fig img { max-height: 150mm; border: none; }
+  tr { break-inside: avoid; page-break-inside: avoid; }
+  .caution { break-inside: avoid; }
+  nav { display: none; }
+}
+"""
+
+
+def _front(result, date: str) -> str:
+    site = result.site
+    proj = getattr(site, "project", None)
+    name = getattr(proj, "name", "") or "(unnamed project)"
+    ref = getattr(proj, "reference", "")
+    panels = result.panels
+    n_bad = sum(p.status != "ok" for p in panels)
+    j_bad = sum(j.status != "ok" for j in result.joints)
+    length = sum(p.panel.length_m for p in panels)
+    worst = max(((c.utilization, p.panel.panel, c) for p in panels for c in p.checks),
+                default=None, key=lambda t: t[0])
+    overall = ("ok: every panel and joint passes" if result.ok
+               else f"FLAGGED: {n_bad} panel(s) and {j_bad} joint(s) flagged")
+    pairs = [("project", name), ("reference", ref), ("date", date),
+             ("wallrun version", wallrun.__version__),
+             ("site folder", getattr(site, "root", "")),
+             ("runs", len(result.runs)), ("panels", len(panels)),
+             ("length of wall", f"{length:.2f} m"),
+             ("section types", len(result.section_types)),
+             ("joints", len(result.joints)), ("overall status", overall)]
+    if worst is not None:
+        u, pname, c = worst
+        pairs.append(("highest utilization",
+                      f"{_util(u)} ({c.check} {c.combination}, {c.case}) at panel {pname}"))
+    out = [f"<header><h1>Retaining wall calculation report: {_e(name)}</h1>",
+           _kv_table(pairs), "</header>"]
+    cost = result.cost
+    demo = ("<li><strong>The costs in this report use invented example rates</strong> "
+            "(no rates.csv was given): they are not prices and must not be used as an "
+            "estimate.</li>" if getattr(cost, "demo_rates", False) else "")
+    out.append(
+        '<div class="caution" id="cautions"><h2>Cautions</h2><ul>'
+        "<li><strong>Preliminary design aid.</strong> This report is a preliminary design "
+        "produced by wallrun. It is to be checked and signed by a qualified engineer under "
+        "the local codes and the national annex in force before any use for construction; "
+        "the factors used are the recommended values unless the design basis below says "
+        "otherwise.</li>"
+        "<li><strong>Not checked by wallrun</strong> (outside its design basis):<ul>"
+        + "".join(f"<li>{_e(x)}</li>" for x in NOT_CHECKED) +
+        "</ul></li>"
+        "<li>The checks stop at the retained level of each panel; the ground model is the "
+        "one described in the design basis, with the parameters stated there. Site "
+        "investigation, drainage performance and construction sequence are the "
+        "designer's responsibility.</li>" + demo + "</ul></div>")
+    warns = list(getattr(result, "warnings", ()) or ())
+    for w in getattr(site, "warnings", ()) or ():
+        if w not in warns:
+            warns.append(w)
+    if warns:
+        out.append("<h3>Warnings raised while reading and designing</h3><ul>"
+                   + "".join(f"<li>{_e(w)}</li>" for w in warns) + "</ul>")
+    flagged = [p for p in panels if p.status != "ok"]
+    if flagged:
+        out.append("<h3>Flagged panels</h3>" + _table(
+            ["panel", "section", "status", "reason"],
+            [_td(_e(p.panel.panel), "t") + _td(_e(p.section_type), "t")
+             + _status_cell(p.status) + _td(_e(p.reason), "t") for p in flagged]))
+    fj = [j for j in result.joints if j.status != "ok"]
+    if fj:
+        out.append("<h3>Flagged joints</h3>" + _table(
+            ["joint", "chainage (m)", "status", "reason"],
+            [_td(_e(j.joint), "t") + _td(_num(j.ch_m, 2)) + _status_cell(j.status)
+             + _td(_e(j.reason), "t") for j in fj]))
+    return "\n".join(out)
+
+
+def _nav(result) -> str:
+    items = [("basis", "Design basis"), ("run", "The run: long section, panels, joints")]
+    items += [(f"type-{st.section_type}", f"Section type {st.section_type}")
+              for st in result.section_types]
+    items += [("quantities", "Quantities and cost"), ("appendix", "Appendix: checks of every panel")]
+    return ("<nav><h3>Contents</h3><ol>" + "".join(
+        f'<li><a href="#{_e(a)}">{_e(t)}</a></li>' for a, t in items) + "</ol></nav>")
+
+
+def _factor_sets(site) -> tuple[dict, str]:
+    sets = dict(getattr(site, "factors", {}) or {})
+    if sets:
+        return sets, ""
+    approach = getattr(getattr(site, "design", None), "approach", "DA1")
+    return resolve(approach), (" The site carried no resolved factor sets: the recommended "
+                               "values of the approach are shown.")
+
+
+def _basis(result) -> str:
+    site = result.site
+    d = site.design
+    out = ['<section class="part" id="basis"><h2>1. Design basis</h2>']
+    out.append("<h3>Codes and approach</h3>")
+    out.append(_kv_table([
+        ("geotechnical design", "EN 1997-1:2004, recommended values of Annex A"),
+        ("concrete design", "EN 1992-1-1:2004, recommended values"),
+        ("actions (densities)", "EN 1991-1-1:2002 (reinforced concrete 25 kN/m3, Table A.1)"),
+        ("design approach", f"{d.approach}; EQU is always checked"),
+        ("combinations checked", ", ".join(
+            _order({c.combination for p in result.panels for c in p.checks}, lambda x: x,
+                   COMBINATION_ORDER)) or "(no checks)"),
+    ]))
+    sets, note = _factor_sets(site)
+    out.append("<h3>Partial factors used</h3>")
+    names = _order(list(sets), lambda x: x, COMBINATION_ORDER)
+    keys = [k for k in OVERRIDE_KEYS if any(
+        getattr(sets[n], k, None) is not None for n in names)]
+    rows = []
+    changed = False
+    for k in keys:
+        cells = _td(_e(k), "t") + _td(_e(FACTOR_WORDS.get(k, "")), "t")
+        for n in names:
+            v = getattr(sets[n], k, None)
+            rec = getattr(RECOMMENDED.get(n), k, None) if n in RECOMMENDED else None
+            txt = "-" if v is None else f"{v:.2f}"
+            if v is not None and rec is not None and abs(v - rec) > 1e-12:
+                txt += f" * (rec. {rec:.2f})"
+                changed = True
+            cells += _td(_e(txt))
+        rows.append(cells)
+    out.append(_table(["factor", "meaning"] + names, rows))
+    out.append('<p class="note">Resistance factors do not apply to EQU (shown as given). '
+               + ("Values marked * differ from the EN 1997-1 recommended value "
+                  "(a national annex or a site-file override). " if changed else
+                  "Every value is the EN 1997-1 recommended value. ")
+               + _e(note) + "</p>")
+
+    c = site.concrete
+    fck = _fck(c.strength_class)
+    fctm = None if fck is None else 0.30 * fck ** (2.0 / 3.0)
+    out.append("<h3>Materials and cover</h3>")
+    out.append(_kv_table([
+        ("concrete class", c.strength_class),
+        ("fck", "unknown class" if fck is None else f"{fck:g} MPa"),
+        ("fctm = 0.30 fck^(2/3) (Table 3.1)", "" if fctm is None else f"{fctm:.2f} MPa"),
+        ("alpha_cc", f"{c.alpha_cc:g}"),
+        ("gamma_c, gamma_s", "1.5, 1.15 (2.4.2.4, persistent and transient)"),
+        ("reinforcement fyk", f"{site.steel.fyk_mpa:g} MPa"),
+        ("bar sizes allowed", ", ".join(f"{b:g}" for b in site.steel.bar_sizes_mm) + " mm"),
+        ("spacings allowed", ", ".join(f"{b:g}" for b in site.steel.spacings_mm) + " mm"),
+        ("cover, stem faces and top of base", f"{c.cover_mm:g} mm"),
+        ("cover, underside of base (cast against ground, 4.4.1.3(4))",
+         f"{c.cover_ground_mm:g} mm"),
+        ("crack width limit wk", f"{d.crack_width_mm:g} mm (7.3.3, Table 7.3N)"),
+    ]))
+
+    bf = site.backfill
+    out.append("<h3>Ground</h3><h4>Backfill (retained soil)</h4>")
+    out.append(_kv_table([
+        ("unit weight", f"{bf.unit_weight_kn_m3:g} kN/m3"),
+        ("friction angle phi'k", f"{bf.friction_angle_deg:g} deg"),
+        ("surface slope beta", f"{bf.slope_deg:g} deg"),
+        ("wall friction delta_k", f"{bf.wall_friction_deg:g} deg (Coulomb stem pressure only)"),
+        ("cohesion", "ignored (conservative)"),
+    ]))
+    fo = site.foundation
+    fkeys = [("unit_weight_kn_m3", "unit weight (kN/m3)"),
+             ("friction_angle_deg", "phi'k (deg)"),
+             ("phi_cv_deg", "phi'cv for base friction (deg)"),
+             ("cohesion_kpa", "c'k (kPa)"), ("undrained_strength_kpa", "cu,k (kPa)"),
+             ("allowable_bearing_kpa", "allowable bearing (kPa)")]
+    zones = list(getattr(site, "zones", ()) or ())
+    rows = [_td("default", "t") + _td("run start", "t") + _td("run end", "t")
+            + "".join(_td(_num(getattr(fo, k), 2)) for k, _ in fkeys)]
+    for z in zones:
+        rows.append(_td("zone", "t") + _td(_num(z.from_m, 2)) + _td(_num(z.to_m, 2))
+                    + "".join(_td(_num(getattr(z.foundation, k), 2)) for k, _ in fkeys))
+    out.append("<h4>Foundation soil" + (" and zones" if zones else "") + "</h4>")
+    out.append(_table(["", "from ch (m)", "to ch (m)"] + [t for _, t in fkeys], rows))
+    out.append('<p class="note">A cu,k of 0 means no undrained checks; an allowable '
+               "bearing of 0 means no characteristic edge-pressure check. Soil over the toe "
+               "is ignored.</p>")
+
+    w = getattr(site, "water", None)
+    out.append("<h3>Water</h3>")
+    if w is None:
+        out.append("<p>No water behind the wall: a drained wall (drainage to be provided "
+                   "and maintained).</p>")
+    elif w.level_m is not None:
+        out.append(f"<p>Water behind the wall at level {_num(w.level_m, 2)} m (capped at "
+                   "the backfill surface at the virtual back and at the top of the checked "
+                   "stem), triangular uplift under the base, free drainage in front; "
+                   "gamma_w = 9.81 kN/m3. Water actions are permanent.</p>")
+    else:
+        out.append(f"<p>Water behind the wall {_num(w.height_above_base_m, 2)} m above "
+                   "each panel's underside of base (capped as above), triangular uplift, "
+                   "free drainage in front; gamma_w = 9.81 kN/m3. Water actions are "
+                   "permanent.</p>")
+
+    lo = site.loads
+    out.append("<h3>Loads</h3>")
+    out.append(_kv_table([
+        ("surcharge on the retained surface q (variable)", f"{lo.surcharge_kpa:g} kPa"),
+        ("psi2 on the surcharge (quasi-permanent, crack control)", f"{lo.psi2:g}"),
+        ("concrete self-weight", "25 kN/m3"),
+    ]))
+    out.append("<h3>Design settings</h3>")
+    out.append(_kv_table([(f.name, getattr(d, f.name)) for f in fields(d)]))
+    wall = getattr(site, "wall", None)
+    if wall is not None:
+        out.append("<h4>Run, panels and joints</h4>")
+        out.append(_kv_table([(f.name, getattr(wall, f.name)) for f in fields(wall)]))
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _run(result, figures) -> str:
+    out = ['<section class="part landscape" id="run"><h2>2. The run</h2>']
+    if result.runs:
+        out.append("<h3>Runs of wall</h3>")
+        out.append(_table(
+            ["run", "side", "from ch (m)", "to ch (m)", "length (m)", "max retained h (m)",
+             "at ch (m)"],
+            [_td(r.run) + _td(_e(r.side), "t") + _td(_num(r.ch_start_m)) + _td(_num(r.ch_end_m))
+             + _td(_num(r.length_m)) + _td(_num(r.max_retained_height_m))
+             + _td(_num(r.at_ch_m)) for r in result.runs]))
+    fig = figures.get("run") if "run" in figures else run_figure(result)
+    if fig:
+        out.append(_img(fig, "long section along the wall line"))
+    out.append("<h3>Section types</h3>")
+    counts = {}
+    for p in result.panels:
+        counts.setdefault(p.section_type, []).append(p.panel.length_m)
+    out.append(_table(
+        ["type", "stem top", "stem base", "base B", "toe", "heel", "base t", "key d",
+         "key w", "panels", "length (m)", "governing", "utilization"],
+        [_td(_e(st.section_type), "t")
+         + "".join(_td(_num(getattr(st.section, k), 3)) for k in (
+             "stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
+             "base_thickness_m", "key_depth_m", "key_width_m"))
+         + _td(len(counts.get(st.section_type, ()))) + _td(_num(sum(counts.get(st.section_type, ()))))
+         + _td(_e(st.governing), "t") + _td(_util(st.utilization))
+         for st in result.section_types]))
+    out.append("<h3>Panel schedule</h3>")
+    out.append('<p class="note">Columns as panels.csv: levels and lengths in m, '
+               "utilizations to 3 decimals, concrete m3, steel kg, cost in the units of the "
+               "rates.</p>")
+    num3 = {"util_overturning", "util_sliding", "util_bearing", "util_structural"}
+    text = {"panel", "side", "section", "governing", "reason"}
+    rows = []
+    for p in result.panels:
+        r = panel_row(p)
+        cells = []
+        for k in PANEL_COLUMNS:
+            v = r[k]
+            if k == "status":
+                cells.append(_status_cell(v))
+            elif k in text:
+                cells.append(_td(_e(v), "t"))
+            elif k in num3:
+                cells.append(_td(_util(v)))
+            elif k == "run":
+                cells.append(_td(_e(v)))
+            else:
+                cells.append(_td(_num(v, 2 if k in ("steel_kg", "cost", "concrete_m3") else 3)))
+        rows.append("".join(cells))
+    out.append(_table(list(PANEL_COLUMNS), rows, "wide"))
+    out.append("<h3>Joints</h3>")
+    if result.joints:
+        out.append(_table(
+            ["joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
+             "pressure_ratio", "status", "reason"],
+            [_td(_e(j.joint), "t") + _td(_num(j.ch_m, 3)) + _td(_e(j.left), "t")
+             + _td(_e(j.right), "t") + _td(_num(j.founding_step_m, 3))
+             + _td(_num(j.top_step_m, 3)) + _td(_num(j.pressure_ratio, 3))
+             + _status_cell(j.status) + _td(_e(j.reason), "t") for j in result.joints]))
+        wall = getattr(result.site, "wall", None)
+        if wall is not None:
+            out.append(f'<p class="note">Limits: founding step {wall.max_founding_step_m:g} m, '
+                       f"top step {wall.max_top_step_m:g} m, ratio of characteristic edge "
+                       f"pressures {wall.max_pressure_ratio:g}.</p>")
+    else:
+        out.append("<p>No joints between panels.</p>")
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _check_rows(checks, with_clause: bool = True) -> list[str]:
+    rows = []
+    for c in _order(checks, lambda c: c.check, CHECK_ORDER):
+        nd = _decimals(c.unit)
+        cells = (_td(_e(c.check), "t") + _td(_e(c.case), "t") + _td(_num(c.effect, nd))
+                 + _td(_num(c.resistance, nd)) + _td(_e(c.unit), "t")
+                 + _td(_util(c.utilization)) + _pass_cell(c.utilization)
+                 + _td("governs" if c.governs else "", "t"))
+        if with_clause:
+            cells += _td(_e(c.clause), "t")
+        rows.append(f'<tr class="gov">{cells}</tr>' if c.governs else cells)
+    return rows
+
+
+def _table_raw(head, rows) -> str:
+    """Like :func:`_table` but rows may already carry their own ``<tr>``."""
+    h = "".join(f"<th>{_e(c)}</th>" for c in head)
+    body = "\n".join(r if r.startswith("<tr") else f"<tr>{r}</tr>" for r in rows)
+    return f"<table><thead><tr>{h}</tr></thead>\n<tbody>\n{body}\n</tbody></table>\n"
+
+
+_CHECK_HEAD = ["check", "case", "effect", "resistance", "unit", "utilization", "result",
+               "worst of check", "clause"]
+
+
+def _checks_by_combination(checks) -> str:
+    out = []
+    combos = _order({c.combination for c in checks}, lambda x: x, COMBINATION_ORDER)
+    for comb in combos:
+        sub = [c for c in checks if c.combination == comb]
+        out.append(f"<h4>{_e(comb)}: {_e(COMBINATION_WORDS.get(comb, ''))}</h4>")
+        out.append(_table_raw(_CHECK_HEAD, _check_rows(sub)))
+    return "\n".join(out)
+
+
+def _sectype(result, st, k: int, figures) -> str:
+    gov = governing_panel(result, st.section_type)
+    sid = f"type-{st.section_type}"
+    out = [f'<section class="sectype" id="{_e(sid)}"><h2>3.{k} Section type '
+           f"{_e(st.section_type)}</h2>"]
+    s = st.section
+    out.append(_kv_table([
+        ("stem thickness at top / at top of base", f"{s.stem_top_m:.3f} / {s.stem_base_m:.3f} m"),
+        ("base width B, toe, heel", f"{s.base_width_m:.3f}, {s.toe_m:.3f}, {s.heel_m:.3f} m"),
+        ("base thickness", f"{s.base_thickness_m:.3f} m"),
+        ("shear key depth x width", (f"{s.key_depth_m:.3f} x {s.key_width_m:.3f} m"
+                                     if s.key_depth_m > 0 else "none")),
+        ("governing check over its panels", f"{st.governing} (utilization {_util(st.utilization)})"),
+        ("governing panel (checks and actions below)", "none" if gov is None else (
+            f"{gov.panel.panel}, ch {gov.panel.ch_start_m:.2f} to {gov.panel.ch_end_m:.2f} m, "
+            f"{gov.panel.side} side, retained h {gov.panel.retained_height_m:.3f} m, "
+            f"total H {gov.panel.total_height_m:.3f} m, status {_status_word(gov.status)}")),
+    ]))
+    key = st.section_type
+    fig = figures[key] if key in figures else section_figure(result, st, gov)
+    if fig:
+        out.append(_img(fig, f"cross-section of type {st.section_type}"))
+
+    acts = tuple(result.actions.get(st.section_type, ()) or ())
+    out.append("<h3>Characteristic actions at the governing panel</h3>")
+    if acts:
+        rows = [_td(_e(a.name), "t") + _td(_e(a.kind), "t") + _td(_num(a.vertical_kn_m))
+                + _td(_num(a.horizontal_kn_m)) + _td(_num(a.x_m, 3)) + _td(_num(a.z_m, 3))
+                + _td(_num(a.moment_kn_m_m)) for a in acts]
+        sv = sum(a.vertical_kn_m for a in acts)
+        sh = sum(a.horizontal_kn_m for a in acts)
+        sm = sum(a.moment_kn_m_m for a in acts)
+        rows.append('<tr class="total">' + _td("sum (unfactored)", "t") + _td("") + _td(_num(sv))
+                    + _td(_num(sh)) + _td("") + _td("") + _td(_num(sm)) + "</tr>")
+        out.append(_table_raw(["action", "kind", "V (kN/m, down +)", "H (kN/m, to front +)",
+                               "lever arm x (m)", "lever arm z (m)",
+                               "M about toe (kNm/m, restoring +)"], rows))
+        out.append('<p class="note">Lever arms from the toe edge (x) and the underside of '
+                   "the base (z); characteristic values, factored per combination in the "
+                   "checks below.</p>")
+    else:
+        out.append("<p>No action table was produced for this section type.</p>")
+
+    checks = gov.checks if gov is not None else ()
+    geo = [c for c in checks if c.check not in STRUCTURAL_CHECKS]
+    struc = [c for c in checks if c.check in STRUCTURAL_CHECKS]
+    out.append("<h3>Geotechnical checks (EN 1997-1) at the governing panel</h3>")
+    out.append(_checks_by_combination(geo) if geo else "<p>No geotechnical checks recorded.</p>")
+
+    out.append("<h3>Reinforcement</h3>")
+    rf = st.reinforcement
+    rows = []
+    for m in ("stem", "stem_front", "stem_horizontal", "heel", "toe", "base_distribution"):
+        b = getattr(rf, m, None)
+        if b is None:
+            continue
+        ok = b.as_prov_mm2_per_m >= b.as_req_mm2_per_m - 1e-9
+        rows.append(_td(_e(m), "t") + _td(_e(MEMBER_WORDS.get(m, "")), "t")
+                    + _td(f"{b.bar_mm:g} mm") + _td(f"{b.spacing_mm:g} mm")
+                    + _td(_num(b.as_prov_mm2_per_m, 0)) + _td(_num(b.as_req_mm2_per_m, 0))
+                    + _td(_num(b.d_mm, 0))
+                    + f'<td class="{"ok" if ok else "bad"}">{"enough" if ok else "SHORT"}</td>')
+    out.append(_table_raw(["member", "position", "bar", "spacing", "As,prov (mm2/m)",
+                           "As,req (mm2/m)", "d (mm)", "As,prov >= As,req"], rows))
+    if getattr(rf, "stem_curtail_m", None) is not None:
+        out.append(f"<p>Half of the stem main bars stop {rf.stem_curtail_m:.2f} m above the "
+                   "top of the base (curtailment, 9.2.1.3).</p>")
+    else:
+        out.append("<p>All stem main bars run the full height of the stem.</p>")
+    out.append("<h3>Structural checks (EN 1992-1-1) at the governing panel</h3>")
+    out.append(_checks_by_combination(struc) if struc else
+               "<p>No structural checks recorded.</p>")
+    marks = [b for b in result.bar_schedule if b.section == st.section_type]
+    if marks:
+        out.append("<h3>Bar marks of this type (whole job)</h3>")
+        out.append(_table(
+            ["member", "bar mark", "bar (mm)", "shape code", "length (mm)", "number",
+             "total length (m)", "mass (kg)"],
+            [_td(_e(b.member), "t") + _td(_e(b.bar_mark), "t") + _td(b.bar_mm)
+             + _td(_e(b.shape_code), "t") + _td(b.length_mm) + _td(b.number)
+             + _td(_num(b.total_length_m)) + _td(_num(b.mass_kg)) for b in marks]))
+    used = list(st.panels) or [p.panel.panel for p in result.panels
+                               if p.section_type == st.section_type]
+    out.append(f"<h3>Panels using type {_e(st.section_type)} ({len(used)})</h3>")
+    out.append(f'<p class="panels-list">{_e(", ".join(used))}</p>')
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _costs(result) -> str:
+    out = ['<section class="part" id="quantities"><h2>4. Quantities and cost</h2>']
+    out.append("<h3>Quantities, whole job</h3>")
+    out.append(_table(["item", "unit", "quantity"],
+                      [_td(_e(q.item), "t") + _td(_e(q.unit), "t") + _td(_num(q.quantity))
+                       for q in result.quantities]))
+    cost = result.cost
+    out.append("<h3>Cost</h3>")
+    if getattr(cost, "demo_rates", False):
+        out.append('<p class="caution"><strong>Invented example rates:</strong> no rates '
+                   "file was given, so the amounts below use wallrun's invented demo rates. "
+                   "They show the method only and are not an estimate.</p>")
+    rows = []
+    for r in cost.rows:
+        if r.rate is None:
+            rows.append(_td(_e(r.item), "t") + _td(_e(r.unit), "t") + _td(_num(r.quantity))
+                        + '<td class="bad">NO RATE</td><td class="bad">not priced</td>')
+        else:
+            rows.append(_td(_e(r.item), "t") + _td(_e(r.unit), "t") + _td(_num(r.quantity))
+                        + _td(_num(r.rate)) + _td(_num(r.amount)))
+    label = "total" if cost.complete else "total of priced items only (INCOMPLETE)"
+    rows.append('<tr class="total">' + _td(_e(label), "t") + _td("") + _td("") + _td("")
+                + _td(_num(cost.total)) + "</tr>")
+    out.append(_table_raw(["item", "unit", "quantity", "rate", "amount"], rows))
+    unpriced = [r.item for r in cost.rows if r.rate is None]
+    if unpriced:
+        out.append(f"<p><strong>Total incomplete:</strong> {len(unpriced)} item(s) have no "
+                   f"rate and are left out of the total: {_e(', '.join(unpriced))}.</p>")
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _appendix(result) -> str:
+    out = ['<section class="part" id="appendix"><h2>5. Appendix: checks of every panel</h2>',
+           '<p class="note">One row per check entry, as in design.json. u: utilization = '
+           "effect / resistance (pass at u &lt;= 1.000); G: the worst entry of its check "
+           "and combination; FAILS: u &gt; 1. Clauses:</p>"]
+    clauses = {}
+    for p in result.panels:
+        for c in p.checks:
+            clauses.setdefault(c.check, set()).add(c.clause)
+    out.append(_table(["check", "what it checks", "clause"],
+                      [_td(_e(k), "t") + _td(_e(CHECK_WORDS.get(k, "")), "t")
+                       + _td(_e("; ".join(sorted(clauses[k]))), "t")
+                       for k in _order(list(clauses), lambda x: x, CHECK_ORDER)]))
+    head = ("<thead><tr><th>check</th><th>comb.</th><th>case</th><th>effect</th>"
+            "<th>resistance</th><th>unit</th><th>u</th><th></th></tr></thead>")
+    esc = html.escape
+    for p in result.panels:
+        pn = p.panel
+        st = "ok" if p.status == "ok" else "FLAGGED" + (f": {p.reason}" if p.reason else "")
+        out.append(f'<div class="pblock" id="panel-{esc(pn.panel)}"><h4>{esc(pn.panel)} '
+                   f"(run {esc(str(pn.run))}, ch {pn.ch_start_m:.2f} to {pn.ch_end_m:.2f} m, "
+                   f"type {esc(p.section_type)}): {esc(st)}</h4>")
+        rows = []
+        for c in p.checks:
+            nd = _decimals(c.unit)
+            u = c.utilization
+            flag = "FAILS" if not (u <= 1.0) else ("G" if c.governs else "")
+            tr = '<tr class="gov">' if c.governs else "<tr>"
+            if flag == "FAILS":
+                tr = '<tr class="gov">' if c.governs else "<tr>"
+                mark = '<td class="bad">FAILS</td>'
+            else:
+                mark = f"<td>{flag}</td>"
+            rows.append(f'{tr}<td class="t">{esc(c.check)}</td><td class="t">'
+                        f'{esc(c.combination)}</td><td class="t">{esc(c.case)}</td>'
+                        f"<td>{_num(c.effect, nd)}</td><td>{_num(c.resistance, nd)}</td>"
+                        f'<td class="t">{esc(c.unit)}</td><td>{_util(u)}</td>{mark}</tr>')
+        if rows:
+            out.append(f"<table>{head}<tbody>{''.join(rows)}</tbody></table></div>")
+        else:
+            out.append("<p>No checks recorded for this panel.</p></div>")
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def render_report(result, figures: dict | None = None, date: str | None = None) -> str:
+    """The whole report as HTML text.
+
+    figures: optional ready figures keyed ``"run"`` (the long section) and by section
+    type name; each value PNG bytes or SVG markup (str); a key present with a falsy
+    value leaves that figure out. Missing keys are drawn here.
+    date: ISO date shown on the front page (default: ``SOURCE_DATE_EPOCH`` when set,
+    else today).
+    """
+    figures = dict(figures or {})
+    if date is None:
+        sde = os.environ.get("SOURCE_DATE_EPOCH")
+        date = (_dt.datetime.fromtimestamp(int(sde), _dt.timezone.utc).date().isoformat()
+                if sde and sde.isdigit() else _dt.date.today().isoformat())
+    name = getattr(getattr(result.site, "project", None), "name", "") or "wallrun"
+    parts = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+             '<meta name="viewport" content="width=device-width, initial-scale=1">',
+             f"<title>{_e(name)}: retaining wall calculation report</title>",
+             f"<style>{CSS}</style>", "</head>", "<body>",
+             _front(result, date), _nav(result), _basis(result), _run(result, figures)]
+    for k, st in enumerate(result.section_types, start=1):
+        parts.append(_sectype(result, st, k, figures))
+    parts += [_costs(result), _appendix(result),
+              f'<footer class="note"><p>wallrun {_e(wallrun.__version__)}: preliminary design '
+              "aid; to be checked and signed by a qualified engineer.</p></footer>",
+              "</body>", "</html>"]
+    return "\n".join(parts) + "\n"
+
+
+def write_report(result, path, figures: dict | None = None) -> Path:
+    """Write the calculation report of ``result`` (a DesignResult) to ``path`` as one
+    self-contained HTML file (UTF-8). See :func:`render_report` for ``figures``.
+    Returns the path written."""
+    path = Path(path)
+    text = render_report(result, figures)
+    tmp = path.with_name(path.name + ".part")
+    tmp.write_text(text, encoding="utf-8")
+    os.replace(tmp, path)
+    return path
