@@ -1,0 +1,988 @@
+"""Section sizing: the cheapest passing section, a standard catalogue, a rationalised set.
+
+Design-basis section 6. Three ways to give every panel a section:
+
+- :func:`bespoke`: a vectorised search over base width, toe length, base thickness,
+  stem thicknesses and shear key, in ``dimension_step_m`` increments, for the section of
+  least cost per metre (``takeoff.cost_per_metre``) that passes every stability
+  (``stability.stability_checks``) and structural (``structure.design_reinforcement``)
+  check at the panel's conditions. :class:`Designer` reuses a design for equal
+  :class:`Demand` s and starts each new search from the designs already found.
+- :func:`catalogue_design`: every type of ``sections.csv`` checked in full with its own
+  bars (``structure.check_reinforcement``); the cheapest passing type.
+- :func:`rationalise`: at most ``max_types`` sections covering all panels at least total
+  cost, every panel checked again with its assigned section and bars.
+
+Units: m, kN, kPa; cost in the money units of the rate table, per metre run of wall.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass, field, fields
+from functools import partial
+
+import numpy as np
+
+from wallrun import panels
+from wallrun.conditions import Conditions
+from wallrun.results import (BarSet, CheckArray, CheckEntry, Reinforcement, entries,
+                             max_utilization)
+from wallrun.section import Section, SectionArrays, section_problems
+from wallrun.settings import Backfill, Basis, CatalogueSection, Foundation, Water
+
+#: Largest retained height h = z_top - z_front the search is offered for, m. Above it a
+#: cantilever wall is rarely economic (counterforts, anchors or piles take over, common
+#: practice) and the search bounds below were not laid out for it: flagged, not designed.
+MAX_RETAINED_M = 8.0
+
+#: Utilization tolerance: a candidate passes at max utilization <= 1 + _TOL.
+_TOL = 1e-9
+
+
+# --- demand and conditions ---------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Demand:
+    """The conditions of a panel that do not depend on its section (hashable).
+
+    z_top: highest retained level of the panel (top of the checked section), m.
+    z_front: lowest front level, m.
+    backfill, foundation: the soils; surcharge_kpa: characteristic surcharge, kPa.
+    water: water behind the wall or None (drained).
+    wall_top_m: highest wall top of the panel, m (>= z_top; the stem above z_top is
+        counted in the cost, never in the checks).
+    min_founding_depth_m, founding_step_m: founding rules of design-basis section 1.
+    """
+
+    z_top: float
+    z_front: float
+    backfill: Backfill
+    foundation: Foundation
+    surcharge_kpa: float
+    water: Water | None
+    wall_top_m: float
+    min_founding_depth_m: float = 0.6
+    founding_step_m: float = 0.15
+
+    @property
+    def h(self) -> float:
+        """Retained height z_top - z_front, m."""
+        return self.z_top - self.z_front
+
+    @property
+    def ground_key(self) -> tuple:
+        """Everything but the levels: panels with equal keys differ only in height."""
+        return (self.backfill, self.foundation, self.surcharge_kpa, self.water,
+                self.min_founding_depth_m, self.founding_step_m)
+
+
+def conditions_for(demand: Demand, t_base) -> Conditions:
+    """Conditions of ``demand`` for candidates of base thickness ``t_base`` (m, float or
+    array (n,)): z_found = ``panels.founding_level`` (design-basis section 1), and the
+    water level resolved to an absolute level (``level_m``, or z_found +
+    ``height_above_base_m``) before capping (capping is the stability module's job)."""
+    tb = np.asarray(t_base, dtype=float)
+    z_found = panels.founding_level(demand.z_front, tb, demand.min_founding_depth_m,
+                                    demand.founding_step_m)
+    if tb.ndim == 0:
+        z_found = float(z_found)
+    level = None
+    w = demand.water
+    if w is not None:
+        if w.level_m is not None:
+            level = float(w.level_m)
+        elif w.height_above_base_m is not None:
+            level = z_found + float(w.height_above_base_m)
+    return Conditions(z_top=float(demand.z_top), z_front=float(demand.z_front), z_found=z_found,
+                      backfill=demand.backfill, foundation=demand.foundation,
+                      surcharge_kpa=float(demand.surcharge_kpa), water_level_m=level)
+
+
+# --- results -------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class SizedDesign:
+    """A section with its bars and its checks at one demand.
+
+    checks: every stability and structural check (``results.entries``).
+    cost_per_m: ``takeoff.cost_per_metre`` of the section, with the stem drawn up to the
+        demand's wall top, money per metre run.
+    z_found: underside of base, m; edge_pressure_sls_kpa: largest characteristic edge
+        pressure (joint pressure ratio), kPa.
+    status: ``ok`` or ``flagged`` (with ``reason``); utilization: largest of all checks;
+    governing: that check as ``check combination``; section_type: a name when the
+    section comes from the catalogue or a rationalised set, else "".
+    """
+
+    section: Section
+    reinforcement: Reinforcement | None
+    checks: tuple[CheckEntry, ...]
+    cost_per_m: float
+    z_found: float
+    edge_pressure_sls_kpa: float
+    status: str
+    reason: str
+    utilization: float
+    governing: str
+    section_type: str = ""
+
+
+@dataclass(frozen=True)
+class Evaluation:
+    """Every check of n candidate sections at one demand (see :func:`evaluate`).
+
+    checks: stability then structural checks, each for the n candidates.
+    utilization: largest utilization of each candidate; ok: it passes every check and
+    its dimensions close; cost: cost per metre (``takeoff.cost_per_metre``).
+    """
+
+    sec: SectionArrays
+    cond: Conditions
+    checks: list[CheckArray]
+    structure: object  # structure.StructureResult
+    utilization: np.ndarray
+    ok: np.ndarray
+    cost: np.ndarray
+    steel_kg_per_m: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.sec)
+
+    def governing(self, i: int) -> tuple[str, str, float]:
+        """(check, combination, utilization) of the worst check of candidate i."""
+        best = None
+        for c in self.checks:
+            u = float(np.broadcast_to(c.utilization, self.utilization.shape)[i])
+            if best is None or u > best[2]:
+                best = (c.check, c.combination, u)
+        return best if best is not None else ("", "", 0.0)
+
+
+def _stem_heights(sec: SectionArrays, demand: Demand, cond: Conditions):
+    """Drawn stem height (top of base to the wall top) and founding depth D, m, (n,)."""
+    zf = np.asarray(cond.z_found, dtype=float)
+    top = max(demand.wall_top_m, demand.z_top)
+    hs = top - zf - np.asarray(sec.base_thickness_m, dtype=float)
+    return hs, demand.z_front - zf
+
+
+def lower_bound_cost(sec: SectionArrays, demand: Demand, rates) -> np.ndarray:
+    """Cost per metre without the steel, (n,): a lower bound of the full cost (every
+    rate is >= 0), used to skip candidates that cannot beat the best one found."""
+    from wallrun import takeoff
+
+    cond = conditions_for(demand, sec.base_thickness_m)
+    hs, D = _stem_heights(sec, demand, cond)
+    return takeoff.cost_per_metre(sec, hs, D, 0.0, rates)
+
+
+def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
+             given: Reinforcement | None = None) -> Evaluation:
+    """All stability and structural checks of n candidate sections at ``demand``.
+
+    Stability: ``stability.stability_checks`` (design-basis section 4). Structure:
+    ``structure.design_reinforcement`` chooses the cheapest bars per candidate, or with
+    ``given`` bars ``structure.check_reinforcement`` checks them (design-basis section 5),
+    from ``stability.member_actions``, ``stability.member_moments_qp`` and the stem moment
+    envelope ``stability.stem_moment`` for curtailment. Cost: ``takeoff.cost_per_metre``
+    with the structure's ``steel_kg_per_m``. A candidate whose dimensions do not close
+    (``section.section_problems``) never passes.
+    """
+    from wallrun import stability, structure, takeoff
+
+    cond = conditions_for(demand, sec.base_thickness_m)
+    checks = list(stability.stability_checks(sec, cond, basis))
+    actions = stability.member_actions(sec, cond, basis)
+    qp = stability.member_moments_qp(sec, cond, basis)
+    stem_at = partial(stability.stem_moment, sec, cond, basis)
+    if given is None:
+        sr = structure.design_reinforcement(sec, actions, qp, basis, stem_moment_at=stem_at)
+    else:
+        sr = structure.check_reinforcement(sec, actions, qp, basis, given, stem_moment_at=stem_at)
+    checks.extend(sr.checks)
+    util = max_utilization(checks)
+    ok = (util <= 1.0 + _TOL) & ~section_problems(sec)
+    steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
+    hs, D = _stem_heights(sec, demand, cond)
+    cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
+    return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
+                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel)
+
+
+def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | None = None,
+           reason: str = "", section_type: str = "") -> SizedDesign:
+    """The SizedDesign of candidate ``i`` of an evaluation."""
+    from wallrun import stability
+
+    section = ev.sec.take(i)
+    one = SectionArrays.of([section])
+    cond1 = conditions_for(demand, one.base_thickness_m)
+    edge = float(np.asarray(stability.edge_pressure_sls(one, cond1, basis)).reshape(-1)[0])
+    chk, comb, u = ev.governing(i)
+    if status is None:
+        status = "ok" if bool(ev.ok[i]) else "flagged"
+        if status == "flagged" and not reason:
+            reason = f"fails {chk} {comb} ({u:.2f})"
+    return SizedDesign(section=section, reinforcement=ev.structure.reinforcement(i),
+                       checks=entries(ev.checks, i), cost_per_m=float(ev.cost[i]),
+                       z_found=float(np.asarray(ev.cond.z_found).reshape(-1)[i]
+                                     if np.ndim(ev.cond.z_found) else ev.cond.z_found),
+                       edge_pressure_sls_kpa=edge, status=status, reason=reason,
+                       utilization=float(ev.utilization[i]), governing=f"{chk} {comb}".strip(),
+                       section_type=section_type)
+
+
+# --- the search space ------------------------------------------------------------------
+
+#: Candidate vector (integers): B, toe, t_base, t_stem_base, t_stem_top in steps of the
+#: dimension step; key depth index (0 = no key, k = the k-th key depth) and key width
+#: index.
+_NDIM = 7
+
+
+@dataclass(frozen=True)
+class SearchBounds:
+    """Bounds of the bespoke search for one demand, m (design-basis section 6).
+
+    Each bound is a common-practice proportion (the ``bespoke`` docstring says why):
+    base width ``B`` in [b_lo, b_hi]; toe in [0, B/2]; base thickness in [tb_lo, tb_hi]
+    and never thinner than the stem base; stem base in [ts_lo, ts_hi]; stem top in
+    [tt_lo, min(tt_hi, stem base)]; key none or depth in ``key_depths`` with width in
+    ``key_widths``.
+    """
+
+    step: float
+    b_lo: float
+    b_hi: float
+    tb_lo: float
+    tb_hi: float
+    ts_lo: float
+    ts_hi: float
+    tt_lo: float
+    tt_hi: float
+    key_depths: tuple[float, ...]
+    key_widths: tuple[float, ...]
+
+    def n(self, lo: float, hi: float) -> tuple[int, int]:
+        """Integer range of multiples of ``step`` in [lo, hi]."""
+        return (int(math.ceil(lo / self.step - 1e-6)), int(math.floor(hi / self.step + 1e-6)))
+
+    def axes(self) -> list[np.ndarray]:
+        """Integer axes of the candidate vector (the toe axis is 0..B_hi/2)."""
+        b = self.n(self.b_lo, self.b_hi)
+        tb = self.n(self.tb_lo, self.tb_hi)
+        ts = self.n(self.ts_lo, self.ts_hi)
+        tt = self.n(self.tt_lo, self.tt_hi)
+        return [np.arange(b[0], b[1] + 1), np.arange(0, b[1] // 2 + 1),
+                np.arange(tb[0], tb[1] + 1), np.arange(ts[0], ts[1] + 1),
+                np.arange(tt[0], tt[1] + 1), np.arange(0, len(self.key_depths) + 1),
+                np.arange(0, max(len(self.key_widths), 1))]
+
+    def valid(self, v: np.ndarray) -> np.ndarray:
+        """Mask of integer candidates (m, 7) inside the bounds and closing."""
+        axes = self.axes()
+        ok = np.ones(len(v), dtype=bool)
+        for k, a in enumerate(axes):
+            ok &= (v[:, k] >= a[0]) & (v[:, k] <= a[-1])
+        B, toe, tb, ts, tt, kd, kw = (v[:, k] for k in range(_NDIM))
+        ok &= 2 * toe <= B  # toe <= B / 2
+        ok &= tb >= ts  # base not thinner than the stem it anchors
+        ok &= tt <= ts
+        ok &= B - toe - ts >= 1  # a heel of at least one step
+        ok &= (kd > 0) | (kw == 0)  # no key: one representative width index
+        if self.key_widths:
+            w = np.asarray(self.key_widths)[np.clip(kw, 0, len(self.key_widths) - 1)]
+            ok &= (kd == 0) | (toe * self.step + w <= B * self.step + 1e-9)
+        return ok
+
+    def sections(self, v: np.ndarray) -> SectionArrays:
+        """SectionArrays of integer candidates (m, 7)."""
+        s = self.step
+        v = np.asarray(v)
+        kd = v[:, 5]
+        depths = np.concatenate([[0.0], np.asarray(self.key_depths, dtype=float)])
+        widths = np.asarray(self.key_widths, dtype=float) if self.key_widths else np.zeros(1)
+        d = depths[kd]
+        w = np.where(kd > 0, widths[np.clip(v[:, 6], 0, len(widths) - 1)], 0.0)
+        return SectionArrays(stem_top_m=np.round(v[:, 4] * s, 6), stem_base_m=np.round(v[:, 3] * s, 6),
+                             base_width_m=np.round(v[:, 0] * s, 6), toe_m=np.round(v[:, 1] * s, 6),
+                             base_thickness_m=np.round(v[:, 2] * s, 6), key_depth_m=d,
+                             key_width_m=w)
+
+    def vector_of(self, s: Section) -> np.ndarray | None:
+        """Integer vector of a section snapped to this grid (None for a key off the list)."""
+        st = self.step
+        kd = 0
+        kw = 0
+        if s.key_depth_m > 0:
+            dd = np.abs(np.asarray(self.key_depths) - s.key_depth_m)
+            ww = np.abs(np.asarray(self.key_widths) - s.key_width_m)
+            if not len(dd) or dd.min() > 1e-6 or ww.min() > 1e-6:
+                return None
+            kd, kw = int(dd.argmin()) + 1, int(ww.argmin())
+        return np.array([round(s.base_width_m / st), round(s.toe_m / st),
+                         round(s.base_thickness_m / st), round(s.stem_base_m / st),
+                         round(s.stem_top_m / st), kd, kw])
+
+
+def bounds_for(demand: Demand, step: float) -> SearchBounds:
+    """Search bounds for ``demand`` (the reasons are in :func:`bespoke`), m.
+
+    H is the total height with the founding depth at its least, max(min founding depth,
+    0.3 m) below the front level.
+    """
+    h = max(demand.h, 0.0)
+    H = h + max(demand.min_founding_depth_m, 0.3)
+    up = lambda x: math.ceil(x / step - 1e-9) * step  # noqa: E731
+    ts_hi = up(max(0.30, min(1.0, 0.15 * H)))
+    tb_hi = up(max(0.40, min(1.2, 0.15 * H + 0.20)))
+    return SearchBounds(
+        step=step, b_lo=up(max(0.3 * H, 0.6)), b_hi=up(max(1.2 * H, 1.0)),
+        tb_lo=up(0.25), tb_hi=tb_hi, ts_lo=up(0.20), ts_hi=ts_hi, tt_lo=up(0.20),
+        tt_hi=up(0.30),
+        key_depths=tuple(np.round(np.arange(up(0.30), 0.60 + 1e-9, 2 * step), 6)),
+        key_widths=tuple(np.round(np.arange(up(0.30), 0.50 + 1e-9, 2 * step), 6)))
+
+
+def _codes(v: np.ndarray) -> np.ndarray:
+    """One int64 code per integer candidate (for set membership)."""
+    v = np.asarray(v, dtype=np.int64)
+    code = np.zeros(len(v), dtype=np.int64)
+    for k in range(_NDIM):
+        code = code * 512 + v[:, k]
+    return code
+
+
+def grid(bounds: SearchBounds, stride: int = 1) -> np.ndarray:
+    """Every valid integer candidate of ``bounds`` taking each ``stride``-th value of each
+    dimension axis (the last value of each axis always included), shape (m, 7)."""
+    axes = []
+    for k, a in enumerate(bounds.axes()):
+        if k >= 5 or stride == 1:  # key indices: all
+            axes.append(a)
+        else:
+            sel = a[::stride]
+            if sel[-1] != a[-1]:
+                sel = np.append(sel, a[-1])
+            axes.append(sel)
+    mesh = np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, _NDIM)
+    return mesh[bounds.valid(mesh)]
+
+
+class _Search:
+    """The cheapest passing candidate of one demand over the integer grid of ``bounds``.
+
+    ``f(v) -> (ok, cost, util)`` evaluates integer candidates; ``lb(v)`` is a lower bound
+    of their cost. Evaluated candidates are remembered and never evaluated twice.
+    """
+
+    def __init__(self, bounds: SearchBounds, f, lb, chunk: int = 20000):
+        self.bounds, self.f, self.lb, self.chunk = bounds, f, lb, chunk
+        self.seen: set[int] = set()
+        self.V = np.zeros((0, _NDIM), dtype=np.int64)
+        self.ok = np.zeros(0, dtype=bool)
+        self.cost = np.zeros(0)
+        self.util = np.zeros(0)
+        self.evaluated = 0
+
+    def best(self) -> int | None:
+        """Index of the cheapest passing candidate seen (ties: lower utilization)."""
+        if not self.ok.any():
+            return None
+        idx = np.flatnonzero(self.ok)
+        order = np.lexsort((self.util[idx], self.cost[idx]))
+        return int(idx[order[0]])
+
+    def best_cost(self) -> float:
+        b = self.best()
+        return math.inf if b is None else float(self.cost[b])
+
+    def run(self, v: np.ndarray, prune: bool = True) -> None:
+        """Evaluate the new valid candidates of ``v`` whose lower bound beats the best."""
+        v = np.asarray(v, dtype=np.int64).reshape(-1, _NDIM)
+        if not len(v):
+            return
+        v = v[self.bounds.valid(v)]
+        codes = _codes(v)
+        codes, first = np.unique(codes, return_index=True)
+        v = v[first]
+        if self.seen:
+            new = ~np.isin(codes, np.fromiter(self.seen, dtype=np.int64, count=len(self.seen)))
+            v, codes = v[new], codes[new]
+        if not len(v):
+            return
+        if prune and np.isfinite(self.best_cost()):
+            keep = self.lb(v) < self.best_cost() - 1e-9
+            v, codes = v[keep], codes[keep]
+        for a in range(0, len(v), self.chunk):
+            part = v[a:a + self.chunk]
+            ok, cost, util = self.f(part)
+            self.evaluated += len(part)
+            self.V = np.vstack([self.V, part])
+            self.ok = np.concatenate([self.ok, ok])
+            self.cost = np.concatenate([self.cost, cost])
+            self.util = np.concatenate([self.util, util])
+        self.seen.update(codes.tolist())
+
+    def seeds(self, m: int) -> list[np.ndarray]:
+        """Starting points for the local search: the ``m`` cheapest passing candidates,
+        else the ``m`` least utilised."""
+        if self.ok.any():
+            idx = np.flatnonzero(self.ok)
+            idx = idx[np.argsort(self.cost[idx], kind="stable")[:m]]
+        else:
+            idx = np.argsort(self.util, kind="stable")[:m]
+        return [self.V[i] for i in idx]
+
+    def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60) -> None:
+        """Descent over the joint neighbourhood: every combination of offsets
+        -radius..radius in all seven integers, moving to the cheapest passing neighbour
+        (or, while nothing passes, the least utilised) until nothing improves."""
+        offs = np.array(list(itertools.product(range(-radius, radius + 1), repeat=_NDIM)),
+                        dtype=np.int64)
+        cur = np.asarray(start, dtype=np.int64)
+        for _ in range(max_iter):
+            self.run(cur[None, :] + offs)
+            b = self.best()
+            if b is not None:
+                nxt = self.V[b]
+            else:
+                nxt = self.V[int(np.argmin(self.util))] if len(self.util) else cur
+            if np.array_equal(nxt, cur):
+                return
+            cur = nxt
+
+
+# --- bespoke -------------------------------------------------------------------------
+
+def _flag_beyond(demand: Demand, basis: Basis, rates, step: float) -> SizedDesign:
+    """A nominal section, checked but not searched, flagged beyond the supported range."""
+    H = max(demand.h, 0.0) + demand.min_founding_depth_m
+    r = lambda x: max(round(x / step) * step, step)  # noqa: E731
+    t = r(max(0.25, H / 10))
+    B = r(0.7 * H)
+    sec = Section(stem_top_m=r(0.25), stem_base_m=t, base_width_m=B, toe_m=r(0.25 * B),
+                  base_thickness_m=t)
+    ev = evaluate(SectionArrays.of([sec]), demand, basis, rates)
+    why = (f"retained height {demand.h:.2f} m is beyond the supported range of a "
+           f"cantilever section (<= {MAX_RETAINED_M:g} m): not designed; the section "
+           f"shown is nominal only") if demand.h > MAX_RETAINED_M else (
+           f"retained height {demand.h:.2f} m: nothing to retain; not designed")
+    return _sized(ev, 0, demand, basis, status="flagged", reason=why)
+
+
+def _failed(ev_best: Evaluation, demand: Demand, basis: Basis) -> SizedDesign:
+    chk, comb, u = ev_best.governing(0)
+    return _sized(ev_best, 0, demand, basis, status="flagged",
+                  reason=f"no section within the search bounds passes: best fails "
+                         f"{chk} {comb} ({u:.2f})")
+
+
+def bespoke(demand: Demand, basis: Basis, rates, step: float | None = None,
+            designer: "Designer | None" = None) -> SizedDesign:
+    """The cheapest section passing every check at ``demand`` (design-basis section 6).
+
+    Searched over the grid of ``step`` (``basis.design.dimension_step_m`` when None)
+    within these bounds, H being the total height with the least founding depth:
+
+    - base width B: 0.3 H to 1.2 H (and >= 0.6 m). Common practice puts the optimum
+      near 0.5 to 0.7 H; 0.3 H is below anything that stands on ordinary soils and
+      1.2 H beyond what any cantilever needs before a key or a different wall type.
+    - toe: 0 to B/2. A toe beyond half the base moves the stem ahead of the base centre
+      and throws the soil block's weight behind the resultant, never an economy.
+    - stem base thickness: 0.20 m to max(0.30, 0.15 H) (at most 1.0 m): 0.20 m is the
+      least that takes two layers of bars with 50 mm covers and lets concrete be placed
+      and vibrated (common practice), and the stem moment rarely needs more than
+      H/10 to H/12 (common practice: 0.15 H leaves margin).
+    - stem top thickness: 0.20 m (same reason) to 0.30 m and never thicker than the stem
+      base: the top carries no moment, so extra thickness there is the least efficient
+      way to add weight.
+    - base thickness: 0.25 m (two mats with 50 and 75 mm covers) to 0.15 H + 0.20 m (at
+      most 1.2 m), and never thinner than the stem base: the base must anchor the stem
+      bars and its heel moment at the stem face is of the order of the stem moment.
+    - key: none, or depth 0.30 to 0.60 m and width 0.30 to 0.50 m in steps of two
+      dimension steps: a key shallower than 0.3 m mobilises little passive resistance
+      and one deeper than 0.6 m is hard to dig and cast against ground (common practice).
+
+    Search: the grid taken at every ``stride``-th value of each dimension (coarse), then
+    a descent from the cheapest coarse candidates over the joint neighbourhood of
+    one step in all dimensions at once, repeated until nothing improves. Candidates
+    whose cost without steel (a lower bound) cannot beat the best are not evaluated.
+    The search is a heuristic; ``tests/test_sizing.py`` compares it with brute force on
+    small grids. Beyond ``MAX_RETAINED_M`` the demand is flagged without searching; when
+    nothing passes the least utilised candidate is returned flagged with its governing
+    check.
+    """
+    if designer is None:
+        designer = _designer_for(basis, rates, step)
+    return designer.bespoke(demand)
+
+
+class Designer:
+    """Bespoke designs for one basis and rate table, each distinct :class:`Demand` once.
+
+    A new demand's search also starts from the sections already designed for demands of
+    the same ground (nearest retained heights), and tries those sections as they are, so
+    that a long run of slowly varying height costs little per panel.
+    ``design_many`` designs the tallest first, so that every shorter panel can reuse a
+    taller one's section when that is cheaper.
+    """
+
+    def __init__(self, basis: Basis, rates=None, step: float | None = None,
+                 stride: int = 4, seeds: int = 3, warm: bool = True):
+        self.basis, self.rates = basis, rates
+        self.step = float(step if step is not None else basis.design.dimension_step_m)
+        self.stride, self.n_seeds, self.warm = stride, seeds, warm
+        self.cache: dict[Demand, SizedDesign] = {}
+        self.by_ground: dict[tuple, list[tuple[float, Section]]] = {}
+        self.evaluated = 0  # candidates evaluated in searches
+        self.seconds_in_evaluate = 0.0
+
+    # the evaluator of one demand, in integer candidates
+    def _f(self, demand: Demand, bounds: SearchBounds):
+        import time
+
+        def f(v):
+            t0 = time.perf_counter()
+            ev = evaluate(bounds.sections(v), demand, self.basis, self.rates)
+            self.seconds_in_evaluate += time.perf_counter() - t0
+            return ev.ok, ev.cost, ev.utilization
+
+        def lb(v):
+            return lower_bound_cost(bounds.sections(v), demand, self.rates)
+
+        return f, lb
+
+    def _neighbours(self, demand: Demand, k: int = 4) -> list[Section]:
+        lst = self.by_ground.get(demand.ground_key, [])
+        lst = sorted(lst, key=lambda t: abs(t[0] - demand.h))
+        return [s for _, s in lst[:k]]
+
+    def bespoke(self, demand: Demand) -> SizedDesign:
+        d = self.cache.get(demand)
+        if d is not None:
+            return d
+        d = self._design(demand)
+        self.cache[demand] = d
+        if d.status == "ok":
+            self.by_ground.setdefault(demand.ground_key, []).append((demand.h, d.section))
+        return d
+
+    def design_many(self, demands) -> list[SizedDesign]:
+        """Designs of ``demands`` in their order, each distinct one designed once, the
+        tallest of each ground first."""
+        todo = sorted(set(demands), key=lambda d: (-d.h, d.z_front))
+        for dm in todo:
+            self.bespoke(dm)
+        return [self.cache[dm] for dm in demands]
+
+    def _design(self, demand: Demand) -> SizedDesign:
+        if not (0.0 < demand.h <= MAX_RETAINED_M):
+            return _flag_beyond(demand, self.basis, self.rates, self.step)
+        bounds = bounds_for(demand, self.step)
+        f, lb = self._f(demand, bounds)
+        s = _Search(bounds, f, lb)
+        starts = []
+        if self.warm:
+            for sec in self._neighbours(demand):
+                v = bounds.vector_of(sec)
+                if v is not None:
+                    starts.append(v)
+        if starts:
+            # the nearest designs as they are, then a sparse coarse grid
+            s.run(np.array(starts), prune=False)
+            s.run(grid(bounds, 2 * self.stride))
+        else:
+            s.run(grid(bounds, self.stride))
+        for v in s.seeds(self.n_seeds):
+            s.local(v)
+        self.evaluated += s.evaluated
+        # the designs of neighbours as they are (any grid): a taller panel's section
+        # may serve
+        extra = [sec for sec in self._neighbours(demand, 8)]
+        b = s.best()
+        cands = []
+        if b is not None:
+            cands.append(bounds.sections(s.V[b:b + 1]).take(0))
+        elif len(s.util):
+            cands.append(bounds.sections(s.V[int(np.argmin(s.util)):][:1]).take(0))
+        cands.extend(extra)
+        if not cands:
+            return _flag_beyond(demand, self.basis, self.rates, self.step)
+        ev = evaluate(SectionArrays.of(cands), demand, self.basis, self.rates)
+        if ev.ok.any():
+            idx = np.flatnonzero(ev.ok)
+            i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
+            return _sized(ev, i, demand, self.basis)
+        return _failed(ev, demand, self.basis)
+
+
+def brute_force(demand: Demand, basis: Basis, rates, bounds: SearchBounds,
+                chunk: int = 20000) -> tuple[Section | None, float]:
+    """The cheapest passing section of the whole grid of ``bounds`` by evaluating every
+    candidate (reference for the tests; no pruning). Returns (section, cost) or
+    (None, inf)."""
+    v = grid(bounds, 1)
+    best, best_cost = None, math.inf
+    for a in range(0, len(v), chunk):
+        sec = bounds.sections(v[a:a + chunk])
+        ev = evaluate(sec, demand, basis, rates)
+        if ev.ok.any():
+            idx = np.flatnonzero(ev.ok)
+            i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
+            if ev.cost[i] < best_cost - 1e-9:
+                best, best_cost = sec.take(i), float(ev.cost[i])
+    return best, best_cost
+
+
+def search(demand: Demand, basis: Basis, rates, bounds: SearchBounds, stride: int = 2,
+           seeds: int = 3) -> tuple[Section | None, float, int]:
+    """The coarse-to-fine search of :func:`bespoke` on explicit ``bounds`` (no cache, no
+    warm start). Returns (section, cost, candidates evaluated); (None, inf, n) when
+    nothing passes."""
+    d = Designer(basis, rates, bounds.step, stride=stride, seeds=seeds, warm=False)
+    f, lb = d._f(demand, bounds)
+    s = _Search(bounds, f, lb)
+    s.run(grid(bounds, stride))
+    for v in s.seeds(seeds):
+        s.local(v)
+    b = s.best()
+    if b is None:
+        return None, math.inf, s.evaluated
+    return bounds.sections(s.V[b:b + 1]).take(0), float(s.cost[b]), s.evaluated
+
+
+def _basis_key(basis: Basis, rates, step) -> tuple:
+    return (tuple(sorted(basis.factors.items())), basis.design, basis.loads, basis.concrete,
+            basis.steel, None if rates is None else tuple(rates), step)
+
+
+_DESIGNERS: dict[tuple, Designer] = {}
+
+
+def _designer_for(basis: Basis, rates, step) -> Designer:
+    """The shared :class:`Designer` of a basis, rate table and step (kept for reuse)."""
+    key = _basis_key(basis, rates, step)
+    d = _DESIGNERS.get(key)
+    if d is None:
+        if len(_DESIGNERS) > 16:
+            _DESIGNERS.clear()
+        d = _DESIGNERS[key] = Designer(basis, rates, step)
+    return d
+
+
+# --- catalogue -----------------------------------------------------------------------
+
+def _barset(bar_mm: int, spacing_mm: int, d_mm: float) -> BarSet:
+    """Bars of diameter bar_mm at spacing_mm: As,prov = pi/4 phi^2 x 1000/s, mm2/m."""
+    return BarSet(bar_mm=int(bar_mm), spacing_mm=int(spacing_mm),
+                  as_prov_mm2_per_m=math.pi / 4 * bar_mm ** 2 * 1000.0 / spacing_mm,
+                  as_req_mm2_per_m=0.0, d_mm=float(d_mm))
+
+
+def catalogue_bars(c: CatalogueSection, basis: Basis) -> Reinforcement:
+    """The bars of a catalogue type. Main bars outermost (d = h - cover - phi/2; the
+    underside of the base with ``cover_ground_mm``); the distribution bar gives the stem
+    horizontal bars, the base distribution bars and the stem front vertical bars (inside
+    the main bars where they cross them)."""
+    cov, covg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    ts, tb = c.stem_base_m * 1000.0, c.base_thickness_m * 1000.0
+    dist = c.dist_bar_mm
+    return Reinforcement(
+        stem=_barset(c.stem_bar_mm, c.stem_spacing_mm, ts - cov - c.stem_bar_mm / 2),
+        heel=_barset(c.heel_bar_mm, c.heel_spacing_mm, tb - cov - c.heel_bar_mm / 2),
+        toe=_barset(c.toe_bar_mm, c.toe_spacing_mm, tb - covg - c.toe_bar_mm / 2),
+        stem_horizontal=_barset(dist, c.dist_spacing_mm, ts - cov - c.stem_bar_mm - dist / 2),
+        base_distribution=_barset(dist, c.dist_spacing_mm, tb - cov - c.heel_bar_mm - dist / 2),
+        stem_front=_barset(dist, c.dist_spacing_mm, ts - cov - dist / 2))
+
+
+def catalogue_section(c: CatalogueSection) -> Section:
+    return Section(stem_top_m=c.stem_top_m, stem_base_m=c.stem_base_m,
+                   base_width_m=c.base_width_m, toe_m=c.toe_m,
+                   base_thickness_m=c.base_thickness_m, key_depth_m=c.key_depth_m,
+                   key_width_m=c.key_width_m)
+
+
+def catalogue_design(demand: Demand, basis: Basis, rates,
+                     catalogue: tuple[CatalogueSection, ...]) -> SizedDesign:
+    """The cheapest catalogue type passing every check at ``demand`` with its own bars.
+
+    Each type is checked in full (stability, and ``structure.check_reinforcement`` with
+    the bars of :func:`catalogue_bars`). None passing: the type of least utilization,
+    flagged with its governing check. Beyond ``MAX_RETAINED_M``: flagged.
+    """
+    if not catalogue:
+        raise ValueError("catalogue design needs a sections.csv with at least one type")
+    evs = []
+    for c in catalogue:
+        ev = evaluate(SectionArrays.of([catalogue_section(c)]), demand, basis, rates,
+                      given=catalogue_bars(c, basis))
+        evs.append((c, ev))
+    beyond = not (0.0 < demand.h <= MAX_RETAINED_M)
+    passing = [(c, ev) for c, ev in evs if bool(ev.ok[0])]
+    if passing and not beyond:
+        c, ev = min(passing, key=lambda t: (float(t[1].cost[0]), float(t[1].utilization[0])))
+        return _sized(ev, 0, demand, basis, section_type=c.section)
+    c, ev = min(evs, key=lambda t: float(t[1].utilization[0]))
+    if beyond:
+        why = (f"retained height {demand.h:.2f} m is beyond the supported range "
+               f"(<= {MAX_RETAINED_M:g} m)")
+    else:
+        chk, comb, u = ev.governing(0)
+        why = (f"no catalogue type passes: best {c.section} fails {chk} {comb} ({u:.2f})")
+    return _sized(ev, 0, demand, basis, status="flagged", reason=why, section_type=c.section)
+
+
+# --- rationalised set ------------------------------------------------------------------
+
+def exhaustive_types(cost: np.ndarray, max_types: int) -> tuple[float, tuple[int, ...]]:
+    """Least total cost of serving every row of ``cost`` (rows: demands, columns:
+    candidate types, entries: total cost of the row with that type or inf) with at most
+    ``max_types`` columns, by enumerating every set of min(max_types, T) columns (a
+    larger set never costs more). Returns (total, columns)."""
+    n, T = cost.shape
+    k = min(max_types, T)
+    best, best_set = math.inf, ()
+    for combo in itertools.combinations(range(T), k):
+        tot = float(np.min(cost[:, list(combo)], axis=1).sum())
+        if tot < best - 1e-9:
+            best, best_set = tot, combo
+    return best, best_set
+
+
+def dp_types(cost: np.ndarray, max_types: int, order: np.ndarray | None = None):
+    """At most ``max_types`` columns serving every row of ``cost``, by dynamic
+    programming over contiguous groups of rows in ``order`` (default: rows by their
+    cheapest entry), each group served by the single column that serves it at least
+    total cost.
+
+    Optimality (claim and proof): suppose the types are *nested* in ``order``: each
+    column t serves a prefix of the ordered rows (rows 0..r_t), and of two columns
+    serving the same row the one with the shorter prefix is never dearer there. Take any
+    optimal set S; serving each row by the member of S with the shortest prefix that
+    covers it costs no more than any other assignment, and that rule assigns contiguous
+    groups of rows to the members of S in order of r_t. So an optimal solution is a
+    partition of the ordered rows into at most ``max_types`` contiguous groups, one
+    column per group; the DP below minimises over exactly those partitions (with the
+    best column per group), so its total is optimal. (A column used by two groups counts
+    once, which only helps.) Without nesting the result is a good feasible set, not
+    proven optimal. Returns (total, columns, assignment per row).
+    """
+    n, T = cost.shape
+    if order is None:
+        order = np.argsort(np.min(cost, axis=1), kind="stable")
+    C = cost[order]  # (n, T)
+    fin = np.isfinite(C)
+    Cz = np.where(fin, C, 0.0)
+    P = np.vstack([np.zeros(T), np.cumsum(Cz, axis=0)])  # prefix sums (n+1, T)
+    F = np.vstack([np.zeros(T, dtype=np.int64), np.cumsum(~fin, axis=0)])
+    # G[i, j]: best single column for rows i..j-1 (i < j)
+    G = np.full((n + 1, n + 1), math.inf)
+    Garg = np.full((n + 1, n + 1), -1, dtype=np.int64)
+    for i in range(n):
+        s = P[i + 1:] - P[i]  # (n - i, T) rows i..j-1 for j = i+1..n
+        bad = (F[i + 1:] - F[i]) > 0
+        s = np.where(bad, math.inf, s)
+        a = np.argmin(s, axis=1)
+        G[i, i + 1:] = s[np.arange(len(a)), a]
+        Garg[i, i + 1:] = a
+    K = max(1, min(max_types, n))
+    best = np.full((K + 1, n + 1), math.inf)
+    arg = np.full((K + 1, n + 1), -1, dtype=np.int64)
+    best[0, 0] = 0.0
+    for k in range(1, K + 1):
+        for j in range(1, n + 1):
+            v = best[k - 1, :j] + G[:j, j]
+            i = int(np.argmin(v))
+            best[k, j], arg[k, j] = v[i], i
+    k = int(np.argmin(best[:, n]))
+    total = float(best[k, n])
+    assign = np.full(n, -1, dtype=np.int64)
+    j = n
+    while k > 0 and j > 0 and np.isfinite(total):
+        i = int(arg[k, j])
+        assign[order[i:j]] = Garg[i, j]
+        j, k = i, k - 1
+    cols = tuple(sorted(set(int(a) for a in assign if a >= 0)))
+    return total, cols, assign
+
+
+def choose_types(cost: np.ndarray, max_types: int, order: np.ndarray | None = None,
+                 exhaustive_limit: int = 20000):
+    """At most ``max_types`` columns of ``cost`` serving every row at least total cost.
+
+    Exact by enumeration (:func:`exhaustive_types`) when the number of column sets is at
+    most ``exhaustive_limit``; otherwise :func:`dp_types` (exact for nested types, see
+    there) followed by alternating improvement (each row to its cheapest chosen column,
+    each group's column re-chosen), which never makes the total worse. Rows that no
+    column serves make the total inf. Returns (total, columns, assignment per row).
+    """
+    n, T = cost.shape
+    k = min(max_types, T)
+    if math.comb(T, k) <= exhaustive_limit:
+        total, cols = exhaustive_types(cost, max_types)
+        cols = tuple(cols)
+    else:
+        total, cols, _ = dp_types(cost, max_types, order)
+        cols = list(cols)
+        for _ in range(20):  # alternating improvement
+            assign = np.asarray(cols)[np.argmin(cost[:, cols], axis=1)]
+            new = []
+            for c in cols:
+                rows = assign == c
+                if rows.any():
+                    new.append(int(np.argmin(cost[rows].sum(axis=0))))
+            new = sorted(set(new))
+            tot_new = float(np.min(cost[:, new], axis=1).sum())
+            if tot_new < total - 1e-9:
+                total, cols = tot_new, new
+            else:
+                break
+        cols = tuple(cols)
+    if not cols:
+        return math.inf, (), np.full(n, -1)
+    sub = cost[:, list(cols)]
+    assign = np.asarray(cols)[np.argmin(sub, axis=1)]
+    assign = np.where(np.isfinite(np.min(sub, axis=1)), assign, -1)
+    return total, cols, assign
+
+
+@dataclass(frozen=True)
+class Rationalised:
+    """A rationalised set: ``types`` (SectionType-like designs, one per type, with the
+    bars every panel of the type is built with), ``type_of`` per demand given (index into
+    ``types``, -1 where no type serves), ``designs`` per demand given (each checked again
+    at that demand with its type's section and bars), and the total cost."""
+
+    types: tuple[SizedDesign, ...]
+    type_of: tuple[int, ...]
+    designs: tuple[SizedDesign, ...]
+    total_cost: float
+
+
+def _envelope_bars(rs: list[Reinforcement]) -> Reinforcement:
+    """Per member the bars of largest As,prov among ``rs`` (a type's cage serves all its
+    panels); curtailment: the highest stop (None, full height, beats any)."""
+    def pick(name):
+        sets = [getattr(r, name) for r in rs if getattr(r, name) is not None]
+        if not sets:
+            return None
+        return max(sets, key=lambda b: (b.as_prov_mm2_per_m, b.bar_mm))
+    cur = [r.stem_curtail_m for r in rs]
+    curtail = None if any(c is None for c in cur) else max(cur)
+    return Reinforcement(stem=pick("stem"), heel=pick("heel"), toe=pick("toe"),
+                         stem_horizontal=pick("stem_horizontal"),
+                         base_distribution=pick("base_distribution"),
+                         stem_front=pick("stem_front"), stem_curtail_m=curtail)
+
+
+def _steel_rank(r: Reinforcement) -> float:
+    return sum(b.as_prov_mm2_per_m for b in (r.stem, r.heel, r.toe, r.stem_horizontal,
+                                             r.base_distribution, r.stem_front) if b is not None)
+
+
+def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis, rates,
+                       max_types: int, designer: Designer | None = None) -> Rationalised:
+    """At most ``max_types`` sections covering all panels at least total cost.
+
+    1. The bespoke optimum of each distinct demand (:class:`Designer`); its section is a
+       candidate type (passing designs only; a demand flagged in bespoke stays flagged).
+    2. Cost matrix: every candidate type at every distinct demand, bars re-chosen for
+       that demand (``structure.design_reinforcement``), cost per metre x the demand's
+       total length; inf where it fails.
+    3. :func:`choose_types` (exact by enumeration for small sets, else dynamic
+       programming over demands ordered by their bespoke cost, exact for nested types).
+    4. Each chosen type gets one cage: the envelope of the bars its demands chose
+       (:func:`_envelope_bars`), or the first demand's bars that pass everywhere; every
+       demand is then checked again with ``structure.check_reinforcement`` and that
+       section and cage. A demand that fails the recheck or that no type serves is
+       flagged with the reason.
+    """
+    if len(demands) != len(lengths):
+        raise ValueError("rationalise: one length per demand")
+    designer = designer or _designer_for(basis, rates, None)
+    uniq = list(dict.fromkeys(demands))
+    idx = {d: k for k, d in enumerate(uniq)}
+    L = np.zeros(len(uniq))
+    for d, l in zip(demands, lengths):
+        L[idx[d]] += float(l)
+    own = designer.design_many(uniq)
+    ok_rows = [k for k, d in enumerate(own) if d.status == "ok"]
+    types: list[Section] = list(dict.fromkeys(own[k].section for k in ok_rows))
+    designs: list[SizedDesign | None] = [None] * len(uniq)
+    type_of = np.full(len(uniq), -1, dtype=np.int64)
+    chosen_designs: list[SizedDesign] = []
+    total = 0.0
+    if types and ok_rows:
+        S = SectionArrays.of(types)
+        cost = np.full((len(ok_rows), len(types)), math.inf)
+        bars: dict[tuple[int, int], Reinforcement] = {}
+        for r, k in enumerate(ok_rows):
+            ev = evaluate(S, uniq[k], basis, rates)
+            cost[r] = np.where(ev.ok, ev.cost * L[k], math.inf)
+            for t in np.flatnonzero(ev.ok):
+                bars[(r, int(t))] = ev.structure.reinforcement(int(t))
+        order = np.argsort([own[k].cost_per_m for k in ok_rows], kind="stable")
+        _, cols, assign = choose_types(cost, max_types, order)
+        # order the types by cost per metre at their own demand (small to large)
+        cols = sorted(cols, key=lambda t: min((cost[r, t] / L[ok_rows[r]]
+                                               for r in range(len(ok_rows))
+                                               if assign[r] == t), default=math.inf))
+        for j, t in enumerate(cols):
+            rows = [r for r in range(len(ok_rows)) if assign[r] == t]
+            if not rows:
+                continue
+            name = f"S{j + 1:02d}"
+            options = [_envelope_bars([bars[(r, t)] for r in rows])]
+            options += sorted((bars[(r, t)] for r in rows), key=_steel_rank)
+            sec1 = SectionArrays.of([types[t]])
+            chosen = None
+            for opt in options:
+                evs = [evaluate(sec1, uniq[ok_rows[r]], basis, rates, given=opt) for r in rows]
+                if all(bool(e.ok[0]) for e in evs):
+                    chosen = (opt, evs)
+                    break
+            if chosen is None:  # keep the envelope, flag the failures
+                opt = options[0]
+                chosen = (opt, [evaluate(sec1, uniq[ok_rows[r]], basis, rates, given=opt)
+                                for r in rows])
+            opt, evs = chosen
+            worst = None
+            for r, e in zip(rows, evs):
+                k = ok_rows[r]
+                if bool(e.ok[0]):
+                    sd = _sized(e, 0, uniq[k], basis, section_type=name)
+                else:
+                    chk, comb, u = e.governing(0)
+                    sd = _sized(e, 0, uniq[k], basis, status="flagged", section_type=name,
+                                reason=f"rationalised type {name} with its common bars fails "
+                                       f"{chk} {comb} ({u:.2f}) on recheck")
+                designs[k] = sd
+                type_of[k] = len(chosen_designs)
+                total += sd.cost_per_m * L[k]
+                if worst is None or sd.utilization > worst.utilization:
+                    worst = sd
+            chosen_designs.append(worst)
+    for k, d in enumerate(own):
+        if designs[k] is None:
+            if d.status == "ok":  # served by no chosen type (only when max_types too few)
+                designs[k] = SizedDesign(**{**d.__dict__, "status": "flagged",
+                                            "reason": f"no type of the rationalised set of "
+                                                      f"{max_types} serves this panel; its "
+                                                      f"own design is shown"})
+            else:
+                designs[k] = d
+            total += designs[k].cost_per_m * L[k]
+    return Rationalised(types=tuple(chosen_designs),
+                        type_of=tuple(int(type_of[idx[d]]) for d in demands),
+                        designs=tuple(designs[idx[d]] for d in demands), total_cost=total)
+
+
+def rationalise(demands: list[Demand], lengths: list[float], basis: Basis, rates,
+                max_types: int) -> list[SizedDesign]:
+    """The design of each panel from a rationalised set of at most ``max_types``
+    sections (see :func:`rationalise_detail`, which also gives the type per panel)."""
+    return list(rationalise_detail(demands, lengths, basis, rates, max_types).designs)
