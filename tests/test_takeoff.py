@@ -280,3 +280,21 @@ def test_cost_per_metre_matches_one_metre_panel():
             q["reinforcement_total"] = steel[i]
             c = cost(totals([q]), rates)
             assert got[i] == pytest.approx(c.total, rel=1e-12)
+
+
+def test_straight_panel_concrete_and_stop_end_from_the_outline():
+    # Whole cross-section of the straight panel drawn as one outline (x from the toe
+    # edge, z from the underside of the base): base 2.5 x 0.4, key 0.4 wide x 0.3 deep
+    # under the stem front face (x = 0.6), stem 0.45 -> 0.25 over 3.0.
+    outline = Polygon([(0, 0), (0.6, 0), (0.6, -0.3), (1.0, -0.3), (1.0, 0), (2.5, 0),
+                       (2.5, 0.4), (1.05, 0.4), (0.85, 3.4), (0.6, 3.4), (0.6, 0.4),
+                       (0, 0.4)])
+    assert outline.is_valid
+    q = panel_quantities(STRAIGHT, STRAIGHT_SEC, [], TK)
+    assert q["concrete_total"] == pytest.approx(outline.area * STRAIGHT.length_m, rel=1e-12)
+    assert q["formwork_stop_ends"] == pytest.approx(2 * outline.area, rel=1e-12)
+    # Stem faces from the outline's boundary: front (0.6,0.4)-(0.6,3.4), back
+    # (1.05,0.4)-(0.85,3.4).
+    from shapely.geometry import LineString
+    faces = LineString([(0.6, 0.4), (0.6, 3.4)]).length + LineString([(1.05, 0.4), (0.85, 3.4)]).length
+    assert q["formwork_stem"] == pytest.approx(faces * STRAIGHT.length_m, rel=1e-12)
