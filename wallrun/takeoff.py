@@ -345,7 +345,7 @@ def _norm_unit(u: str) -> str:
             .replace("^", "").replace(" ", ""))
 
 
-def _rate_table(rates: Iterable[Rate], needed: Iterable[str] = ()) -> dict[str, float]:
+def _rate_table(rates: Iterable[Rate]) -> dict[str, float]:
     """``{item: rate}`` checked against the item units; InputError naming ``rates.csv``.
 
     A rate for an item wallrun does not know, or for an item the job does not have, is
