@@ -1,0 +1,559 @@
+"""Structural design of the stem, heel and toe to EN 1992-1-1 for many candidates at once.
+
+Design-basis section 5. Inputs are the ULS member actions of the stability engine
+(:class:`wallrun.members.MemberActions`), the quasi-permanent moments per member and
+the basis; nothing here computes soil pressures.
+
+Layout of the bars (per metre run of wall, b = 1000 mm strips):
+
+- stem: vertical main bars at the back (retained) face, outermost, cover
+  ``concrete.cover_mm``; d = t_stem_base - cover - phi/2 at the top of the base.
+- stem_front: vertical bars of the front face; they also resist any reverse (negative)
+  stem moment.
+- heel: top mat of the base (transverse bars across the full base width), cover
+  ``cover_mm``; it resists the positive heel moment and any reverse toe moment.
+- toe: bottom mat (full base width), cover ``cover_ground_mm``; it resists the positive
+  toe moment and any reverse heel moment.
+- stem_horizontal: horizontal bars, each face, inside the verticals.
+- base_distribution: bars along the wall in each mat, inside the transverse bars.
+
+Choices where the design basis is silent (also in the final report):
+
+- A face whose design moment is > 0 needs As,min of 9.2.1.1 (the main faces always;
+  the stem front face only where the stem moment reverses). Stem front vertical steel
+  >= 0.001 Ac with Ac = 1000 t_stem_base per metre.
+- Stem horizontal: each face >= half of max(0.25 (As,back + As,front), 0.001 Ac),
+  Ac = 1000 t_stem_base per metre height. Base distribution: each mat >= 0.2 x the
+  larger main mat area.
+- Vertical stem bars and both base mats use the principal-bar spacing limit
+  min(3h, 400); stem horizontal and base distribution the secondary limit
+  min(3.5h, 450) (9.3.1.1(3)).
+- crack_spacing reports the bar spacing against the allowed spacing: the detailing
+  limit, further limited by Table 7.3N when the diameter route (Table 7.2N, Eq. 7.6N)
+  does not pass at the quasi-permanent steel stress (7.3.3(2): either route suffices).
+- min_steel also carries entries ``"<member>, As,max"`` (effect As,prov vs 0.04 Ac).
+- Bending utilization: M_Ed / M_Rd of the provided bars of the face in tension; M_Rd
+  is capped at K' b d^2 fck, so K > K' (too thin) always fails.
+- Where no bar option meets every requirement the largest bar at the smallest spacing
+  is chosen and the checks report the shortfall.
+- The heel top bars are taken in poor bond conditions (eta1 = 0.7, Fig. 8.2, base
+  thicker than 250 mm is typical); every other bar in good bond.
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from wallrun.codes import ec2
+from wallrun.members import MemberActions
+from wallrun.results import BarSet, CheckArray, Reinforcement
+from wallrun.section import SectionArrays
+from wallrun.settings import Basis
+
+CL_BENDING = "EN 1992-1-1 6.1, 3.1.7"
+CL_SHEAR = "EN 1992-1-1 6.2.2"
+CL_CRACK = "EN 1992-1-1 7.3.3, 9.3.1.1(3)"
+CL_MIN = "EN 1992-1-1 9.2.1.1"
+CL_MIN_WALL = "EN 1992-1-1 9.6.2, 9.6.3"
+CL_MIN_DIST = "EN 1992-1-1 9.3.1.1(2)"
+STOCK_LENGTH_MM = 12000.0  # longest bar supplied, common practice
+
+FACES = ("stem", "stem_front", "heel", "toe", "stem_horizontal", "base_distribution")
+
+
+@dataclass(frozen=True)
+class BarArrays:
+    """Bars of one face for n candidates: diameter and spacing mm, areas mm2/m, d mm."""
+
+    bar_mm: np.ndarray
+    spacing_mm: np.ndarray
+    as_prov: np.ndarray
+    as_req: np.ndarray
+    d_mm: np.ndarray
+
+    def take(self, i: int) -> BarSet:
+        return BarSet(int(self.bar_mm[i]), int(self.spacing_mm[i]),
+                      round(float(self.as_prov[i]), 1), round(float(self.as_req[i]), 1),
+                      round(float(self.d_mm[i]), 1))
+
+
+@dataclass(frozen=True)
+class StructureResult:
+    """Reinforcement and EC2 checks of n candidates.
+
+    checks: stem_bending, stem_shear, heel_bending, heel_shear, toe_bending, toe_shear
+    (one per (combination, case) of the actions), crack_spacing and min_steel
+    (combination ``SLS``, case the face). steel_kg_per_m: approximate steel mass per
+    metre run of wall, kg/m. stem_curtail_m: height above the top of the base where
+    half the stem main bars stop, m (nan: no curtailment).
+    """
+
+    checks: list[CheckArray]
+    steel_kg_per_m: np.ndarray
+    bars: dict[str, BarArrays] = field(default_factory=dict)
+    stem_curtail_m: np.ndarray | None = None
+
+    def reinforcement(self, i: int) -> Reinforcement:
+        c = None
+        if self.stem_curtail_m is not None and np.isfinite(self.stem_curtail_m[i]):
+            c = float(self.stem_curtail_m[i])
+        b = self.bars
+        return Reinforcement(stem=b["stem"].take(i), heel=b["heel"].take(i), toe=b["toe"].take(i),
+                             stem_horizontal=b["stem_horizontal"].take(i),
+                             base_distribution=b["base_distribution"].take(i),
+                             stem_front=b["stem_front"].take(i), stem_curtail_m=c)
+
+
+# --- bar options ------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class _Options:
+    phi: np.ndarray  # (m,) sorted cheapest first: least area, ties to wider spacing
+    s: np.ndarray
+    As: np.ndarray
+    fallback: int  # largest bar at the smallest spacing
+    sizes: np.ndarray  # (k,) bar sizes ascending
+    spacings: np.ndarray  # (l,) spacings ascending
+    index: np.ndarray  # (k, l) option index of (size, spacing)
+
+
+def _options(basis: Basis) -> _Options:
+    return _options_of(tuple(basis.steel.bar_sizes_mm), tuple(basis.steel.spacings_mm))
+
+
+@functools.lru_cache(maxsize=32)
+def _options_of(bar_sizes, spacings) -> _Options:
+    phis, ss = np.meshgrid(np.asarray(bar_sizes, dtype=float),
+                           np.asarray(spacings, dtype=float), indexing="ij")
+    phi, s = phis.ravel(), ss.ravel()
+    As = ec2.area_per_m(phi, s)
+    order = np.lexsort((-s, np.round(As, 6)))
+    phi, s, As = phi[order], s[order], As[order]
+    fb = int(np.flatnonzero((phi == phi.max()) & (s == s[phi == phi.max()].min()))[0])
+    sizes = np.unique(phi)
+    spacings = np.unique(s)
+    index = np.full((len(sizes), len(spacings)), -1, dtype=int)
+    index[np.searchsorted(sizes, phi), np.searchsorted(spacings, s)] = np.arange(len(phi))
+    return _Options(phi, s, As, fb, sizes, spacings, index)
+
+
+def _pick(feasible: np.ndarray, fallback: int) -> np.ndarray:
+    """Index of the first (cheapest) feasible option per row, else the fallback."""
+    idx = np.argmax(feasible, axis=1)
+    return np.where(feasible[np.arange(feasible.shape[0]), idx], idx, fallback)
+
+
+def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+    """Cheapest option per candidate for a face in bending, every option tested, (n, m).
+
+    The reference (and the path for the rows that fail crack control at their cheapest
+    option). Arrays (n,) in, option indices (n,) out.
+    """
+    c = basis.concrete
+    phi, s, As = opt.phi[None, :], opt.s[None, :], opt.As[None, :]
+    hh = h[:, None]
+    d = hh - cover - phi / 2.0
+    ok = (As <= ec2.as_max(hh)) & (s <= ec2.max_spacing_main(hh)) & (d > 0)
+    ok &= As >= as_extra[:, None]
+    ok &= ec2.moment_resistance(As, d, fck, basis.steel.fyk_mpa, c.alpha_cc) >= M_req[:, None]
+    ok &= ~need_asmin[:, None] | (As >= ec2.as_min_beam(d, fck, basis.steel.fyk_mpa))
+    if np.any(M_qp > 0):
+        sig = ec2.steel_stress_cracked(M_qp[:, None], As, d, ec2.alpha_e_long_term(fck))
+        ok &= ec2.crack_control_ok(sig, s, phi, hh, d, fck, basis.design.crack_width_mm)
+    return _pick(ok, opt.fallback)
+
+
+def _cheapest_per_size(opt: _Options, need, s_limit, h):
+    """Cheapest option per candidate meeting an area ``need`` (n, k) per bar size and a
+    spacing limit (n,): for each bar size the widest listed spacing giving the area,
+    then the least area over the sizes (ties to the wider spacing). Returns option
+    indices (n,) into ``opt`` (fallback where nothing fits), and a found flag."""
+    sizes = opt.sizes
+    sp = opt.spacings  # ascending
+    a_bar = ec2.bar_area(sizes)[None, :]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s_allow = np.where(need > 0, 1000.0 * a_bar / need, np.inf)
+    s_allow = np.minimum(s_allow, s_limit[:, None])
+    j = np.searchsorted(sp, s_allow, side="right") - 1  # (n, k) largest spacing <= allow
+    found = j >= 0
+    jj = np.clip(j, 0, len(sp) - 1)
+    s_c = sp[jj]
+    A = 1000.0 * a_bar / s_c
+    found &= A <= ec2.as_max(h)[:, None]
+    key = np.where(found, np.round(A, 6), np.inf)
+    best = key.min(axis=1, keepdims=True)
+    # among the sizes with the least area, the widest spacing
+    cand = found & (key == best)
+    k_best = np.argmax(np.where(cand, s_c, -1.0), axis=1)
+    any_found = found.any(axis=1)
+    rows = np.arange(need.shape[0])
+    idx = opt.index[k_best, jj[rows, k_best]]
+    return np.where(any_found, idx, opt.fallback), any_found
+
+
+def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+    """Cheapest option per candidate for a face in bending (same result as
+    :func:`_choose_main_full`, computed per bar size, (n, k), then crack control at the
+    chosen option; rows failing it are redone over every option)."""
+    fyk, acc = basis.steel.fyk_mpa, basis.concrete.alpha_cc
+    sizes = opt.sizes[None, :]
+    hh = h[:, None]
+    d = hh - cover - sizes / 2.0
+    K = ec2.k_factor(M_req[:, None], d, fck)
+    need = np.where(K <= ec2.k_limit(acc), ec2.as_required(M_req[:, None], d, fck, fyk, acc) * (1 + 1e-9),
+                    np.inf)
+    need = np.where(d > 0, need, np.inf)
+    need = np.maximum(need, np.where(need_asmin[:, None], ec2.as_min_beam(d, fck, fyk), 0.0))
+    need = np.maximum(need, as_extra[:, None])
+    idx, found = _cheapest_per_size(opt, need, ec2.max_spacing_main(h), h)
+    if np.any(M_qp > 0):
+        phi, s, As = opt.phi[idx], opt.s[idx], opt.As[idx]
+        dc = h - cover - phi / 2.0
+        sig = ec2.steel_stress_cracked(M_qp, As, dc, ec2.alpha_e_long_term(fck))
+        bad = found & ~ec2.crack_control_ok(sig, s, phi, h, dc, fck, basis.design.crack_width_mm)
+        if bad.any():
+            r = np.flatnonzero(bad)
+            idx = idx.copy()
+            idx[r] = _choose_main_full(opt, h[r], cover, M_req[r], M_qp[r], as_extra[r], need_asmin[r],
+                                       fck, basis)
+    return idx
+
+
+def _choose_secondary(opt: _Options, h, as_need):
+    """Cheapest option meeting an area and the secondary spacing limit."""
+    need = np.broadcast_to(as_need[:, None], (len(h), len(opt.sizes)))
+    return _cheapest_per_size(opt, need, ec2.max_spacing_secondary(h), h)[0]
+
+
+# --- envelopes --------------------------------------------------------------------------
+
+def _envelopes(actions: list[MemberActions], n: int):
+    pos = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
+    neg = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
+    for a in actions:
+        M = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
+        pos[a.member] = np.maximum(pos[a.member], M)
+        neg[a.member] = np.maximum(neg[a.member], -M)
+    return pos, neg
+
+
+def _qp(qp: dict, n: int):
+    return {m: np.broadcast_to(np.asarray(qp.get(m, 0.0), dtype=float), (n,)) for m in ("stem", "heel", "toe")}
+
+
+# --- public -------------------------------------------------------------------------------
+
+def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: dict[str, np.ndarray],
+                         basis: Basis, stem_moment_at=None, stem_height_m=None) -> StructureResult:
+    """Choose the cheapest bars per candidate and check them (design-basis section 5).
+
+    sec: n candidates; actions: ULS MemberActions (kNm/m, kN/m); qp: quasi-permanent
+    moments per member ``stem``/``heel``/``toe``, kNm/m; stem_moment_at(y): ULS envelope
+    stem moment at depth y (m, array (n,)) below the top of the checked stem, kNm/m, for
+    curtailment; stem_height_m: height of the checked stem from the top of the base to
+    z_top, m, float or (n,) (estimated from stem_moment_at, or from M/V, when omitted:
+    it only enters the steel mass and the curtailment).
+    """
+    n = len(sec)
+    fck = ec2.fck_of_class(basis.concrete.strength_class)
+    opt = _options(basis)
+    cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+    t_base = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
+    pos, neg = _envelopes(actions, n)
+    q = _qp(qp, n)
+    zero = np.zeros(n)
+    false = np.zeros(n, dtype=bool)
+    true = ~false
+
+    i_back = _choose_main(opt, t_stem, cv, pos["stem"], np.maximum(q["stem"], 0), zero, true, fck, basis)
+    i_front = _choose_main(opt, t_stem, cv, neg["stem"], np.maximum(-q["stem"], 0), 0.001 * 1000 * t_stem,
+                           neg["stem"] > 0, fck, basis)
+    top_M = np.maximum(pos["heel"], neg["toe"])
+    bot_M = np.maximum(pos["toe"], neg["heel"])
+    top_qp = np.maximum(np.maximum(q["heel"], -q["toe"]), 0)
+    bot_qp = np.maximum(np.maximum(q["toe"], -q["heel"]), 0)
+    i_top = _choose_main(opt, t_base, cv, top_M, top_qp, zero, true, fck, basis)
+    i_bot = _choose_main(opt, t_base, cg, bot_M, bot_qp, zero, true, fck, basis)
+    need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
+    i_hor = _choose_secondary(opt, t_stem, need_h)
+    need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
+    i_dist = _choose_secondary(opt, t_base, need_d)
+    chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
+              zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
+    return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, (pos, neg))
+
+
+def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: dict[str, np.ndarray],
+                        basis: Basis, given: Reinforcement, stem_moment_at=None,
+                        stem_height_m=None) -> StructureResult:
+    """Check given bars (a catalogue type) with the checks of :func:`design_reinforcement`.
+
+    Where ``given.stem_front`` is None (the catalogue lists no front-face bars) the
+    front face is designed as in :func:`design_reinforcement`.
+    """
+    n = len(sec)
+    full = lambda v: np.full(n, float(v))  # noqa: E731
+    chosen = {"stem": (full(given.stem.bar_mm), full(given.stem.spacing_mm)),
+              "heel": (full(given.heel.bar_mm), full(given.heel.spacing_mm)),
+              "toe": (full(given.toe.bar_mm), full(given.toe.spacing_mm)),
+              "stem_horizontal": (full(given.stem_horizontal.bar_mm), full(given.stem_horizontal.spacing_mm)),
+              "base_distribution": (full(given.base_distribution.bar_mm),
+                                    full(given.base_distribution.spacing_mm))}
+    if given.stem_front is not None:
+        chosen["stem_front"] = (full(given.stem_front.bar_mm), full(given.stem_front.spacing_mm))
+    else:
+        fck = ec2.fck_of_class(basis.concrete.strength_class)
+        opt = _options(basis)
+        t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+        _, neg = _envelopes(actions, n)
+        q = _qp(qp, n)
+        i = _choose_main(opt, t_stem, basis.concrete.cover_mm, neg["stem"], np.maximum(-q["stem"], 0),
+                         0.001 * 1000 * t_stem, neg["stem"] > 0, fck, basis)
+        chosen["stem_front"] = (opt.phi[i], opt.s[i])
+    return _evaluate(sec, actions, _qp(qp, n), basis, chosen, stem_moment_at, stem_height_m)
+
+
+def _horizontal_need(As_back, As_front, t_stem):
+    """Stem horizontal steel per face, mm2/m: half of max(0.25 As,vert, 0.001 Ac) (9.6.3, basis 5)."""
+    return 0.5 * np.maximum(0.25 * (As_back + As_front), 0.001 * 1000.0 * t_stem)
+
+
+def _distribution_need(As_top, As_bot):
+    """Base distribution steel per mat, mm2/m: 20 % of the larger main mat (9.3.1.1(2))."""
+    return 0.2 * np.maximum(As_top, As_bot)
+
+
+# --- detailing helpers shared with bars.py ---------------------------------------------------
+
+def starter_embedment_mm(t_base_mm, cover_ground_mm, phi_bottom_mm, phi_dist_mm):
+    """Vertical leg of a stem starter inside the base, mm: from the top of the base down to
+    the level where the foot rests on the bottom mat (the transverse bottom bars and the
+    distribution bars beneath the foot)."""
+    return t_base_mm - cover_ground_mm - phi_bottom_mm - phi_dist_mm
+
+
+def starter_foot_mm(phi, lbd, embed):
+    """Foot (horizontal leg) of a stem starter, mm: the embedment below the top of the base
+    plus the foot gives at least lbd (8.4.4, alpha factors 1.0), and the foot is at least
+    12 phi (wallrun's detailing minimum, common practice for a foot that can be tied)."""
+    return np.maximum(lbd - embed, 12.0 * np.asarray(phi, dtype=float))
+
+
+def _estimate_stem_height(actions, n, stem_moment_at, pos):
+    """Checked stem height, m, when the caller did not give it.
+
+    With stem_moment_at: the depth where the envelope moment reaches the stem-base
+    envelope moment (bisection; the moment grows with depth). Otherwise 2.5 M/V of the
+    stem action with the largest moment (M/V lies between h/3 for a triangle and h/2
+    for a uniform pressure).
+    """
+    M = pos["stem"]
+    if stem_moment_at is not None:
+        lo, hi = np.zeros(n), np.full(n, 0.5)
+        for _ in range(8):  # grow hi until M(hi) >= M
+            grow = np.asarray(stem_moment_at(hi), dtype=float) < M
+            if not grow.any():
+                break
+            hi = np.where(grow, hi * 2.0, hi)
+        for _ in range(30):
+            mid = 0.5 * (lo + hi)
+            low = np.asarray(stem_moment_at(mid), dtype=float) < M
+            lo, hi = np.where(low, mid, lo), np.where(low, hi, mid)
+        return hi
+    best_M, best_V = np.zeros(n), np.zeros(n)
+    for a in actions:
+        if a.member != "stem":
+            continue
+        Ma = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
+        Va = np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))
+        more = Ma > best_M
+        best_M, best_V = np.where(more, Ma, best_M), np.where(more, Va, best_V)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(best_V > 0, 2.5 * best_M / np.where(best_V > 0, best_V, 1.0), 0.0)
+
+
+def _curtailment(sec, basis, fck, phi, s, As, h_s, stem_moment_at, M_base, qp_base):
+    """Height above the top of the base where half the stem main bars may stop, m (nan: none).
+
+    Theoretical cut: the height where the ULS envelope moment falls to the resistance of
+    half the bars (with d of the tapered stem there); stop = cut + a_l + lbd with
+    a_l = d at the base (9.2.1.3(2), conservative) and lbd of 8.4.4. Curtailment is
+    refused where the remaining bars at 2 s would break the spacing limit min(3h, 400) at
+    the stem top, or fail crack control (the quasi-permanent moment at the stop point
+    taken as the ULS moment there x qp/ULS at the base), and the stop point is raised to
+    where half the bars satisfy As,min of 9.2.1.1. nan where the stop is at or above the
+    stem top less the cover.
+    """
+    n = len(sec)
+    c = basis.concrete.cover_mm
+    fyk = basis.steel.fyk_mpa
+    tb = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+    tt = np.asarray(sec.stem_top_m, dtype=float) * 1000.0
+    hs = np.asarray(h_s, dtype=float) * 1000.0  # mm
+    half = As / 2.0
+
+    def d_at_depth(y_mm):  # d of the back bars at depth y below z_top
+        with np.errstate(divide="ignore", invalid="ignore"):
+            frac = np.where(hs > 0, np.clip(y_mm / np.where(hs > 0, hs, 1.0), 0, 1), 1.0)
+        return tt + (tb - tt) * frac - c - phi / 2.0
+
+    lo, hi = np.zeros(n), hs.copy()
+    for _ in range(24):  # g(y) = M(y) - MRd,half(y) grows with depth y
+        mid = 0.5 * (lo + hi)
+        g = (np.asarray(stem_moment_at(mid / 1000.0), dtype=float)
+             - ec2.moment_resistance(half, d_at_depth(mid), fck, fyk, basis.concrete.alpha_cc))
+        lo, hi = np.where(g <= 0, mid, lo), np.where(g <= 0, hi, mid)
+    y_cut = lo
+    g_base = M_base - ec2.moment_resistance(half, d_at_depth(hs), fck, fyk, basis.concrete.alpha_cc)
+    y_cut = np.where(g_base <= 0, hs, y_cut)
+    d_base = tb - c - phi / 2.0
+    lbd = ec2.anchorage_length(phi, fck, fyk, True)
+    stop = (hs - y_cut) + d_base + lbd  # height above the top of the base, mm
+    # As,min of the half bars: d at the stop must not exceed d_allow
+    rate = np.maximum(0.26 * ec2.fctm(fck) / fyk, 0.0013) * 1000.0
+    d_allow = half / rate
+    # d(z) = tb - (tb - tt) z / hs - c - phi/2 <= d_allow  ->  z >= ...
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z_min = np.where(tb > tt, (tb - c - phi / 2.0 - d_allow) * hs / np.where(tb > tt, tb - tt, 1.0),
+                         np.where(d_base <= d_allow, 0.0, np.inf))
+    stop = np.maximum(stop, z_min)
+    # crack control of the half bars at the stop point (qp moment scaled from the base)
+    y_stop = np.clip(hs - stop, 0.0, None)
+    M_stop = np.asarray(stem_moment_at(y_stop / 1000.0), dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(M_base > 0, np.maximum(qp_base, 0) / np.where(M_base > 0, M_base, 1.0), 0.0)
+    d_stop = d_at_depth(y_stop)
+    t_stop = d_stop + c + phi / 2.0
+    sig = ec2.steel_stress_cracked(M_stop * ratio, half, d_stop, ec2.alpha_e_long_term(fck))
+    crack_ok = ec2.crack_control_ok(sig, 2 * s, phi, t_stop, d_stop, fck, basis.design.crack_width_mm)
+    ok = (2 * s <= ec2.max_spacing_main(tt)) & crack_ok & (stop < hs - c) & (hs > 0)
+    stop_m = np.ceil(np.round(stop / 50.0, 6)) * 0.05  # rounded up to 50 mm
+    return np.where(ok & (stop_m * 1000.0 < hs - c), stop_m, np.nan)
+
+
+def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env=None) -> StructureResult:
+    n = len(sec)
+    fck = ec2.fck_of_class(basis.concrete.strength_class)
+    fyk, acc, wk = basis.steel.fyk_mpa, basis.concrete.alpha_cc, basis.design.crack_width_mm
+    cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+    t_base = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
+    pos, neg = env if env is not None else _envelopes(actions, n)
+    ae = ec2.alpha_e_long_term(fck)
+
+    phi = {f: np.asarray(chosen[f][0], dtype=float) for f in FACES}
+    s = {f: np.asarray(chosen[f][1], dtype=float) for f in FACES}
+    As = {f: ec2.area_per_m(phi[f], s[f]) for f in FACES}
+    h = {"stem": t_stem, "stem_front": t_stem, "heel": t_base, "toe": t_base,
+         "stem_horizontal": t_stem, "base_distribution": t_base}
+    d = {"stem": t_stem - cv - phi["stem"] / 2, "stem_front": t_stem - cv - phi["stem_front"] / 2,
+         "heel": t_base - cv - phi["heel"] / 2, "toe": t_base - cg - phi["toe"] / 2,
+         "stem_horizontal": t_stem - cv - phi["stem"] - phi["stem_horizontal"] / 2,
+         "base_distribution": t_base - cv - phi["heel"] - phi["base_distribution"] / 2}
+    MRd = {f: ec2.moment_resistance(As[f], d[f], fck, fyk, acc) for f in ("stem", "stem_front", "heel", "toe")}
+    VRd = {f: ec2.shear_resistance(As[f], d[f], fck) for f in ("stem", "stem_front", "heel", "toe")}
+    main_face = {"stem": "stem", "heel": "heel", "toe": "toe"}
+    opp_face = {"stem": "stem_front", "heel": "toe", "toe": "heel"}
+
+    checks: list[CheckArray] = []
+    for a in actions:
+        M = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
+        V = np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))
+        p = M >= 0
+        mf, of = main_face[a.member], opp_face[a.member]
+        checks.append(CheckArray(f"{a.member}_bending", a.combination, a.case, "kNm/m", CL_BENDING,
+                                 np.abs(M), np.where(p, MRd[mf], MRd[of])))
+        checks.append(CheckArray(f"{a.member}_shear", a.combination, a.case, "kN/m", CL_SHEAR,
+                                 np.abs(V), np.where(p, VRd[mf], VRd[of])))
+
+    # demands per face: ULS moment and quasi-permanent moment on the face in tension
+    M_face = {"stem": pos["stem"], "stem_front": neg["stem"],
+              "heel": np.maximum(pos["heel"], neg["toe"]), "toe": np.maximum(pos["toe"], neg["heel"])}
+    qp_face = {"stem": np.maximum(q["stem"], 0), "stem_front": np.maximum(-q["stem"], 0),
+               "heel": np.maximum(np.maximum(q["heel"], -q["toe"]), 0),
+               "toe": np.maximum(np.maximum(q["toe"], -q["heel"]), 0)}
+    inf = np.full(n, np.inf)
+    for f in ("stem", "stem_front", "heel", "toe"):
+        sig = ec2.steel_stress_cracked(qp_face[f], As[f], d[f], ae)
+        dia_ok = phi[f] <= ec2.max_bar_diameter(sig, h[f], d[f], fck, wk)
+        s_crack = np.where((sig <= 0) | dia_ok, inf, ec2.max_bar_spacing(sig, wk))
+        checks.append(CheckArray("crack_spacing", "SLS", f, "mm", CL_CRACK, s[f],
+                                 np.minimum(ec2.max_spacing_main(h[f]), s_crack)))
+    for f in ("stem_horizontal", "base_distribution"):
+        checks.append(CheckArray("crack_spacing", "SLS", f, "mm", "EN 1992-1-1 9.3.1.1(3)", s[f],
+                                 ec2.max_spacing_secondary(h[f])))
+
+    as_min = {f: ec2.as_min_beam(d[f], fck, fyk) for f in ("stem", "heel", "toe")}
+    as_min["stem_front"] = np.maximum(0.001 * 1000 * t_stem,
+                                      np.where(neg["stem"] > 0, ec2.as_min_beam(d["stem_front"], fck, fyk), 0))
+    as_min["stem_horizontal"] = _horizontal_need(As["stem"], As["stem_front"], t_stem)
+    as_min["base_distribution"] = _distribution_need(As["heel"], As["toe"])
+    clause = {"stem": CL_MIN, "heel": CL_MIN, "toe": CL_MIN, "stem_front": CL_MIN_WALL,
+              "stem_horizontal": CL_MIN_WALL, "base_distribution": CL_MIN_DIST}
+    for f in FACES:
+        checks.append(CheckArray("min_steel", "SLS", f, "mm2/m", clause[f], as_min[f], As[f]))
+    for f in ("stem", "stem_front", "heel", "toe"):
+        checks.append(CheckArray("min_steel", "SLS", f"{f}, As,max", "mm2/m", "EN 1992-1-1 9.2.1.1(3)",
+                                 As[f], ec2.as_max(h[f])))
+
+    # reported requirement per face
+    as_req = {f: np.maximum(ec2.as_required(M_face[f], d[f], fck, fyk, acc), as_min[f])
+              for f in ("stem", "stem_front", "heel", "toe")}
+    as_req["stem_horizontal"] = as_min["stem_horizontal"]
+    as_req["base_distribution"] = as_min["base_distribution"]
+    bars = {f: BarArrays(phi[f], s[f], As[f], as_req[f], d[f]) for f in FACES}
+
+    # stem height, curtailment and mass
+    if stem_height_m is None:
+        h_s = _estimate_stem_height(actions, n, stem_moment_at, pos)
+    else:
+        h_s = np.broadcast_to(np.asarray(stem_height_m, dtype=float), (n,))
+    curtail = None
+    if stem_moment_at is not None:
+        curtail = _curtailment(sec, basis, fck, phi["stem"], s["stem"], As["stem"], h_s, stem_moment_at,
+                               pos["stem"], q["stem"])
+    kg = _steel_mass(sec, basis, fck, phi, s, h_s, curtail)
+    return StructureResult(checks=checks, steel_kg_per_m=kg, bars=bars, stem_curtail_m=curtail)
+
+
+def _steel_mass(sec, basis, fck, phi, s, h_s, curtail):
+    """Approximate steel mass per metre run of wall, kg/m (for the search cost).
+
+    Stem vertical bars of both faces: L-shaped starters (embedment + foot + lap l0) plus
+    bars over the checked stem height (curtailed half bars to their stop); horizontal bars
+    both faces over the stem height, +l0 per 12 m stock length; both base mats across the
+    base width less covers; distribution bars both mats, +l0 per 12 m; key U-bars at the
+    toe bar spacing. Freeboard stem above z_top is not known here and is left out.
+    """
+    fyk = basis.steel.fyk_mpa
+    cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    B = np.asarray(sec.base_width_m, dtype=float) * 1000.0
+    tb = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
+    hs = np.asarray(h_s, dtype=float) * 1000.0
+    mpm = {f: ec2.mass_per_m(phi[f]) for f in FACES}
+    embed = starter_embedment_mm(tb, cg, phi["toe"], phi["base_distribution"])
+    total = np.zeros(len(sec))
+    for f in ("stem", "stem_front"):
+        lbd = ec2.anchorage_length(phi[f], fck, fyk, True)
+        l0 = ec2.lap_length(phi[f], fck, fyk, True)
+        starter = embed + starter_foot_mm(phi[f], lbd, embed) + l0
+        upper = np.maximum(hs - cv, 0.0)
+        if f == "stem" and curtail is not None:
+            upper = np.where(np.isfinite(curtail), 0.5 * upper + 0.5 * np.nan_to_num(curtail) * 1000.0, upper)
+        total += mpm[f] * (1000.0 / s[f]) * (starter + upper) / 1000.0
+    lap_frac = lambda f: 1.0 + ec2.lap_length(phi[f], fck, fyk, f != "base_distribution") / STOCK_LENGTH_MM  # noqa: E731
+    n_hor = np.floor(np.maximum(hs - 2 * cv, 0.0) / s["stem_horizontal"]) + 1
+    total += 2 * n_hor * mpm["stem_horizontal"] * lap_frac("stem_horizontal")
+    for f in ("heel", "toe"):
+        total += mpm[f] * (1000.0 / s[f]) * (B - 2 * cv) / 1000.0
+    n_dist = np.floor(np.maximum(B - 2 * cv, 0.0) / s["base_distribution"]) + 1
+    total += 2 * n_dist * mpm["base_distribution"] * lap_frac("base_distribution")
+    kd = np.asarray(sec.key_depth_m, dtype=float) * 1000.0
+    kw = np.asarray(sec.key_width_m, dtype=float) * 1000.0
+    key_len = 2 * (kd + tb - cg - cv) + np.maximum(kw - 2 * cg, 0)
+    total += np.where(kd > 0, mpm["toe"] * (1000.0 / s["toe"]) * key_len / 1000.0, 0.0)
+    return total
