@@ -103,6 +103,7 @@ L_TITLES = "WALLRUN-CELL-TITLES"
 L_FRAME = "WALLRUN-SHEET-FRAME"
 L_NOTES = "WALLRUN-CAUTIONS"
 
+SECTION_GROUP_PREFIX = "WALLRUN-SECTION-"  # DXF group per section type
 TEXT_STYLE = "WALLRUN-LETTERING"
 DIM_STYLE = "WALLRUN-SIZING"
 TEXT_MM = 2.5  # ordinary text height on paper, mm
@@ -261,17 +262,25 @@ def title_block(msp, right_bottom, scale: int, project, drawing: str,
     return x0, y0, x1, y1
 
 
-def notes_block(msp, right_top, scale: int, extra: tuple[str, ...] = ()):
-    """Notes with the cautions as one MTEXT whose upper right corner is ``right_top``;
-    returns the MTEXT."""
-    lines = ["NOTES AND CAUTIONS"] + [f"{i}. {t}" for i, t in
-                                      enumerate(CAUTION_LINES + tuple(extra), start=1)]
-    m = msp.add_mtext("\\P".join(lines), dxfattribs={
-        "layer": L_NOTES, "style": TEXT_STYLE, "char_height": paper(TEXT_MM, scale),
-        "width": paper(NOTES_W_MM, scale)})
-    m.set_location((float(right_top[0]) - paper(NOTES_W_MM, scale), float(right_top[1])),
-                   attachment_point=ezdxf.enums.MTextEntityAlignment.TOP_LEFT)
-    return m
+def notes_block(msp, right_top, scale: int, extra: tuple[str, ...] = ()) -> float:
+    """Notes with the cautions, as TEXT lines wrapped to NOTES_W_MM, whose upper right
+    corner is ``right_top``; returns the y of the last line (m)."""
+    import textwrap
+
+    p = lambda mm: paper(mm, scale)  # noqa: E731
+    x0 = float(right_top[0]) - p(NOTES_W_MM)
+    y = float(right_top[1]) - p(TEXT_MM)
+    add_text(msp, "NOTES AND CAUTIONS", (x0, y), p(TEXT_MM), L_NOTES, TextEntityAlignment.LEFT)
+    width = int(NOTES_W_MM / (0.78 * SMALL_MM))  # DejaVu Sans: ~0.7 h per character
+    for i, t in enumerate(CAUTION_LINES + tuple(extra), start=1):
+        lines = textwrap.wrap(t, width - 4)
+        for k, line in enumerate(lines):
+            y -= p(SMALL_MM * 1.7)
+            if k == 0:
+                add_text(msp, f"{i}.", (x0, y), p(SMALL_MM), L_NOTES, TextEntityAlignment.LEFT)
+            add_text(msp, line, (x0 + p(4), y), p(SMALL_MM), L_NOTES, TextEntityAlignment.LEFT)
+        y -= p(0.8)
+    return y
 
 
 def sheet_furniture(msp, right_bottom, scale: int, project, drawing: str, scale_text: str,

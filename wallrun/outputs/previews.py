@@ -1,0 +1,168 @@
+"""Previews readable without CAD, rendered from the DXF files themselves.
+
+``elevation.png`` (1800 x 600 px, white background; a long wall in up to 8 stacked
+strips of consecutive chainage) from ``elevation.dxf`` and
+``sections.pdf`` (one A3 landscape page per section type, then one page with the whole
+sheet) from ``sections.dxf``, drawn by ezdxf's drawing add-on through matplotlib's Agg
+backend, so the previews show exactly what the DXF holds.
+
+A very long elevation (more than ``MAX_ELEVATION_TEXTS`` TEXT entities) is previewed
+without the per-panel and per-joint names, which cannot be read at 1800 px anyway,
+and with its lines drawn solid (linetype patterns of thousands of short lines are
+slow to render and invisible at that size); every line is still drawn.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+
+import ezdxf  # noqa: E402
+from ezdxf.addons.drawing import Frontend, RenderContext  # noqa: E402
+from ezdxf.addons.drawing.config import (BackgroundPolicy, Configuration,  # noqa: E402
+                                         LinePolicy)
+from ezdxf.addons.drawing.matplotlib import MatplotlibBackend  # noqa: E402
+from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: E402
+from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
+import matplotlib.image as mpimg  # noqa: E402
+import numpy as np  # noqa: E402
+
+from wallrun.outputs import drafting as d  # noqa: E402
+
+ELEVATION_PX = (1800, 600)
+DPI = 100
+MAX_ELEVATION_TEXTS = 1500
+MAX_STRIPS = 8
+A3_IN = (16.54, 11.69)
+
+_CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,
+                        lineweight_scaling=0.6)
+
+
+def _figure(size_in):
+    fig = Figure(figsize=size_in, dpi=DPI, facecolor="white")
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
+    ax.set_axis_off()
+    ax.set_facecolor("white")
+    return fig, ax
+
+
+def _draw(doc, ax, filter_func=None, solid: bool = False) -> None:
+    ctx = RenderContext(doc)
+    out = MatplotlibBackend(ax, adjust_figure=False)
+    cfg = _CONFIG.with_changes(line_policy=LinePolicy.SOLID) if solid else _CONFIG
+    Frontend(ctx, out, config=cfg).draw_layout(doc.modelspace(), finalize=True,
+                                               filter_func=filter_func)
+
+
+def _keep_aspect_limits(ax, box, size_in, pad=0.02) -> None:
+    """Show ``box`` (xmin, ymin, xmax, ymax) at equal x/y scale, centred."""
+    x0, y0, x1, y1 = box
+    w, h = max(x1 - x0, 1e-6), max(y1 - y0, 1e-6)
+    w, h = w * (1 + 2 * pad), h * (1 + 2 * pad)
+    cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+    aspect = size_in[0] / size_in[1]
+    if w / h > aspect:
+        h = w / aspect
+    else:
+        w = h * aspect
+    ax.set_xlim(cx - w / 2, cx + w / 2)
+    ax.set_ylim(cy - h / 2, cy + h / 2)
+    ax.set_aspect("equal", adjustable="box")
+
+
+def strip_count(width: float, height: float, max_strips: int = MAX_STRIPS) -> int:
+    """Number of strips for a drawing of ``width`` x ``height`` in the 3:1 image: the k
+    whose strips (aspect 3 k^2) best fit the drawing's aspect, 1..max_strips."""
+    if height <= 0 or width <= 0:
+        return 1
+    return int(min(max_strips, max(1, round(math.sqrt(width / height / 3.0)))))
+
+
+def render_elevation_png(dxf_path, png_path) -> int:
+    """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips.
+
+    A drawing much longer than 3:1 is cut into k strips of consecutive chainage,
+    stacked top to bottom (first strip on top), so that the whole wall is visible at a
+    useful height: it is rasterised once on a canvas k times as wide and 1/k as high,
+    and the canvas is cut into k equal pieces.
+    """
+    doc = ezdxf.readfile(str(dxf_path))
+    msp = doc.modelspace()
+    n_text = len(msp.query("TEXT"))
+    long = n_text > MAX_ELEVATION_TEXTS
+    skip = {d.L_PANELS} if long else set()
+    W, H = ELEVATION_PX
+    fig, ax = _figure((W / DPI, H / DPI))
+    _draw(doc, ax, (lambda e: e.dxf.layer not in skip) if skip else None, solid=long)
+    x0, x1 = ax.get_xlim()
+    y0, y1 = ax.get_ylim()
+    k = strip_count(x1 - x0, y1 - y0)
+    h_strip = H // k
+    size = (W * k / DPI, h_strip / DPI)
+    fig.set_size_inches(*size)
+    _keep_aspect_limits(ax, (x0, y0, x1, y1), size, pad=0.01 if k == 1 else 0.002)
+    fig.canvas.draw()
+    img = np.asarray(fig.canvas.buffer_rgba())[:, :, :3]
+    strips = [img[:, i * W:(i + 1) * W] for i in range(k)]
+    out = np.full((H, W, 3), 255, dtype=np.uint8)
+    for i, st in enumerate(strips):
+        out[i * h_strip:(i + 1) * h_strip, :st.shape[1]] = st[:h_strip]
+        if i:
+            out[i * h_strip, :] = 160  # thin grey rule between strips
+    mpimg.imsave(str(png_path), out, format="png")
+    return k
+
+
+def _group_box(entities) -> tuple[float, float, float, float] | None:
+    from ezdxf import bbox
+
+    ext = bbox.extents(entities, fast=True)
+    if not ext.has_data:
+        return None
+    return ext.extmin.x, ext.extmin.y, ext.extmax.x, ext.extmax.y
+
+
+def render_sections_pdf(dxf_path, pdf_path) -> None:
+    """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet."""
+    doc = ezdxf.readfile(str(dxf_path))
+    groups = [(name, g) for name, g in doc.groups if name.startswith(d.SECTION_GROUP_PREFIX)]
+    with PdfPages(str(pdf_path)) as pdf:
+        for _name, g in sorted(groups, key=lambda t: t[0]):
+            ents = list(g)
+            handles = {e.dxf.handle for e in ents}
+            box = _group_box(ents)
+            fig, ax = _figure(A3_IN)
+            _draw(doc, ax, lambda e, h=handles: e.dxf.handle in h)
+            if box:
+                _keep_aspect_limits(ax, box, A3_IN)
+            pdf.savefig(fig, facecolor="white")
+        fig, ax = _figure(A3_IN)
+        _draw(doc, ax)
+        x0, x1 = ax.get_xlim()
+        y0, y1 = ax.get_ylim()
+        _keep_aspect_limits(ax, (x0, y0, x1, y1), A3_IN, pad=0.0)
+        pdf.savefig(fig, facecolor="white")
+
+
+def write_previews(out_dir) -> list[str]:
+    """Render ``elevation.png`` and ``sections.pdf`` in ``out_dir`` from the DXF files
+    there (each only when its DXF exists); returns the file names written."""
+    out = Path(out_dir)
+    written = []
+    if (out / "elevation.dxf").exists():
+        render_elevation_png(out / "elevation.dxf", out / "elevation.png")
+        written.append("elevation.png")
+    if (out / "sections.dxf").exists():
+        render_sections_pdf(out / "sections.dxf", out / "sections.pdf")
+        written.append("sections.pdf")
+    return written
+
+
+__all__ = ["write_previews", "render_elevation_png", "render_sections_pdf"]
