@@ -146,18 +146,17 @@ class Evaluation:
     ok: np.ndarray
     cost: np.ndarray
     steel_kg_per_m: np.ndarray
+    U: np.ndarray  # utilization of every check (rows, in ``checks`` order) x candidate
 
     def __len__(self) -> int:
         return len(self.sec)
 
     def governing(self, i: int) -> tuple[str, str, float]:
         """(check, combination, utilization) of the worst check of candidate i."""
-        best = None
-        for c in self.checks:
-            u = float(np.broadcast_to(c.utilization, self.utilization.shape)[i])
-            if best is None or u > best[2]:
-                best = (c.check, c.combination, u)
-        return best if best is not None else ("", "", 0.0)
+        if not len(self.checks):
+            return ("", "", 0.0)
+        k = int(np.argmax(self.U[:, i]))
+        return (self.checks[k].check, self.checks[k].combination, float(self.U[k, i]))
 
 
 def _stem_heights(sec: SectionArrays, demand: Demand, cond: Conditions):
@@ -179,7 +178,7 @@ def lower_bound_cost(sec: SectionArrays, demand: Demand, rates) -> np.ndarray:
 
 
 def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
-             given: Reinforcement | None = None) -> Evaluation:
+             given: Reinforcement | None = None, curtail: bool = True) -> Evaluation:
     """All stability and structural checks of n candidate sections at ``demand``.
 
     Stability: ``stability.stability_checks`` (design-basis section 4). Structure:
@@ -189,6 +188,11 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     envelope ``stability.stem_moment`` for curtailment. Cost: ``takeoff.cost_per_metre``
     with the structure's ``steel_kg_per_m``. A candidate whose dimensions do not close
     (``section.section_problems``) never passes.
+
+    ``curtail=False`` (the search) leaves the stem moment envelope out: every stem bar
+    then runs full height, which only overstates the steel mass (the bars and all checks
+    at the critical sections are the same); the chosen section is evaluated again with
+    curtailment.
     """
     from wallrun import stability, structure, takeoff
 
@@ -196,19 +200,24 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     checks = list(stability.stability_checks(sec, cond, basis))
     actions = stability.member_actions(sec, cond, basis)
     qp = stability.member_moments_qp(sec, cond, basis)
-    stem_at = partial(stability.stem_moment, sec, cond, basis)
+    stem_at = partial(stability.stem_moment, sec, cond, basis) if curtail else None
+    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m, float)
     if given is None:
-        sr = structure.design_reinforcement(sec, actions, qp, basis, stem_moment_at=stem_at)
+        sr = structure.design_reinforcement(sec, actions, qp, basis, stem_moment_at=stem_at,
+                                            stem_height_m=h_c)
     else:
-        sr = structure.check_reinforcement(sec, actions, qp, basis, given, stem_moment_at=stem_at)
+        sr = structure.check_reinforcement(sec, actions, qp, basis, given, stem_moment_at=stem_at,
+                                           stem_height_m=h_c)
     checks.extend(sr.checks)
-    util = max_utilization(checks)
+    n = len(sec)
+    U = np.vstack([np.broadcast_to(c.utilization, (n,)) for c in checks])
+    util = U.max(axis=0)
     ok = (util <= 1.0 + _TOL) & ~section_problems(sec)
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
     hs, D = _stem_heights(sec, demand, cond)
     cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
     return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
-                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel)
+                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U)
 
 
 def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | None = None,
@@ -371,6 +380,12 @@ def grid(bounds: SearchBounds, stride: int = 1) -> np.ndarray:
     return mesh[bounds.valid(mesh)]
 
 
+def _offsets(radius: int) -> np.ndarray:
+    """Every integer offset vector with entries in -radius..radius, shape (m, 7)."""
+    return np.array(list(itertools.product(range(-radius, radius + 1), repeat=_NDIM)),
+                    dtype=np.int64)
+
+
 class _Search:
     """The cheapest passing candidate of one demand over the integer grid of ``bounds``.
 
@@ -440,8 +455,7 @@ class _Search:
         """Descent over the joint neighbourhood: every combination of offsets
         -radius..radius in all seven integers, moving to the cheapest passing neighbour
         (or, while nothing passes, the least utilised) until nothing improves."""
-        offs = np.array(list(itertools.product(range(-radius, radius + 1), repeat=_NDIM)),
-                        dtype=np.int64)
+        offs = _offsets(radius)
         cur = np.asarray(start, dtype=np.int64)
         for _ in range(max_iter):
             self.run(cur[None, :] + offs)
@@ -471,13 +485,6 @@ def _flag_beyond(demand: Demand, basis: Basis, rates, step: float) -> SizedDesig
            f"shown is nominal only") if demand.h > MAX_RETAINED_M else (
            f"retained height {demand.h:.2f} m: nothing to retain; not designed")
     return _sized(ev, 0, demand, basis, status="flagged", reason=why)
-
-
-def _failed(ev_best: Evaluation, demand: Demand, basis: Basis) -> SizedDesign:
-    chk, comb, u = ev_best.governing(0)
-    return _sized(ev_best, 0, demand, basis, status="flagged",
-                  reason=f"no section within the search bounds passes: best fails "
-                         f"{chk} {comb} ({u:.2f})")
 
 
 def bespoke(demand: Demand, basis: Basis, rates, step: float | None = None,
@@ -546,7 +553,7 @@ class Designer:
 
         def f(v):
             t0 = time.perf_counter()
-            ev = evaluate(bounds.sections(v), demand, self.basis, self.rates)
+            ev = evaluate(bounds.sections(v), demand, self.basis, self.rates, curtail=False)
             self.seconds_in_evaluate += time.perf_counter() - t0
             return ev.ok, ev.cost, ev.utilization
 
@@ -584,39 +591,37 @@ class Designer:
         bounds = bounds_for(demand, self.step)
         f, lb = self._f(demand, bounds)
         s = _Search(bounds, f, lb)
-        starts = []
-        if self.warm:
-            for sec in self._neighbours(demand):
-                v = bounds.vector_of(sec)
-                if v is not None:
-                    starts.append(v)
+        near = self._neighbours(demand) if self.warm else []
+        starts = [v for v in (bounds.vector_of(sec) for sec in near) if v is not None]
         if starts:
-            # the nearest designs as they are, then a sparse coarse grid
-            s.run(np.array(starts), prune=False)
-            s.run(grid(bounds, 2 * self.stride))
-        else:
+            # warm start: the nearest designs and the neighbourhood of the nearest, at once
+            offs = _offsets(1)
+            s.run(np.vstack([np.array(starts), starts[0][None, :] + offs]), prune=False)
+        if s.best() is None:  # cold start (or the warm start found nothing passing)
             s.run(grid(bounds, self.stride))
-        for v in s.seeds(self.n_seeds):
+        for v in s.seeds(1 if starts else self.n_seeds):
             s.local(v)
         self.evaluated += s.evaluated
-        # the designs of neighbours as they are (any grid): a taller panel's section
-        # may serve
-        extra = [sec for sec in self._neighbours(demand, 8)]
         b = s.best()
         cands = []
         if b is not None:
             cands.append(bounds.sections(s.V[b:b + 1]).take(0))
         elif len(s.util):
-            cands.append(bounds.sections(s.V[int(np.argmin(s.util)):][:1]).take(0))
-        cands.extend(extra)
-        if not cands:
-            return _flag_beyond(demand, self.basis, self.rates, self.step)
+            i = int(np.argmin(s.util))
+            cands.append(bounds.sections(s.V[i:i + 1]).take(0))
+        # the neighbours' sections as they are (maybe outside this demand's bounds):
+        # a taller panel's section serves when it is cheaper
+        cands.extend(sec for sec in near if sec not in cands)
         ev = evaluate(SectionArrays.of(cands), demand, self.basis, self.rates)
         if ev.ok.any():
             idx = np.flatnonzero(ev.ok)
             i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
             return _sized(ev, i, demand, self.basis)
-        return _failed(ev, demand, self.basis)
+        i = int(np.argmin(ev.utilization))
+        chk, comb, u = ev.governing(i)
+        return _sized(ev, i, demand, self.basis, status="flagged",
+                      reason=f"no section within the search bounds passes: best fails "
+                             f"{chk} {comb} ({u:.2f})")
 
 
 def brute_force(demand: Demand, basis: Basis, rates, bounds: SearchBounds,
@@ -628,7 +633,7 @@ def brute_force(demand: Demand, basis: Basis, rates, bounds: SearchBounds,
     best, best_cost = None, math.inf
     for a in range(0, len(v), chunk):
         sec = bounds.sections(v[a:a + chunk])
-        ev = evaluate(sec, demand, basis, rates)
+        ev = evaluate(sec, demand, basis, rates, curtail=False)
         if ev.ok.any():
             idx = np.flatnonzero(ev.ok)
             i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
