@@ -12,7 +12,8 @@ Choices where the code leaves a value open (all stated again in the docstrings):
   (Table 3.1).
 - Tables 7.2N / 7.3N: linear interpolation in steel stress between the tabulated
   stresses for the given wk; below 160 MPa the 160 MPa value applies; above the last
-  tabulated stress (or where the table has no entry) the limit is 0 (route fails).
+  filled cell of the column the limit is 0 (route fails; no interpolation towards a
+  blank cell).
   wk must be one of 0.2, 0.3, 0.4 mm; other values are interpolated linearly in wk
   between the columns (and clamped to 0.2..0.4).
 - Bar diameter route: Table 7.2N modified for bending by Eq. (7.6N)
@@ -257,22 +258,34 @@ _T_DIAMETER = {0.4: np.array([40.0, 32.0, 20.0, 16.0, 12.0, 10.0, 8.0, 6.0]),
                0.2: np.array([25.0, 16.0, 12.0, 8.0, 6.0, 5.0, 4.0, 0.0])}
 
 
+def _column_lookup(s, xs, col):
+    """Linear in stress along one column; below the first stress the first value; above
+    the last non-blank entry 0 (a blank cell means no bar passes, so no interpolation
+    towards it)."""
+    last = int(np.flatnonzero(col > 0)[-1])
+    xs_c, col_c = xs[:last + 1], col[:last + 1]
+    return np.where(s > xs_c[-1] + 1e-9, 0.0, np.interp(s, xs_c, col_c))
+
+
 def _table_lookup(stress, wk, xs, table):
     wk = float(np.clip(wk, 0.2, 0.4))
     cols = sorted(table)
     lo = max(c for c in cols if c <= wk + 1e-12)
     hi = min(c for c in cols if c >= wk - 1e-12)
-    col = table[lo] if hi == lo else table[lo] + (table[hi] - table[lo]) * (wk - lo) / (hi - lo)
     s = np.asarray(stress, dtype=float)
-    # linear in stress; below the first stress the first value; above the last: 0
-    return np.where(s > xs[-1] + 1e-9, 0.0, np.interp(s, xs, col))
+    v_lo = _column_lookup(s, xs, table[lo])
+    if hi == lo:
+        return v_lo
+    return v_lo + (_column_lookup(s, xs, table[hi]) - v_lo) * (wk - lo) / (hi - lo)
 
 
 def max_bar_spacing(sigma_s, wk=0.3):
     """Maximum bar spacing for crack control, mm (7.3.3(2) Table 7.3N).
 
     Linear interpolation in steel stress sigma_s (MPa) between the tabulated stresses;
-    below 160 MPa the 160 MPa value; above 360 MPa, or where the table is blank, 0.
+    below 160 MPa the 160 MPa value; above the last filled cell of the wk column (360 MPa
+    for wk 0.3/0.4, 280 MPa for 0.2) 0: no spacing passes, no interpolation towards a
+    blank cell.
     """
     return _table_lookup(sigma_s, wk, _T_STRESS_SPACING, _T_SPACING)
 
