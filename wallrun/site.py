@@ -413,9 +413,11 @@ def _looks_numeric(s: str) -> bool:
         return False
 
 
-def _numbers(df: pd.DataFrame, col: str, lines: list[int], label: str, pr: _Problems
-             ) -> np.ndarray | None:
-    """Column as floats; blank, text, NaN and infinities are problems with line numbers."""
+def _numbers(df: pd.DataFrame, col: str, lines: list[int], label: str, pr: _Problems,
+             partial: bool = False) -> np.ndarray | None:
+    """Column as floats; blank, text, NaN and infinities are problems with line numbers.
+
+    Returns None after a problem, or with ``partial`` the column with NaN where bad."""
     txt = df[col].astype(str).str.strip()
     vals = pd.to_numeric(txt, errors="coerce").to_numpy(dtype=float)
     ok = True
@@ -426,7 +428,7 @@ def _numbers(df: pd.DataFrame, col: str, lines: list[int], label: str, pr: _Prob
         elif not math.isfinite(v):
             pr.add(f"{label}:{lines[i]}: {col}: '{t}' is not a number")
             ok = False
-    return vals if ok else None
+    return vals if ok or partial else None
 
 
 def read_profile(path: Path, label: str, pr: _Problems) -> ProfileData | None:
@@ -534,19 +536,19 @@ def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSe
         return None
     df, lines = got
     n0 = len(pr.items)
-    num = {c: _numbers(df, c, lines, label, pr) for c in CATALOGUE_COLUMNS[1:]}
+    num = {c: _numbers(df, c, lines, label, pr, partial=True) for c in CATALOGUE_COLUMNS[1:]}
     names = [s.strip() for s in df["section"].astype(str)]
     for i, s in enumerate(names):
         if not s:
             pr.add(f"{label}:{lines[i]}: section: blank name")
         elif names.index(s) != i:
             pr.add(f"{label}:{lines[i]}: section '{s}' repeats line {lines[names.index(s)]}")
-    if len(pr.items) > n0:
-        return None
     out = []
     for i in range(len(names)):
         ln = lines[i]
         r = {c: num[c][i] for c in num}
+        if not all(math.isfinite(v) for v in r.values()):
+            continue  # its bad numbers are reported already
         for c in ("stem_top_m", "stem_base_m", "base_width_m", "base_thickness_m"):
             if r[c] <= 0:
                 pr.add(f"{label}:{ln}: {c}: must be > 0, got {_g(r[c])}")
@@ -597,7 +599,7 @@ def read_rates(path: Path, pr: _Problems) -> tuple[Rate, ...] | None:
         return None
     df, lines = got
     n0 = len(pr.items)
-    rate = _numbers(df, "rate", lines, label, pr)
+    rate = _numbers(df, "rate", lines, label, pr, partial=True)
     items = [s.strip() for s in df["item"].astype(str)]
     units = [s.strip() for s in df["unit"].astype(str)]
     for i, it in enumerate(items):
@@ -607,7 +609,7 @@ def read_rates(path: Path, pr: _Problems) -> tuple[Rate, ...] | None:
             pr.add(f"{label}:{lines[i]}: item '{it}' repeats line {lines[items.index(it)]}")
         if not units[i]:
             pr.add(f"{label}:{lines[i]}: unit: blank")
-        if rate is not None and rate[i] < 0:
+        if rate[i] < 0:
             pr.add(f"{label}:{lines[i]}: rate: must be >= 0, got {_g(rate[i])}")
     if len(pr.items) > n0:
         return None
