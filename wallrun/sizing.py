@@ -452,13 +452,23 @@ class _Search:
         return [self.V[i] for i in idx]
 
     def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60) -> None:
-        """Descent over the joint neighbourhood: every combination of offsets
-        -radius..radius in all seven integers, moving to the cheapest passing neighbour
-        (or, while nothing passes, the least utilised) until nothing improves."""
+        """Descent from ``start``: each step evaluates the joint neighbourhood (every
+        combination of offsets -radius..radius in all seven integers) and, because
+        feasibility in the toe length is not convex (a toe a little longer or shorter
+        can fail while a longer one passes), the whole toe range 0..B/2 at base widths
+        two steps narrower to one step wider and base thicknesses one step either side;
+        it moves to the cheapest passing candidate (or, while nothing passes, the least
+        utilised) until nothing improves."""
         offs = _offsets(radius)
+        toes = self.bounds.axes()[1]
+        line = np.array([(db, dt) for db in (-2, -1, 0, 1) for dt in (-1, 0, 1)], dtype=np.int64)
         cur = np.asarray(start, dtype=np.int64)
         for _ in range(max_iter):
-            self.run(cur[None, :] + offs)
+            tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
+            tl[:, 0] += np.repeat(line[:, 0], len(toes))
+            tl[:, 2] += np.repeat(line[:, 1], len(toes))
+            tl[:, 1] = np.tile(toes, len(line))
+            self.run(np.vstack([cur[None, :] + offs, tl]))
             b = self.best()
             if b is not None:
                 nxt = self.V[b]
@@ -760,8 +770,8 @@ def exhaustive_types(cost: np.ndarray, max_types: int) -> tuple[float, tuple[int
 
 def dp_types(cost: np.ndarray, max_types: int, order: np.ndarray | None = None):
     """At most ``max_types`` columns serving every row of ``cost``, by dynamic
-    programming over contiguous groups of rows in ``order`` (default: rows by their
-    cheapest entry), each group served by the single column that serves it at least
+    programming over contiguous groups of rows in ``order`` (default: rows by severity,
+    i.e. by the number of columns serving them, most first, then by cheapest entry), each group served by the single column that serves it at least
     total cost.
 
     Optimality (claim and proof): suppose the types are *nested* in ``order``: each
@@ -778,7 +788,7 @@ def dp_types(cost: np.ndarray, max_types: int, order: np.ndarray | None = None):
     """
     n, T = cost.shape
     if order is None:
-        order = np.argsort(np.min(cost, axis=1), kind="stable")
+        order = np.lexsort((np.min(cost, axis=1), -np.isfinite(cost).sum(axis=1)))
     C = cost[order]  # (n, T)
     fin = np.isfinite(C)
     Cz = np.where(fin, C, 0.0)
