@@ -164,3 +164,13 @@ def joint_problems(fig: JointFigures, wall) -> list[str]:
 def halve_target(len_left: float, len_right: float) -> int:
     """Which panel of a failing joint to halve: 0 left, 1 right (the longer; the later when equal)."""
     return 0 if len_left > len_right + _EPS else 1
+
+
+def mean_front_level(profiles, side: str, a: float, b: float, n: int = 16) -> float:
+    """Mean front level over panel [a, b], m: trapezoidal mean over the breakpoints
+    inside the panel and ``n`` equal intervals (exact for linear profiles; on a vertical
+    curve the error is of order L^2 / n^2 times the curvature). Used for the excavation
+    take-off, not for design."""
+    ch = np.union1d(_sample(profiles, a, b), np.linspace(a, b, n + 1))
+    _, fr = retained_and_front(profiles, side, ch)
+    return float(np.trapezoid(fr, ch) / (b - a))

@@ -159,7 +159,8 @@ def design(site: Site, progress=None) -> DesignResult:
                 wall_top_end_m=ext.wall_top_end, foundation=demand.foundation,
                 backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,
                 water_level_m=water_level_used(demand, d, site.backfill.slope_deg))
-            panel_rows.append((panel, d, demand))
+            panel_rows.append((panel, d, demand,
+                               pn.mean_front_level(profiles, run.side, ext.ch_start, ext.ch_end)))
             names.append(panel.panel)
         for i, (fig, problems) in enumerate(jfigs):
             joints.append(Joint(
@@ -171,7 +172,7 @@ def design(site: Site, progress=None) -> DesignResult:
 
     # section types in chainage order of first use
     type_names: dict = {}
-    for _, d, _ in panel_rows:
+    for _, d, _, _ in panel_rows:
         key = _type_key(d)
         if key not in type_names:
             given = getattr(d, "section_type", "")
@@ -180,7 +181,7 @@ def design(site: Site, progress=None) -> DesignResult:
     results = []
     all_bars = []
     per_panel_bars = []
-    for panel, d, _ in panel_rows:
+    for panel, d, _, _ in panel_rows:
         name = type_names[_type_key(d)]
         rows = bars_mod.panel_bars(name, d.section, d.reinforcement, panel, site.basis)
         per_panel_bars.append(rows)
@@ -190,9 +191,9 @@ def design(site: Site, progress=None) -> DesignResult:
 
     t0 = time.perf_counter()
     per_panel_q = []
-    for k, ((panel, d, _), rows) in enumerate(zip(panel_rows, per_panel_bars)):
+    for k, ((panel, d, _, front_mean), rows) in enumerate(zip(panel_rows, per_panel_bars)):
         q = takeoff.panel_quantities(panel, d.section, rows, site.takeoff,
-                                     **_end_kwargs(panel_rows, k))
+                                     front_level_m=front_mean, **_end_kwargs(panel_rows, k))
         per_panel_q.append(q)
         pq = tuple(Quantity(item, takeoff.UNITS.get(item, ""), v) for item, v in q.items())
         pcost = takeoff.cost(pq, site.rates)
@@ -208,7 +209,7 @@ def design(site: Site, progress=None) -> DesignResult:
     section_types = []
     actions = {}
     for key, name in type_names.items():
-        members = [(r, d, dem) for r, (_, d, dem) in zip(results, panel_rows)
+        members = [(r, d, dem) for r, (_, d, dem, _) in zip(results, panel_rows)
                    if r.section_type == name]
         worst_r, worst_d, worst_dem = max(
             members, key=lambda m: max((c.utilization for c in m[0].checks), default=0.0))

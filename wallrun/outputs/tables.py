@@ -219,7 +219,7 @@ def design_dict(result: DesignResult) -> dict:
                for name, fs in site.factors.items()}
     from wallrun.codes import ec2  # materials as used
     mats = {"strength_class": site.concrete.strength_class,
-            "fck_mpa": num(ec2.fck(site.concrete.strength_class)),
+            "fck_mpa": num(ec2.fck_of_class(site.concrete.strength_class)),
             "fyk_mpa": num(site.steel.fyk_mpa), "alpha_cc": num(site.concrete.alpha_cc),
             "cover_mm": num(site.concrete.cover_mm),
             "cover_ground_mm": num(site.concrete.cover_ground_mm)}
