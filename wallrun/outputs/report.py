@@ -166,7 +166,7 @@ def _pass_cell(u: float) -> str:
 
 def _table(head, rows, cls: str = "") -> str:
     """A table from header labels and rows of already-rendered ``<td>`` strings."""
-    h = "".join(f"<th>{_e(c)}</th>" for c in head)
+    h = "".join(f"<th>{_e(c).replace('_', '_<wbr>')}</th>" for c in head)
     body = "\n".join(f"<tr>{r}</tr>" for r in rows)
     c = f' class="{cls}"' if cls else ""
     return f"<table{c}><thead><tr>{h}</tr></thead>\n<tbody>\n{body}\n</tbody></table>\n"
@@ -208,9 +208,17 @@ def governing_panel(result, section_type: str):
 def panel_row(p) -> dict:
     """One ``panels.csv`` row of a :class:`~wallrun.results.PanelResult`, as values.
 
-    util_bearing is the larger of ``bearing`` and ``bearing_sls``; util_structural the
-    largest of the EN 1992-1-1 member checks (interfaces.md).
+    The row of ``wallrun.outputs.tables.panel_row`` when that module is importable
+    (so the report and panels.csv cannot differ), else the same figures computed
+    here: util_bearing the bearing resistance check, util_structural the largest of
+    the EN 1992-1-1 member checks (interfaces.md).
     """
+    try:
+        from wallrun.outputs.tables import panel_row as table_row
+    except ImportError:
+        table_row = None
+    if table_row is not None:
+        return table_row(p)
     pn, s = p.panel, p.section
     return {
         "panel": pn.panel, "run": pn.run, "side": pn.side,
@@ -224,7 +232,7 @@ def panel_row(p) -> dict:
         "base_thickness_m": s.base_thickness_m, "key_depth_m": s.key_depth_m,
         "key_width_m": s.key_width_m,
         "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
-        "util_bearing": p.util("bearing", "bearing_sls"),
+        "util_bearing": p.util("bearing"),
         "util_structural": p.util(*STRUCTURAL_CHECKS),
         "governing": p.governing, "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
@@ -433,11 +441,14 @@ def section_figure(result, st, gov) -> bytes:
     yt = ztop_d + 0.07 * span
     _dim(ax, (toe, yt), (toe + s.stem_top_m, yt), f"{s.stem_top_m:.2f}",
          side=(0, 0.03 * span))
-    if hd > hc + 1e-6:
-        ax.plot([toe + s.stem_top_m, toe + s.stem_top_m + 0.15 * span], [zt, zt],
-                color="#b00000", lw=0.5, ls=":")
-        ax.text(toe + s.stem_top_m + 0.15 * span, zt, " top of checked section",
+    # the retained level = top of the checked section (stem above it is not checked)
+    ax.plot([xb, B + ext], [zt, zt], color="#b00000", lw=0.5, ls=":")
+    if zf is not None:
+        ax.text(B + ext, zt, f" retained {zf + zt:.2f} m\n (top of checked section)",
                 fontsize=6, va="center", color="#b00000")
+    else:
+        ax.text(B + ext, zt, " top of checked section", fontsize=6, va="center",
+                color="#b00000")
     if s.key_depth_m > 0:
         xk = toe + s.key_width_m + 0.06 * span
         _dim(ax, (xk, -s.key_depth_m), (xk, 0), f"key {s.key_depth_m:.2f}", rot=90)
@@ -445,15 +456,16 @@ def section_figure(result, st, gov) -> bytes:
              -s.key_depth_m - 0.04 * span), f"{s.key_width_m:.2f}")
     if zf is not None:
         ax.text(B + 0.02 * span, 0, f" underside {zf:.2f} m", fontsize=6, va="top")
-        ax.text(xb + 0.02 * span, zt + 0.02 * span, f"retained {zf + zt:.2f} m", fontsize=6,
-                va="bottom")
+        if D is not None:
+            ax.text(-ext, D - 0.015 * span, f"{zf + D:.2f} m", fontsize=6, va="top",
+                    color="#7a5230")
     ax.set_aspect("equal")
-    ax.set_xlim(xl3 - 0.08 * span, B + 0.30 * span)
+    ax.set_xlim(xl3 - 0.08 * span, B + ext + 0.35 * span)
     ax.set_ylim(y2 - 0.08 * span, yt + 0.12 * span)
     ax.axis("off")
     ax.set_title(f"Section type {st.section_type}: dimensions in m"
                  + (f" (at panel {gov.panel.panel})" if gov is not None else ""), fontsize=8)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.01, right=0.99, bottom=0.01, top=0.94)  # no axes to fit
     data = _png(fig)
     plt.close(fig)
     return data
@@ -473,10 +485,11 @@ h2, h3, h4 { break-after: avoid; page-break-after: avoid; }
 table { border-collapse: collapse; margin: 0.3em 0 0.9em; font-size: 8.5pt; }
 th, td { border: 0.5px solid var(--rule); padding: 1px 5px; vertical-align: top; }
 thead th { background: var(--pale); text-align: left; }
-td { text-align: right; font-variant-numeric: tabular-nums; }
+td { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.w { white-space: normal; }
 td.t, th.t { text-align: left; }
 table.kv th { text-align: left; background: var(--pale); font-weight: normal; width: 22em; }
-table.kv td { text-align: left; }
+table.kv td { text-align: left; white-space: normal; }
 table.wide { font-size: 7pt; }
 table.wide td, table.wide th { padding: 1px 3px; }
 td.ok { color: #1d5e20; text-align: left; }
@@ -498,9 +511,11 @@ section.part, section.sectype { margin-top: 2em; }
 @page wide { size: A4 landscape; margin: 10mm 10mm; }
 @media print {
   body { max-width: none; margin: 0; padding: 0; font-size: 9pt; }
+  table { font-size: 7.5pt; }
+  table.wide { font-size: 6.5pt; }
   section.part, section.sectype { break-before: page; page-break-before: always; margin-top: 0; }
   section.landscape { page: wide; }
-  .fig img { max-height: 150mm; border: none; }
+  .fig img { max-height: 115mm; border: none; }
   tr { break-inside: avoid; page-break-inside: avoid; }
   .caution { break-inside: avoid; }
   nav { display: none; }
@@ -564,13 +579,13 @@ def _front(result, date: str) -> str:
         out.append("<h3>Flagged panels</h3>" + _table(
             ["panel", "section", "status", "reason"],
             [_td(_e(p.panel.panel), "t") + _td(_e(p.section_type), "t")
-             + _status_cell(p.status) + _td(_e(p.reason), "t") for p in flagged]))
+             + _status_cell(p.status) + _td(_e(p.reason), "t w") for p in flagged]))
     fj = [j for j in result.joints if j.status != "ok"]
     if fj:
         out.append("<h3>Flagged joints</h3>" + _table(
             ["joint", "chainage (m)", "status", "reason"],
             [_td(_e(j.joint), "t") + _td(_num(j.ch_m, 2)) + _status_cell(j.status)
-             + _td(_e(j.reason), "t") for j in fj]))
+             + _td(_e(j.reason), "t w") for j in fj]))
     return "\n".join(out)
 
 
@@ -614,7 +629,7 @@ def _basis(result) -> str:
     rows = []
     changed = False
     for k in keys:
-        cells = _td(_e(k), "t") + _td(_e(FACTOR_WORDS.get(k, "")), "t")
+        cells = _td(_e(k), "t") + _td(_e(FACTOR_WORDS.get(k, "")), "t w")
         for n in names:
             v = getattr(sets[n], k, None)
             rec = getattr(RECOMMENDED.get(n), k, None) if n in RECOMMENDED else None
@@ -724,6 +739,7 @@ def _run(result, figures) -> str:
     if fig:
         out.append(_img(fig, "long section along the wall line"))
     out.append("<h3>Section types</h3>")
+    out.append('<p class="note">Dimensions in m.</p>')
     counts = {}
     for p in result.panels:
         counts.setdefault(p.section_type, []).append(p.panel.length_m)
@@ -738,29 +754,33 @@ def _run(result, figures) -> str:
          + _td(_e(st.governing), "t") + _td(_util(st.utilization))
          for st in result.section_types]))
     out.append("<h3>Panel schedule</h3>")
-    out.append('<p class="note">Columns as panels.csv: levels and lengths in m, '
-               "utilizations to 3 decimals, concrete m3, steel kg, cost in the units of the "
-               "rates.</p>")
+    out.append('<p class="note">The columns of panels.csv, in two tables of one row a '
+               "panel: levels and lengths in m, utilizations to 3 decimals, concrete m3, "
+               "steel kg, cost in the units of the rates.</p>")
     num3 = {"util_overturning", "util_sliding", "util_bearing", "util_structural"}
     text = {"panel", "side", "section", "governing", "reason"}
-    rows = []
-    for p in result.panels:
-        r = panel_row(p)
-        cells = []
-        for k in PANEL_COLUMNS:
-            v = r[k]
-            if k == "status":
-                cells.append(_status_cell(v))
-            elif k in text:
-                cells.append(_td(_e(v), "t"))
-            elif k in num3:
-                cells.append(_td(_util(v)))
-            elif k == "run":
-                cells.append(_td(_e(v)))
-            else:
-                cells.append(_td(_num(v, 2 if k in ("steel_kg", "cost", "concrete_m3") else 3)))
-        rows.append("".join(cells))
-    out.append(_table(list(PANEL_COLUMNS), rows, "wide"))
+    split = PANEL_COLUMNS.index("section")
+    groups = (PANEL_COLUMNS[:split], ("panel",) + PANEL_COLUMNS[split:])
+    rendered = [panel_row(p) for p in result.panels]
+    for g, title in zip(groups, ("extent and levels", "section, results and take-off")):
+        rows = []
+        for r in rendered:
+            cells = []
+            for k in g:
+                v = r[k]
+                if k == "status":
+                    cells.append(_status_cell(v))
+                elif k in text:
+                    cells.append(_td(_e(v), "t w" if k in ("reason", "governing") else "t"))
+                elif k in num3:
+                    cells.append(_td(_util(v)))
+                elif k == "run":
+                    cells.append(_td(_e(v)))
+                else:
+                    cells.append(_td(_num(v, {"steel_kg": 1, "cost": 2}.get(k, 3))))
+            rows.append("".join(cells))
+        out.append(f"<h4>Panel schedule: {title}</h4>")
+        out.append(_table(list(g), rows, "wide"))
     out.append("<h3>Joints</h3>")
     if result.joints:
         out.append(_table(
@@ -769,7 +789,7 @@ def _run(result, figures) -> str:
             [_td(_e(j.joint), "t") + _td(_num(j.ch_m, 3)) + _td(_e(j.left), "t")
              + _td(_e(j.right), "t") + _td(_num(j.founding_step_m, 3))
              + _td(_num(j.top_step_m, 3)) + _td(_num(j.pressure_ratio, 3))
-             + _status_cell(j.status) + _td(_e(j.reason), "t") for j in result.joints]))
+             + _status_cell(j.status) + _td(_e(j.reason), "t w") for j in result.joints]))
         wall = getattr(result.site, "wall", None)
         if wall is not None:
             out.append(f'<p class="note">Limits: founding step {wall.max_founding_step_m:g} m, '
@@ -790,7 +810,7 @@ def _check_rows(checks, with_clause: bool = True) -> list[str]:
                  + _td(_util(c.utilization)) + _pass_cell(c.utilization)
                  + _td("governs" if c.governs else "", "t"))
         if with_clause:
-            cells += _td(_e(c.clause), "t")
+            cells += _td(_e(c.clause), "t w")
         rows.append(f'<tr class="gov">{cells}</tr>' if c.governs else cells)
     return rows
 
@@ -803,7 +823,7 @@ def _table_raw(head, rows) -> str:
 
 
 _CHECK_HEAD = ["check", "case", "effect", "resistance", "unit", "utilization", "result",
-               "worst of check", "clause"]
+               "worst", "clause"]
 
 
 def _checks_by_combination(checks) -> str:
@@ -873,7 +893,7 @@ def _sectype(result, st, k: int, figures) -> str:
         if b is None:
             continue
         ok = b.as_prov_mm2_per_m >= b.as_req_mm2_per_m - 1e-9
-        rows.append(_td(_e(m), "t") + _td(_e(MEMBER_WORDS.get(m, "")), "t")
+        rows.append(_td(_e(m), "t") + _td(_e(MEMBER_WORDS.get(m, "")), "t w")
                     + _td(f"{b.bar_mm:g} mm") + _td(f"{b.spacing_mm:g} mm")
                     + _td(_num(b.as_prov_mm2_per_m, 0)) + _td(_num(b.as_req_mm2_per_m, 0))
                     + _td(_num(b.d_mm, 0))
@@ -948,7 +968,7 @@ def _appendix(result) -> str:
             clauses.setdefault(c.check, set()).add(c.clause)
     out.append(_table(["check", "what it checks", "clause"],
                       [_td(_e(k), "t") + _td(_e(CHECK_WORDS.get(k, "")), "t")
-                       + _td(_e("; ".join(sorted(clauses[k]))), "t")
+                       + _td(_e("; ".join(sorted(clauses[k]))), "t w")
                        for k in _order(list(clauses), lambda x: x, CHECK_ORDER)]))
     head = ("<thead><tr><th>check</th><th>comb.</th><th>case</th><th>effect</th>"
             "<th>resistance</th><th>unit</th><th>u</th><th></th></tr></thead>")
