@@ -1,0 +1,450 @@
+"""Cross-sections of the section types in use: ``sections.dxf``.
+
+One cell per section type in a labelled grid (at most three columns), all at one
+scale. Each cell is drawn at the type's governing panel, the tallest panel using it
+(largest top of wall - founding level; the first such panel on a tie), in section
+coordinates offset into the cell: x from the toe edge, z from the underside of the
+base, m (design-basis section 2). A cell holds:
+
+- the concrete outline (stem, base and key from the section polygons, one closed
+  polyline) and the stem/base construction joint line;
+- the ground in front at the panel's lowest front level, the backfill surface leaving
+  the back face at the retained level at the backfill slope, the design water level;
+- the bars: stem main bars along the back face (cover + half a bar in, down to the
+  bottom mat with a foot towards the heel; a curtailed set stopping at
+  ``stem_curtail_m``), front-face vertical bars, the base top (heel) and bottom (toe)
+  mats, and the distribution bars cut in section as circles (drawn at least 0.7 mm
+  across on paper so that they show; real size when larger);
+- every bar mark of the type's ``bar_schedule`` rows, both at a leader to its bar and
+  in a bar table beside the section;
+- DIMENSION entities (rendered) for toe, stem base thickness, heel, base width, base
+  thickness, stem top thickness, stem height and key depth/width; each carries its
+  name as XDATA of application ``WALLRUN`` (e.g. ``base_width_m``);
+- level labels (top of wall, retained level, front ground, underside of base) and
+  the design conditions of the governing panel.
+
+Each cell's entities form a DXF group ``WALLRUN-SECTION-<type>``.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from ezdxf.enums import TextEntityAlignment as A
+
+from wallrun.outputs import drafting as d
+
+APPID = "WALLRUN"
+
+
+def governing_panel(result, section_type: str):
+    """The tallest PanelResult of a section type (max wall top - founding level)."""
+    prs = [pr for pr in result.panels if pr.section_type == section_type]
+    if not prs:
+        return None
+    return max(prs, key=lambda pr: max(pr.panel.wall_top_start_m, pr.panel.wall_top_end_m)
+               - pr.panel.founding_m)
+
+
+def stem_heights(pr) -> tuple[float, float]:
+    """(drawn, checked) stem heights of a panel above the top of the base, m: to the
+    highest top of wall, and to the retained level z_top."""
+    p, tb = pr.panel, pr.section.base_thickness_m
+    hd = max(p.wall_top_start_m, p.wall_top_end_m) - p.founding_m - tb
+    hc = p.retained_top_m - p.founding_m - tb
+    hc = max(min(hc, hd), 1e-3)
+    return max(hd, hc), hc
+
+
+def _category(member: str) -> str:
+    """Which drawn bar a schedule row's member belongs to."""
+    m = member.lower()
+    if "front" in m:
+        return "stem_front"
+    if "horiz" in m:
+        return "stem_horizontal"
+    if "dist" in m or "transverse" in m or "longitudinal" in m:
+        return "base_distribution"
+    if "key" in m:
+        return "key"
+    if "heel" in m or "top" in m:
+        return "heel"
+    if "toe" in m or "bottom" in m:
+        return "toe"
+    if "stem" in m or "starter" in m or "main" in m:
+        return "stem"
+    return "other"
+
+
+class _Cell:
+    """Drawing helper for one cell: offsets section coordinates by the origin."""
+
+    def __init__(self, doc, msp, origin, scale):
+        self.doc, self.msp = doc, msp
+        self.ox, self.oy = float(origin[0]), float(origin[1])
+        self.scale = scale
+
+    def P(self, mm):
+        return d.paper(mm, self.scale)
+
+    def pt(self, x, z):
+        return (self.ox + float(x), self.oy + float(z))
+
+    def poly(self, pts, layer, close=False):
+        return self.msp.add_lwpolyline([self.pt(x, z) for x, z in pts], close=close,
+                                       dxfattribs={"layer": layer})
+
+    def line(self, p, q, layer):
+        return self.msp.add_line(self.pt(*p), self.pt(*q), dxfattribs={"layer": layer})
+
+    def text(self, s, x, z, layer, align=A.MIDDLE_LEFT, mm=d.SMALL_MM, rotation=0.0):
+        return d.add_text(self.msp, s, self.pt(x, z), self.P(mm), layer, align, rotation)
+
+    def circle(self, x, z, r, layer):
+        return self.msp.add_circle(self.pt(x, z), r, dxfattribs={"layer": layer})
+
+    def dim(self, name, p1, p2, base, vertical=False):
+        dim = self.msp.add_linear_dim(base=self.pt(*base), p1=self.pt(*p1), p2=self.pt(*p2),
+                                      angle=90.0 if vertical else 0.0, dimstyle=d.DIM_STYLE,
+                                      dxfattribs={"layer": d.L_DIMS})
+        dim.render()
+        dim.dimension.set_xdata(APPID, [(1000, name)])
+        return dim.dimension
+
+    def level_tag(self, label, x, z, left=False):
+        """Small downward triangle at (x, z) and the label beside it."""
+        s = self.P(1.6)
+        self.poly([(x, z), (x - s, z + 1.6 * s), (x + s, z + 1.6 * s)], d.L_LEVEL_TAGS,
+                  close=True)
+        if left:
+            self.text(label, x - 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_RIGHT)
+        else:
+            self.text(label, x + 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_LEFT)
+
+
+def _bars(sec, reinf, hd, hc, cover_m, cover_ground_m, has_front):
+    """Bar geometry in section coordinates, m: polylines of the main bars and the
+    centres of the distribution bars (see the module docstring)."""
+    toe, tb, B = sec.toe_m, sec.base_thickness_m, sec.base_width_m
+    tsb, tst = sec.stem_base_m, sec.stem_top_m
+    c, cg = cover_m, cover_ground_m
+    ps = reinf.stem.bar_mm / 1000.0
+    ph, pt_ = reinf.heel.bar_mm / 1000.0, reinf.toe.bar_mm / 1000.0
+    phz = reinf.stem_horizontal.bar_mm / 1000.0
+    pd = reinf.base_distribution.bar_mm / 1000.0
+    front = reinf.stem_front
+    pf = (front.bar_mm if front is not None else reinf.stem_horizontal.bar_mm) / 1000.0
+
+    def x_back(z):
+        z = np.asarray(z, dtype=float)
+        frac = np.clip((z - tb) / hc, 0.0, 1.0)
+        return toe + tsb + (tst - tsb) * frac
+
+    o = c + ps / 2
+    z_top_bar = tb + hd - c
+    z_foot = cg + pt_ + ps / 2
+    foot = min(B - c - (toe + tsb - o), max(0.3, 0.6 * sec.heel_m))
+    stem = [(float(x_back(z_top_bar)) - o, z_top_bar)]
+    if tb + hc < z_top_bar - 1e-6:
+        stem.append((toe + tst - o, tb + hc))
+    stem += [(toe + tsb - o, tb), (toe + tsb - o, z_foot), (toe + tsb - o + foot, z_foot)]
+    out = {"stem": stem, "toe": [(c, cg + pt_ / 2), (B - c, cg + pt_ / 2)],
+           "heel": [(c, tb - c - ph / 2), (B - c, tb - c - ph / 2)]}
+    if reinf.stem_curtail_m:
+        zc = min(tb + reinf.stem_curtail_m, z_top_bar)
+        sh = 2.0 * ps  # drawn beside the full-height bars for clarity
+        out["stem_curtailed"] = [(float(x_back(zc)) - o - sh, zc), (toe + tsb - o - sh, tb),
+                                 (toe + tsb - o - sh, z_foot + sh),
+                                 (toe + tsb - o + foot - sh, z_foot + sh)]
+    xf = toe + c + pf / 2
+    if has_front:
+        zf = cg + pt_ + pf / 2
+        out["stem_front"] = [(xf, z_top_bar), (xf, zf), (c, zf)]
+    # distribution bars cut in section
+    s_h = reinf.stem_horizontal.spacing_mm / 1000.0
+    zs = np.arange(tb + s_h / 2, z_top_bar, s_h) if s_h > 0 else np.array([])
+    xb = x_back(zs) - o - ps / 2 - phz / 2
+    xfr = np.full_like(zs, (xf + pf / 2 + phz / 2) if has_front else toe + c + phz / 2)
+    out["stem_horizontal_dots"] = (np.concatenate([xb, xfr]), np.concatenate([zs, zs]), phz)
+    s_d = reinf.base_distribution.spacing_mm / 1000.0
+    xs = np.arange(c + s_d / 2, B - c, s_d) if s_d > 0 else np.array([])
+    z_top_d = tb - c - ph - pd / 2
+    z_bot_d = cg + pt_ + pd / 2
+    out["base_distribution_dots"] = (np.concatenate([xs, xs]),
+                                     np.concatenate([np.full_like(xs, z_top_d),
+                                                     np.full_like(xs, z_bot_d)]), pd)
+    if sec.key_depth_m > 0 and sec.key_width_m > 0:
+        kd, kw = sec.key_depth_m, sec.key_width_m
+        zk = -kd + cg
+        out["key"] = [(toe + c, tb - c), (toe + c, zk), (toe + kw - c, zk),
+                      (toe + kw - c, tb - c)]
+    return out
+
+
+def _extent(result, scale):
+    """Largest section extents over the types drawn, m: (B, above, below)."""
+    B = above = below = 0.0
+    for st in result.section_types:
+        pr = governing_panel(result, st.section_type)
+        if pr is None:
+            continue
+        hd, _ = stem_heights(pr)
+        B = max(B, st.section.base_width_m)
+        above = max(above, st.section.base_thickness_m + hd)
+        below = max(below, st.section.key_depth_m)
+    return B, above, below
+
+
+def section_scale(result) -> int:
+    """Scale of the sections, 1:N: the tallest drawn section (key bottom to top of wall)
+    at most 140 mm high on paper, and at least 1:20."""
+    _, above, below = _extent(result, 1)
+    return max(20, d.pick_scale((above + below) * 1000.0 / 140.0))
+
+
+def _rows_for(result, st: str):
+    return [b for b in result.bar_schedule if b.section == st]
+
+
+def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
+    site = result.site
+    sec, reinf, p = st.section, st.reinforcement, pr.panel
+    P = cell.P
+    toe, tb, B = sec.toe_m, sec.base_thickness_m, sec.base_width_m
+    tsb, tst = sec.stem_base_m, sec.stem_top_m
+    kd, kw = sec.key_depth_m, sec.key_width_m
+    hd, hc = stem_heights(pr)
+    slope = p.backfill.slope_deg
+
+    # concrete
+    polys = d.section_outline(sec, hd, hc, slope)
+    cell.poly(d.concrete_outline(polys), d.L_CONCRETE, close=True)
+    cell.line((toe, tb), (toe + tsb, tb), d.L_BASE_TOP)
+
+    # ground, backfill, water
+    zf = p.front_min_m - p.founding_m
+    x_end = toe if zf >= tb else 0.0
+    cell.line((-P(40), zf), (x_end, zf), d.L_FRONT)
+    zt = tb + hc
+    xb = toe + tst
+    t = math.tan(math.radians(slope))
+    x_far = B + P(25)
+    cell.line((xb, zt), (x_far, zt + (x_far - xb) * t), d.L_FILL)
+    if p.water_level_m is not None:
+        zw = min(p.water_level_m - p.founding_m, zt)
+        if zw > 0:
+            frac = min(max((zw - tb) / hc, 0.0), 1.0)
+            xw = toe + tsb + (tst - tsb) * frac if zw >= tb else B
+            cell.line((xw, zw), (x_far, zw), d.L_WATER)
+            cell.text(f"DESIGN WATER LEVEL +{p.water_level_m:.3f}", x_far, zw + P(1),
+                      d.L_WATER, A.BOTTOM_RIGHT)
+
+    # bars
+    cats = {}
+    for r in rows:
+        cats.setdefault(_category(r.member), []).append(r)
+    has_front = reinf.stem_front is not None or "stem_front" in cats
+    g = _bars(sec, reinf, hd, hc, site.concrete.cover_mm / 1000.0,
+              site.concrete.cover_ground_mm / 1000.0, has_front)
+    for key in ("stem", "stem_curtailed", "stem_front", "heel", "toe"):
+        if key in g:
+            cell.poly(g[key], d.L_BARS)
+    if "key" in g and "key" in cats:
+        cell.poly(g["key"], d.L_BARS)
+    rmin = P(0.35)
+    for key in ("stem_horizontal_dots", "base_distribution_dots"):
+        xs, zs, phi = g[key]
+        for x, z in zip(xs, zs):
+            cell.circle(x, z, max(phi / 2, rmin), d.L_DOTS)
+
+    # bar marks with leaders; anchors on the drawn bars
+    def on(poly, f):
+        pts = np.asarray(poly, dtype=float)
+        seg = np.hypot(*np.diff(pts, axis=0).T)
+        s = f * seg.sum()
+        k = int(np.searchsorted(np.cumsum(seg), s))
+        k = min(k, len(seg) - 1)
+        s0 = np.cumsum(seg)[k] - seg[k]
+        u = (s - s0) / seg[k] if seg[k] > 0 else 0.0
+        return tuple(pts[k] + u * (pts[k + 1] - pts[k]))
+
+    def dot(key, i_from_end=False):
+        xs, zs, _ = g[key]
+        if len(xs) == 0:
+            return (toe, tb)
+        i = len(xs) // 4 if not i_from_end else len(xs) // 2 + len(xs) // 4
+        return (float(xs[i]), float(zs[i]))
+
+    spacing = {"stem": reinf.stem.spacing_mm, "heel": reinf.heel.spacing_mm,
+               "toe": reinf.toe.spacing_mm,
+               "stem_horizontal": reinf.stem_horizontal.spacing_mm,
+               "base_distribution": reinf.base_distribution.spacing_mm,
+               "stem_front": reinf.stem_front.spacing_mm if reinf.stem_front else None}
+    stem_rows = sorted(cats.get("stem", []), key=lambda r: -r.length_mm)
+    left, right = [], []
+    for cat, rs in cats.items():
+        for i, r in enumerate(rs if cat != "stem" else stem_rows):
+            if cat == "stem":
+                poly = g["stem_curtailed"] if (i == 1 and "stem_curtailed" in g) else g["stem"]
+                anchor = on(poly, 0.25 + 0.1 * i)
+                sp = spacing["stem"] * (2 if "stem_curtailed" in g and len(stem_rows) > 1 else 1)
+                side = right
+            elif cat in ("heel", "toe", "stem_front", "key"):
+                poly = g.get(cat) or g["heel"]
+                anchor = on(poly, {"heel": 0.8, "toe": 0.15, "stem_front": 0.55,
+                                   "key": 0.5}[cat] + 0.05 * i)
+                sp = spacing.get(cat)
+                side = right if cat == "heel" else left
+            elif cat == "stem_horizontal":
+                anchor, sp, side = dot("stem_horizontal_dots", True), spacing[cat], right
+            elif cat == "base_distribution":
+                anchor, sp, side = dot("base_distribution_dots"), spacing[cat], right
+            else:
+                anchor, sp, side = (B / 2, tb / 2), None, right
+            desc = f"{r.bar_mark}  {r.bar_mm} mm" + (f" at {sp:g} mm" if sp else "") + \
+                f"  ({r.member})"
+            side.append((anchor, r.bar_mark, desc))
+    right.sort(key=lambda t: -t[0][1])
+    left.sort(key=lambda t: -t[0][1])
+    z_lab = tb + hd - P(4)
+    x_lab = B + P(10)
+    for anchor, _mark, desc in right:
+        cell.line(anchor, (x_lab - P(1), z_lab), d.L_MARKS)
+        cell.circle(anchor[0], anchor[1], P(0.4), d.L_MARKS)
+        cell.text(desc, x_lab, z_lab, d.L_MARKS, A.MIDDLE_LEFT)
+        z_lab -= P(6)
+    z_lab = tb + hd * 0.75
+    x_lab = -P(24)
+    for anchor, _mark, desc in left:
+        cell.line(anchor, (x_lab + P(1), z_lab), d.L_MARKS)
+        cell.circle(anchor[0], anchor[1], P(0.4), d.L_MARKS)
+        cell.text(desc, x_lab, z_lab, d.L_MARKS, A.MIDDLE_RIGHT)
+        z_lab -= P(6)
+
+    # bar table
+    x0 = B_max + P(78)
+    z0 = tb + hd
+    cols = [("mark", 0), ("member", 12), ("dia mm", 44), ("shape", 58), ("length mm", 72),
+            ("number", 92)]
+    width = P(106)
+    cell.text(f"BARS OF SECTION {st.section_type}", x0, z0 + P(3), d.L_TABLE, A.BOTTOM_LEFT,
+              mm=d.TEXT_MM)
+    for name, off in cols:
+        cell.text(name, x0 + P(off + 1), z0 - P(2.5), d.L_TABLE, A.MIDDLE_LEFT)
+    cell.line((x0, z0 - P(5)), (x0 + width, z0 - P(5)), d.L_TABLE)
+    z = z0 - P(8)
+    for r in rows:
+        vals = [r.bar_mark, r.member, f"{r.bar_mm}", r.shape_code, f"{r.length_mm}",
+                f"{r.number}"]
+        for (_, off), v in zip(cols, vals):
+            cell.text(v, x0 + P(off + 1), z, d.L_TABLE, A.MIDDLE_LEFT)
+        z -= P(5)
+    cell.poly([(x0, z0), (x0 + width, z0), (x0 + width, z + P(2)), (x0, z + P(2))],
+              d.L_TABLE, close=True)
+    if not rows:
+        cell.text("no bar schedule rows for this section type", x0 + P(1), z, d.L_TABLE)
+
+    # dimensions
+    zk = -kd
+    row_key, row1, row2 = zk - P(5), zk - P(13), zk - P(21)
+    cell.dim("toe_m", (0.0, 0.0), (toe, 0.0), (0.0, row1))
+    cell.dim("stem_base_m", (toe, 0.0), (toe + tsb, 0.0), (0.0, row1))
+    cell.dim("heel_m", (toe + tsb, 0.0), (B, 0.0), (0.0, row1))
+    cell.dim("base_width_m", (0.0, 0.0), (B, 0.0), (0.0, row2))
+    cell.dim("base_thickness_m", (0.0, 0.0), (0.0, tb), (-P(8), 0.0), vertical=True)
+    cell.dim("stem_height_m", (toe, tb), (toe, tb + hd), (-P(16), 0.0), vertical=True)
+    cell.dim("stem_top_m", (toe, tb + hd), (toe + tst, tb + hd), (0.0, tb + hd + P(7)))
+    if kd > 0 and kw > 0:
+        cell.dim("key_width_m", (toe, zk), (toe + kw, zk), (0.0, row_key))
+        cell.dim("key_depth_m", (toe + kw, zk), (toe + kw, 0.0), (toe + kw + P(6), 0.0),
+                 vertical=True)
+
+    # levels
+    top = max(p.wall_top_start_m, p.wall_top_end_m)
+    cell.level_tag(f"TOP OF WALL +{top:.3f}", toe + tst + P(3), tb + hd)
+    zB = zt + (B - xb) * t
+    cell.level_tag(f"RETAINED +{p.retained_top_m:.3f}", B + P(20), zB + (P(20)) * t)
+    cell.level_tag(f"FRONT GROUND +{p.front_min_m:.3f}", -P(30), zf, left=True)
+    cell.level_tag(f"UNDERSIDE OF BASE +{p.founding_m:.3f}", -P(30), 0.0, left=True)
+
+    # title and design conditions
+    names = st.panels or tuple(q.panel.panel for q in result.panels
+                               if q.section_type == st.section_type)
+    listing = ", ".join(names[:8]) + (f" ... ({len(names)} panels)" if len(names) > 8 else "")
+    cell.text(f"SECTION {st.section_type}", -P(40), tb + hd + P(20), d.L_TITLES,
+              A.BOTTOM_LEFT, mm=d.TITLE_MM)
+    cell.text(f"panels {listing}; drawn at {p.panel}, the tallest", -P(40),
+              tb + hd + P(15), d.L_TITLES, A.BOTTOM_LEFT)
+    bf, fd = p.backfill, p.foundation
+    h, H, D = p.retained_height_m, p.total_height_m, p.front_min_m - p.founding_m
+    water = (f"water behind the wall at +{p.water_level_m:.3f}" if p.water_level_m is not None
+             else "no water behind the wall (drained)")
+    allow = (f"{fd.allowable_bearing_kpa:g} kPa" if fd.allowable_bearing_kpa > 0
+             else "not given")
+    lines = [
+        f"DESIGN CONDITIONS at {p.panel}, {p.side} side, ch {d.chainage_label(p.ch_start_m)} "
+        f"to {d.chainage_label(p.ch_end_m)}",
+        f"retained height h = {h:.2f} m, total height H = {H:.2f} m, founding depth "
+        f"D = {D:.2f} m",
+        f"backfill: unit weight {bf.unit_weight_kn_m3:g} kN/m3, phi'k = "
+        f"{bf.friction_angle_deg:g} deg, surface slope {bf.slope_deg:g} deg",
+        f"foundation: unit weight {fd.unit_weight_kn_m3:g} kN/m3, phi'k = "
+        f"{fd.friction_angle_deg:g} deg, c'k = {fd.cohesion_kpa:g} kPa, "
+        f"cu = {fd.undrained_strength_kpa:g} kPa, allowable bearing {allow}",
+        f"surcharge q = {p.surcharge_kpa:g} kPa; {water}",
+        f"concrete {site.concrete.strength_class}, cover {site.concrete.cover_mm:g} mm "
+        f"({site.concrete.cover_ground_mm:g} mm against ground); steel fyk "
+        f"{site.steel.fyk_mpa:g} MPa",
+        f"governing: {st.governing}, utilization {st.utilization:.2f}",
+    ]
+    z = row2 - P(9)
+    for ln in lines:
+        cell.text(ln, -P(40), z, d.L_CONDITIONS, A.MIDDLE_LEFT)
+        z -= P(4.2)
+    return z
+
+
+def write_sections(result, path) -> None:
+    """Write one cross-section per section type of ``result`` to ``path``.
+
+    Raises RuntimeError if the DXF audit reports errors (nothing is written then).
+    """
+    scale = section_scale(result)
+    doc = d.new_document(scale, "cross-sections")
+    if APPID not in doc.appids:
+        doc.appids.new(APPID)
+    msp = doc.modelspace()
+    P = lambda mm: d.paper(mm, scale)  # noqa: E731
+    B_max, above, below = _extent(result, scale)
+    types = [st for st in result.section_types if governing_panel(result, st.section_type)]
+    left, right = P(75), B_max + P(78 + 106 + 8)
+    top, bottom = above + P(28), below + P(21 + 9 + 8 * 4.2 + 6)
+    cw, ch = left + right, top + bottom
+    ncols = max(1, min(3, len(types)))
+    for i, st in enumerate(types):
+        col, row = i % ncols, i // ncols
+        ox, oy = col * cw + left, -row * ch - top
+        start = len(msp)
+        cell = _Cell(doc, msp, (ox, oy), scale)
+        cell.poly([(-left + P(2), -bottom + P(2)), (right - P(2), -bottom + P(2)),
+                   (right - P(2), top - P(2)), (-left + P(2), top - P(2))], d.L_FRAME,
+                  close=True)
+        _draw_cell(cell, result, st, governing_panel(result, st.section_type),
+                   _rows_for(result, st.section_type), B_max)
+        ents = list(msp)[start:]
+        grp = doc.groups.new(f"{d.SECTION_GROUP_PREFIX}{st.section_type}",
+                             description=f"section {st.section_type}")
+        grp.set_data(ents)
+    nrows = max(1, math.ceil(len(types) / ncols))
+    if not types:
+        d.add_text(msp, "No section types to draw.", (0.0, 0.0), P(d.TITLE_MM), d.L_TITLES)
+    d.sheet_furniture(msp, (ncols * cw, -nrows * ch - P(8) - P(d.TITLE_H_MM)), scale,
+                      result.site.project, "Cross-sections of the section types",
+                      f"1:{scale}",
+                      extra_title=(f"{len(types)} section type(s)",),
+                      extra_notes=("Each section is drawn at its tallest panel; bars are "
+                                   "shown schematically at their covers, distribution bars "
+                                   "as circles; bar marks refer to bar_schedule.csv.",))
+    d.audit_or_raise(doc, path)
+    doc.saveas(str(path))
