@@ -350,7 +350,7 @@ def test_panel_row_values():
     r = own_sample_result()
     p = r.panels[0]
     row = report.panel_row(p)
-    assert list(row) == list(report.PANEL_COLUMNS)
+    assert set(row) == set(report.PANEL_COLUMNS)
     assert row["heel_m"] == pytest.approx(2.4 - 0.6 - 0.35)  # B - toe - stem base
     assert row["util_sliding"] == max(c.utilization for c in p.checks if c.check == "sliding")
     assert row["util_structural"] == max(c.utilization for c in p.checks
