@@ -69,14 +69,11 @@ class SampleProfiles:
         return LineString(np.column_stack([self.x, self.y]))
 
     def xy_at(self, ch):
+        """(x, y) arrays like ``wallrun.profile.Profiles.xy_at``; None without plan data."""
         if self.x is None:
-            raise ValueError("no plan coordinates")
+            return None
         c = np.asarray(ch, dtype=float)
-        xs = np.interp(c, self.g_ch, self.x)
-        ys = np.interp(c, self.g_ch, self.y)
-        if c.ndim == 0:
-            return np.array([float(xs), float(ys)])
-        return np.column_stack([xs, ys])
+        return np.interp(c, self.g_ch, self.x), np.interp(c, self.g_ch, self.y)
 
 
 S01 = Section(stem_top_m=0.25, stem_base_m=0.35, base_width_m=2.40, toe_m=0.60,

@@ -358,6 +358,8 @@ def xy_array(profiles, ch) -> np.ndarray:
         both = xy_array(profiles, np.array([ch[0], 0.5 * (ch[0] + ch[1]), ch[1]]))
         return both[[0, 2]]
     r = profiles.xy_at(ch)
+    if r is None:
+        raise ValueError("the profiles carry no plan coordinates")
     if isinstance(r, tuple) and len(r) == 2:
         return np.column_stack([np.ravel(np.asarray(r[0], dtype=float)),
                                 np.ravel(np.asarray(r[1], dtype=float))])
