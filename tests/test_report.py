@@ -424,3 +424,69 @@ def test_prints_to_pdf_in_headless_chromium(tmp_path):
     expected_min = 5 + len(r.section_types)
     assert pages >= expected_min, f"{pages} pages, expected at least {expected_min}"
     assert pages < 60
+
+
+# --- against design.json as the table writer renders it --------------------------------
+
+def appendix_rows(page):
+    """{panel: [(check, combination, case, utilization text), ...]} from the appendix."""
+    out = {}
+    for name, block in re.findall(r'<div class="pblock" id="panel-([^"]+)">(.*?)</div>',
+                                  page, flags=re.S):
+        rows = []
+        for row in re.findall(r"<tr[^>]*>(.*?)</tr>", block, flags=re.S)[1:]:
+            t = [html.unescape(re.sub(r"<[^>]+>", "", x))
+                 for x in re.findall(r"<td[^>]*>(.*?)</td>", row, flags=re.S)]
+            rows.append((t[0], t[1], t[2], t[6]))
+        out[html.unescape(name)] = rows
+    return out
+
+
+def assert_matches_design_json(result, page):
+    import json
+    tables = pytest.importorskip("wallrun.outputs.tables")
+    doc = json.loads(tables.design_json(result))
+    got = appendix_rows(page)
+    assert set(got) == {p["panel"] for p in doc["panels"]}
+    for p in doc["panels"]:
+        want = [(c["check"], c["combination"], c["case"],
+                 "inf" if c["utilization"] is None else f"{c['utilization']:.3f}")
+                for c in p["checks"]]
+        assert got[p["panel"]] == want, p["panel"]
+        assert f'id="type-{p["section"]["type"]}"' in page
+
+
+def test_matches_design_json_of_the_sample(result, page):
+    assert_matches_design_json(result, page)
+
+
+def test_demo_site_end_to_end(tmp_path):
+    """A real design of an invented demo site: every panel, type and check of its
+    design.json in the report, well formed."""
+    from pathlib import Path
+    site_dir = Path(__file__).resolve().parents[1] / "sites" / "platform-edge"
+    if not (site_dir / "site.toml").exists():
+        pytest.skip(f"demo site {site_dir} not in the tree")
+    site_mod = pytest.importorskip("wallrun.site")
+    pipeline = pytest.importorskip("wallrun.pipeline")
+    r = pipeline.design(site_mod.load_site(site_dir))
+    out = report.write_report(r, tmp_path / "report.html")
+    page = out.read_text(encoding="utf-8")
+    p = parse(page)
+    assert p.errors == [] and p.stack == []
+    assert_matches_design_json(r, page)
+    for st in r.section_types:
+        assert f'id="type-{st.section_type}"' in page
+
+
+def test_no_wall_needed_still_renders():
+    """A site where no wall is needed: no panels, no types; the report still carries
+    its cautions and stays well formed."""
+    r = own_sample_result()
+    empty = replace(r, runs=(), panels=(), joints=(), section_types=(), actions={},
+                    bar_schedule=(), quantities=(),
+                    cost=Cost((), 0.0, True, False))
+    page = report.render_report(empty, date="2031-04-02")
+    p = parse(page)
+    assert p.errors == [] and p.stack == []
+    assert "Preliminary design aid" in page and "No joints between panels" in page

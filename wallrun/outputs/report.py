@@ -983,13 +983,11 @@ def _appendix(result) -> str:
         for c in p.checks:
             nd = _decimals(c.unit)
             u = c.utilization
-            flag = "FAILS" if not (u <= 1.0) else ("G" if c.governs else "")
             tr = '<tr class="gov">' if c.governs else "<tr>"
-            if flag == "FAILS":
-                tr = '<tr class="gov">' if c.governs else "<tr>"
+            if not u <= 1.0:  # also NaN
                 mark = '<td class="bad">FAILS</td>'
             else:
-                mark = f"<td>{flag}</td>"
+                mark = "<td>G</td>" if c.governs else "<td></td>"
             rows.append(f'{tr}<td class="t">{esc(c.check)}</td><td class="t">'
                         f'{esc(c.combination)}</td><td class="t">{esc(c.case)}</td>'
                         f"<td>{_num(c.effect, nd)}</td><td>{_num(c.resistance, nd)}</td>"
