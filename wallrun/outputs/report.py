@@ -538,7 +538,7 @@ def _front(result, date: str) -> str:
                else f"FLAGGED: {n_bad} panel(s) and {j_bad} joint(s) flagged")
     pairs = [("project", name), ("reference", ref), ("date", date),
              ("wallrun version", wallrun.__version__),
-             ("site folder", getattr(site, "root", "")),
+             ("site folder", Path(str(getattr(site, "root", "") or "")).name),
              ("runs", len(result.runs)), ("panels", len(panels)),
              ("length of wall", f"{length:.2f} m"),
              ("section types", len(result.section_types)),
