@@ -71,6 +71,9 @@ _L = [
     # every sheet
     Layer("WALLRUN-SHEET-FRAME", 7, "CONTINUOUS", 35, "title block frame and text"),
     Layer("WALLRUN-CAUTIONS", 1, "CONTINUOUS", 25, "notes and cautions"),
+    # the only layer whose entities carry their own colour and linetype: the line
+    # samples of a key, which copy the look of the layer they explain
+    Layer("WALLRUN-KEY-SAMPLES", 7, "CONTINUOUS", 25, "line samples of the key"),
 ]
 LAYERS: dict[str, Layer] = {lay.name: lay for lay in _L}
 
@@ -102,6 +105,16 @@ L_CONDITIONS = "WALLRUN-DESIGN-DATA"
 L_TITLES = "WALLRUN-CELL-TITLES"
 L_FRAME = "WALLRUN-SHEET-FRAME"
 L_NOTES = "WALLRUN-CAUTIONS"
+L_KEY = "WALLRUN-KEY-SAMPLES"
+
+
+def key_sample(msp, p, q, layer: str):
+    """A LINE from p to q on the key layer drawn like ``layer`` (its colour, linetype
+    and lineweight), so that the layer itself holds only the real geometry."""
+    lay = LAYERS[layer]
+    return msp.add_line(p, q, dxfattribs={"layer": L_KEY, "color": lay.color,
+                                          "linetype": lay.linetype,
+                                          "lineweight": lay.lineweight})
 
 SECTION_GROUP_PREFIX = "WALLRUN-SECTION-"  # DXF group per section type
 TEXT_STYLE = "WALLRUN-LETTERING"

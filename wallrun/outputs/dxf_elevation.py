@@ -197,7 +197,7 @@ def write_elevation(result, path) -> None:
     d.add_text(msp, "KEY", (a, ytop - P(2.5)), txt, d.L_FRAME, A.MIDDLE_LEFT)
     for i, (layer, label) in enumerate(key, start=1):
         y = ytop - P(2.5) - P(5) * i
-        msp.add_line((a, y), (a + P(15), y), dxfattribs={"layer": layer})
+        d.key_sample(msp, (a, y), (a + P(15), y), layer)
         d.add_text(msp, label, (a + P(18), y), small, d.L_FRAME, A.MIDDLE_LEFT)
     right = max(b, a + P(KEY_W_MM + 6 + d.NOTES_W_MM + 6 + d.TITLE_W_MM))
     ve_text = f"vertical exaggeration x{ve:g} (vertical 1:{scale / ve:g})"
