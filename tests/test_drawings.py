@@ -177,11 +177,29 @@ def test_dimensions_equal_section_dimensions(out, result):
                 "stem_height_m": stem_heights(governing_panel(result, st.section_type))[0]}
         if s.key_depth_m > 0:
             want |= {"key_depth_m": s.key_depth_m, "key_width_m": s.key_width_m}
+        want = {k: v for k, v in want.items() if v > 0}  # no zero-length dimensions
         assert set(dims) == set(want), st.section_type
         for k, v in want.items():
             assert dims[k] == pytest.approx(v, abs=1e-9), (st.section_type, k)
     # S01 stem height by hand: P003 top 52.35 - founding 48.60 - base 0.35 = 3.40 m
     assert stem_heights(governing_panel(result, "S01"))[0] == pytest.approx(3.40)
+
+
+def test_no_toe_section_has_no_zero_dimension(tmp_path):
+    r = sample_result()
+    st = r.section_types[1]
+    sec = replace(st.section, toe_m=0.0, base_width_m=st.section.base_width_m - 0.45)
+    r = replace(r, section_types=(r.section_types[0], replace(st, section=sec)),
+                panels=tuple(replace(pr, section=sec) if pr.section_type == "S02" else pr
+                             for pr in r.panels))
+    write_sections(r, tmp_path / "s.dxf")
+    doc, _ = _read(tmp_path / "s.dxf")
+    assert not doc.audit().has_errors
+    names = {e.get_xdata(APPID)[0].value: e.get_measurement()
+             for e in _group(doc, "S02") if e.dxftype() == "DIMENSION"}
+    assert "toe_m" not in names
+    assert names["base_width_m"] == pytest.approx(1.35)
+    assert names["heel_m"] == pytest.approx(1.35 - 0.30)
 
 
 def test_section_outline_levels_and_conditions(out, result):

@@ -18,8 +18,9 @@ base, m (design-basis section 2). A cell holds:
 - every bar mark of the type's ``bar_schedule`` rows, both at a leader to its bar and
   in a bar table beside the section;
 - DIMENSION entities (rendered) for toe, stem base thickness, heel, base width, base
-  thickness, stem top thickness, stem height and key depth/width; each carries its
-  name as XDATA of application ``WALLRUN`` (e.g. ``base_width_m``);
+  thickness, stem top thickness, stem height and key depth/width (none of zero length,
+  e.g. no toe); each carries its name as XDATA of application ``WALLRUN`` (e.g.
+  ``base_width_m``);
 - level labels (top of wall, retained level, front ground, underside of base) and
   the design conditions of the governing panel.
 
@@ -105,6 +106,10 @@ class _Cell:
         return self.msp.add_circle(self.pt(x, z), r, dxfattribs={"layer": layer})
 
     def dim(self, name, p1, p2, base, vertical=False):
+        """A rendered linear DIMENSION named by XDATA; none for a zero length (e.g. no
+        toe)."""
+        if math.hypot(p2[0] - p1[0], p2[1] - p1[1]) < 1e-9:
+            return None
         dim = self.msp.add_linear_dim(base=self.pt(*base), p1=self.pt(*p1), p2=self.pt(*p2),
                                       angle=90.0 if vertical else 0.0, dimstyle=d.DIM_STYLE,
                                       dxfattribs={"layer": d.L_DIMS})

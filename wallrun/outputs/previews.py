@@ -3,7 +3,8 @@
 ``elevation.png`` (1800 x 600 px, white background; a long wall in up to 8 stacked
 strips of consecutive chainage) from ``elevation.dxf`` and
 ``sections.pdf`` (one A3 landscape page per section type, then one page with the whole
-sheet) from ``sections.dxf``, drawn by ezdxf's drawing add-on through matplotlib's Agg
+sheet; beyond ``MAX_SECTION_PAGES`` types, the rest are listed on a last page instead)
+from ``sections.dxf``, drawn by ezdxf's drawing add-on through matplotlib's Agg
 backend, so the previews show exactly what the DXF holds.
 
 A very long elevation (more than ``MAX_ELEVATION_TEXTS`` TEXT entities) is previewed
@@ -15,6 +16,7 @@ slow to render and invisible at that size); every line is still drawn.
 from __future__ import annotations
 
 import math
+import textwrap
 from pathlib import Path
 
 import matplotlib
@@ -38,6 +40,7 @@ ELEVATION_PX = (1800, 600)
 DPI = 100
 MAX_ELEVATION_TEXTS = 1500
 MAX_STRIPS = 8
+MAX_SECTION_PAGES = 30
 A3_IN = (16.54, 11.69)
 
 _CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,
@@ -134,9 +137,11 @@ def _group_box(entities) -> tuple[float, float, float, float] | None:
 def render_sections_pdf(dxf_path, pdf_path) -> None:
     """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet."""
     doc = ezdxf.readfile(str(dxf_path))
-    groups = [(name, g) for name, g in doc.groups if name.startswith(d.SECTION_GROUP_PREFIX)]
+    groups = sorted(((name, g) for name, g in doc.groups
+                     if name.startswith(d.SECTION_GROUP_PREFIX)), key=lambda t: t[0])
+    shown, rest = groups[:MAX_SECTION_PAGES], groups[MAX_SECTION_PAGES:]
     with PdfPages(str(pdf_path)) as pdf:
-        for _name, g in sorted(groups, key=lambda t: t[0]):
+        for _name, g in shown:
             ents = list(g)
             handles = {e.dxf.handle for e in ents}
             box = _group_box(ents)
@@ -145,6 +150,15 @@ def render_sections_pdf(dxf_path, pdf_path) -> None:
             if box:
                 _keep_aspect_limits(ax, box, A3_IN)
             pdf.savefig(fig, facecolor="white")
+        if rest:
+            fig = Figure(figsize=A3_IN, dpi=DPI, facecolor="white")
+            FigureCanvasAgg(fig)
+            names = ", ".join(n[len(d.SECTION_GROUP_PREFIX):] for n, _ in rest)
+            fig.text(0.05, 0.9, f"{len(rest)} more section types are drawn in sections.dxf "
+                     f"but not previewed here:", fontsize=12)
+            fig.text(0.05, 0.85, "\n".join(textwrap.wrap(names, 150)), fontsize=9, va="top")
+            pdf.savefig(fig, facecolor="white")
+            return  # the whole sheet is too large to preview usefully
         fig, ax = _figure(A3_IN)
         _draw(doc, ax)
         box = _group_box(doc.modelspace())
