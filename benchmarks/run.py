@@ -129,11 +129,14 @@ def run_one(km: float, write: bool = True) -> dict:
         stages["design_other"] = max(t_design - sum(stages.values()), 0.0)
         n_panels = len(result.panels)
         if write:
-            from wallrun.outputs.write import write_outputs
             with tempfile.TemporaryDirectory() as tmp:
                 t0 = time.perf_counter()
-                write_outputs(result, os.path.join(tmp, "out"))
-                stages["write_outputs"] = time.perf_counter() - t0
+                try:
+                    from wallrun.outputs.write import write_outputs
+                    write_outputs(result, os.path.join(tmp, "out"))
+                    stages["write_outputs"] = time.perf_counter() - t0
+                except ImportError as e:  # an output module not written yet
+                    print(f"note: outputs not written ({e})", file=sys.stderr)
         flagged = sum(p.status != "ok" for p in result.panels)
     else:
         from wallrun import panels as pn

@@ -395,7 +395,7 @@ class _Search:
 
     def __init__(self, bounds: SearchBounds, f, lb, chunk: int = 20000):
         self.bounds, self.f, self.lb, self.chunk = bounds, f, lb, chunk
-        self.seen: set[int] = set()
+        self.codes = np.zeros(0, dtype=np.int64)  # codes of the evaluated candidates
         self.V = np.zeros((0, _NDIM), dtype=np.int64)
         self.ok = np.zeros(0, dtype=bool)
         self.cost = np.zeros(0)
@@ -423,8 +423,8 @@ class _Search:
         codes = _codes(v)
         codes, first = np.unique(codes, return_index=True)
         v = v[first]
-        if self.seen:
-            new = ~np.isin(codes, np.fromiter(self.seen, dtype=np.int64, count=len(self.seen)))
+        if len(self.codes):
+            new = ~np.isin(codes, self.codes, assume_unique=True)
             v, codes = v[new], codes[new]
         if not len(v):
             return
@@ -439,7 +439,7 @@ class _Search:
             self.ok = np.concatenate([self.ok, ok])
             self.cost = np.concatenate([self.cost, cost])
             self.util = np.concatenate([self.util, util])
-        self.seen.update(codes.tolist())
+        self.codes = np.concatenate([self.codes, codes])
 
     def seeds(self, m: int) -> list[np.ndarray]:
         """Starting points for the local search: the ``m`` cheapest passing candidates,
@@ -452,31 +452,45 @@ class _Search:
         return [self.V[i] for i in idx]
 
     def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60) -> None:
-        """Descent from ``start``: each step evaluates the joint neighbourhood (every
-        combination of offsets -radius..radius in all seven integers) and, because
-        feasibility in the toe length is not convex (a toe a little longer or shorter
-        can fail while a longer one passes), the whole toe range 0..B/2 at base widths
-        two steps narrower to one step wider and base thicknesses one step either side;
-        it moves to the cheapest passing candidate (or, while nothing passes, the least
-        utilised) until nothing improves."""
-        offs = _offsets(radius)
+        """Descent from ``start``. A step evaluates a neighbourhood and moves to the
+        cheapest passing candidate (or, while nothing passes, the least utilised).
+
+        Neighbourhoods: first the offsets -radius..radius in every combination of base
+        width, toe, base thickness and stem base thickness, with (because feasibility in
+        the toe length is not convex: a toe a little longer or shorter can fail while a
+        longer one passes) the whole toe range 0..B/2 at base widths two steps narrower
+        to one step wider and base thicknesses one step either side; once that settles,
+        the joint neighbourhood of all seven integers (stem top and key too), after
+        which the small neighbourhood runs again; until nothing improves."""
+        small = np.zeros((3 ** 4, _NDIM), dtype=np.int64)
+        small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
+        full = _offsets(radius)
         toes = self.bounds.axes()[1]
-        line = np.array([(db, dt) for db in (-2, -1, 0, 1) for dt in (-1, 0, 1)], dtype=np.int64)
+        line = np.array([(db, dt) for db in (-1, 0) for dt in (0,)], dtype=np.int64)
         cur = np.asarray(start, dtype=np.int64)
+        use_full = False
         for _ in range(max_iter):
-            tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
-            tl[:, 0] += np.repeat(line[:, 0], len(toes))
-            tl[:, 2] += np.repeat(line[:, 1], len(toes))
-            tl[:, 1] = np.tile(toes, len(line))
-            self.run(np.vstack([cur[None, :] + offs, tl]))
+            if use_full:
+                cand = cur[None, :] + full
+            else:
+                tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
+                tl[:, 0] += np.repeat(line[:, 0], len(toes))
+                tl[:, 2] += np.repeat(line[:, 1], len(toes))
+                tl[:, 1] = np.tile(toes, len(line))
+                cand = np.vstack([cur[None, :] + small, tl])
+            self.run(cand)
             b = self.best()
             if b is not None:
                 nxt = self.V[b]
             else:
                 nxt = self.V[int(np.argmin(self.util))] if len(self.util) else cur
             if np.array_equal(nxt, cur):
-                return
-            cur = nxt
+                if use_full:
+                    return
+                use_full = True
+            else:
+                use_full = False
+                cur = nxt
 
 
 # --- bespoke -------------------------------------------------------------------------
@@ -604,13 +618,15 @@ class Designer:
         near = self._neighbours(demand) if self.warm else []
         starts = [v for v in (bounds.vector_of(sec) for sec in near) if v is not None]
         if starts:
-            # warm start: the nearest designs and the neighbourhood of the nearest, at once
-            offs = _offsets(1)
-            s.run(np.vstack([np.array(starts), starts[0][None, :] + offs]), prune=False)
+            # warm start: the nearest designs as they are, then the descent from the
+            # best of them (pruned by the best cost found)
+            s.run(np.array(starts), prune=False)
+            for v in s.seeds(1):  # none when every start lies outside these bounds
+                s.local(v)
         if s.best() is None:  # cold start (or the warm start found nothing passing)
             s.run(grid(bounds, self.stride))
-        for v in s.seeds(1 if starts else self.n_seeds):
-            s.local(v)
+            for v in s.seeds(self.n_seeds):
+                s.local(v)
         self.evaluated += s.evaluated
         b = s.best()
         cands = []
