@@ -15,8 +15,9 @@ base, m (design-basis section 2). A cell holds:
   ``stem_curtail_m``), front-face vertical bars, the base top (heel) and bottom (toe)
   mats, and the distribution bars cut in section as circles (drawn at least 0.7 mm
   across on paper so that they show; real size when larger);
-- every bar mark of the type's ``bar_schedule`` rows, both at a leader to its bar and
-  in a bar table beside the section;
+- every bar mark of the type's ``bar_schedule`` rows in a bar table beside the section
+  (one TEXT per mark), and at leaders to the drawn bars: one leader per member and
+  diameter, naming its marks (up to three, else the first and last and the count);
 - DIMENSION entities (rendered) for toe, stem base thickness, heel, base width, base
   thickness, stem top thickness, stem height and key depth/width (none of zero length,
   e.g. no toe); each carries its name as XDATA of application ``WALLRUN`` (e.g.
@@ -286,30 +287,42 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
                "stem_horizontal": reinf.stem_horizontal.spacing_mm,
                "base_distribution": reinf.base_distribution.spacing_mm,
                "stem_front": reinf.stem_front.spacing_mm if reinf.stem_front else None}
-    stem_rows = sorted(cats.get("stem", []), key=lambda r: -r.length_mm)
-    left, right = [], []
+    # one leader per group of marks: (member, diameter); the stem main bars split into
+    # the full-height and the curtailed set (longer / shorter half) where curtailed
+    groups: dict[tuple, list] = {}
     for cat, rs in cats.items():
-        for i, r in enumerate(rs if cat != "stem" else stem_rows):
-            if cat == "stem":
-                poly = g["stem_curtailed"] if (i == 1 and "stem_curtailed" in g) else g["stem"]
-                anchor = on(poly, 0.25 + 0.1 * i)
-                sp = spacing["stem"] * (2 if "stem_curtailed" in g and len(stem_rows) > 1 else 1)
-                side = right
-            elif cat in ("heel", "toe", "stem_front", "key"):
-                poly = g.get(cat) or g["heel"]
-                anchor = on(poly, {"heel": 0.8, "toe": 0.15, "stem_front": 0.55,
-                                   "key": 0.5}[cat] + 0.05 * i)
-                sp = spacing.get(cat)
-                side = right if cat == "heel" else left
-            elif cat == "stem_horizontal":
-                anchor, sp, side = dot("stem_horizontal_dots", True), spacing[cat], right
-            elif cat == "base_distribution":
-                anchor, sp, side = dot("base_distribution_dots"), spacing[cat], right
-            else:
-                anchor, sp, side = (B / 2, tb / 2), None, right
-            desc = f"{r.bar_mark}  {r.bar_mm} mm" + (f" at {sp:g} mm" if sp else "") + \
-                f"  ({r.member})"
-            side.append((anchor, r.bar_mark, desc))
+        for r in rs:
+            sub = 0
+            if cat == "stem" and "stem_curtailed" in g and len(rs) > 1:
+                med = float(np.median([q.length_mm for q in rs]))
+                sub = 0 if r.length_mm >= med else 1
+            groups.setdefault((cat, r.member, r.bar_mm, sub), []).append(r)
+    left, right = [], []
+    seen: dict[str, int] = {}
+    for (cat, member, phi, sub), rs in groups.items():
+        i = seen[cat] = seen.get(cat, -1) + 1  # leaders of one bar spread along it
+        if cat == "stem":
+            poly = g["stem_curtailed"] if sub == 1 else g["stem"]
+            anchor = on(poly, 0.25 + 0.08 * i)
+            sp = spacing["stem"] * (2 if "stem_curtailed" in g and len(cats["stem"]) > 1 else 1)
+            side = right
+        elif cat in ("heel", "toe", "stem_front", "key"):
+            poly = g.get(cat) or g["heel"]
+            anchor = on(poly, {"heel": 0.8, "toe": 0.15, "stem_front": 0.55,
+                               "key": 0.5}[cat] + 0.05 * i)
+            sp = spacing.get(cat)
+            side = right if cat == "heel" else left
+        elif cat == "stem_horizontal":
+            anchor, sp, side = dot("stem_horizontal_dots", True), spacing[cat], right
+        elif cat == "base_distribution":
+            anchor, sp, side = dot("base_distribution_dots"), spacing[cat], right
+        else:
+            anchor, sp, side = (B / 2, tb / 2), None, right
+        marks = [r.bar_mark for r in rs]
+        mtext = ", ".join(marks) if len(marks) <= 3 else \
+            f"{marks[0]} ... {marks[-1]} ({len(marks)} marks)"
+        desc = f"{mtext}  {phi} mm" + (f" at {sp:g} mm" if sp else "") + f"  ({member})"
+        side.append((anchor, marks[0], desc))
     right.sort(key=lambda t: -t[0][1])
     left.sort(key=lambda t: -t[0][1])
     z_lab = tb + hd - P(4)
@@ -425,6 +438,11 @@ def write_sections(result, path) -> None:
     types = [st for st in result.section_types if governing_panel(result, st.section_type)]
     left, right = P(75), B_max + P(78 + 106 + 8)
     top, bottom = above + P(28), below + P(21 + 9 + 8 * 4.2 + 6)
+    for st in types:  # room for the longest bar table below the top of its section
+        pr = governing_panel(result, st.section_type)
+        z0 = st.section.base_thickness_m + stem_heights(pr)[0]
+        n = len(_rows_for(result, st.section_type))
+        bottom = max(bottom, P(8 + 5 * n + 8) - z0)
     cw, ch = left + right, top + bottom
     ncols = max(1, min(3, len(types)))
     for i, st in enumerate(types):
