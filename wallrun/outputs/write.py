@@ -59,6 +59,9 @@ def write_outputs(result: DesignResult, out_dir) -> list[str]:
     out = Path(out_dir).resolve()
     out.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes 0700; the output is an ordinary folder
     try:
         names = write_all(result, tmp)
         old = None
