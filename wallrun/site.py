@@ -367,7 +367,7 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
                    f"expected column names {','.join(required)}")
         else:
             pr.add(f"{label}:{hline}: header {','.join(header)!s} names none of the columns "
-                   f"{','.join(known)}")
+                   f"{','.join(known)}" + _separator_hint(htext))
         return None
     bad = False
     for h in header:
@@ -403,6 +403,16 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
                      skipinitialspace=True, skip_blank_lines=False)
     df.columns = header
     return df, [ln for ln, _ in data]
+
+
+def _separator_hint(header_text: str) -> str:
+    """A hint when the header is split by another character than a comma."""
+    if "," in header_text:
+        return ""
+    for ch, what in ((";", "';'"), ("\t", "tabs"), ("|", "'|'")):
+        if ch in header_text:
+            return f"; the fields are separated by {what}: profile and table files are comma-separated"
+    return ""
 
 
 def _looks_numeric(s: str) -> bool:
@@ -564,7 +574,8 @@ def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSe
         if r["stem_top_m"] > r["stem_base_m"]:
             pr.add(f"{label}:{ln}: stem_top_m {_g(r['stem_top_m'])} exceeds stem_base_m "
                    f"{_g(r['stem_base_m'])}; the stem tapers towards its top")
-        heel = r["base_width_m"] - r["toe_m"] - r["stem_base_m"]
+        # rounded to a micrometre: 0.90 - 0.60 - 0.30 is 1.1e-16 in floating point
+        heel = round(r["base_width_m"] - r["toe_m"] - r["stem_base_m"], 6)
         if heel <= 0:
             pr.add(f"{label}:{ln}: heel = base_width_m - toe_m - stem_base_m = {heel:.3g} m; "
                    "must be > 0")
@@ -611,9 +622,63 @@ def read_rates(path: Path, pr: _Problems) -> tuple[Rate, ...] | None:
             pr.add(f"{label}:{lines[i]}: unit: blank")
         if rate[i] < 0:
             pr.add(f"{label}:{lines[i]}: rate: must be >= 0, got {_g(rate[i])}")
+        if it and units[i]:
+            want = _item_unit(it)
+            if want is None:
+                pr.warnings.append(f"{label}:{lines[i]}: item '{it}' is not a take-off item; "
+                                   "its rate is ignored")
+            elif _unit_key(units[i]) != _unit_key(want):
+                pr.add(f"{label}:{lines[i]}: unit '{units[i]}' does not match the unit of "
+                       f"'{it}', which is {want}")
     if len(pr.items) > n0:
         return None
     return tuple(Rate(items[i], units[i], float(rate[i])) for i in range(len(items)))
+
+
+def _item_unit(item: str) -> str | None:
+    """Unit of a take-off item (m3, m2, m or kg), None for an item wallrun does not know."""
+    from wallrun import takeoff
+    try:
+        return takeoff.unit_of(item)
+    except (ValueError, KeyError):
+        return None
+
+
+def _unit_key(u: str) -> str:
+    return (u.strip().lower().replace("\u00b3", "3").replace("\u00b2", "2")
+            .replace("^", "").replace(" ", ""))
+
+
+def _level_gap_problem(ground: ProfileData, finished: ProfileData | None,
+                       alignment, lo: float, hi: float) -> str | None:
+    """A units slip between the two profiles: finished level and ground more than
+    ``MAX_LEVEL_JUMP_M`` apart somewhere on their common range (levels in mm in one
+    file, chainage in km, a wrong datum). No cantilever wall retains that much."""
+    from wallrun.profile import alignment_curves, alignment_level
+    pts = [np.linspace(lo, hi, 201), ground.chainage_m]
+    if finished is not None:
+        pts.append(finished.chainage_m)
+    else:
+        pts.append(np.array([p.chainage_m for p in alignment]))
+    ch = np.unique(np.concatenate(pts))
+    ch = ch[(ch >= lo) & (ch <= hi)]
+    g = np.interp(ch, ground.chainage_m, ground.level_m)
+    if finished is not None:
+        f, fsrc = np.interp(ch, finished.chainage_m, finished.level_m), finished.source
+    else:
+        a_ch = np.array([p.chainage_m for p in alignment])
+        a_lv = np.array([p.level_m for p in alignment])
+        a_L = np.array([p.curve_length_m for p in alignment])
+        f = alignment_level(a_ch, a_lv, alignment_curves(a_ch, a_lv, a_L), ch)
+        fsrc = "the finished alignment"
+    d = np.abs(f - g)
+    k = int(np.argmax(d))
+    if d[k] <= MAX_LEVEL_JUMP_M:
+        return None
+    return (f"{ground.source} and {fsrc}: the finished level and the ground differ by "
+            f"{d[k]:.6g} m at ch {ch[k]:.6g} (ground {g[k]:.6g}, finished {f[k]:.6g}), more "
+            f"than {MAX_LEVEL_JUMP_M:g} m: levels must be in metres and chainages in metres "
+            "on the same datum in both")
 
 
 # --- the site ------------------------------------------------------------------------
@@ -706,6 +771,8 @@ def load_site(path) -> Site:
     if not root.is_dir():
         raise InputError(f"{path}: not a site folder")
     toml_path = root / SITE_FILE
+    if toml_path.is_dir():
+        raise InputError(f"{SITE_FILE}: is a folder in {root}, not a file")
     if not toml_path.is_file():
         raise InputError(f"{SITE_FILE}: not found in {root} (run 'wallrun new' for a starter site)")
     try:
@@ -852,6 +919,9 @@ def load_site(path) -> Site:
             pr.add(f"{ground.source} (ch {_g(g0)} to {_g(g1)}) and the {what} (ch {_g(f0)} to "
                    f"{_g(f1)}): the profiles do not overlap; they need a common chainage range")
         else:
+            gap = _level_gap_problem(ground, finished, alignment, lo, hi)
+            if gap:
+                pr.add(gap)
             _coverage_warnings(ground, f0, f1, what, warn)
             _plan_warnings(ground, finished, lo, hi, warn)
             for z in zones:
