@@ -205,3 +205,19 @@ def test_rationalise_at_most_max_types_and_every_panel_rechecked():
     # matrix optimum, never below it by more than rounding
     assert r.total_cost >= best * 0.999
     assert r.total_cost <= best * 1.05
+
+
+def test_stem_moment_table_is_conservative_and_close():
+    # the interpolated envelope (one call at 41 depths) against the stability module's
+    # own stem_moment at arbitrary depths: never below it (convexity), within 1 %
+    from wallrun import stability
+    d = demand(3.0, water=Water(height_above_base_m=1.0))
+    sec = sizing.SectionArrays.of([sizing.Section(0.2, 0.3, 2.8, 0.7, 0.3),
+                                   sizing.Section(0.2, 0.4, 3.0, 0.8, 0.45)])
+    cond = sizing.conditions_for(d, sec.base_thickness_m)
+    at = sizing._stem_moment_table(sec, cond, BASIS)
+    for y in np.linspace(0.05, 2.6, 23):
+        ex = stability.stem_moment(sec, cond, BASIS, np.full(2, y))
+        ap = at(np.full(2, y))
+        assert np.all(ap >= ex - 1e-9)
+        assert np.all(ap <= ex * 1.01 + 0.05)

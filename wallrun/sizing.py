@@ -200,7 +200,7 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     checks = list(stability.stability_checks(sec, cond, basis))
     actions = stability.member_actions(sec, cond, basis)
     qp = stability.member_moments_qp(sec, cond, basis)
-    stem_at = partial(stability.stem_moment, sec, cond, basis) if curtail else None
+    stem_at = _stem_moment_table(sec, cond, basis) if curtail else None
     h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m, float)
     if given is None:
         sr = structure.design_reinforcement(sec, actions, qp, basis, stem_moment_at=stem_at,
@@ -218,6 +218,44 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
     return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
                       ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U)
+
+
+def _stem_moment_table(sec: SectionArrays, cond: Conditions, basis: Basis, k: int = 41):
+    """``stem_moment_at(y)`` for the curtailment, from one call of
+    ``stability.stem_moment`` at k depths 0..h_c of every candidate, interpolated
+    linearly between them (kNm/m, y in m below z_top).
+
+    Conservative: the stem moment is convex in the depth (its second derivative is the
+    pressure on the stem, >= 0), so a chord lies on or above it and the interpolated
+    moment is never below the true one (curtailment only ever stops bars later).
+    """
+    from dataclasses import replace
+
+    from wallrun import stability
+
+    n = len(sec)
+    zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
+    hc = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
+    frac = np.linspace(0.0, 1.0, k)
+    rep = np.tile(np.arange(n), k)  # candidate of each row, depth-major
+    big = sec.subset(rep)
+    w = cond.water_level_m
+    cond_big = replace(cond, z_found=zf[rep] if np.ndim(cond.z_found) else cond.z_found,
+                       water_level_m=(np.broadcast_to(np.asarray(w, dtype=float), (n,))[rep]
+                                      if w is not None and np.ndim(w) else w))
+    ys = (frac[:, None] * hc[None, :]).ravel()
+    M = np.asarray(stability.stem_moment(big, cond_big, basis, ys), dtype=float).reshape(k, n)
+    cols = np.arange(n)
+
+    def at(y):
+        y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
+        i = np.minimum(np.floor(t).astype(int), k - 2)
+        a = t - i
+        return (1.0 - a) * M[i, cols] + a * M[i + 1, cols]
+
+    return at
 
 
 def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | None = None,
@@ -451,7 +489,8 @@ class _Search:
             idx = np.argsort(self.util, kind="stable")[:m]
         return [self.V[i] for i in idx]
 
-    def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60) -> None:
+    def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60,
+              extra: np.ndarray | None = None) -> None:
         """Descent from ``start``. A step evaluates a neighbourhood and moves to the
         cheapest passing candidate (or, while nothing passes, the least utilised).
 
@@ -461,7 +500,8 @@ class _Search:
         longer one passes) the whole toe range 0..B/2 at base widths two steps narrower
         to one step wider and base thicknesses one step either side; once that settles,
         the joint neighbourhood of all seven integers (stem top and key too), after
-        which the small neighbourhood runs again; until nothing improves."""
+        which the small neighbourhood runs again; until nothing improves. ``extra``
+        candidates are evaluated with the first neighbourhood."""
         small = np.zeros((3 ** 4, _NDIM), dtype=np.int64)
         small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
         full = _offsets(radius)
@@ -478,6 +518,8 @@ class _Search:
                 tl[:, 2] += np.repeat(line[:, 1], len(toes))
                 tl[:, 1] = np.tile(toes, len(line))
                 cand = np.vstack([cur[None, :] + small, tl])
+            if extra is not None:
+                cand, extra = np.vstack([np.asarray(extra, dtype=np.int64), cand]), None
             self.run(cand)
             b = self.best()
             if b is not None:
@@ -620,9 +662,7 @@ class Designer:
         if starts:
             # warm start: the nearest designs as they are, then the descent from the
             # best of them (pruned by the best cost found)
-            s.run(np.array(starts), prune=False)
-            for v in s.seeds(1):  # none when every start lies outside these bounds
-                s.local(v)
+            s.local(starts[0], extra=np.array(starts))
         if s.best() is None:  # cold start (or the warm start found nothing passing)
             s.run(grid(bounds, self.stride))
             for v in s.seeds(self.n_seeds):
