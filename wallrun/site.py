@@ -942,6 +942,28 @@ def load_site(path) -> Site:
     if rp is not None:
         rates = read_rates(rp, pr)
 
+    if wat is not None:
+        # effective unit weight gamma - gamma_w must stay positive (design-basis 3)
+        gw = 9.81
+        for label, gam in ([("backfill", b.get("unit_weight_kn_m3", Backfill.unit_weight_kn_m3)),
+                            ("foundation", foundation.unit_weight_kn_m3)]
+                           + [(f"foundation.zones ch {_g(z.from_m)}-{_g(z.to_m)}",
+                               z.foundation.unit_weight_kn_m3) for z in zones]):
+            if gam <= gw:
+                pr.key(label, "unit_weight_kn_m3",
+                       f"must exceed the unit weight of water ({gw}) when [water] is given, "
+                       f"got {_g(gam)}")
+    resolved = _factors.resolve(approach, overrides) if not pr.items else {}
+    slope = b.get("slope_deg", Backfill.slope_deg)
+    phik = b.get("friction_angle_deg", Backfill.friction_angle_deg)
+    for name, fs in resolved.items():
+        phid = math.degrees(math.atan(math.tan(math.radians(phik)) / fs.g_phi))
+        if slope >= phid:
+            warn.append(f"{SITE_FILE}: [backfill] slope_deg {_g(slope)} is at or above the design "
+                        f"friction angle {phid:.2f} of the backfill in {name} "
+                        f"(friction_angle_deg {_g(phik)} / g_phi {_g(fs.g_phi)}): no active "
+                        "limit state exists; every panel is beyond the method")
+
     if pr.items:
         raise InputError(pr.items)
 
@@ -960,7 +982,7 @@ def load_site(path) -> Site:
         concrete=Concrete(**vals.get("concrete", {})),
         steel=steel,
         design=Design(**d),
-        factors=_factors.resolve(approach, overrides),
+        factors=resolved,
         takeoff=Takeoff(**vals.get("takeoff", {})),
         drawings=Drawings(**vals.get("drawings", {})),
         catalogue=catalogue,
