@@ -28,7 +28,7 @@ import numpy as np
 from wallrun import panels
 from wallrun.conditions import Conditions
 from wallrun.results import (BarSet, CheckArray, CheckEntry, Reinforcement, entries,
-                             max_utilization)
+                             utilization)
 from wallrun.section import Section, SectionArrays, section_problems
 from wallrun.settings import Backfill, Basis, CatalogueSection, Foundation, Water
 
@@ -210,7 +210,9 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
                                            stem_height_m=h_c)
     checks.extend(sr.checks)
     n = len(sec)
-    U = np.vstack([np.broadcast_to(c.utilization, (n,)) for c in checks])
+    E = np.vstack([np.broadcast_to(np.asarray(c.effect, dtype=float), (n,)) for c in checks])
+    R = np.vstack([np.broadcast_to(np.asarray(c.resistance, dtype=float), (n,)) for c in checks])
+    U = utilization(E, R)  # the CheckArray convention, all checks at once
     util = U.max(axis=0)
     ok = (util <= 1.0 + _TOL) & ~section_problems(sec)
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
@@ -490,7 +492,7 @@ class _Search:
         return [self.V[i] for i in idx]
 
     def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60,
-              extra: np.ndarray | None = None) -> None:
+              extra: np.ndarray | None = None, polish: bool = True) -> None:
         """Descent from ``start``. A step evaluates a neighbourhood and moves to the
         cheapest passing candidate (or, while nothing passes, the least utilised).
 
@@ -501,14 +503,16 @@ class _Search:
         to one step wider and base thicknesses one step either side; once that settles,
         the joint neighbourhood of all seven integers (stem top and key too), after
         which the small neighbourhood runs again; until nothing improves. ``extra``
-        candidates are evaluated with the first neighbourhood."""
+        candidates are evaluated with the first neighbourhood. ``polish=False`` (a warm
+        start near a known optimum) takes the joint neighbourhood at the first step
+        instead, then the small one until it settles."""
         small = np.zeros((3 ** 4, _NDIM), dtype=np.int64)
         small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
         full = _offsets(radius)
         toes = self.bounds.axes()[1]
         line = np.array([(db, dt) for db in (-1, 0) for dt in (0,)], dtype=np.int64)
         cur = np.asarray(start, dtype=np.int64)
-        use_full = False
+        use_full = not polish
         for _ in range(max_iter):
             if use_full:
                 cand = cur[None, :] + full
@@ -527,7 +531,7 @@ class _Search:
             else:
                 nxt = self.V[int(np.argmin(self.util))] if len(self.util) else cur
             if np.array_equal(nxt, cur):
-                if use_full:
+                if use_full or not polish:
                     return
                 use_full = True
             else:
@@ -604,10 +608,11 @@ class Designer:
     """
 
     def __init__(self, basis: Basis, rates=None, step: float | None = None,
-                 stride: int = 4, seeds: int = 3, warm: bool = True):
+                 stride: int = 4, seeds: int = 3, warm: bool = True, warm_polish: bool = False):
         self.basis, self.rates = basis, rates
         self.step = float(step if step is not None else basis.design.dimension_step_m)
         self.stride, self.n_seeds, self.warm = stride, seeds, warm
+        self.warm_polish = warm_polish
         self.cache: dict[Demand, SizedDesign] = {}
         self.by_ground: dict[tuple, list[tuple[float, Section]]] = {}
         self.evaluated = 0  # candidates evaluated in searches
@@ -662,7 +667,7 @@ class Designer:
         if starts:
             # warm start: the nearest designs as they are, then the descent from the
             # best of them (pruned by the best cost found)
-            s.local(starts[0], extra=np.array(starts))
+            s.local(starts[0], extra=np.array(starts), polish=self.warm_polish)
         if s.best() is None:  # cold start (or the warm start found nothing passing)
             s.run(grid(bounds, self.stride))
             for v in s.seeds(self.n_seeds):
