@@ -221,3 +221,26 @@ def test_stem_moment_table_is_conservative_and_close():
         ap = at(np.full(2, y))
         assert np.all(ap >= ex - 1e-9)
         assert np.all(ap <= ex * 1.01 + 0.05)
+
+
+def test_rationalise_four_types_two_grounds_independent_recheck():
+    # an invented run: heights 0.8..3.2 m over two foundation soils, max_types = 4
+    soft = Foundation(friction_angle_deg=26.0, allowable_bearing_kpa=180.0)
+    hs = [0.8, 1.1, 1.5, 1.9, 2.4, 2.8, 3.2, 1.2, 1.8, 2.5, 3.0]
+    grounds = [Foundation()] * 7 + [soft] * 4
+    demands = [demand(h, foundation=f) for h, f in zip(hs, grounds)]
+    lengths = [7.5] * len(hs)
+    r = sizing.rationalise_detail(demands, lengths, BASIS, None, 4,
+                                  designer=sizing.Designer(BASIS, None, 0.05))
+    def cage(rf):
+        return tuple((b.bar_mm, b.spacing_mm) for b in (rf.stem, rf.heel, rf.toe,
+                     rf.stem_horizontal, rf.base_distribution, rf.stem_front)) + (
+            rf.stem_curtail_m,)
+    used = {(d.section, cage(d.reinforcement)) for d in r.designs}
+    assert len(used) <= 4 and len(r.types) <= 4
+    assert max(r.type_of) < len(r.types) and min(r.type_of) >= 0
+    for dm, d in zip(demands, r.designs):
+        assert d.status == "ok", d.reason
+        ev = sizing.evaluate(sizing.SectionArrays.of([d.section]), dm, BASIS, None,
+                             given=d.reinforcement)
+        assert bool(ev.ok[0]) and float(ev.utilization[0]) <= 1.0 + 1e-9

@@ -18,6 +18,7 @@ Units: m, kN, kPa; cost in the money units of the rate table, per metre run of w
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import math
 from dataclasses import dataclass, field, fields
@@ -740,6 +741,7 @@ _DESIGNERS: dict[tuple, Designer] = {}
 
 def _designer_for(basis: Basis, rates, step) -> Designer:
     """The shared :class:`Designer` of a basis, rate table and step (kept for reuse)."""
+    step = float(step if step is not None else basis.design.dimension_step_m)
     key = _basis_key(basis, rates, step)
     d = _DESIGNERS.get(key)
     if d is None:
@@ -961,11 +963,14 @@ def _steel_rank(r: Reinforcement) -> float:
 
 
 def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis, rates,
-                       max_types: int, designer: Designer | None = None) -> Rationalised:
+                       max_types: int, designer: Designer | None = None,
+                       max_candidates: int = 120) -> Rationalised:
     """At most ``max_types`` sections covering all panels at least total cost.
 
     1. The bespoke optimum of each distinct demand (:class:`Designer`); its section is a
        candidate type (passing designs only; a demand flagged in bespoke stays flagged).
+       More than ``max_candidates`` distinct optima: that many, spread evenly over the
+       demands ordered by their bespoke cost, plus the most severe of each ground.
     2. Cost matrix: every candidate type at every distinct demand, bars re-chosen for
        that demand (``structure.design_reinforcement``), cost per metre x the demand's
        total length; inf where it fails.
@@ -975,7 +980,9 @@ def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis
        (:func:`_envelope_bars`), or the first demand's bars that pass everywhere; every
        demand is then checked again with ``structure.check_reinforcement`` and that
        section and cage. A demand that fails the recheck or that no type serves is
-       flagged with the reason.
+       flagged with the reason. The curtailment stop of a type is the highest of its
+       panels' (longer bars are conservative for every panel; none when any panel
+       cannot curtail), so that the type has one cage.
     """
     if len(demands) != len(lengths):
         raise ValueError("rationalise: one length per demand")
@@ -988,6 +995,17 @@ def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis
     own = designer.design_many(uniq)
     ok_rows = [k for k, d in enumerate(own) if d.status == "ok"]
     types: list[Section] = list(dict.fromkeys(own[k].section for k in ok_rows))
+    if len(types) > max_candidates:  # keep the matrix small: types spread over severity
+        first = {}
+        for k in sorted(ok_rows, key=lambda k: own[k].cost_per_m):
+            first.setdefault(own[k].section, k)
+        by_sev = sorted(types, key=lambda t: own[first[t]].cost_per_m)
+        keep = set(np.unique(np.round(np.linspace(0, len(by_sev) - 1, max_candidates))
+                             .astype(int)).tolist())
+        worst = {}  # the most severe type of each ground is always kept
+        for t in by_sev:
+            worst[uniq[first[t]].ground_key] = t
+        types = [t for i, t in enumerate(by_sev) if i in keep or t in worst.values()]
     designs: list[SizedDesign | None] = [None] * len(uniq)
     type_of = np.full(len(uniq), -1, dtype=np.int64)
     chosen_designs: list[SizedDesign] = []
@@ -1026,6 +1044,10 @@ def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis
                 chosen = (opt, [evaluate(sec1, uniq[ok_rows[r]], basis, rates, given=opt)
                                 for r in rows])
             opt, evs = chosen
+            # one stop height of the curtailed stem bars for the whole type: the highest
+            # of its panels (None, every bar full height, when any panel cannot curtail)
+            stops = [e.structure.reinforcement(0).stem_curtail_m for e in evs]
+            stop = None if any(c is None for c in stops) else max(stops)
             worst = None
             for r, e in zip(rows, evs):
                 k = ok_rows[r]
@@ -1036,6 +1058,8 @@ def rationalise_detail(demands: list[Demand], lengths: list[float], basis: Basis
                     sd = _sized(e, 0, uniq[k], basis, status="flagged", section_type=name,
                                 reason=f"rationalised type {name} with its common bars fails "
                                        f"{chk} {comb} ({u:.2f}) on recheck")
+                sd = SizedDesign(**{**sd.__dict__, "reinforcement": dataclasses.replace(
+                    sd.reinforcement, stem_curtail_m=stop)})
                 designs[k] = sd
                 type_of[k] = len(chosen_designs)
                 total += sd.cost_per_m * L[k]
