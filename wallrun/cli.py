@@ -268,12 +268,44 @@ def _quantity(result, item: str):
     return None, None
 
 
+def _is_output_folder(folder: Path) -> bool:
+    """A folder written by wallrun design: it holds a design.json of the wallrun schema."""
+    try:
+        with open(folder / "design.json", encoding="utf-8") as f:
+            doc = json.load(f)
+    except (OSError, ValueError):
+        return False
+    return isinstance(doc, dict) and str(doc.get("schema", "")).startswith("wallrun-design/")
+
+
+def check_out_is_safe(site_dir, out_dir, shown: str | None = None) -> None:
+    """Refuse an output folder whose replacement would destroy other files.
+
+    The output folder is replaced as a whole (written beside it, then swapped in), so it
+    may not be the site folder or one that contains it, nor an existing folder with
+    files that is not a previous wallrun output."""
+    shown = shown or str(out_dir)
+    site = Path(site_dir).resolve()
+    if site.is_file():
+        site = site.parent
+    out = Path(out_dir).resolve()
+    if out == site or out in site.parents:
+        raise InputError(f"--out {shown}: is the site folder or a folder containing it; the "
+                         "output folder is replaced as a whole: give a folder outside the "
+                         "inputs (default SITE_DIR/out)")
+    if out.is_dir() and any(out.iterdir()) and not _is_output_folder(out):
+        raise InputError(f"--out {shown}: an existing folder that is not a wallrun output "
+                         "(no design.json); it would be replaced as a whole: give a new or "
+                         "empty folder, or a previous wallrun output folder")
+
+
 def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False) -> int:
     from wallrun.site import load_site
     out_dir = Path(out) if out else Path(site_dir) / "out"
     site = load_site(site_dir)
     from wallrun import pipeline
     from wallrun.outputs import write
+    check_out_is_safe(site_dir, out_dir, shown=out or str(out_dir))
     write.check_writable(out_dir)
     cb = _Progress(enabled=(not quiet) and sys.stderr.isatty())
     try:
