@@ -1,5 +1,6 @@
 """Faults (issue 10 item 3): a run killed part way, an output folder that cannot be
-written or must not be replaced, and inputs that are never modified.
+written or must not be replaced, and inputs that are never modified. Output safety
+(item 6): hostile names from the inputs reach the CSVs and the workbook as inert text.
 
 The killed runs are real ``python -m wallrun design`` processes on a copy of the
 platform-edge demo site, killed with SIGKILL at several moments: during the design,
@@ -10,6 +11,7 @@ new complete one; never missing, never half written.
 
 from __future__ import annotations
 
+import csv
 import hashlib
 import os
 import shutil
@@ -19,6 +21,7 @@ import sys
 import time
 from pathlib import Path
 
+import openpyxl
 import pytest
 
 from wallrun import pipeline
@@ -220,3 +223,81 @@ def test_input_errors_come_before_output_errors(tmp_path, capsys, no_design):
     f = tmp_path / "result.txt"
     f.write_text("x\n")
     refused(tmp_path, capsys, d, f, "ground.csv:2: a single point")
+
+
+# --- output safety: formula injection ---------------------------------------------------
+# The platform-edge demo site is copied with a project name, a reference and catalogue
+# section names that a spreadsheet would evaluate (=1+1, @SUM(A1), +A1, -2+3, a leading
+# tab), designed in catalogue mode, and every cell of panels.csv, sections.csv,
+# bar_schedule.csv (and the other CSVs) and of schedule.xlsx is inspected: no formula
+# cell, no text starting with = + - @ tab CR unless it is a plain number.
+
+DANGER = ("=", "+", "-", "@", "\t", "\r")
+NAMES = {"PE1": "=1+1", "PE2": "@SUM(A1)", "PE3": "+A1", "PE4": "-2+3",
+         "PE5": "=HYPERLINK(\"http://example.invalid\")", "PE6": "\tTAB"}
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+        return True
+    except ValueError:
+        return False
+
+
+def dangerous(value) -> bool:
+    return isinstance(value, str) and value.startswith(DANGER) and not _is_number(value)
+
+
+@pytest.fixture(scope="module")
+def injected(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("inject")
+    site = tmp / "site"
+    shutil.copytree(DEMO, site)
+    toml = (site / "site.toml").read_text(encoding="utf-8")
+    toml = toml.replace('name = "Millbeck depot yard, platform edge wall"', 'name = "=1+1"')
+    toml = toml.replace('reference = "DEMO-PE3"', 'reference = "@SUM(A1)"')
+    (site / "site.toml").write_text(toml, encoding="utf-8")
+    lines = (site / "sections.csv").read_text(encoding="utf-8").splitlines(keepends=True)
+    fixed = []
+    for ln in lines:
+        head = ln.split(",", 1)[0]
+        if head in NAMES:
+            name = NAMES[head]
+            ln = ('"' + name.replace('"', '""') + '"') + ln[len(head):]
+        fixed.append(ln)
+    (site / "sections.csv").write_text("".join(fixed), encoding="utf-8")
+    o = tmp / "out"
+    rc = main(["design", str(site), "--out", str(o), "--quiet"])
+    assert rc in (0, 3)
+    return o
+
+
+def test_the_names_reach_the_outputs(injected):
+    # the test means something only if the hostile names are used
+    text = (injected / "panels.csv").read_text(encoding="utf-8")
+    assert any(n.strip("\t=+-@") in text for n in NAMES.values())
+
+
+@pytest.mark.parametrize("name", ["panels.csv", "sections.csv", "bar_schedule.csv",
+                                  "joints.csv", "quantities.csv", "cost.csv"])
+def test_csv_cells_neutralised(injected, name):
+    with open(injected / name, newline="", encoding="utf-8") as f:
+        rows = list(csv.reader(f))
+    assert rows
+    bad = [(i, c) for i, r in enumerate(rows) for c in r if dangerous(c)]
+    assert not bad, bad[:5]
+
+
+def test_workbook_cells_neutralised(injected):
+    wb = openpyxl.load_workbook(injected / "schedule.xlsx")
+    seen = set()
+    for ws in wb.worksheets:
+        for row in ws.iter_rows():
+            for cell in row:
+                assert cell.data_type != "f", (ws.title, cell.coordinate, cell.value)
+                assert not dangerous(cell.value), (ws.title, cell.coordinate, cell.value)
+                if isinstance(cell.value, str):
+                    seen.add(cell.value)
+    # the hostile names are there, as inert text
+    assert any("1+1" in v for v in seen) and any("SUM(A1)" in v for v in seen)
