@@ -133,9 +133,6 @@ def tiny_site(tmp_path: Path) -> Path:
     return d
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "outputs.write.write_outputs leaves the .NAME.tmp-* / .NAME.old-* folders of killed "
-    "runs for ever; it should remove stale ones beside the target after a successful swap"))
 def test_stale_temporary_folders_cleaned_by_next_run(tmp_path, capsys):
     d = tiny_site(tmp_path)
     for stale in (".out.tmp-k1ll3d", ".out.old-k1ll3d"):

@@ -219,18 +219,12 @@ THIRDS = {"L": 30.0, "ground": [(0.0, 5.0), (15.0, 4.5), (30.0, 5.0)],
           "zone": False, "base": 5.0, "top": "stepped"}
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "pipeline.design builds Panel.retained_top_m/front_min_m from the unrounded extent "
-    "while the section was designed for demand_of's levels rounded to 1e-6 m"))
 def test_reported_levels_are_the_design_levels(tmp_path):
     # panel levels of this site are thirds of a metre (5.4666...): the rounding shows
     site = load_site(write_site(tmp_path / "s", THIRDS))
     check_invariants(site, pipeline.design(site), tol=TOL, floor=1e-9)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "bars.schedule recomputes each merged row's mass from the summed number and rounds it, "
-    "so the schedule total differs from reinforcement_total (sum of per-panel rounded rows)"))
 def test_bar_schedule_mass_is_reinforcement_total(tmp_path):
     site = load_site(write_site(tmp_path / "s", FLAT))
     check_invariants(site, pipeline.design(site), mass_exact=True)

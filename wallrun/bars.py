@@ -79,8 +79,8 @@ def _mark(section: str, member: str, phi: float, shape: str, dims: dict[str, flo
     d = {k: int(math.ceil(v)) for k, v in dims.items()}
     L = cutting_length(shape, phi, d)
     return BarMark(section=section, member=member, bar_mark="", bar_mm=int(phi), shape_code=shape,
-                   length_mm=L, number=int(number), total_length_m=round(L * number / 1000.0, 3),
-                   mass_kg=round(mass_kg(phi, L, number), 3), dims_mm=d)
+                   length_mm=L, number=int(number), total_length_m=L * number / 1000.0,
+                   mass_kg=mass_kg(phi, L, number), dims_mm=d)
 
 
 def n_along(length_mm: float, cover_mm: float, spacing_mm: float) -> int:
@@ -208,13 +208,17 @@ def schedule(rows: list[BarMark]) -> tuple[BarMark, ...]:
     """Merge equal bars (same section, member, bar, shape, length and dimensions) across
     the panels of a section type, number them ``{section}-{nn:02d}`` in the order
     section, member (stem, stem_front, stem_horizontal, heel, toe, base_distribution,
-    key), shape code, bar size, length; numbers summed, totals recomputed."""
+    key), shape code, bar size, length; numbers summed, and lengths and masses summed
+    exactly (``math.fsum`` of the parts, unrounded) so that the schedule's mass equals
+    the take-off's reinforcement total; the files round for display only."""
     merged: dict[tuple, int] = {}
     first: dict[tuple, BarMark] = {}
+    parts: dict[tuple, list[BarMark]] = {}
     for b in rows:
         k = _key(b)
         merged[k] = merged.get(k, 0) + int(b.number)
         first.setdefault(k, b)
+        parts.setdefault(k, []).append(b)
     rank = {m: i for i, m in enumerate(MEMBER_ORDER)}
     order = sorted(merged, key=lambda k: (k[0], rank.get(k[1], len(rank)), k[1], k[3], k[2], k[4], k[5]))
     out, counter = [], {}
@@ -223,6 +227,6 @@ def schedule(rows: list[BarMark]) -> tuple[BarMark, ...]:
         counter[b.section] = counter.get(b.section, 0) + 1
         num = merged[k]
         out.append(replace(b, bar_mark=f"{b.section}-{counter[b.section]:02d}", number=num,
-                           total_length_m=round(b.length_mm * num / 1000.0, 3),
-                           mass_kg=round(mass_kg(b.bar_mm, b.length_mm, num), 3)))
+                           total_length_m=math.fsum(p.total_length_m for p in parts[k]),
+                           mass_kg=math.fsum(p.mass_kg for p in parts[k])))
     return tuple(out)

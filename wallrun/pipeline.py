@@ -44,8 +44,11 @@ class _Designer:
 def demand_of(ext: pn.Extent, site: Site) -> sizing.Demand:
     """The section-independent conditions of a panel (design-basis section 1)."""
     mid = 0.5 * (ext.ch_start + ext.ch_end)
+    # levels snapped outwards to 1e-6 m (z_top up, z_front down): conservative, and
+    # equal conditions computed with float noise share one design
     return sizing.Demand(
-        z_top=round(ext.z_top, 6), z_front=round(ext.z_front, 6), backfill=site.backfill,
+        z_top=math.ceil(ext.z_top * 1e6 - 1e-3) / 1e6,
+        z_front=math.floor(ext.z_front * 1e6 + 1e-3) / 1e6, backfill=site.backfill,
         foundation=site.foundation_at(mid), surcharge_kpa=site.loads.surcharge_kpa,
         water=site.water, wall_top_m=round(max(ext.wall_top_start, ext.wall_top_end), 6),
         min_founding_depth_m=site.wall.min_founding_depth_m,
@@ -154,7 +157,7 @@ def design(site: Site, progress=None) -> DesignResult:
             demand = demand_of(ext, site)
             panel = Panel(
                 panel=f"P{n:03d}", run=run.run, side=run.side, ch_start_m=ext.ch_start,
-                ch_end_m=ext.ch_end, retained_top_m=ext.z_top, front_min_m=ext.z_front,
+                ch_end_m=ext.ch_end, retained_top_m=demand.z_top, front_min_m=demand.z_front,
                 founding_m=float(d.z_found), wall_top_start_m=ext.wall_top_start,
                 wall_top_end_m=ext.wall_top_end, foundation=demand.foundation,
                 backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,

@@ -54,10 +54,32 @@ def write_all(result: DesignResult, folder: Path) -> list[str]:
     return sorted(p.name for p in folder.iterdir())
 
 
+def _leftovers(out: Path, kind: str) -> list[Path]:
+    """Temporary siblings of ``out`` left by a run that was killed (``tmp`` or ``old``)."""
+    return sorted(p for p in out.parent.glob(f".{out.name}.{kind}-*") if p.is_dir())
+
+
+def recover(out: Path) -> None:
+    """Undo a swap that was killed half way: when ``out`` is missing and the previous
+    output survives as ``.NAME.old-*``, put it back (the newest one)."""
+    if out.exists():
+        return
+    olds = _leftovers(out, "old")
+    if olds:
+        newest = max(olds, key=lambda p: p.stat().st_mtime)
+        os.replace(newest, out)
+
+
 def write_outputs(result: DesignResult, out_dir) -> list[str]:
-    """Write the output folder atomically; returns the file names written."""
+    """Write the output folder atomically; returns the file names written.
+
+    The files go into ``.NAME.tmp-*`` beside the target; the previous output is moved
+    to ``.NAME.old-*``, the new one into place, and the old one removed. Leftovers of
+    killed runs are recovered or removed.
+    """
     out = Path(out_dir).resolve()
     out.parent.mkdir(parents=True, exist_ok=True)
+    recover(out)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
     umask = os.umask(0)
     os.umask(umask)
@@ -70,9 +92,9 @@ def write_outputs(result: DesignResult, out_dir) -> list[str]:
             old.rmdir()
             os.replace(out, old)
         os.replace(tmp, out)
-        if old is not None:
-            shutil.rmtree(old, ignore_errors=True)
-        return names
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    for p in _leftovers(out, "old") + _leftovers(out, "tmp"):
+        shutil.rmtree(p, ignore_errors=True)
+    return names
