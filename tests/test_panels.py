@@ -91,3 +91,9 @@ def test_halving_picks_the_longer_panel_or_the_later():
     assert pn.halve_target(8.0, 4.0) == 0
     assert pn.halve_target(4.0, 8.0) == 1
     assert pn.halve_target(6.0, 6.0) == 1
+
+
+def test_joint_next_to_an_undesigned_panel_is_flagged():
+    f = pn.joint_figures(48.9, 48.9, 52.0, 52.0, float("nan"), 120.0)
+    problems = pn.joint_problems(f, Wall())
+    assert problems and "not evaluated" in problems[0]

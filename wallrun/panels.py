@@ -142,8 +142,11 @@ def joint_figures(z_found_left: float, z_found_right: float, top_left_end: float
     pressure ratio max(sigma)/min(sigma) of the two panels' maximum characteristic edge
     pressures (differential settlement, common practice), inf when the smaller is <= 0.
     """
-    lo, hi = sorted((sigma_left, sigma_right))
-    ratio = hi / lo if lo > 0 else float("inf")
+    if not (np.isfinite(sigma_left) and np.isfinite(sigma_right)):
+        ratio = float("nan")  # a panel that was not designed has no edge pressure
+    else:
+        lo, hi = sorted((sigma_left, sigma_right))
+        ratio = hi / lo if lo > 0 else float("inf")
     return JointFigures(abs(z_found_left - z_found_right), abs(top_left_end - top_right_start),
                         ratio)
 
@@ -156,7 +159,9 @@ def joint_problems(fig: JointFigures, wall) -> list[str]:
         out.append(f"founding step {fig.founding_step_m:.2f} m > {wall.max_founding_step_m:g} m")
     if fig.top_step_m > wall.max_top_step_m + tol:
         out.append(f"top step {fig.top_step_m:.2f} m > {wall.max_top_step_m:g} m")
-    if fig.pressure_ratio > wall.max_pressure_ratio + tol:
+    if np.isnan(fig.pressure_ratio):
+        out.append("edge pressure ratio not evaluated: a neighbouring panel is not designed")
+    elif fig.pressure_ratio > wall.max_pressure_ratio + tol:
         out.append(f"edge pressure ratio {fig.pressure_ratio:.2f} > {wall.max_pressure_ratio:g}")
     return out
 

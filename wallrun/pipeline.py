@@ -221,8 +221,11 @@ def design(site: Site, progress=None) -> DesignResult:
             governing=worst_r.governing,
             utilization=max((c.utilization for c in worst_r.checks), default=0.0),
             panels=tuple(m[0].panel.panel for m in members)))
-        cond = sizing.conditions_for(worst_dem, worst_d.section.base_thickness_m)
-        actions[name] = stability.action_table(worst_d.section, cond, site.basis)
+        if worst_d.checks:
+            cond = sizing.conditions_for(worst_dem, worst_d.section.base_thickness_m)
+            actions[name] = stability.action_table(worst_d.section, cond, site.basis)
+        else:  # a flagged panel that could not be designed at all has no actions
+            actions[name] = ()
 
     warnings = tuple(site.warnings)
     return DesignResult(site=site, profiles=profiles, runs=tuple(runs), panels=tuple(results),
