@@ -84,3 +84,11 @@ def test_stepped_top_follows_the_retained_level(tmp_path):
     tops = [p.panel.wall_top_start_m for p in r.panels]
     assert tops == pytest.approx([float(ceil_inc(52.5, 0.15)), float(ceil_inc(53.0, 0.15))])
     assert r.joints[0].top_step_m == pytest.approx(tops[1] - tops[0])
+
+
+def test_progress_reports_each_new_design(tmp_path):
+    site = make_site(tmp_path, [(0, 50.0), (16, 50.0)], [(0, 52.0), (16, 53.0)])
+    calls = []
+    wallrun.design(site, progress=lambda stage, done, total: calls.append((stage, done, total)))
+    assert calls and all(stage == "sizing" and 1 <= done <= total for stage, done, total in calls)
+    assert calls[-1][1] == 2  # two distinct panel conditions designed

@@ -26,6 +26,8 @@ class _Designer:
     site: Site
     cache: dict = field(default_factory=dict)
     seconds: float = 0.0
+    tick: object = None  # progress callback (stage, done, total)
+    expected: int = 0  # panels expected before any joint splitting
 
     def __call__(self, demand: sizing.Demand) -> sizing.SizedDesign:
         d = self.cache.get(demand)
@@ -38,6 +40,9 @@ class _Designer:
                 d = sizing.bespoke(demand, basis, rates, self.site.design.dimension_step_m)
             self.seconds += time.perf_counter() - t0
             self.cache[demand] = d
+            if self.tick is not None:
+                n = len(self.cache)
+                self.tick("sizing", n, max(n, self.expected))
         return d
 
 
@@ -133,11 +138,11 @@ def design(site: Site, progress=None) -> DesignResult:
     timings["profile"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
-    designer = _Designer(site)
+    designer = _Designer(site, tick=tick, expected=sum(
+        math.ceil(r.length_m / site.wall.max_panel_length_m) for r in runs))
     laid = []  # (run, extents, designs, joints)
-    for i, run in enumerate(runs):
+    for run in runs:
         laid.append((run, *settle_run(profiles, run, site, designer)))
-        tick("panels", i + 1, len(runs))
     timings["panels"] = time.perf_counter() - t0 - designer.seconds
     timings["sizing"] = designer.seconds
 
