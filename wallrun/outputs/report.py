@@ -205,6 +205,18 @@ def governing_panel(result, section_type: str):
     return max(members, key=lambda p: max((c.utilization for c in p.checks), default=0.0))
 
 
+def governing_map(result) -> dict:
+    """{section type: its governing panel} for every type in use, in one pass over the
+    panels; the same choice as :func:`governing_panel` (first panel on a tie)."""
+    best: dict = {}
+    for p in result.panels:
+        u = max((c.utilization for c in p.checks), default=0.0)
+        cur = best.get(p.section_type)
+        if cur is None or u > cur[0]:
+            best[p.section_type] = (u, p)
+    return {k: v[1] for k, v in best.items()}
+
+
 def panel_row(p) -> dict:
     """One ``panels.csv`` row of a :class:`~wallrun.results.PanelResult`, as values.
 
@@ -360,21 +372,67 @@ def run_figure(result) -> bytes | None:
     return data
 
 
-def _dim(ax, p, q, text, side=(0.0, 0.0), fs=6.5, rot=0):
-    """A dimension line with arrows at both ends from p to q and its text."""
-    ax.annotate("", xy=q, xytext=p, arrowprops=dict(arrowstyle="<|-|>", lw=0.6,
-                                                     color="#333333", shrinkA=0, shrinkB=0,
-                                                     mutation_scale=6))
-    mx, mz = 0.5 * (p[0] + q[0]) + side[0], 0.5 * (p[1] + q[1]) + side[1]
-    ax.text(mx, mz, text, fontsize=fs, ha="center", va="center", rotation=rot,
-            bbox=dict(fc="white", ec="none", pad=0.5))
+class _Svg:
+    """A small hand-built SVG in world coordinates (m; x to the right, z up), scaled
+    to ``width_px``: the world box (x0, z0, x1, z1) fills the picture."""
+
+    def __init__(self, box, width_px: float = 640.0):
+        self.x0, self.z0, self.x1, self.z1 = box
+        self.k = width_px / max(self.x1 - self.x0, 1e-9)
+        self.w = width_px
+        self.h = (self.z1 - self.z0) * self.k
+        self.parts: list[str] = []
+
+    def X(self, x) -> float:
+        return (x - self.x0) * self.k
+
+    def Y(self, z) -> float:
+        return (self.z1 - z) * self.k
+
+    def poly(self, pts, fill="none", stroke="#000", sw=1.0, extra=""):
+        d = " ".join(f"{self.X(x):.1f},{self.Y(z):.1f}" for x, z in pts)
+        self.parts.append(f'<polygon points="{d}" fill="{fill}" stroke="{stroke}" '
+                          f'stroke-width="{sw:g}"{extra}/>')
+
+    def line(self, p, q, stroke="#000", sw=0.8, dash=""):
+        da = f' stroke-dasharray="{dash}"' if dash else ""
+        self.parts.append(f'<line x1="{self.X(p[0]):.1f}" y1="{self.Y(p[1]):.1f}" '
+                          f'x2="{self.X(q[0]):.1f}" y2="{self.Y(q[1]):.1f}" '
+                          f'stroke="{stroke}" stroke-width="{sw:g}"{da}/>')
+
+    def text(self, x, z, s, size=9.5, anchor="start", fill="#000", rot=0, dy=0.0,
+             halo=False):
+        X, Y = self.X(x), self.Y(z) + dy
+        tr = f' transform="rotate({-rot:g} {X:.1f} {Y:.1f})"' if rot else ""
+        h = ' paint-order="stroke" stroke="#fff" stroke-width="3"' if halo else ""
+        self.parts.append(f'<text x="{X:.1f}" y="{Y:.1f}" font-size="{size:g}" '
+                          f'text-anchor="{anchor}" dominant-baseline="middle" '
+                          f'fill="{fill}"{h}{tr}>{_e(s)}</text>')
+
+    def dim(self, p, q, label, rot=0, side=(0.0, 0.0)):
+        """A dimension line from p to q with oblique ticks at both ends and its label
+        at the middle (on a white halo)."""
+        self.line(p, q, "#333", 0.7)
+        t = 4.0 / self.k  # 4 px ticks
+        for x, z in (p, q):
+            self.line((x - t, z - t), (x + t, z + t), "#333", 1.1)
+        mx, mz = 0.5 * (p[0] + q[0]) + side[0], 0.5 * (p[1] + q[1]) + side[1]
+        self.text(mx, mz, label, 9, "middle", "#000", rot, halo=True)
+
+    def svg(self, title: str) -> str:
+        return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{self.w:.0f}" '
+                f'height="{self.h:.0f}" viewBox="0 0 {self.w:.0f} {self.h:.0f}" '
+                f'font-family="DejaVu Sans, Arial, sans-serif"><title>{_e(title)}</title>'
+                + "".join(self.parts) + "</svg>")
 
 
-def section_figure(result, st, gov) -> bytes:
-    """Dimensioned cross-section of a section type at its governing panel (PNG), in
-    section coordinates (x from the toe edge, z from the underside of the base), from
-    :func:`wallrun.section.polygons`."""
-    plt = _pyplot()
+def section_figure(result, st, gov) -> str:
+    """Dimensioned cross-section of a section type at its governing panel, as inline
+    SVG markup built by hand (no plotting library), in section coordinates (x from the
+    toe edge, z from the underside of the base) from :func:`wallrun.section.polygons`:
+    concrete and the soil block over the heel, backfill surface, front level, water,
+    the retained level (top of the checked section), and dimension lines with their
+    values in m (toe, stem base, heel, B, base thickness, D, h, H, stem top, key)."""
     from wallrun.section import polygons
 
     s = st.section
@@ -393,82 +451,64 @@ def section_figure(result, st, gov) -> bytes:
         D, wl, zf = None, None, None
     polys = polygons(s, hd, hc, beta)
 
-    fig, ax = plt.subplots(figsize=(6.6, 5.4), dpi=110)
-    for key, fc in (("soil", "#eadcc3"), ("base", "#d0d0d0"), ("stem", "#d0d0d0"),
-                    ("key", "#d0d0d0")):
-        if key in polys:
-            x, z = polys[key].exterior.xy
-            ax.fill(x, z, facecolor=fc, edgecolor="black", lw=0.9 if key != "soil" else 0.4,
-                    hatch="..." if key == "soil" else None)
     span = max(B, hd + t)
     ext = 0.12 * span
-    # backfill surface beyond the virtual back, front ground, water
-    xb = toe + s.stem_top_m
-    zt = t + hc
-    xs_end = B + ext
-    ax.plot([xb, xs_end], [zt, zt + (xs_end - xb) * math.tan(math.radians(beta))],
-            color="#7a5230", lw=1.0)
-    ax.plot([B, B], [0, zt + (B - xb) * math.tan(math.radians(beta))], color="#7a5230",
-            lw=0.5, ls=":")
-    ax.text(B, 0.02 * span, " virtual back", fontsize=6, rotation=90, va="bottom",
-            color="#7a5230")
-    if D is not None:
-        ax.plot([-ext, toe], [D, D], color="#7a5230", lw=1.0)
-        ax.text(-ext, D, "front level", fontsize=6, va="bottom", color="#7a5230")
-    if wl is not None and wl > 0:
-        zw = min(wl, zt)
-        ax.plot([toe + s.stem_base_m, B + ext], [zw, zw], color="#1f5fbf", lw=0.9, ls="--")
-        ax.text(B + ext, zw, " water", fontsize=6, va="center", color="#1f5fbf")
-
-    # dimensions: base below, heights left, stem thicknesses at top
     zk = -s.key_depth_m
-    y1 = zk - 0.10 * span
-    y2 = zk - 0.20 * span
-    _dim(ax, (0, y1), (toe, y1), f"toe {toe:.2f}")
-    _dim(ax, (toe, y1), (toe + s.stem_base_m, y1), f"{s.stem_base_m:.2f}")
-    _dim(ax, (toe + s.stem_base_m, y1), (B, y1), f"heel {s.heel_m:.2f}")
-    _dim(ax, (0, y2), (B, y2), f"B = {B:.2f}")
-    xl1 = -0.10 * span
-    xl2 = -0.22 * span
-    xl3 = -0.34 * span
-    _dim(ax, (xl1, 0), (xl1, t), f"{t:.2f}", rot=90)
-    if D is not None and D > 0:
-        _dim(ax, (xl2, 0), (xl2, D), f"D {D:.2f}", rot=90)
-    _dim(ax, (xl3, 0), (xl3, t + hc), f"H {t + hc:.2f}", rot=90)
-    if D is not None:
-        _dim(ax, (xl2, max(D, 0)), (xl2, t + hc), f"h {t + hc - D:.2f}", rot=90)
+    y1, y2 = zk - 0.10 * span, zk - 0.20 * span
+    xl1, xl2, xl3 = -0.10 * span, -0.22 * span, -0.34 * span
     ztop_d = t + hd
     yt = ztop_d + 0.07 * span
-    _dim(ax, (toe, yt), (toe + s.stem_top_m, yt), f"{s.stem_top_m:.2f}",
-         side=(0, 0.03 * span))
-    # the retained level = top of the checked section (stem above it is not checked)
-    ax.plot([xb, B + ext], [zt, zt], color="#b00000", lw=0.5, ls=":")
+    xb, zt = toe + s.stem_top_m, t + hc
+    tb = math.tan(math.radians(beta))
+    g = _Svg((xl3 - 0.08 * span, y2 - 0.08 * span, B + ext + 0.42 * span,
+              max(yt + 0.12 * span, zt + (B + ext - xb) * tb + 0.05 * span)))
+    for key, fc in (("soil", "#eadcc3"), ("base", "#d0d0d0"), ("stem", "#d0d0d0"),
+                    ("key", "#d0d0d0")):
+        if key in polys and not polys[key].is_empty:
+            pts = list(polys[key].exterior.coords)[:-1]
+            g.poly(pts, fc, "#000", 0.5 if key == "soil" else 1.2)
+    brown, blue, red = "#7a5230", "#1f5fbf", "#b00000"
+    xs_end = B + ext
+    g.line((xb, zt), (xs_end, zt + (xs_end - xb) * tb), brown, 1.2)
+    g.line((B, 0.0), (B, zt + (B - xb) * tb), brown, 0.6, "2 2")
+    g.text(B, 0.02 * span, "virtual back", 7.5, "start", brown, rot=90, dy=-3)
+    if D is not None:
+        g.line((-ext, D), (toe, D), brown, 1.2)
+        g.text(-ext, D + 0.03 * span, "front level", 7.5, "start", brown)
+        if zf is not None:
+            g.text(-ext, D - 0.03 * span, f"{zf + D:.2f} m", 7.5, "start", brown)
+    if wl is not None and wl > 0:
+        zw = min(wl, zt)
+        g.line((toe + s.stem_base_m, zw), (B + ext, zw), blue, 1.0, "5 3")
+        g.text(B + ext, zw, " water", 7.5, "start", blue)
+    g.line((xb, zt), (B + ext, zt), red, 0.6, "1 2")
+    g.text(B + ext, zt + 0.025 * span, (f" retained {zf + zt:.2f} m" if zf is not None
+                                        else " top of checked section"), 7.5, "start", red)
     if zf is not None:
-        ax.text(B + ext, zt, f" retained {zf + zt:.2f} m\n (top of checked section)",
-                fontsize=6, va="center", color="#b00000")
-    else:
-        ax.text(B + ext, zt, " top of checked section", fontsize=6, va="center",
-                color="#b00000")
+        g.text(B + ext, zt - 0.025 * span, " (top of checked section)", 7.5, "start", red)
+        g.text(B + 0.02 * span, -0.03 * span, f" underside {zf:.2f} m", 7.5)
+
+    g.dim((0, y1), (toe, y1), f"toe {toe:.2f}")
+    g.dim((toe, y1), (toe + s.stem_base_m, y1), f"{s.stem_base_m:.2f}")
+    g.dim((toe + s.stem_base_m, y1), (B, y1), f"heel {s.heel_m:.2f}")
+    g.dim((0, y2), (B, y2), f"B = {B:.2f}")
+    g.dim((xl1, 0), (xl1, t), f"{t:.2f}", rot=90)
+    if D is not None and D > 0:
+        g.dim((xl2, 0), (xl2, D), f"D {D:.2f}", rot=90)
+    g.dim((xl3, 0), (xl3, t + hc), f"H {t + hc:.2f}", rot=90)
+    if D is not None:
+        g.dim((xl2, max(D, 0)), (xl2, t + hc), f"h {t + hc - D:.2f}", rot=90)
+    g.dim((toe, yt), (toe + s.stem_top_m, yt), f"{s.stem_top_m:.2f}",
+          side=(0, 0.03 * span))
     if s.key_depth_m > 0:
         xk = toe + s.key_width_m + 0.06 * span
-        _dim(ax, (xk, -s.key_depth_m), (xk, 0), f"key {s.key_depth_m:.2f}", rot=90)
-        _dim(ax, (toe, -s.key_depth_m - 0.04 * span), (toe + s.key_width_m,
-             -s.key_depth_m - 0.04 * span), f"{s.key_width_m:.2f}")
-    if zf is not None:
-        ax.text(B + 0.02 * span, 0, f" underside {zf:.2f} m", fontsize=6, va="top")
-        if D is not None:
-            ax.text(-ext, D - 0.015 * span, f"{zf + D:.2f} m", fontsize=6, va="top",
-                    color="#7a5230")
-    ax.set_aspect("equal")
-    ax.set_xlim(xl3 - 0.08 * span, B + ext + 0.35 * span)
-    ax.set_ylim(y2 - 0.08 * span, yt + 0.12 * span)
-    ax.axis("off")
-    ax.set_title(f"Section type {st.section_type}: dimensions in m"
-                 + (f" (at panel {gov.panel.panel})" if gov is not None else ""), fontsize=8)
-    fig.subplots_adjust(left=0.01, right=0.99, bottom=0.01, top=0.94)  # no axes to fit
-    data = _png(fig)
-    plt.close(fig)
-    return data
+        g.dim((xk, -s.key_depth_m), (xk, 0), f"key {s.key_depth_m:.2f}", rot=90)
+        g.dim((toe, -s.key_depth_m - 0.04 * span),
+              (toe + s.key_width_m, -s.key_depth_m - 0.04 * span), f"{s.key_width_m:.2f}")
+    title = (f"Section type {st.section_type}: dimensions in m"
+             + (f" (at panel {gov.panel.panel})" if gov is not None else ""))
+    g.text(g.x0 + 0.5 * (g.x1 - g.x0), g.z1 - 0.03 * span, title, 10, "middle")
+    return g.svg(f"cross-section of type {st.section_type}")
 
 
 # --- report parts ---------------------------------------------------------------------
@@ -501,6 +541,7 @@ tr.total td { font-weight: bold; border-top: 1.5px solid var(--ink); }
 .note { font-size: 8.5pt; color: #333; }
 .fig { margin: 0.5em 0 1em; }
 .fig img { max-width: 100%; height: auto; border: 0.5px solid #cccccc; }
+.fig svg { max-width: 100%; height: auto; border: 0.5px solid #cccccc; }
 .panels-list { font-size: 8.5pt; }
 nav ol { columns: 2; font-size: 9pt; }
 section.part, section.sectype { margin-top: 2em; }
@@ -516,6 +557,7 @@ section.part, section.sectype { margin-top: 2em; }
   section.part, section.sectype { break-before: page; page-break-before: always; margin-top: 0; }
   section.landscape { page: wide; }
   .fig img { max-height: 115mm; border: none; }
+  .fig svg { max-height: 115mm; border: none; }
   tr { break-inside: avoid; page-break-inside: avoid; }
   .caution { break-inside: avoid; }
   nav { display: none; }
@@ -836,8 +878,7 @@ def _checks_by_combination(checks) -> str:
     return "\n".join(out)
 
 
-def _sectype(result, st, k: int, figures) -> str:
-    gov = governing_panel(result, st.section_type)
+def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
     sid = f"type-{st.section_type}"
     out = [f'<section class="sectype" id="{_e(sid)}"><h2>3.{k} Section type '
            f"{_e(st.section_type)}</h2>"]
@@ -908,7 +949,8 @@ def _sectype(result, st, k: int, figures) -> str:
     out.append("<h3>Structural checks (EN 1992-1-1) at the governing panel</h3>")
     out.append(_checks_by_combination(struc) if struc else
                "<p>No structural checks recorded.</p>")
-    marks = [b for b in result.bar_schedule if b.section == st.section_type]
+    if marks is None:
+        marks = [b for b in result.bar_schedule if b.section == st.section_type]
     if marks:
         out.append("<h3>Bar marks of this type (whole job)</h3>")
         out.append(_table(
@@ -957,11 +999,19 @@ def _costs(result) -> str:
     return "\n".join(out)
 
 
-def _appendix(result) -> str:
+def _appendix(result, gmap=None) -> str:
+    """Every panel's checks, one row per check entry in design.json order. A panel
+    that is the governing panel of its section type has every one of its checks in
+    that type's part already (with clauses, per combination); its block here links
+    there instead of repeating them, so that the report stays proportionate when
+    nearly every panel has a type of its own."""
+    gmap = governing_map(result) if gmap is None else gmap
+    number = {st.section_type: k for k, st in enumerate(result.section_types, start=1)}
     out = ['<section class="part" id="appendix"><h2>5. Appendix: checks of every panel</h2>',
            '<p class="note">One row per check entry, as in design.json. u: utilization = '
            "effect / resistance (pass at u &lt;= 1.000); G: the worst entry of its check "
-           "and combination; FAILS: u &gt; 1. Clauses:</p>"]
+           "and combination; FAILS: u &gt; 1. The governing panel of each section type "
+           "has its checks in that type's part, linked from its entry here. Clauses:</p>"]
     clauses = {}
     for p in result.panels:
         for c in p.checks:
@@ -979,6 +1029,14 @@ def _appendix(result) -> str:
         out.append(f'<div class="pblock" id="panel-{esc(pn.panel)}"><h4>{esc(pn.panel)} '
                    f"(run {esc(str(pn.run))}, ch {pn.ch_start_m:.2f} to {pn.ch_end_m:.2f} m, "
                    f"type {esc(p.section_type)}): {esc(st)}</h4>")
+        if gmap.get(p.section_type) is p and p.section_type in number:
+            worst = max((c.utilization for c in p.checks), default=None)
+            out.append(f'<p class="govlink">Governing panel of type {esc(p.section_type)}: '
+                       f'its {len(p.checks)} check entries are in <a href="#type-'
+                       f'{esc(p.section_type)}">part 3.{number[p.section_type]}</a>'
+                       + ("" if worst is None else f" (highest u {_util(worst)})")
+                       + ".</p></div>")
+            continue
         rows = []
         for c in p.checks:
             nd = _decimals(c.unit)
@@ -1020,9 +1078,14 @@ def render_report(result, figures: dict | None = None, date: str | None = None) 
              f"<title>{_e(name)}: retaining wall calculation report</title>",
              f"<style>{CSS}</style>", "</head>", "<body>",
              _front(result, date), _nav(result), _basis(result), _run(result, figures)]
+    gmap = governing_map(result)
+    marks: dict[str, list] = {}
+    for b in result.bar_schedule:
+        marks.setdefault(b.section, []).append(b)
     for k, st in enumerate(result.section_types, start=1):
-        parts.append(_sectype(result, st, k, figures))
-    parts += [_costs(result), _appendix(result),
+        parts.append(_sectype(result, st, k, figures, gmap.get(st.section_type),
+                              marks.get(st.section_type, [])))
+    parts += [_costs(result), _appendix(result, gmap),
               f'<footer class="note"><p>wallrun {_e(wallrun.__version__)}: preliminary design '
               "aid; to be checked and signed by a qualified engineer.</p></footer>",
               "</body>", "</html>"]
