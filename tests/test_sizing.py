@@ -215,7 +215,7 @@ def test_stem_moment_table_is_conservative_and_close():
     sec = sizing.SectionArrays.of([sizing.Section(0.2, 0.3, 2.8, 0.7, 0.3),
                                    sizing.Section(0.2, 0.4, 3.0, 0.8, 0.45)])
     cond = sizing.conditions_for(d, sec.base_thickness_m)
-    at = sizing._stem_moment_table(sec, cond, BASIS)
+    at = sizing._stem_moment_table(stability.evaluate_all(sec, cond, BASIS), sec, cond)(None)
     for y in np.linspace(0.05, 2.6, 23):
         ex = stability.stem_moment(sec, cond, BASIS, np.full(2, y))
         ap = at(np.full(2, y))

@@ -96,6 +96,31 @@ def area_centroid(xs, zs):
     return A, cx, cz
 
 
+def area_centroid_cols(xs, zs):
+    """:func:`area_centroid` of polygons given as lists of vertex columns, m.
+
+    xs, zs: sequences of k arrays of shape (n,) (or floats), the k vertices of every
+    polygon in the same order as the (n, k) arrays of :func:`area_centroid`. The same
+    shoelace sums, term by term, without building the (n, k) arrays (the stability engine
+    calls it for its four fixed outlines on every evaluation). Returns (A, cx, cz) of
+    shape (n,) (broadcast of the inputs).
+    """
+    k = len(xs)
+    a2 = sx = sz = 0.0
+    for i in range(k):
+        j = (i + 1) % k
+        cross = xs[i] * zs[j] - xs[j] * zs[i]
+        a2 = a2 + cross
+        sx = sx + (xs[i] + xs[j]) * cross
+        sz = sz + (zs[i] + zs[j]) * cross
+    a2 = np.asarray(a2, dtype=float)
+    ok = np.abs(a2) > 1e-15
+    safe = np.where(ok, a2, 1.0)
+    cx = np.where(ok, sx / (3.0 * safe), sum(xs) / k)
+    cz = np.where(ok, sz / (3.0 * safe), sum(zs) / k)
+    return 0.5 * np.abs(a2), cx, cz
+
+
 def _cols(*cols):
     """Stack broadcast columns into an (n, k) array."""
     arrs = np.broadcast_arrays(*[np.asarray(c, dtype=float) for c in cols])

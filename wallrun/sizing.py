@@ -147,6 +147,7 @@ class Evaluation:
     cost: np.ndarray
     steel_kg_per_m: np.ndarray
     U: np.ndarray  # utilization of every check (rows, in ``checks`` order) x candidate
+    actions: object = None  # stability.AllActions of the candidates (edge pressure)
 
     def __len__(self) -> int:
         return len(self.sec)
@@ -178,86 +179,175 @@ def lower_bound_cost(sec: SectionArrays, demand: Demand, rates) -> np.ndarray:
 
 
 def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
-             given: Reinforcement | None = None, curtail: bool = True) -> Evaluation:
+             given: Reinforcement | None = None, curtail: bool = True,
+             screen: bool = False, complete_if_none: bool = True) -> Evaluation:
     """All stability and structural checks of n candidate sections at ``demand``.
 
-    Stability: ``stability.stability_checks`` (design-basis section 4). Structure:
+    Stability: ``stability.evaluate_all`` (the checks of ``stability.stability_checks``,
+    design-basis section 4, with the member actions, quasi-permanent moments and stem
+    moment envelope from the same geometry and factored actions). Structure:
     ``structure.design_reinforcement`` chooses the cheapest bars per candidate, or with
-    ``given`` bars ``structure.check_reinforcement`` checks them (design-basis section 5),
-    from ``stability.member_actions``, ``stability.member_moments_qp`` and the stem moment
-    envelope ``stability.stem_moment`` for curtailment. Cost: ``takeoff.cost_per_metre``
-    with the structure's ``steel_kg_per_m``. A candidate whose dimensions do not close
-    (``section.section_problems``) never passes.
+    ``given`` bars ``structure.check_reinforcement`` checks them (design-basis section 5).
+    Cost: ``takeoff.cost_per_metre`` with the structure's ``steel_kg_per_m``. A candidate
+    whose dimensions do not close (``section.section_problems``) never passes.
 
     ``curtail=False`` (the search) leaves the stem moment envelope out: every stem bar
     then runs full height, which only overstates the steel mass (the bars and all checks
     at the critical sections are the same); the chosen section is evaluated again with
     curtailment.
+
+    ``screen=True`` (the search only): the structure is designed only for the candidates
+    that pass every stability check; a candidate failing stability fails anyway, and its
+    structural checks are reported as not evaluated (effect and resistance nan,
+    utilization 0), its utilization is its stability utilization and its steel and cost
+    are nan. With ``complete_if_none`` and no candidate passing every check, the
+    structure of the screened-out candidates is designed as well, so that their
+    utilizations are complete (the search then descends on the least utilised).
     """
     from wallrun import stability, structure, takeoff
+    from wallrun.members import MemberActions
 
-    cond = conditions_for(demand, sec.base_thickness_m)
-    checks = list(stability.stability_checks(sec, cond, basis))
-    actions = stability.member_actions(sec, cond, basis)
-    qp = stability.member_moments_qp(sec, cond, basis)
-    stem_at = _stem_moment_table(sec, cond, basis) if curtail else None
-    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m, float)
-    if given is None:
-        sr = structure.design_reinforcement(sec, actions, qp, basis, stem_moment_at=stem_at,
-                                            stem_height_m=h_c)
-    else:
-        sr = structure.check_reinforcement(sec, actions, qp, basis, given, stem_moment_at=stem_at,
-                                           stem_height_m=h_c)
-    checks.extend(sr.checks)
     n = len(sec)
-    E = np.vstack([np.broadcast_to(np.asarray(c.effect, dtype=float), (n,)) for c in checks])
-    R = np.vstack([np.broadcast_to(np.asarray(c.resistance, dtype=float), (n,)) for c in checks])
-    U = utilization(E, R)  # the CheckArray convention, all checks at once
+    cond = conditions_for(demand, sec.base_thickness_m)
+    allx = stability.evaluate_all(sec, cond, basis)
+    stab = allx.checks
+    bad = allx.ctx.bad()
+    actions = allx.member_actions()
+    qp = allx.qp()
+    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m, float)
+    M_stem = _stem_moment_table(allx, sec, cond) if curtail else None
+
+    def structure_of(idx):
+        """StructureResult of the candidates idx (None: all)."""
+        if idx is None:
+            s_sec, s_act, s_qp, s_hc = sec, actions, qp, h_c
+            at = M_stem(None) if curtail else None
+        else:
+            s_sec = sec.subset(idx)
+            s_act = [MemberActions(a.member, a.combination, a.case,
+                                   np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))[idx],
+                                   np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))[idx])
+                     for a in actions]
+            s_qp = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,))[idx] for k, v in qp.items()}
+            s_hc = np.broadcast_to(h_c, (n,))[idx]
+            at = M_stem(idx) if curtail else None
+        if given is None:
+            return structure.design_reinforcement(s_sec, s_act, s_qp, basis, stem_moment_at=at,
+                                                  stem_height_m=s_hc)
+        return structure.check_reinforcement(s_sec, s_act, s_qp, basis, given, stem_moment_at=at,
+                                             stem_height_m=s_hc)
+
+    todo = None
+    if screen:
+        U_s, _, _ = _util_matrix(stab, n)
+        u_stab = U_s.max(axis=0) if len(stab) else np.zeros(n)
+        todo = np.flatnonzero((u_stab <= 1.0 + _TOL) & ~bad)
+        if len(todo) == n:
+            todo = None
+    if todo is None:
+        sr = structure_of(None)
+    else:
+        part = structure_of(todo) if len(todo) else None
+        sr = _Screened(part, todo, n)
+        if complete_if_none:
+            ok_part = np.zeros(0, dtype=bool)
+            if part is not None:
+                U_p, _, _ = _util_matrix(part.checks, len(todo))
+                Us = U_s[:, todo]
+                ok_part = np.maximum(U_p.max(axis=0), Us.max(axis=0)) <= 1.0 + _TOL
+            if not ok_part.any():  # nothing passes: every candidate in full
+                todo = None
+                sr = structure_of(None)
+    checks = list(stab) + list(sr.checks)
+    U, _, _ = _util_matrix(checks, n)
     util = U.max(axis=0)
-    ok = (util <= 1.0 + _TOL) & ~section_problems(sec)
+    ok = (util <= 1.0 + _TOL) & ~bad
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
     hs, D = _stem_heights(sec, demand, cond)
     cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
     return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
-                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U)
+                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U,
+                      actions=allx)
 
 
-def _stem_moment_table(sec: SectionArrays, cond: Conditions, basis: Basis, k: int = 41):
-    """``stem_moment_at(y)`` for the curtailment, from one call of
-    ``stability.stem_moment`` at k depths 0..h_c of every candidate, interpolated
-    linearly between them (kNm/m, y in m below z_top).
+def _util_matrix(checks, n: int):
+    """(U, E, R): utilization, effect and resistance of every check (rows) x candidate,
+    with the convention of ``results.utilization`` (E / R where R > 0, else inf where
+    E > 0 and 0 where not), without its temporaries."""
+    m = len(checks)
+    E = np.empty((m, n))
+    R = np.empty((m, n))
+    for k, c in enumerate(checks):
+        E[k] = c.effect
+        R[k] = c.resistance
+    with np.errstate(divide="ignore", invalid="ignore"):
+        U = E / R
+    mask = ~(R > 0)
+    if mask.any():
+        U[mask] = np.where(E[mask] > 0, np.inf, 0.0)
+    return U, E, R
+
+
+class _Screened:
+    """A StructureResult-like view of n candidates of which only ``idx`` had their
+    structure designed (``evaluate(screen=True)``): the structural checks of the others
+    are not evaluated (effect and resistance nan), their steel mass nan."""
+
+    def __init__(self, part, idx: np.ndarray, n: int):
+        self.part, self.idx, self.n = part, idx, n
+        self.checks = []
+        self.steel_kg_per_m = np.full(n, np.nan)
+        self.pos = np.full(n, -1, dtype=np.int64)
+        self.pos[idx] = np.arange(len(idx))
+        if part is None:
+            return
+        for c in part.checks:
+            e = np.full(n, np.nan)
+            r = np.full(n, np.nan)
+            e[idx] = c.effect
+            r[idx] = c.resistance
+            self.checks.append(CheckArray(c.check, c.combination, c.case, c.unit, c.clause, e, r))
+        self.steel_kg_per_m[idx] = part.steel_kg_per_m
+
+    def reinforcement(self, i: int) -> Reinforcement | None:
+        """The bars of candidate i, None where its structure was not designed."""
+        j = int(self.pos[i])
+        return None if j < 0 else self.part.reinforcement(j)
+
+
+def _stem_moment_table(allx, sec: SectionArrays, cond: Conditions, k: int = 41):
+    """A maker of ``stem_moment_at(y)`` for the curtailment: the stem moment envelope of
+    ``allx.stem_moment`` tabulated once at k depths 0..h_c of every candidate, and
+    ``make(idx)`` the interpolating function of the candidates idx (None: all),
+    linear between the tabulated depths (kNm/m, y in m below z_top).
 
     Conservative: the stem moment is convex in the depth (its second derivative is the
     pressure on the stem, >= 0), so a chord lies on or above it and the interpolated
     moment is never below the true one (curtailment only ever stops bars later).
     """
-    from dataclasses import replace
-
-    from wallrun import stability
-
     n = len(sec)
     zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
-    hc = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
+    hc_all = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
     frac = np.linspace(0.0, 1.0, k)
-    rep = np.tile(np.arange(n), k)  # candidate of each row, depth-major
-    big = sec.subset(rep)
-    w = cond.water_level_m
-    cond_big = replace(cond, z_found=zf[rep] if np.ndim(cond.z_found) else cond.z_found,
-                       water_level_m=(np.broadcast_to(np.asarray(w, dtype=float), (n,))[rep]
-                                      if w is not None and np.ndim(w) else w))
-    ys = (frac[:, None] * hc[None, :]).ravel()
-    M = np.asarray(stability.stem_moment(big, cond_big, basis, ys), dtype=float).reshape(k, n)
-    cols = np.arange(n)
+    M_all = np.asarray(allx.stem_moment(frac[:, None] * hc_all[None, :]), dtype=float)
 
-    def at(y):
-        y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
-        i = np.minimum(np.floor(t).astype(int), k - 2)
-        a = t - i
-        return (1.0 - a) * M[i, cols] + a * M[i + 1, cols]
+    def make(idx):
+        M = M_all if idx is None else M_all[:, idx]
+        hc = hc_all if idx is None else hc_all[idx]
+        m = M.shape[1]
+        cols = np.arange(m)
 
-    return at
+        def at(y):
+            y = np.broadcast_to(np.asarray(y, dtype=float), (m,))
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
+            i = np.minimum(np.floor(t).astype(int), k - 2)
+            a = t - i
+            return (1.0 - a) * M[i, cols] + a * M[i + 1, cols]
+
+        return at
+
+    return make
 
 
 def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | None = None,
@@ -266,9 +356,12 @@ def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | N
     from wallrun import stability
 
     section = ev.sec.take(i)
-    one = SectionArrays.of([section])
-    cond1 = conditions_for(demand, one.base_thickness_m)
-    edge = float(np.asarray(stability.edge_pressure_sls(one, cond1, basis)).reshape(-1)[0])
+    if ev.actions is not None:  # the same conditions and actions as the evaluation
+        edge = float(np.asarray(ev.actions.edge_pressure()).reshape(-1)[i])
+    else:
+        one = SectionArrays.of([section])
+        cond1 = conditions_for(demand, one.base_thickness_m)
+        edge = float(np.asarray(stability.edge_pressure_sls(one, cond1, basis)).reshape(-1)[0])
     chk, comb, u = ev.governing(i)
     if status is None:
         status = "ok" if bool(ev.ok[i]) else "flagged"
@@ -473,7 +566,7 @@ class _Search:
             v, codes = v[keep], codes[keep]
         for a in range(0, len(v), self.chunk):
             part = v[a:a + self.chunk]
-            ok, cost, util = self.f(part)
+            ok, cost, util = self.f(part, bool(self.ok.any()))
             self.evaluated += len(part)
             self.V = np.vstack([self.V, part])
             self.ok = np.concatenate([self.ok, ok])
@@ -623,15 +716,23 @@ class Designer:
         self.cache: dict[Demand, SizedDesign] = {}
         self.by_ground: dict[tuple, list[tuple[float, Section]]] = {}
         self.evaluated = 0  # candidates evaluated in searches
+        self.decided = 0  # candidates decided (passed, or failed a check they needed)
+        self.structured = 0  # of them, candidates whose structure was designed
         self.seconds_in_evaluate = 0.0
 
     # the evaluator of one demand, in integer candidates
     def _f(self, demand: Demand, bounds: SearchBounds):
         import time
 
-        def f(v):
+        def f(v, have_best=False):
+            # screened: structure only for the candidates passing stability; when the
+            # search has no passing candidate yet and none of these passes, every
+            # candidate in full (the descent then follows the least utilised)
             t0 = time.perf_counter()
-            ev = evaluate(bounds.sections(v), demand, self.basis, self.rates, curtail=False)
+            ev = evaluate(bounds.sections(v), demand, self.basis, self.rates, curtail=False,
+                          screen=True, complete_if_none=not have_best)
+            self.decided += len(v)
+            self.structured += int(np.isfinite(ev.steel_kg_per_m).sum())
             self.seconds_in_evaluate += time.perf_counter() - t0
             return ev.ok, ev.cost, ev.utilization
 

@@ -31,8 +31,7 @@ from wallrun.errors import InputError
 from wallrun.factors import SLS, FactorSet
 from wallrun.members import MemberActions
 from wallrun.results import ActionRow, CheckArray
-from wallrun.section import (Section, SectionArrays, area_centroid, base_vertices,
-                             key_vertices, section_problems, soil_vertices, stem_vertices,
+from wallrun.section import (Section, SectionArrays, area_centroid_cols, section_problems,
                              validate_section)
 from wallrun.settings import Basis
 
@@ -59,7 +58,49 @@ CLAUSE = {
 # --- validation --------------------------------------------------------------------------
 
 def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
-    """Physical ranges of the ground, loads and settings (scalars only)."""
+    """Physical ranges of the ground, loads and settings. The levels z_top, z_front,
+    z_found and the water level may be floats or arrays of shape (n,) (many panels of
+    the same ground at once); a level problem is reported when any entry has it."""
+    p, early = _static_problems(cond, basis)
+    p = list(p)
+    if early:
+        return p
+    zt, zfr = np.asarray(cond.z_top, dtype=float), np.asarray(cond.z_front, dtype=float)
+    if np.any(zt < zfr):
+        p.append(f"retained level z_top = {_fmt_level(zt[zt < zfr] if zt.ndim else zt)} is below "
+                 f"the front level z_front = {_fmt_level(zfr[zt < zfr] if zfr.ndim else zfr)}")
+    if np.any(np.asarray(cond.z_found) >= zfr):
+        p.append("founding level z_found is not below the front level z_front")
+    return p
+
+
+def _fmt_level(v) -> str:
+    v = np.asarray(v, dtype=float).reshape(-1)
+    return f"{v[0]:g}"
+
+
+_STATIC_CACHE: dict = {}
+
+
+def _static_problems(cond: Conditions, basis: Basis) -> tuple[tuple[str, ...], bool]:
+    """The level-independent problems of :func:`_ground_problems` (cached: the sizing
+    search asks for the same ground thousands of times) and whether the rules stopped
+    early (then the level rules are not applied)."""
+    try:
+        key = (cond.backfill, cond.foundation, cond.surcharge_kpa, cond.water_level_m is None,
+               basis.loads, basis.design, tuple(sorted(basis.factors.items())))
+        hash(key)
+    except TypeError:  # an unhashable setting: no caching
+        return _static_problems_uncached(cond, basis)
+    r = _STATIC_CACHE.get(key)
+    if r is None:
+        if len(_STATIC_CACHE) > 256:
+            _STATIC_CACHE.clear()
+        r = _STATIC_CACHE[key] = _static_problems_uncached(cond, basis)
+    return r
+
+
+def _static_problems_uncached(cond: Conditions, basis: Basis) -> tuple[tuple[str, ...], bool]:
     p = []
     bf, fd = cond.backfill, cond.foundation
 
@@ -91,7 +132,7 @@ def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
     num("[loads] psi2", basis.loads.psi2, 0, 1)
     num("[design] base_friction_factor", basis.design.base_friction_factor, 0, 1, True)
     if p:
-        return p
+        return tuple(p), True
     if cond.water_level_m is not None:
         if bf.unit_weight_kn_m3 <= GAMMA_W:
             p.append(f"[backfill] unit_weight_kn_m3 = {bf.unit_weight_kn_m3:g}: must exceed "
@@ -107,7 +148,7 @@ def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
     if d.passive not in ("none", "key", "full"):
         p.append(f"[design] passive = {d.passive!r}: must be none, key or full")
     if p:
-        return p
+        return tuple(p), True
     sets = {"EQU": basis.factors.get("EQU")} | {s: basis.factors.get(s) for s in basis.uls_sets}
     for name, fs in sets.items():
         if fs is None:
@@ -119,19 +160,31 @@ def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
             if not (np.isfinite(v) and v > 0) and not (k in ("gG_fav", "gQ") and v == 0):
                 p.append(f"[factors.{name}] {k} = {v:g}: must be > 0")
     if p:
-        return p
+        return tuple(p), True
     for name, fs in sets.items():
         phid = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
         if bf.slope_deg >= phid:
             p.append(f"[backfill] slope_deg = {bf.slope_deg:g}: at or above the design friction "
                      f"angle {phid:.2f} of the backfill in {name} (friction_angle_deg "
                      f"{bf.friction_angle_deg:g} / g_phi {fs.g_phi:g}): no active limit state")
-    if cond.z_top < cond.z_front:
-        p.append(f"retained level z_top = {cond.z_top:g} is below the front level "
-                 f"z_front = {cond.z_front:g}")
-    if np.any(np.asarray(cond.z_found) >= cond.z_front):
-        p.append("founding level z_found is not below the front level z_front")
-    return p
+    return tuple(p), False
+
+
+def steep_backfill(cond: Conditions, basis: Basis) -> tuple[str, float, str] | None:
+    """(set name, phi'_d deg, message) of the first factor set in use (EQU, then the
+    approach's sets) whose design friction angle of the backfill the backfill slope
+    reaches or exceeds: no active limit state (Rankine needs beta < phi'_d), so no
+    section can be designed; None when the slope is below every phi'_d."""
+    bf = cond.backfill
+    for name in ("EQU",) + tuple(basis.uls_sets):
+        fs = basis.factors.get(name)
+        if fs is None:
+            continue
+        phid = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
+        if float(bf.slope_deg) >= phid:
+            return (name, phid, f"backfill slope {float(bf.slope_deg):.1f} deg >= phi'_d "
+                                f"{phid:.1f} deg ({name}): no active limit state, not designed")
+    return None
 
 
 def validate(section_or_arrays, cond: Conditions, basis: Basis) -> list[str]:
@@ -156,7 +209,7 @@ def validate(section_or_arrays, cond: Conditions, basis: Basis) -> list[str]:
             p.append(f"{int(bad.sum())} of {len(s)} candidate sections do not close; "
                      + "; ".join(first))
         t = np.asarray(s.base_thickness_m)
-    hc = cond.z_top - np.asarray(cond.z_found, dtype=float) - t
+    hc = np.asarray(cond.z_top, dtype=float) - np.asarray(cond.z_found, dtype=float) - t
     if np.any(hc <= 0):
         p.append("base_thickness_m: the base reaches z_top (stem height z_top - z_found - "
                  "base_thickness_m <= 0)")
@@ -175,45 +228,52 @@ class _Geom:
         self.dk, self.wk = f(sec.key_depth_m), f(sec.key_width_m)
         n = self.B.shape[0]
         self.n = n
-        zf = np.broadcast_to(f(cond.z_found), (n,))
+        zf = f(cond.z_found)
+        if zf.shape != (n,):
+            zf = np.full(n, float(zf)) if zf.ndim == 0 else np.broadcast_to(zf, (n,))
         self.z_found = zf
         bf, fd = cond.backfill, cond.foundation
         self.beta = float(bf.slope_deg)
         tb = np.tan(np.radians(self.beta))
         self.cb, self.sb = np.cos(np.radians(self.beta)), np.sin(np.radians(self.beta))
-        self.H = cond.z_top - zf  # total height, m
+        self.H = f(cond.z_top) - zf  # total height, m
         self.hc = np.maximum(self.H - self.t, 0.0)  # checked stem height, m
         self.q = float(cond.surcharge_kpa)
         g = self.gb = float(bf.unit_weight_kn_m3)
         self.gf = float(fd.unit_weight_kn_m3)
         B, toe, t = self.B, self.toe, self.t
-        # concrete: stem to z_top, base, key (shoelace)
-        As, xs, _ = area_centroid(*stem_vertices(toe, t, self.tsb, self.tst, self.hc))
-        Ab, xb, _ = area_centroid(*base_vertices(B, t))
-        Ak, xk, _ = area_centroid(*key_vertices(toe, self.dk, self.wk))
+        tsb, tst, hc = self.tsb, self.tst, self.hc
+        z0 = 0.0 * B
+        # concrete: stem to z_top, base, key (shoelace over the vertex columns of
+        # section.stem_vertices, base_vertices, key_vertices, in their order)
+        x_fs, x_bs, ztr = toe + tsb, toe + tst, t + hc
+        As, xs, _ = area_centroid_cols((toe, x_fs, x_bs, x_bs, toe), (t, t, ztr, ztr, ztr))
+        Ab, xb, _ = area_centroid_cols((z0, B, B, z0), (z0, z0, t, t))
+        xkw = toe + self.wk
+        Ak, xk, _ = area_centroid_cols((toe, xkw, xkw, toe), (-self.dk, -self.dk, z0, z0))
         self.W_stem, self.x_stem = GAMMA_C * As, xs
         self.W_base, self.x_base = GAMMA_C * Ab, xb
         self.W_key, self.x_key = GAMMA_C * Ak, xk
         self.W_c = self.W_stem + self.W_base + self.W_key
         self.M_c = self.W_stem * xs + self.W_base * xb + self.W_key * xk
-        # soil over the heel (total unit weight above and below water)
-        Asl, xsl, _ = area_centroid(*soil_vertices(toe, t, self.tsb, self.tst, B, self.hc, self.beta))
+        # soil over the heel (total unit weight above and below water), the vertex
+        # columns of section.soil_vertices
+        zs_B = ztr + (B - x_bs) * np.tan(np.radians(self.beta))
+        Asl, xsl, _ = area_centroid_cols((x_fs, B, B, x_bs), (t, t, zs_B, ztr))
         self.W_s, self.x_s = g * Asl, xsl
         # the part of it beyond the heel's critical section x_h = toe + t_stem_base
         self.x_h = toe + self.tsb
         z_top_rel = t + self.hc
         zs_xh = z_top_rel + (self.x_h - toe - self.tst) * tb
         self.Hv = z_top_rel + (B - toe - self.tst) * tb  # surface at x = B above underside
-        xq = np.stack([self.x_h, B, B, self.x_h], axis=-1)
-        zq = np.stack([t, t, self.Hv, zs_xh], axis=-1)
-        Ah, xhh, _ = area_centroid(xq, zq)
+        Ah, xhh, _ = area_centroid_cols((self.x_h, B, B, self.x_h), (t, t, self.Hv, zs_xh))
         self.W_s_heel, self.x_s_heel = g * Ah, xhh
         # water behind the wall, relative to the underside of the base, capped at the
         # backfill surface at x = B (virtual back) and at z_top (stem)
         if cond.water_level_m is None:
             w = np.full(n, -np.inf)
         else:
-            w = np.broadcast_to(f(cond.water_level_m), (n,)) - zf
+            w = f(cond.water_level_m) - zf
         wc = np.minimum(w, self.Hv)
         self.water_above_base = wc > 0
         self.hw = np.clip(wc, 0.0, self.Hv)  # on the virtual back, above the underside
@@ -233,7 +293,7 @@ class _Geom:
         bq = B - toe - self.tst
         self.Q, self.xQ = self.q * bq, B - 0.5 * bq
         # bearing: overburden on the front and the unit weight in the Ngamma term
-        self.D = np.maximum(cond.z_front - zf, 0.0)
+        self.D = np.maximum(f(cond.z_front) - zf, 0.0)
         self.q_over = self.gf * self.D
         self.g_eff_found = np.where(self.water_above_base, self.gf - GAMMA_W, self.gf)
 
@@ -277,11 +337,33 @@ class _SetActions:
         self.phi_f = float(ec7.design_friction_angle(fd.friction_angle_deg, fs.g_phi))
         self.c_d = float(ec7.design_cohesion(fd.cohesion_kpa, fs.g_c))
         self.cu_d = float(ec7.design_undrained_strength(fd.undrained_strength_kpa, fs.g_cu))
+        self._sub: dict = {}
+        self._stem: dict = {}
 
     def subcase(self, g: _Geom, unfav: bool, heel_on: bool):
         """V (net of uplift), H, M about the toe (restoring positive) and e of a bearing
         sub-case (design-basis 4): permanent vertical actions at gG unfav or fav, heel
-        load at gQ or off; thrusts (and both components of Pq) unfavourable."""
+        load at gQ or off; thrusts (and both components of Pq) unfavourable. Computed
+        once per sub-case and reused (stability, member actions, SLS pressure)."""
+        r = self._sub.get((unfav, heel_on))
+        if r is None:
+            r = self._sub[(unfav, heel_on)] = self._subcase(g, unfav, heel_on)
+        return r
+
+    def stem_base(self, g: _Geom, K_stem: float):
+        """(M, V) at the stem's critical section for a horizontal coefficient K_stem
+        (the same for every sub-case of the set; computed once)."""
+        r = self._stem.get(K_stem)
+        if r is None:
+            fs = self.fs
+            gh, gQ = fs.gG_ground, fs.gQ
+            S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, g.hc, g.hw_stem, g.q)
+            M_stem = gh * (K_stem * Sm + Mw) + gQ * K_stem * Sqm
+            V_stem = gh * (K_stem * S + Pw) + gQ * K_stem * Sq
+            r = self._stem[K_stem] = (M_stem, V_stem)
+        return r
+
+    def _subcase(self, g: _Geom, unfav: bool, heel_on: bool):
         fs = self.fs
         gc = fs.gG_unfav if unfav else fs.gG_fav
         gg = fs.gG_ground if unfav else fs.gG_fav
@@ -313,6 +395,39 @@ def _check(cond, basis, sec):
 
 # --- stability checks ---------------------------------------------------------------------------
 
+class _Actions:
+    """Geometry, factored actions and sub-cases of n candidates at one (conditions,
+    basis), built once and shared by every entry point (stability checks, member
+    actions, quasi-permanent moments, SLS edge pressure, stem moment), so that one
+    evaluation of the sizing search pays the fixed cost once (:func:`evaluate_all`)."""
+
+    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis, check: bool = True):
+        if check:
+            _check(cond, basis, sec)
+        self.sec, self.cond, self.basis = sec, cond, basis
+        self.g = _Geom(sec, cond)
+        self._sets: dict = {}
+        self._sls = None
+        self._bad = None
+
+    def set(self, fs: FactorSet) -> "_SetActions":
+        """The design values of one factor set (built once)."""
+        a = self._sets.get(fs)
+        if a is None:
+            a = self._sets[fs] = _SetActions(self.g, fs, self.cond, self.basis)
+        return a
+
+    def sls_cases(self):
+        if self._sls is None:
+            self._sls = _sls_cases(self)
+        return self._sls
+
+    def bad(self) -> np.ndarray:
+        if self._bad is None:
+            self._bad = section_problems(self.sec)
+        return self._bad
+
+
 def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[CheckArray]:
     """Every stability check of design-basis section 4 for n candidates.
 
@@ -321,22 +436,27 @@ def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list
     eccentricity_sls and bearing_sls where they apply. Candidates whose dimensions do
     not close get infinite effects. Raises InputError for ground out of range.
     """
-    _check(cond, basis, sec)
-    g = _Geom(sec, cond)
+    return _stability_checks(_Actions(sec, cond, basis))
+
+
+def _stability_checks(ctx: _Actions) -> list[CheckArray]:
+    g, cond, basis, sec = ctx.g, ctx.cond, ctx.basis, ctx.sec
     out: list[CheckArray] = []
     fd = cond.foundation
     # overturning, EQU (2.4.7.2)
     e = basis.factors["EQU"]
-    a = _SetActions(g, e, cond, basis)
+    a = ctx.set(e)
     M_dst = e.gG_ground * (a.Ma_h + g.Mw + g.MU) + e.gQ * a.Mq_h
     M_stb = e.gG_fav * (g.M_c + g.W_s * g.x_s + a.Pa_v * g.B)
     out.append(CheckArray("overturning", "EQU", "about toe", "kNm/m", CLAUSE["overturning"],
                           M_dst, M_stb))
     h = cond.h
-    z_p = cond.z_front - float(ec7.unplanned_excavation(h))
+    z_p = cond.z_front - ec7.unplanned_excavation(h)
+    if np.ndim(z_p) == 0:
+        z_p = float(z_p)
     undrained = fd.undrained_strength_kpa > 0
     for name, fs in _sets(basis):
-        a = _SetActions(g, fs, cond, basis)
+        a = ctx.set(fs)
         gh, gf = fs.gG_ground, fs.gG_fav
         # sliding (6.5.3), virtual back extended to the key bottom
         S_k = g.S_k * a.Ka
@@ -374,8 +494,8 @@ def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list
             ecc.append(CheckArray("eccentricity", name, label, "m", CLAUSE["eccentricity"],
                                   np.abs(ev), g.B / 3.0))
         out.extend(ecc)
-    out.extend(_sls_checks(g, cond, basis))
-    bad = section_problems(sec)
+    out.extend(_sls_checks(ctx))
+    bad = ctx.bad()
     if bad.any():
         out = [CheckArray(c.check, c.combination, c.case, c.unit, c.clause,
                           np.where(bad, np.inf, c.effect), c.resistance) for c in out]
@@ -396,9 +516,10 @@ def _passive(g: _Geom, a: _SetActions, cond: Conditions, basis: Basis, z_p: floa
     return P
 
 
-def _sls_cases(g: _Geom, cond: Conditions, basis: Basis):
+def _sls_cases(ctx: _Actions):
     """(label, V, e) of the characteristic cases (all factors 1.0, phi'_k, Pq on)."""
-    a = _SetActions(g, SLS, cond, basis)
+    g = ctx.g
+    a = ctx.set(SLS)
     out = []
     for label, on in SLS_CASES:
         V, H, M, e, _, _ = a.subcase(g, True, on)
@@ -406,9 +527,10 @@ def _sls_cases(g: _Geom, cond: Conditions, basis: Basis):
     return out
 
 
-def _sls_checks(g: _Geom, cond: Conditions, basis: Basis) -> list[CheckArray]:
+def _sls_checks(ctx: _Actions) -> list[CheckArray]:
+    g, cond, basis = ctx.g, ctx.cond, ctx.basis
     out = []
-    cases = _sls_cases(g, cond, basis) if (basis.design.sls_middle_third or
+    cases = ctx.sls_cases() if (basis.design.sls_middle_third or
                                            cond.foundation.allowable_bearing_kpa > 0) else []
     if basis.design.sls_middle_third:
         for label, V, e in cases:
@@ -430,9 +552,13 @@ def _sigma_max(V, e, B):
 def edge_pressure_sls(sec: SectionArrays, cond: Conditions, basis: Basis) -> np.ndarray:
     """Maximum characteristic edge pressure, kPa, shape (n,): the larger of the two SLS
     cases (heel load on/off), for the joint pressure ratio (design-basis 1 and 4)."""
-    _check(cond, basis, sec)
-    g = _Geom(sec, cond)
-    return np.max(np.vstack([_sigma_max(V, e, g.B) for _, V, e in _sls_cases(g, cond, basis)]), axis=0)
+    return _edge_pressure(_Actions(sec, cond, basis))
+
+
+def _edge_pressure(ctx: _Actions) -> np.ndarray:
+    B = ctx.g.B
+    (_, V1, e1), (_, V2, e2) = ctx.sls_cases()
+    return np.maximum(_sigma_max(V1, e1, B), _sigma_max(V2, e2, B))
 
 
 # --- actions table -----------------------------------------------------------------------------
@@ -516,10 +642,8 @@ def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool,
                  sub=None):
     """(M, V) of stem, heel and toe for one factor set and sub-case."""
     fs = a.fs
-    gh, gQ = fs.gG_ground, fs.gQ
-    S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, g.hc, g.hw_stem, g.q)
-    M_stem = gh * (K_stem * Sm + Mw) + gQ * K_stem * Sqm
-    V_stem = gh * (K_stem * S + Pw) + gQ * K_stem * Sq
+    gQ = fs.gQ
+    M_stem, V_stem = a.stem_base(g, K_stem)
     V, H, M, e, gc, gg = a.subcase(g, unfav, on) if sub is None else sub
     c0, c1, s0, s1 = _contact(V, e, g.B)
     B, xh, toe = g.B, g.x_h, g.toe
@@ -547,11 +671,14 @@ def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool,
 def member_actions(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[MemberActions]:
     """ULS actions at the critical sections of stem, heel and toe for every set of the
     approach x the four bearing sub-cases (design-basis 5); the envelope governs."""
-    _check(cond, basis, sec)
-    g = _Geom(sec, cond)
+    return _member_actions(_Actions(sec, cond, basis))
+
+
+def _member_actions(ctx: _Actions) -> list[MemberActions]:
+    g, cond, basis = ctx.g, ctx.cond, ctx.basis
     out = []
     for name, fs in _sets(basis):
-        a = _SetActions(g, fs, cond, basis)
+        a = ctx.set(fs)
         K = _stem_K(cond, basis, fs)
         for label, unfav, on in SUBCASES:
             res = _members_for(g, a, K, unfav, on)
@@ -564,11 +691,14 @@ def member_moments_qp(sec: SectionArrays, cond: Conditions, basis: Basis) -> dic
     """Quasi-permanent moments (kNm/m) at the critical sections: characteristic
     permanent actions with phi'_k and psi2 times the surcharge (thrust on the stem, Pq
     and heel load), for crack control (EN 1990 6.5.3 Eq. 6.16b; design-basis 5)."""
-    _check(cond, basis, sec)
-    g = _Geom(sec, cond)
+    return _member_moments_qp(_Actions(sec, cond, basis))
+
+
+def _member_moments_qp(ctx: _Actions) -> dict[str, np.ndarray]:
+    g, cond, basis = ctx.g, ctx.cond, ctx.basis
     psi2 = float(basis.loads.psi2)
     fs = FactorSet("QP", 1.0, 1.0, psi2, 1.0, 1.0, 1.0)
-    a = _SetActions(g, fs, cond, basis)
+    a = ctx.set(fs)
     K = _stem_K(cond, basis, fs)
     (ms, _), (mh, _), (mt, _) = _members_for(g, a, K, True, True)
     return {"stem": ms, "heel": mh, "toe": mt}
@@ -577,14 +707,56 @@ def member_moments_qp(sec: SectionArrays, cond: Conditions, basis: Basis) -> dic
 def stem_moment(sec: SectionArrays, cond: Conditions, basis: Basis, y) -> np.ndarray:
     """ULS envelope bending moment in the stem at depth y (m, scalar or (n,)) below
     z_top, kNm/m, tension on the retained face positive (for curtailment)."""
-    _check(cond, basis, sec)
-    g = _Geom(sec, cond)
-    y = np.clip(np.broadcast_to(np.asarray(y, dtype=float), (g.n,)), 0.0, g.hc)
+    return _stem_moment(_Actions(sec, cond, basis), y)
+
+
+def _stem_moment(ctx: _Actions, y) -> np.ndarray:
+    g, cond, basis = ctx.g, ctx.cond, ctx.basis
+    y = np.asarray(y, dtype=float)
+    if y.ndim < 2:  # scalar or (n,); a (k, n) table of depths is taken as it is
+        y = np.broadcast_to(y, (g.n,))
+    y = np.clip(y, 0.0, g.hc)
     # water on the stem above the section at depth y: level above the section
     hw = np.clip(g._w_stem_rel - (g.H - y), 0.0, y)
     S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, y, hw, g.q)
-    best = np.full(g.n, -np.inf)
+    best = np.full(y.shape, -np.inf)
     for name, fs in _sets(basis):
         K = _stem_K(cond, basis, fs)
         best = np.maximum(best, fs.gG_ground * (K * Sm + Mw) + fs.gQ * K * Sqm)
     return best
+
+
+# --- one call for the sizing search ------------------------------------------------------
+
+class AllActions:
+    """Everything the sizing search needs of n candidates at one (conditions, basis),
+    from one shared :class:`_Actions`: ``checks`` (:func:`stability_checks`),
+    ``member_actions()`` (:func:`member_actions`), ``qp()`` (:func:`member_moments_qp`),
+    ``edge_pressure()`` (:func:`edge_pressure_sls`) and ``stem_moment(y)``
+    (:func:`stem_moment`); the same numbers as the separate entry points."""
+
+    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis):
+        self.ctx = _Actions(sec, cond, basis)
+        self.checks = _stability_checks(self.ctx)
+
+    def member_actions(self) -> list[MemberActions]:
+        return _member_actions(self.ctx)
+
+    def qp(self) -> dict[str, np.ndarray]:
+        return _member_moments_qp(self.ctx)
+
+    def edge_pressure(self) -> np.ndarray:
+        return _edge_pressure(self.ctx)
+
+    def stem_moment(self, y) -> np.ndarray:
+        """:func:`stem_moment` at depths y: scalar, (n,), or a table (k, n) (row j the
+        depths of every candidate), kNm/m of the same shape."""
+        return _stem_moment(self.ctx, y)
+
+
+def evaluate_all(sec: SectionArrays, cond: Conditions, basis: Basis) -> AllActions:
+    """The stability checks of n candidates, with their member actions, quasi-permanent
+    moments, SLS edge pressure and stem moment available from the same geometry and
+    factored actions (see :class:`AllActions`). Raises InputError as
+    :func:`stability_checks`."""
+    return AllActions(sec, cond, basis)
