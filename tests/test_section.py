@@ -103,3 +103,23 @@ def test_bad_sections_named(sec, word):
 def test_good_section_passes():
     assert validate_section(S) == []
     assert not section_problems(SectionArrays.of([S]))[0]
+
+
+@settings(max_examples=50, deadline=None)
+@given(toe=st.floats(0.0, 2.0), t=dims, tsb=st.floats(0.2, 1.0), frac=st.floats(0.3, 1.0),
+       heel=st.floats(0.1, 4.0), h=st.floats(0.3, 8.0), extra=st.floats(0.0, 1.0),
+       beta=st.floats(0.0, 30.0), d=st.floats(0.0, 1.0), w=st.floats(0.0, 1.0))
+def test_column_shoelace_equals_general(toe, t, tsb, frac, heel, h, extra, beta, d, w):
+    """Property: the column form used by the stability engine for its fixed outlines
+    (section.area_centroid_cols) equals the general area_centroid on the same vertices,
+    including the degenerate (absent) key."""
+    from wallrun.section import area_centroid_cols
+    tst = tsb * frac
+    B = toe + tsb + heel
+    for xs, zs in (stem_vertices(toe, t, tsb, tst, h, h + extra), base_vertices(B, t),
+                   key_vertices(toe, d, w), soil_vertices(toe, t, tsb, tst, B, h, beta)):
+        xs, zs = np.atleast_2d(xs), np.atleast_2d(zs)
+        ref = area_centroid(xs, zs)
+        got = area_centroid_cols(list(xs.T), list(zs.T))
+        for r, g in zip(ref, got):
+            assert np.allclose(g, r, rtol=1e-12, atol=1e-12)

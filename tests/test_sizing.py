@@ -244,3 +244,32 @@ def test_rationalise_four_types_two_grounds_independent_recheck():
         ev = sizing.evaluate(sizing.SectionArrays.of([d.section]), dm, BASIS, None,
                              given=d.reinforcement)
         assert bool(ev.ok[0]) and float(ev.utilization[0]) <= 1.0 + 1e-9
+
+
+def test_screened_evaluation_decides_like_the_full_one():
+    # screening (structure only for candidates passing stability) changes no decision:
+    # the same candidates pass, with the same cost and utilization; a screened-out
+    # candidate fails stability and has its structural checks not evaluated (nan)
+    d = demand(3.0)
+    b = sizing.bounds_for(d, 0.05)
+    v = sizing.grid(b, 3)
+    sec = b.sections(v)
+    full = sizing.evaluate(sec, d, BASIS, None, curtail=False)
+    scr = sizing.evaluate(sec, d, BASIS, None, curtail=False, screen=True, complete_if_none=False)
+    assert full.ok.any() and (~full.ok).any()
+    assert np.array_equal(full.ok, scr.ok)
+    assert np.allclose(full.cost[full.ok], scr.cost[scr.ok], rtol=1e-12)
+    assert np.allclose(full.utilization[full.ok], scr.utilization[scr.ok], rtol=1e-12)
+    out = ~np.isfinite(scr.steel_kg_per_m)
+    assert out.any()
+    n_stab = len(full.checks) - len(full.structure.checks)
+    stab_u = full.U[:n_stab].max(axis=0)
+    assert np.all(stab_u[out] > 1.0)
+    assert np.allclose(scr.utilization[out], stab_u[out])
+    k = int(np.flatnonzero(out)[0])
+    assert all(np.isnan(c.effect[k]) for c in scr.checks[n_stab:])
+    # nothing passing and complete_if_none: every candidate in full
+    bad = sec.subset(np.flatnonzero(~full.ok)[:50])
+    a = sizing.evaluate(bad, d, BASIS, None, curtail=False, screen=True)
+    f2 = sizing.evaluate(bad, d, BASIS, None, curtail=False)
+    assert np.allclose(a.utilization, f2.utilization, rtol=1e-12)
