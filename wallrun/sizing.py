@@ -148,6 +148,8 @@ class Evaluation:
     steel_kg_per_m: np.ndarray
     U: np.ndarray  # utilization of every check (rows, in ``checks`` order) x candidate
     actions: object = None  # stability.AllActions of the candidates (edge pressure)
+    E: np.ndarray | None = None  # effects of every check x candidate
+    R: np.ndarray | None = None  # resistances of every check x candidate
 
     def __len__(self) -> int:
         return len(self.sec)
@@ -206,6 +208,7 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     """
     from wallrun import stability, structure, takeoff
     from wallrun.members import MemberActions
+    from wallrun.structure import _full
 
     n = len(sec)
     cond = conditions_for(demand, sec.base_thickness_m)
@@ -224,12 +227,10 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
             at = M_stem(None) if curtail else None
         else:
             s_sec = sec.subset(idx)
-            s_act = [MemberActions(a.member, a.combination, a.case,
-                                   np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))[idx],
-                                   np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))[idx])
-                     for a in actions]
-            s_qp = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,))[idx] for k, v in qp.items()}
-            s_hc = np.broadcast_to(h_c, (n,))[idx]
+            s_act = [MemberActions(a.member, a.combination, a.case, _full(a.M_Ed, n)[idx],
+                                   _full(a.V_Ed, n)[idx]) for a in actions]
+            s_qp = {k: _full(v, n)[idx] for k, v in qp.items()}
+            s_hc = _full(h_c, n)[idx]
             at = M_stem(idx) if curtail else None
         if given is None:
             return structure.design_reinforcement(s_sec, s_act, s_qp, basis, stem_moment_at=at,
@@ -259,7 +260,7 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
                 todo = None
                 sr = structure_of(None)
     checks = list(stab) + list(sr.checks)
-    U, _, _ = _util_matrix(checks, n)
+    U, E, R = _util_matrix(checks, n)
     util = U.max(axis=0)
     ok = (util <= 1.0 + _TOL) & ~bad
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
@@ -267,7 +268,7 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
     return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
                       ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U,
-                      actions=allx)
+                      actions=allx, E=E, R=R)
 
 
 def _util_matrix(checks, n: int):
@@ -350,6 +351,22 @@ def _stem_moment_table(allx, sec: SectionArrays, cond: Conditions, k: int = 41):
     return make
 
 
+def _entries(ev: Evaluation, i: int) -> tuple[CheckEntry, ...]:
+    """``results.entries(ev.checks, i)`` from the evaluation's own effect, resistance and
+    utilization matrices (the same values: U is E / R with the same conventions)."""
+    if ev.E is None:
+        return entries(ev.checks, i)
+    E, R, U = ev.E[:, i].tolist(), ev.R[:, i].tolist(), ev.U[:, i].tolist()
+    worst: dict[tuple[str, str], int] = {}
+    for k, c in enumerate(ev.checks):
+        key = (c.check, c.combination)
+        if key not in worst or U[k] > U[worst[key]]:
+            worst[key] = k
+    gov = set(worst.values())
+    return tuple(CheckEntry(c.check, c.combination, c.case, E[k], R[k], c.unit, U[k], c.clause,
+                            k in gov) for k, c in enumerate(ev.checks))
+
+
 def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | None = None,
            reason: str = "", section_type: str = "") -> SizedDesign:
     """The SizedDesign of candidate ``i`` of an evaluation."""
@@ -368,7 +385,7 @@ def _sized(ev: Evaluation, i: int, demand: Demand, basis: Basis, status: str | N
         if status == "flagged" and not reason:
             reason = f"fails {chk} {comb} ({u:.2f})"
     return SizedDesign(section=section, reinforcement=ev.structure.reinforcement(i),
-                       checks=entries(ev.checks, i), cost_per_m=float(ev.cost[i]),
+                       checks=_entries(ev, i), cost_per_m=float(ev.cost[i]),
                        z_found=float(np.asarray(ev.cond.z_found).reshape(-1)[i]
                                      if np.ndim(ev.cond.z_found) else ev.cond.z_found),
                        edge_pressure_sls_kpa=edge, status=status, reason=reason,

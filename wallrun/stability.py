@@ -676,15 +676,58 @@ def member_actions(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[M
 
 def _member_actions(ctx: _Actions) -> list[MemberActions]:
     g, cond, basis = ctx.g, ctx.cond, ctx.basis
-    out = []
+    rows = []
     for name, fs in _sets(basis):
         a = ctx.set(fs)
         K = _stem_K(cond, basis, fs)
         for label, unfav, on in SUBCASES:
-            res = _members_for(g, a, K, unfav, on)
-            for member, (M, V) in zip(("stem", "heel", "toe"), res):
-                out.append(MemberActions(member, name, label, M, V))
+            rows.append((name, label, a, K, unfav, on))
+    stem, (M_heel, V_heel), (M_toe, V_toe) = _members_rows(g, rows)
+    out = []
+    for r, (name, label, *_rest) in enumerate(rows):
+        M_stem, V_stem = stem[r]
+        out.append(MemberActions("stem", name, label, M_stem, V_stem))
+        out.append(MemberActions("heel", name, label, M_heel[r], V_heel[r]))
+        out.append(MemberActions("toe", name, label, M_toe[r], V_toe[r]))
     return out
+
+
+def _members_rows(g: _Geom, rows):
+    """:func:`_members_for` of many (set, sub-case) rows at once: the same formulas on
+    arrays (rows, n). rows: (name, label, set actions, K_stem, unfav, heel load on).
+    Returns ([(M_stem, V_stem) per row], (M_heel, V_heel), (M_toe, V_toe)), the last
+    two of shape (rows, n)."""
+    stem = [a.stem_base(g, K) for _, _, a, K, _, _ in rows]
+    subs = [a.subcase(g, unfav, on) for _, _, a, _, unfav, on in rows]
+    col = lambda vals: np.array(vals, dtype=float)[:, None]  # noqa: E731
+    V = np.vstack([sb[0] for sb in subs])
+    e = np.vstack([sb[3] for sb in subs])
+    gc = col([sb[4] for sb in subs])
+    gg = col([sb[5] for sb in subs])
+    gQ = col([a.fs.gQ for _, _, a, _, _, _ in rows])
+    onf = col([a.fs.gQ if on else 0.0 for _, _, a, _, _, on in rows])
+    Pa_v = np.vstack([a.Pa_v for _, _, a, _, _, _ in rows])
+    Pq_v = np.vstack([a.Pq_v for _, _, a, _, _, _ in rows])
+    c0, c1, s0, s1 = _contact(V, e, g.B)
+    B, xh, toe = g.B, g.x_h, g.toe
+    # heel, about the back face of the stem x_h
+    Lh = B - xh
+    down_F = (gc * GAMMA_C * g.t * Lh + gg * g.W_s_heel + onf * g.q * Lh + gg * Pa_v
+              + gQ * Pq_v)
+    down_M = (gc * GAMMA_C * g.t * Lh ** 2 / 2 + gg * g.W_s_heel * (g.x_s_heel - xh)
+              + onf * g.q * Lh ** 2 / 2 + (gg * Pa_v + gQ * Pq_v) * Lh)
+    cF, cM = _lin_integral(c0, c1, s0, s1, xh, B, xh)
+    uc1 = gg * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
+    uF, uM = _lin_integral(0.0, uc1, 0.0, B, xh, B, xh)
+    M_heel = down_M - cM - uM
+    V_heel = np.abs(down_F - cF - uF)
+    # toe, about the front face of the stem x = toe (arm toe - x)
+    cF2, cM2 = _lin_integral(c0, c1, s0, s1, 0.0, toe, toe)
+    uF2, uM2 = _lin_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
+    wF = gc * GAMMA_C * g.t * toe
+    M_toe = -(cM2 + uM2) - wF * toe / 2.0
+    V_toe = np.abs(cF2 + uF2 - wF)
+    return stem, (M_heel, V_heel), (M_toe, V_toe)
 
 
 def member_moments_qp(sec: SectionArrays, cond: Conditions, basis: Basis) -> dict[str, np.ndarray]:

@@ -230,18 +230,25 @@ def _choose_secondary(opt: _Options, h, as_need):
 
 # --- envelopes --------------------------------------------------------------------------
 
+def _full(x, n: int) -> np.ndarray:
+    """x as a float array of shape (n,) (a view when it already is one)."""
+    if type(x) is np.ndarray and x.shape == (n,) and x.dtype == np.float64:
+        return x
+    return np.broadcast_to(np.asarray(x, dtype=float), (n,))
+
+
 def _envelopes(actions: list[MemberActions], n: int):
     pos = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
     neg = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
     for a in actions:
-        M = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
+        M = _full(a.M_Ed, n)
         pos[a.member] = np.maximum(pos[a.member], M)
         neg[a.member] = np.maximum(neg[a.member], -M)
     return pos, neg
 
 
 def _qp(qp: dict, n: int):
-    return {m: np.broadcast_to(np.asarray(qp.get(m, 0.0), dtype=float), (n,)) for m in ("stem", "heel", "toe")}
+    return {m: _full(qp.get(m, 0.0), n) for m in ("stem", "heel", "toe")}
 
 
 # --- public -------------------------------------------------------------------------------
@@ -368,8 +375,8 @@ def _estimate_stem_height(actions, n, stem_moment_at, pos):
     for a in actions:
         if a.member != "stem":
             continue
-        Ma = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
-        Va = np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))
+        Ma = _full(a.M_Ed, n)
+        Va = _full(a.V_Ed, n)
         more = Ma > best_M
         best_M, best_V = np.where(more, Ma, best_M), np.where(more, Va, best_V)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -461,8 +468,8 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
 
     checks: list[CheckArray] = []
     for a in actions:
-        M = np.broadcast_to(np.asarray(a.M_Ed, dtype=float), (n,))
-        V = np.broadcast_to(np.asarray(a.V_Ed, dtype=float), (n,))
+        M = _full(a.M_Ed, n)
+        V = _full(a.V_Ed, n)
         p = M >= 0
         mf, of = main_face[a.member], opp_face[a.member]
         checks.append(CheckArray(f"{a.member}_bending", a.combination, a.case, "kNm/m", CL_BENDING,
@@ -511,7 +518,7 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     if stem_height_m is None:
         h_s = _estimate_stem_height(actions, n, stem_moment_at, pos)
     else:
-        h_s = np.broadcast_to(np.asarray(stem_height_m, dtype=float), (n,))
+        h_s = _full(stem_height_m, n)
     curtail = None
     if stem_moment_at is not None:
         curtail = _curtailment(sec, basis, fck, phi["stem"], s["stem"], As["stem"], h_s, stem_moment_at,
