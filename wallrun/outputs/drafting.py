@@ -228,6 +228,39 @@ def add_text(msp, text: str, xy, height: float, layer: str,
     return t
 
 
+_SAVED: dict = {}
+
+
+def save_document(doc, path) -> None:
+    """Save ``doc`` to ``path`` and keep the document object for the previews, keyed by
+    the resolved path with the file's modification time and size, so that
+    :func:`saved_document` hands back exactly what the file holds without parsing it
+    again (reading a long drawing back costs more than writing it)."""
+    import os
+    from pathlib import Path
+
+    doc.saveas(str(path))
+    key = str(Path(path).resolve())
+    st = os.stat(key)
+    _SAVED[key] = (doc, st.st_mtime_ns, st.st_size)
+
+
+def saved_document(path):
+    """The document object last saved by :func:`save_document` to ``path`` when the
+    file is unchanged since (same modification time and size), else the file read
+    with ezdxf. The kept object is released either way."""
+    import os
+    from pathlib import Path
+
+    key = str(Path(path).resolve())
+    kept = _SAVED.pop(key, None)
+    if kept is not None:
+        st = os.stat(key)
+        if (st.st_mtime_ns, st.st_size) == kept[1:]:
+            return kept[0]
+    return ezdxf.readfile(str(path))
+
+
 def audit_or_raise(doc, path) -> None:
     """Run the DXF audit and refuse to write a drawing with errors."""
     auditor = doc.audit()

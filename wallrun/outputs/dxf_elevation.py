@@ -211,4 +211,4 @@ def write_elevation(result, path) -> None:
                      "level); joints are chain-dotted with their names below."))
 
     d.audit_or_raise(doc, path)
-    doc.saveas(str(path))
+    d.save_document(doc, path)

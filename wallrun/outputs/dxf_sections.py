@@ -470,4 +470,4 @@ def write_sections(result, path) -> None:
                                    "shown schematically at their covers, distribution bars "
                                    "as circles; bar marks refer to bar_schedule.csv.",))
     d.audit_or_raise(doc, path)
-    doc.saveas(str(path))
+    d.save_document(doc, path)
