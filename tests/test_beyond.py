@@ -115,10 +115,6 @@ def test_steep_backfill_warned_by_check(tmp_path, capsys, extra):
     assert "no active limit state" in capsys.readouterr().out
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "stability.validate raises InputError (exit 2, nothing written) when slope_deg >= "
-    "phi'_d of any set; sizing.bespoke/catalogue_design must return a flagged nominal "
-    "design instead (see the hardening report)"))
 @pytest.mark.parametrize("extra", [s[1] for s in STEEP], ids=[s[0] for s in STEEP])
 def test_steep_backfill_flags_panels(tmp_path, capsys, extra):
     d = site(tmp_path, extra, 52.0)

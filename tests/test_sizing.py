@@ -273,3 +273,28 @@ def test_screened_evaluation_decides_like_the_full_one():
     a = sizing.evaluate(bad, d, BASIS, None, curtail=False, screen=True)
     f2 = sizing.evaluate(bad, d, BASIS, None, curtail=False)
     assert np.allclose(a.utilization, f2.utilization, rtol=1e-12)
+
+
+def test_steep_backfill_is_flagged_not_raised():
+    # phi'_k = 35 deg: phi'_d = atan(tan 35 / 1.25) = 29.26 deg in EQU and DA1-2 (hand
+    # calculation of EN 1997-1 2.4.6.2 Eq. 2.2); a slope of 30 deg reaches it: no
+    # active limit state, so every path returns a flagged nominal design
+    bf = Backfill(friction_angle_deg=35.0, slope_deg=30.0)
+    d = sizing.Demand(z_top=43.0, z_front=40.0, backfill=bf, foundation=Foundation(),
+                      surcharge_kpa=10.0, water=None, wall_top_m=43.0)
+    sd = sizing.bespoke(d, BASIS, None, designer=sizing.Designer(BASIS, None, 0.05))
+    assert sd.status == "flagged" and sd.checks == ()
+    assert math.isnan(sd.edge_pressure_sls_kpa)
+    assert "backfill slope 30.0 deg >= phi'_d 29.3 deg (EQU)" in sd.reason
+    assert sd.reinforcement is not None and sd.cost_per_m > 0
+    b = sizing.bounds_for(d, 0.05)
+    assert b.b_lo <= sd.section.base_width_m <= b.b_hi
+    assert not sizing.section_problems(sizing.SectionArrays.of([sd.section])).any()
+    types = (cat("T1", (12, 200), (0.25, 0.3, 2.0, 0.5, 0.3)),
+             cat("T2", (16, 200), (0.25, 0.35, 2.6, 0.6, 0.35)))
+    sc = sizing.catalogue_design(d, BASIS, None, types)
+    assert sc.status == "flagged" and sc.section_type == "T1" and sc.checks == ()
+    assert "no active limit state" in sc.reason
+    rs = sizing.rationalise([d, demand(2.0)], [7.5, 7.5], BASIS, None, 2)
+    assert rs[0].status == "flagged" and "slope" in rs[0].reason
+    assert rs[1].status == "ok"

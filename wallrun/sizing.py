@@ -667,6 +667,61 @@ def _flag_beyond(demand: Demand, basis: Basis, rates, step: float) -> SizedDesig
     return _sized(ev, 0, demand, basis, status="flagged", reason=why)
 
 
+def _steep(demand: Demand, basis: Basis):
+    """(set, phi'_d, reason) when the backfill slope reaches phi'_d of EQU or of a set in
+    use (``stability.steep_backfill``), else None."""
+    from wallrun import stability
+
+    cond = conditions_for(demand, 0.3)
+    return stability.steep_backfill(cond, basis)
+
+
+def _nominal_bars(basis: Basis, section: Section) -> Reinforcement:
+    """A minimal nominal set (smallest listed bar at the widest listed spacing on every
+    face) for a section that is not designed: drawn and measured, never checked."""
+    phi = int(min(basis.steel.bar_sizes_mm))
+    sp = int(max(basis.steel.spacings_mm))
+    cov, covg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    ts, tb = section.stem_base_m * 1000.0, section.base_thickness_m * 1000.0
+    return Reinforcement(stem=_barset(phi, sp, ts - cov - phi / 2),
+                         heel=_barset(phi, sp, tb - cov - phi / 2),
+                         toe=_barset(phi, sp, tb - covg - phi / 2),
+                         stem_horizontal=_barset(phi, sp, ts - cov - 1.5 * phi),
+                         base_distribution=_barset(phi, sp, tb - cov - 1.5 * phi),
+                         stem_front=_barset(phi, sp, ts - cov - phi / 2))
+
+
+def _flag_steep(demand: Demand, basis: Basis, rates, reason: str, step: float,
+                section: Section | None = None, bars: Reinforcement | None = None,
+                section_type: str = "") -> SizedDesign:
+    """A flagged, undesigned nominal design where the backfill slope leaves no active
+    limit state: the section from the middle of the search bounds (or the one given),
+    nominal bars, no checks, edge pressure nan, utilization nan; cost per metre of the
+    concrete, formwork and earthworks with no steel (the steel is not designed)."""
+    from wallrun import takeoff
+
+    if section is None:
+        b = bounds_for(demand, step)
+        mid = lambda lo, hi: round(0.5 * (lo + hi) / step) * step  # noqa: E731
+        B = round(mid(b.b_lo, b.b_hi), 6)
+        ts = round(mid(b.ts_lo, b.ts_hi), 6)
+        tt = round(min(mid(b.tt_lo, b.tt_hi), ts), 6)
+        tb = round(max(mid(b.tb_lo, b.tb_hi), ts), 6)
+        toe = round(min(round(0.25 * B / step) * step, B - ts - step), 6)
+        section = Section(stem_top_m=tt, stem_base_m=ts, base_width_m=B, toe_m=max(toe, 0.0),
+                          base_thickness_m=tb)
+    if bars is None:
+        bars = _nominal_bars(basis, section)
+    one = SectionArrays.of([section])
+    cond = conditions_for(demand, section.base_thickness_m)
+    hs, D = _stem_heights(one, demand, cond)
+    cost = float(np.asarray(takeoff.cost_per_metre(one, hs, D, 0.0, rates)).reshape(-1)[0])
+    return SizedDesign(section=section, reinforcement=bars, checks=(), cost_per_m=cost,
+                       z_found=float(cond.z_found), edge_pressure_sls_kpa=float("nan"),
+                       status="flagged", reason=reason, utilization=float("nan"),
+                       governing="", section_type=section_type)
+
+
 def bespoke(demand: Demand, basis: Basis, rates, step: float | None = None,
             designer: "Designer | None" = None) -> SizedDesign:
     """The cheapest section passing every check at ``demand`` (design-basis section 6).
@@ -707,7 +762,10 @@ def bespoke(demand: Demand, basis: Basis, rates, step: float | None = None,
     benchmark run the warm-started designs cost within 0.1 % of cold searches. Beyond
     ``MAX_RETAINED_M`` the demand is flagged without searching (a nominal section is
     checked and shown); when nothing passes, the least utilised candidate is returned
-    flagged with its governing check.
+    flagged with its governing check. A backfill slope at or above phi'_d of EQU or of a
+    set in use leaves no active limit state: flagged without searching, a nominal
+    section from the middle of the bounds with nominal bars, no checks, edge pressure
+    nan (:func:`_flag_steep`).
     """
     if designer is None:
         designer = _designer_for(basis, rates, step)
@@ -782,6 +840,9 @@ class Designer:
         return [self.cache[dm] for dm in demands]
 
     def _design(self, demand: Demand) -> SizedDesign:
+        steep = _steep(demand, self.basis)
+        if steep is not None:
+            return _flag_steep(demand, self.basis, self.rates, steep[2], self.step)
         if not (0.0 < demand.h <= MAX_RETAINED_M):
             return _flag_beyond(demand, self.basis, self.rates, self.step)
         bounds = bounds_for(demand, self.step)
@@ -914,10 +975,18 @@ def catalogue_design(demand: Demand, basis: Basis, rates,
 
     Each type is checked in full (stability, and ``structure.check_reinforcement`` with
     the bars of :func:`catalogue_bars`). None passing: the type of least utilization,
-    flagged with its governing check. Beyond ``MAX_RETAINED_M``: flagged.
+    flagged with its governing check. Beyond ``MAX_RETAINED_M``: flagged. A backfill
+    slope at or above phi'_d of EQU or a set in use: the first type with its own bars,
+    flagged and not checked (:func:`_flag_steep`).
     """
     if not catalogue:
         raise ValueError("catalogue design needs a sections.csv with at least one type")
+    steep = _steep(demand, basis)
+    if steep is not None:
+        c = catalogue[0]
+        return _flag_steep(demand, basis, rates, steep[2], basis.design.dimension_step_m,
+                           section=catalogue_section(c), bars=catalogue_bars(c, basis),
+                           section_type=c.section)
     evs = []
     for c in catalogue:
         ev = evaluate(SectionArrays.of([catalogue_section(c)]), demand, basis, rates,
