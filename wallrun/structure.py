@@ -155,7 +155,8 @@ def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin
     c = basis.concrete
     phi, s, As = opt.phi[None, :], opt.s[None, :], opt.As[None, :]
     hh = h[:, None]
-    d = hh - cover - phi / 2.0
+    cover = np.asarray(cover, dtype=float)
+    d = hh - (cover[:, None] if cover.ndim else cover) - phi / 2.0
     ok = (As <= ec2.as_max(hh)) & (s <= ec2.max_spacing_main(hh)) & (d > 0)
     ok &= As >= as_extra[:, None]
     ok &= ec2.moment_resistance(As, d, fck, basis.steel.fyk_mpa, c.alpha_cc) >= M_req[:, None]
@@ -201,7 +202,8 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
     fyk, acc = basis.steel.fyk_mpa, basis.concrete.alpha_cc
     sizes = opt.sizes[None, :]
     hh = h[:, None]
-    d = hh - cover - sizes / 2.0
+    cover = np.asarray(cover, dtype=float)  # scalar, or (n,) per row
+    d = hh - (cover[:, None] if cover.ndim else cover) - sizes / 2.0
     K = ec2.k_factor(M_req[:, None], d, fck)
     need = np.where(K <= ec2.k_limit(acc), ec2.as_required(M_req[:, None], d, fck, fyk, acc) * (1 + 1e-9),
                     np.inf)
@@ -217,8 +219,8 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
         if bad.any():
             r = np.flatnonzero(bad)
             idx = idx.copy()
-            idx[r] = _choose_main_full(opt, h[r], cover, M_req[r], M_qp[r], as_extra[r], need_asmin[r],
-                                       fck, basis)
+            idx[r] = _choose_main_full(opt, h[r], cover[r] if cover.ndim else cover, M_req[r],
+                                       M_qp[r], as_extra[r], need_asmin[r], fck, basis)
     return idx
 
 
@@ -276,19 +278,23 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     false = np.zeros(n, dtype=bool)
     true = ~false
 
-    i_back = _choose_main(opt, t_stem, cv, pos["stem"], np.maximum(q["stem"], 0), zero, true, fck, basis)
-    i_front = _choose_main(opt, t_stem, cv, neg["stem"], np.maximum(-q["stem"], 0), 0.001 * 1000 * t_stem,
-                           neg["stem"] > 0, fck, basis)
     top_M = np.maximum(pos["heel"], neg["toe"])
     bot_M = np.maximum(pos["toe"], neg["heel"])
     top_qp = np.maximum(np.maximum(q["heel"], -q["toe"]), 0)
     bot_qp = np.maximum(np.maximum(q["toe"], -q["heel"]), 0)
-    i_top = _choose_main(opt, t_base, cv, top_M, top_qp, zero, true, fck, basis)
-    i_bot = _choose_main(opt, t_base, cg, bot_M, bot_qp, zero, true, fck, basis)
+    # the four main faces in one call (rows stacked face by face; every row is chosen
+    # on its own, so the result is that of four separate calls)
+    cat = np.concatenate
+    i_back, i_front, i_top, i_bot = np.split(_choose_main(
+        opt, cat([t_stem, t_stem, t_base, t_base]),
+        cat([np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cg))]),
+        cat([pos["stem"], neg["stem"], top_M, bot_M]),
+        cat([np.maximum(q["stem"], 0), np.maximum(-q["stem"], 0), top_qp, bot_qp]),
+        cat([zero, 0.001 * 1000 * t_stem, zero, zero]),
+        cat([true, neg["stem"] > 0, true, true]), fck, basis), 4)
     need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
-    i_hor = _choose_secondary(opt, t_stem, need_h)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
-    i_dist = _choose_secondary(opt, t_base, need_d)
+    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d])), 2)
     chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
               zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
     return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, (pos, neg))
