@@ -152,7 +152,9 @@ def test_every_bar_mark_appears_per_section(out, result):
     for st in result.section_types:
         ents = _group(doc, st.section_type)
         texts = [e.dxf.text for e in ents if e.dxftype() == "TEXT"]
-        table = {e.dxf.text for e in ents if e.dxftype() == "TEXT" and e.dxf.layer == d.L_TABLE}
+        # the bar table: one MTEXT per column, one line per schedule row
+        table = {line for e in ents if e.dxftype() == "MTEXT" and e.dxf.layer == d.L_TABLE
+                 for line in e.plain_text().split("\n")}
         marks = [e.dxf.text for e in ents if e.dxftype() == "TEXT" and e.dxf.layer == d.L_MARKS]
         rows = [b for b in result.bar_schedule if b.section == st.section_type]
         assert rows
@@ -221,7 +223,8 @@ def test_section_outline_levels_and_conditions(out, result):
                 + 0.5 * (s.stem_base_m + s.stem_top_m) * hc + s.stem_top_m * (hd - hc)
                 + s.key_depth_m * s.key_width_m)
         assert poly.area == pytest.approx(area, rel=1e-9)
-        texts = " ".join(e.dxf.text for e in ents if e.dxftype() == "TEXT")
+        texts = " ".join([e.dxf.text for e in ents if e.dxftype() == "TEXT"]
+                         + [e.plain_text() for e in ents if e.dxftype() == "MTEXT"])
         p = pr.panel
         assert f"UNDERSIDE OF BASE +{p.founding_m:.3f}" in texts
         assert f"FRONT GROUND +{p.front_min_m:.3f}" in texts
@@ -229,10 +232,31 @@ def test_section_outline_levels_and_conditions(out, result):
         assert f"retained height h = {p.retained_height_m:.2f} m" in texts
         assert "surcharge q = 10 kPa" in texts and "phi'k = 32 deg" in texts
         assert "water behind the wall at +49.800" in texts
-        circles = [e for e in ents if e.dxftype() == "CIRCLE" and e.dxf.layer == d.L_DOTS]
+        circles = dots(ents)
         assert circles  # distribution bars drawn as dots
+        # one dot per distribution bar cut: stem horizontals at their spacing up the
+        # drawn stem on both faces, base distribution bars along both mats
+        rf = st.reinforcement
+        n_h = len(np.arange(s.base_thickness_m + rf.stem_horizontal.spacing_mm / 2000,
+                            s.base_thickness_m + hd - 0.05, rf.stem_horizontal.spacing_mm / 1000))
+        n_d = len(np.arange(0.05 + rf.base_distribution.spacing_mm / 2000,
+                            s.base_width_m - 0.05, rf.base_distribution.spacing_mm / 1000))
+        assert len(circles) == 2 * n_h + 2 * n_d
         bars = [e for e in ents if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == d.L_BARS]
         assert len(bars) >= 3
+
+
+def dots(ents):
+    """The distribution-bar circles of a section: the MINSERTs of one-circle blocks on
+    the cross-bar layer expanded to their circles (in model coordinates)."""
+    out = []
+    for e in ents:
+        if e.dxftype() == "INSERT" and e.dxf.layer == d.L_DOTS:
+            for one in e.multi_insert():
+                out += [v for v in one.virtual_entities() if v.dxftype() == "CIRCLE"]
+        elif e.dxftype() == "CIRCLE" and e.dxf.layer == d.L_DOTS:
+            out.append(e)
+    return out
 
 
 def test_bars_inside_the_concrete(out, result):
@@ -246,8 +270,8 @@ def test_bars_inside_the_concrete(out, result):
         for e in ents:
             if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == d.L_BARS:
                 assert inner.buffer(1e-6).contains(LineString(e.get_points("xy")))
-            if e.dxftype() == "CIRCLE" and e.dxf.layer == d.L_DOTS:
-                assert poly.contains(Point(e.dxf.center.x, e.dxf.center.y))
+        for c in dots(ents):
+            assert poly.contains(Point(c.dxf.center.x, c.dxf.center.y))
 
 
 # --- plan ------------------------------------------------------------------------------

@@ -49,6 +49,18 @@ def governing_panel(result, section_type: str):
                - pr.panel.founding_m)
 
 
+def governing_map(result) -> dict:
+    """{section type: its tallest PanelResult}, as :func:`governing_panel`, in one pass."""
+    out: dict = {}
+    for pr in result.panels:
+        p = pr.panel
+        h = max(p.wall_top_start_m, p.wall_top_end_m) - p.founding_m
+        cur = out.get(pr.section_type)
+        if cur is None or h > cur[0]:
+            out[pr.section_type] = (h, pr)
+    return {k: v[1] for k, v in out.items()}
+
+
 def stem_heights(pr) -> tuple[float, float]:
     """(drawn, checked) stem heights of a panel above the top of the base, m: to the
     highest top of wall, and to the retained level z_top."""
@@ -103,6 +115,30 @@ class _Cell:
     def text(self, s, x, z, layer, align=A.MIDDLE_LEFT, mm=d.SMALL_MM, rotation=0.0):
         return d.add_text(self.msp, s, self.pt(x, z), self.P(mm), layer, align, rotation)
 
+    def dot_rows(self, xs, zs, r):
+        """Circles of radius r at (xs, zs), as few MINSERTs of a one-circle block as
+        there are straight, evenly spaced runs of consecutive points (one INSERT with
+        a column count and spacing, rotated along the run, per run)."""
+        xs, zs = np.asarray(xs, dtype=float), np.asarray(zs, dtype=float)
+        blk = _dot_block(self.doc, r)
+        i, n = 0, len(xs)
+        while i < n:
+            j = i + 1
+            if j < n:
+                dx, dz = xs[j] - xs[i], zs[j] - zs[i]
+                while (j + 1 < n and abs(xs[j + 1] - xs[j] - dx) < 1e-9
+                       and abs(zs[j + 1] - zs[j] - dz) < 1e-9):
+                    j += 1
+                j += 1
+            cnt = j - i
+            ins = self.msp.add_blockref(blk, self.pt(xs[i], zs[i]),
+                                        dxfattribs={"layer": d.L_DOTS})
+            if cnt > 1:
+                dx, dz = xs[i + 1] - xs[i], zs[i + 1] - zs[i]
+                ins.dxf.rotation = math.degrees(math.atan2(dz, dx))
+                ins.grid(size=(1, cnt), spacing=(1.0, math.hypot(dx, dz)))
+            i = j
+
     def circle(self, x, z, r, layer):
         return self.msp.add_circle(self.pt(x, z), r, dxfattribs={"layer": layer})
 
@@ -118,6 +154,18 @@ class _Cell:
         dim.dimension.set_xdata(APPID, [(1000, name)])
         return dim.dimension
 
+    def mtext(self, lines, x, z, layer, mm=d.SMALL_MM, pitch_mm=4.2):
+        """One MTEXT of ``lines`` with its top left at (x, z), lines ``pitch_mm`` apart
+        on paper (exact spacing)."""
+        text = "\\P".join(str(t).replace("\\", "\\\\") for t in lines)
+        m = self.msp.add_mtext(text, dxfattribs={"layer": layer, "style": d.TEXT_STYLE,
+                                                 "char_height": self.P(mm)})
+        m.dxf.insert = self.pt(x, z)
+        m.dxf.attachment_point = 1  # top left
+        m.dxf.line_spacing_style = 2  # exact
+        m.dxf.line_spacing_factor = pitch_mm / (mm * 5.0 / 3.0)
+        return m
+
     def level_tag(self, label, x, z, left=False):
         """Small downward triangle at (x, z) and the label beside it."""
         s = self.P(1.6)
@@ -127,6 +175,16 @@ class _Cell:
             self.text(label, x - 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_RIGHT)
         else:
             self.text(label, x + 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_LEFT)
+
+
+def _dot_block(doc, r: float) -> str:
+    """Name of the block holding one circle of radius r (m) at its origin, made once
+    per radius (to 0.01 mm) on the cross-bar layer."""
+    name = f"WALLRUN-BAR-DOT-{round(r * 1e5):d}"
+    if name not in doc.blocks:
+        doc.blocks.new(name).add_circle((0.0, 0.0), round(r * 1e5) / 1e5,
+                                        dxfattribs={"layer": d.L_DOTS})
+    return name
 
 
 def _bars(sec, reinf, hd, hc, cover_m, cover_ground_m, has_front):
@@ -188,11 +246,12 @@ def _bars(sec, reinf, hd, hc, cover_m, cover_ground_m, has_front):
     return out
 
 
-def _extent(result, scale):
+def _extent(result, scale, gmap=None):
     """Largest section extents over the types drawn, m: (B, above, below)."""
+    gmap = governing_map(result) if gmap is None else gmap
     B = above = below = 0.0
     for st in result.section_types:
-        pr = governing_panel(result, st.section_type)
+        pr = gmap.get(st.section_type)
         if pr is None:
             continue
         hd, _ = stem_heights(pr)
@@ -261,8 +320,7 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
     rmin = P(0.35)
     for key in ("stem_horizontal_dots", "base_distribution_dots"):
         xs, zs, phi = g[key]
-        for x, z in zip(xs, zs):
-            cell.circle(x, z, max(phi / 2, rmin), d.L_DOTS)
+        cell.dot_rows(xs, zs, max(phi / 2, rmin))
 
     # bar marks with leaders; anchors on the drawn bars
     def on(poly, f):
@@ -352,12 +410,13 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
         cell.text(name, x0 + P(off + 1), z0 - P(2.5), d.L_TABLE, A.MIDDLE_LEFT)
     cell.line((x0, z0 - P(5)), (x0 + width, z0 - P(5)), d.L_TABLE)
     z = z0 - P(8)
-    for r in rows:
-        vals = [r.bar_mark, r.member, f"{r.bar_mm}", r.shape_code, f"{r.length_mm}",
-                f"{r.number}"]
-        for (_, off), v in zip(cols, vals):
-            cell.text(v, x0 + P(off + 1), z, d.L_TABLE, A.MIDDLE_LEFT)
-        z -= P(5)
+    if rows:  # one MTEXT per column, one line per row at 5 mm pitch on paper
+        vals = [[r.bar_mark, r.member, f"{r.bar_mm}", r.shape_code, f"{r.length_mm}",
+                 f"{r.number}"] for r in rows]
+        for k, (_, off) in enumerate(cols):
+            cell.mtext([v[k] for v in vals], x0 + P(off + 1), z + P(d.SMALL_MM / 2),
+                       d.L_TABLE, pitch_mm=5.0)
+        z -= P(5) * len(rows)
     cell.poly([(x0, z0), (x0 + width, z0), (x0 + width, z + P(2)), (x0, z + P(2))],
               d.L_TABLE, close=True)
     if not rows:
@@ -417,10 +476,8 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
         f"governing: {st.governing}, utilization {st.utilization:.2f}",
     ]
     z = row2 - P(9)
-    for ln in lines:
-        cell.text(ln, -P(40), z, d.L_CONDITIONS, A.MIDDLE_LEFT)
-        z -= P(4.2)
-    return z
+    cell.mtext(lines, -P(40), z + P(d.SMALL_MM / 2), d.L_CONDITIONS, pitch_mm=4.2)
+    return z - P(4.2) * len(lines)
 
 
 def write_sections(result, path) -> None:
@@ -434,14 +491,18 @@ def write_sections(result, path) -> None:
         doc.appids.new(APPID)
     msp = doc.modelspace()
     P = lambda mm: d.paper(mm, scale)  # noqa: E731
-    B_max, above, below = _extent(result, scale)
-    types = [st for st in result.section_types if governing_panel(result, st.section_type)]
+    gmap = governing_map(result)
+    rows_of: dict[str, list] = {}
+    for b in result.bar_schedule:
+        rows_of.setdefault(b.section, []).append(b)
+    B_max, above, below = _extent(result, scale, gmap)
+    types = [st for st in result.section_types if gmap.get(st.section_type)]
     left, right = P(75), B_max + P(78 + 106 + 8)
     top, bottom = above + P(28), below + P(21 + 9 + 8 * 4.2 + 6)
     for st in types:  # room for the longest bar table below the top of its section
-        pr = governing_panel(result, st.section_type)
+        pr = gmap[st.section_type]
         z0 = st.section.base_thickness_m + stem_heights(pr)[0]
-        n = len(_rows_for(result, st.section_type))
+        n = len(rows_of.get(st.section_type, ()))
         bottom = max(bottom, P(8 + 5 * n + 8) - z0)
     cw, ch = left + right, top + bottom
     ncols = max(1, min(3, len(types)))
@@ -453,9 +514,9 @@ def write_sections(result, path) -> None:
         cell.poly([(-left + P(2), -bottom + P(2)), (right - P(2), -bottom + P(2)),
                    (right - P(2), top - P(2)), (-left + P(2), top - P(2))], d.L_FRAME,
                   close=True)
-        _draw_cell(cell, result, st, governing_panel(result, st.section_type),
-                   _rows_for(result, st.section_type), B_max)
-        ents = list(msp)[start:]
+        _draw_cell(cell, result, st, gmap[st.section_type],
+                   rows_of.get(st.section_type, []), B_max)
+        ents = [msp[i] for i in range(start, len(msp))]
         grp = doc.groups.new(f"{d.SECTION_GROUP_PREFIX}{st.section_type}",
                              description=f"section {st.section_type}")
         grp.set_data(ents)

@@ -182,7 +182,9 @@ def render_sections_pdf(dxf_path, pdf_path) -> None:
     with PdfPages(str(pdf_path)) as pdf:
         for k, (name, g) in enumerate(shown, start=1):
             ents = list(g)
-            box = _group_box(ents)
+            # extents without the MTEXTs (ezdxf's fast extents overestimate MTEXT
+            # with exact line spacing); they lie inside the cell's frame anyway
+            box = _group_box([e for e in ents if e.dxftype() != "MTEXT"])
             fig, ax = _figure(A3_IN)
             _draw(doc, ax, entities=ents, ctx=ctx)
             if box:
