@@ -128,6 +128,8 @@ def _e(x) -> str:
 
 def _num(x, nd: int = 2) -> str:
     """A number to ``nd`` decimals; blank for None; ``inf``/``nan`` spelled out."""
+    if type(x) is float and x - x == 0.0:  # finite float: the common case
+        return f"{x:.{nd}f}"
     if x is None:
         return ""
     try:
@@ -325,11 +327,14 @@ def run_figure(result) -> bytes | None:
         col = _type_colours(names)
         band_lo = lo - 0.08 * max(hi - lo, 1.0)
         band_h = 0.05 * max(hi - lo, 1.0)
-        for n in names:
-            spans = [(p.panel.ch_start_m, p.panel.length_m) for p in panels
-                     if p.section_type == n]
-            if spans:
-                ax.broken_barh(spans, (band_lo, band_h), facecolors=col[n], edgecolor="none")
+        # the band: one rectangle per panel in its type's colour, one collection
+        from matplotlib.collections import PolyCollection
+        rects = [((p.panel.ch_start_m, band_lo), (p.panel.ch_end_m, band_lo),
+                  (p.panel.ch_end_m, band_lo + band_h), (p.panel.ch_start_m, band_lo + band_h))
+                 for p in panels]
+        ax.add_collection(PolyCollection(rects, facecolors=[col.get(p.section_type, "#888888")
+                                                            for p in panels],
+                                         edgecolors="none"), autolim=False)
         if len(panels) <= 60:
             for p in panels:
                 ax.text(0.5 * (p.panel.ch_start_m + p.panel.ch_end_m), band_lo - 0.2 * band_h,
@@ -843,16 +848,30 @@ def _run(result, figures) -> str:
     return "\n".join(out)
 
 
+_ESC: dict = {}
+
+
+def _ec(x) -> str:
+    """:func:`_e` with a cache, for the few strings repeated in every check row."""
+    r = _ESC.get(x)
+    if r is None:
+        r = _ESC[x] = _e(x)
+    return r
+
+
 def _check_rows(checks, with_clause: bool = True) -> list[str]:
     rows = []
     for c in _order(checks, lambda c: c.check, CHECK_ORDER):
         nd = _decimals(c.unit)
-        cells = (_td(_e(c.check), "t") + _td(_e(c.case), "t") + _td(_num(c.effect, nd))
-                 + _td(_num(c.resistance, nd)) + _td(_e(c.unit), "t")
-                 + _td(_util(c.utilization)) + _pass_cell(c.utilization)
-                 + _td("governs" if c.governs else "", "t"))
+        u = c.utilization
+        ok = u <= 1.0  # False for NaN
+        cells = (f'<td class="t">{_ec(c.check)}</td><td class="t">{_ec(c.case)}</td>'
+                 f"<td>{_num(c.effect, nd)}</td><td>{_num(c.resistance, nd)}</td>"
+                 f'<td class="t">{_ec(c.unit)}</td><td>{_util(u)}</td>'
+                 + ('<td class="ok">pass</td>' if ok else '<td class="bad">FAILS</td>')
+                 + ('<td class="t">governs</td>' if c.governs else '<td class="t"></td>'))
         if with_clause:
-            cells += _td(_e(c.clause), "t w")
+            cells += f'<td class="t w">{_ec(c.clause)}</td>'
         rows.append(f'<tr class="gov">{cells}</tr>' if c.governs else cells)
     return rows
 
