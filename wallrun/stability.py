@@ -480,19 +480,29 @@ def _stability_checks(ctx: _Actions) -> list[CheckArray]:
             out.append(CheckArray("sliding", name, "undrained", "kN/m", CLAUSE["sliding undrained"],
                                   H_d, Ru))
         # bearing (6.5.2, Annex D) and eccentricity (6.5.4)
+        # the four sub-cases in one pass (arrays (4, n), the same formulas per row)
+        subs = [a.subcase(g, unfav, on) for _, unfav, on in SUBCASES]
+        V4 = np.vstack([sb[0] for sb in subs])
+        H4 = np.vstack([sb[1] for sb in subs])
+        e4 = np.vstack([sb[3] for sb in subs])
+        fin = np.isfinite(e4)
+        Bp4 = np.where(fin, ec7.effective_width(g.B, np.where(fin, e4, 0)), 0.0)
+        qd4 = ec7.bearing_drained(a.c_d, g.q_over, g.g_eff_found, Bp4, a.phi_f, H4, V4)
+        Rd4 = qd4 * Bp4 / fs.gR_bearing
+        if undrained:
+            Ru4 = ec7.bearing_undrained(a.cu_d, g.q_over, H4, Bp4) * Bp4 / fs.gR_bearing
+        ae4 = np.abs(e4)
+        B3 = g.B / 3.0
         ecc = []
-        for label, unfav, on in SUBCASES:
-            V, H, M, ev, _, _ = a.subcase(g, unfav, on)
-            Bp = np.where(np.isfinite(ev), ec7.effective_width(g.B, np.where(np.isfinite(ev), ev, 0)), 0.0)
-            qd = ec7.bearing_drained(a.c_d, g.q_over, g.g_eff_found, Bp, a.phi_f, H, V)
+        for k, (label, unfav, on) in enumerate(SUBCASES):
+            V = subs[k][0]
             out.append(CheckArray("bearing", name, f"{label}, drained", "kN/m",
-                                  CLAUSE["bearing drained"], V, qd * Bp / fs.gR_bearing))
+                                  CLAUSE["bearing drained"], V, Rd4[k]))
             if undrained:
-                qu = ec7.bearing_undrained(a.cu_d, g.q_over, H, Bp)
                 out.append(CheckArray("bearing", name, f"{label}, undrained", "kN/m",
-                                      CLAUSE["bearing undrained"], V, qu * Bp / fs.gR_bearing))
+                                      CLAUSE["bearing undrained"], V, Ru4[k]))
             ecc.append(CheckArray("eccentricity", name, label, "m", CLAUSE["eccentricity"],
-                                  np.abs(ev), g.B / 3.0))
+                                  ae4[k], B3))
         out.extend(ecc)
     out.extend(_sls_checks(ctx))
     bad = ctx.bad()
