@@ -1,0 +1,144 @@
+"""An independent recheck of design.json, written from the published formulas alone.
+
+A level fill wall with no water and no key, designed by wallrun; then overturning
+(EQU), drained sliding (DA1-1, DA1-2), drained bearing (EN 1997-1 Annex D) and
+eccentricity are recomputed here from the reported levels and dimensions with
+textbook hand formulas (rectangles and triangles, Rankine Ka, no shoelace, no wallrun
+engine code) and compared with the reported effects, resistances and utilizations.
+"""
+
+import math
+
+import pytest
+
+import wallrun
+from wallrun.outputs import tables
+
+TOML = """
+[project]
+name = "Recheck yard"
+[profiles]
+ground = "ground.csv"
+finished = "finished.csv"
+[backfill]
+unit_weight_kn_m3 = 20.0
+friction_angle_deg = 35.0
+[foundation]
+unit_weight_kn_m3 = 19.0
+friction_angle_deg = 30.0
+[loads]
+surcharge_kpa = 10.0
+[design]
+passive = "none"
+"""
+
+GC = 25.0  # EN 1991-1-1 Table A.1, reinforced concrete
+
+
+@pytest.fixture(scope="module")
+def designed(tmp_path_factory):
+    d = tmp_path_factory.mktemp("recheck")
+    (d / "site.toml").write_text(TOML)
+    (d / "ground.csv").write_text("chainage_m,level_m\n0,50.0\n16,50.0\n")
+    (d / "finished.csv").write_text("chainage_m,level_m\n0,53.2\n16,53.2\n")
+    result = wallrun.design(wallrun.load_site(d))
+    return tables.design_dict(result)
+
+
+def ka(phi):
+    """Rankine, level surface: (1 - sin phi) / (1 + sin phi) (common practice)."""
+    s = math.sin(math.radians(phi))
+    return (1 - s) / (1 + s)
+
+
+def phi_d(phi_k, g):
+    """EN 1997-1 2.4.6.2 Eq. 2.2: tan phi_d = tan phi_k / gamma_phi."""
+    return math.degrees(math.atan(math.tan(math.radians(phi_k)) / g))
+
+
+def parts(p):
+    """Weights (kN/m) and their lever arms from the toe edge (m), by hand."""
+    s, lv = p["section"], p["levels"]
+    B, toe, tb = s["base_width_m"], s["toe_m"], s["base_thickness_m"]
+    tsb, tst = s["stem_base_m"], s["stem_top_m"]
+    H = lv["retained_top_m"] - lv["founding_m"]
+    hs = H - tb
+    base = (B * tb * GC, B / 2)
+    rect = (tst * hs * GC, toe + tst / 2)
+    tri = ((tsb - tst) * hs / 2 * GC, toe + tst + (tsb - tst) / 3)
+    w_soil_rect = (B - toe - tst) * hs * 20.0
+    x_soil_rect = (toe + tst + B) / 2
+    w_soil = w_soil_rect - tri[0] / GC * 20.0
+    x_soil = (w_soil_rect * x_soil_rect - tri[0] / GC * 20.0 * tri[1]) / w_soil
+    return [base, rect, tri, (w_soil, x_soil)], H, B
+
+
+def check(p, name, comb, case):
+    hits = [c for c in p["checks"] if c["check"] == name and c["combination"] == comb
+            and c["case"] == case]
+    assert len(hits) == 1, (name, comb, case)
+    return hits[0]
+
+
+def test_overturning_equ(designed):
+    for p in designed["panels"]:
+        w, H, B = parts(p)
+        k = ka(phi_d(35.0, 1.25))
+        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
+        destab = 1.1 * pa * H / 3 + 1.5 * pq * H / 2
+        stab = 0.9 * sum(v * x for v, x in w)
+        c = check(p, "overturning", "EQU", "about toe")
+        assert c["effect"] == pytest.approx(destab, rel=0.005)
+        assert c["resistance"] == pytest.approx(stab, rel=0.005)
+        assert c["utilization"] == pytest.approx(destab / stab, rel=0.005, abs=2e-3)
+
+
+@pytest.mark.parametrize("comb,g_phi,gG,gQ", [("DA1-1", 1.0, 1.35, 1.5),
+                                              ("DA1-2", 1.25, 1.0, 1.3)])
+def test_drained_sliding(designed, comb, g_phi, gG, gQ):
+    for p in designed["panels"]:
+        w, H, B = parts(p)
+        k = ka(phi_d(35.0, g_phi))
+        Hd = gG * 0.5 * k * 20.0 * H ** 2 + gQ * k * 10.0 * H
+        Vd = 1.0 * sum(v for v, _ in w)  # favourable permanent, gG_fav = 1.0
+        Rd = Vd * math.tan(math.radians(phi_d(30.0, g_phi)))  # delta = phi_cv,d, k = 1
+        c = check(p, "sliding", comb, "drained")
+        assert c["effect"] == pytest.approx(Hd, rel=0.005)
+        assert c["resistance"] == pytest.approx(Rd, rel=0.005)
+
+
+def annex_d(phi):
+    t = math.tan(math.radians(phi))
+    nq = math.exp(math.pi * t) * math.tan(math.radians(45 + phi / 2)) ** 2
+    return nq, 2 * (nq - 1) * t
+
+
+@pytest.mark.parametrize("comb,g_phi,gQ", [("DA1-1", 1.0, 1.5), ("DA1-2", 1.25, 1.3)])
+def test_bearing_and_eccentricity_g_unfav_heel_load_off(designed, comb, g_phi, gQ):
+    gG = 1.35 if comb == "DA1-1" else 1.0
+    for p in designed["panels"]:
+        w, H, B = parts(p)
+        lv = p["levels"]
+        k = ka(phi_d(35.0, g_phi))
+        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
+        V = gG * sum(v for v, _ in w)
+        Hh = gG * pa + gQ * pq
+        M = gG * sum(v * x for v, x in w) - gG * pa * H / 3 - gQ * pq * H / 2
+        e = abs(B / 2 - M / V)
+        Bp = B - 2 * e
+        D = lv["front_min_m"] - lv["founding_m"]
+        nq, ng = annex_d(phi_d(30.0, g_phi))
+        iq, ig = (1 - Hh / V) ** 2, (1 - Hh / V) ** 3
+        R = Bp * (19.0 * D * nq * iq + 0.5 * 19.0 * Bp * ng * ig)
+        c = check(p, "bearing", comb, "G unfav, heel load off, drained")
+        assert c["effect"] == pytest.approx(V, rel=0.005)
+        assert c["resistance"] == pytest.approx(R, rel=0.01)
+        ce = check(p, "eccentricity", comb, "G unfav, heel load off")
+        assert ce["effect"] == pytest.approx(e, rel=0.01, abs=2e-3)
+        assert ce["resistance"] == pytest.approx(B / 3, rel=1e-6, abs=1e-3)
+
+
+def test_every_ok_panel_is_within_its_checks(designed):
+    for p in designed["panels"]:
+        if p["status"] == "ok":
+            assert max(c["utilization"] for c in p["checks"]) <= 1.0
