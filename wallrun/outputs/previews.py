@@ -10,10 +10,8 @@ backend, so the previews show exactly what the DXF holds.
 A very long elevation (more than ``MAX_ELEVATION_TEXTS`` TEXT entities) is previewed
 without the per-panel and per-joint names, which cannot be read at 1800 px anyway,
 and with its lines drawn solid (linetype patterns of thousands of short lines are
-slow to render and invisible at that size); every line is still drawn. Polylines with
-more vertices than the canvas has pixel columns across them are thinned before
-drawing by :func:`decimate_minmax` (per pixel column: the first, lowest, highest and
-last vertex, in order), which sets the same pixels at that resolution.
+slow to render and invisible at that size); every line and polyline vertex is still
+drawn (no decimation).
 
 The drawings are taken as the document objects that ``dxf_*`` just saved (see
 ``drafting.save_document``) when the file is unchanged since, else read from the
