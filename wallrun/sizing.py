@@ -146,10 +146,30 @@ class Evaluation:
     ok: np.ndarray
     cost: np.ndarray
     steel_kg_per_m: np.ndarray
-    U: np.ndarray  # utilization of every check (rows, in ``checks`` order) x candidate
     actions: object = None  # stability.AllActions of the candidates (edge pressure)
-    E: np.ndarray | None = None  # effects of every check x candidate
-    R: np.ndarray | None = None  # resistances of every check x candidate
+    _cache: dict = dataclasses.field(default_factory=dict, repr=False, compare=False)
+
+    def _matrices(self):
+        m = self._cache.get("URE")
+        if m is None:
+            m = self._cache["URE"] = _util_matrix(self.checks, len(self.sec))
+        return m
+
+    @property
+    def U(self) -> np.ndarray:
+        """Utilization of every check (rows, in ``checks`` order) x candidate (computed
+        on first use)."""
+        return self._matrices()[0]
+
+    @property
+    def E(self) -> np.ndarray:
+        """Effects of every check x candidate."""
+        return self._matrices()[1]
+
+    @property
+    def R(self) -> np.ndarray:
+        """Resistances of every check x candidate."""
+        return self._matrices()[2]
 
     def __len__(self) -> int:
         return len(self.sec)
@@ -215,23 +235,20 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
     allx = stability.evaluate_all(sec, cond, basis)
     stab = allx.checks
     bad = allx.ctx.bad()
-    actions = allx.member_actions()
-    qp = allx.qp()
     h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m, float)
     M_stem = _stem_moment_table(allx, sec, cond) if curtail else None
 
     def structure_of(idx):
-        """StructureResult of the candidates idx (None: all)."""
+        """StructureResult of the candidates idx (None: all); the member actions of a
+        subset come from the subset's own geometry (the same values)."""
         if idx is None:
-            s_sec, s_act, s_qp, s_hc = sec, actions, qp, h_c
+            src, s_sec, s_hc = allx, sec, h_c
             at = M_stem(None) if curtail else None
         else:
-            s_sec = sec.subset(idx)
-            s_act = [MemberActions(a.member, a.combination, a.case, _full(a.M_Ed, n)[idx],
-                                   _full(a.V_Ed, n)[idx]) for a in actions]
-            s_qp = {k: _full(v, n)[idx] for k, v in qp.items()}
+            src, s_sec = allx.subset(idx), sec.subset(idx)
             s_hc = _full(h_c, n)[idx]
             at = M_stem(idx) if curtail else None
+        s_act, s_qp = src.member_actions(), src.qp()
         if given is None:
             return structure.design_reinforcement(s_sec, s_act, s_qp, basis, stem_moment_at=at,
                                                   stem_height_m=s_hc)
@@ -240,35 +257,49 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
 
     todo = None
     if screen:
-        U_s, _, _ = _util_matrix(stab, n)
-        u_stab = U_s.max(axis=0) if len(stab) else np.zeros(n)
+        u_stab = _max_util(stab, n)
         todo = np.flatnonzero((u_stab <= 1.0 + _TOL) & ~bad)
         if len(todo) == n:
             todo = None
     if todo is None:
         sr = structure_of(None)
+        util = _max_util(list(stab) + list(sr.checks), n)
     else:
         part = structure_of(todo) if len(todo) else None
-        sr = _Screened(part, todo, n)
-        if complete_if_none:
-            ok_part = np.zeros(0, dtype=bool)
-            if part is not None:
-                U_p, _, _ = _util_matrix(part.checks, len(todo))
-                Us = U_s[:, todo]
-                ok_part = np.maximum(U_p.max(axis=0), Us.max(axis=0)) <= 1.0 + _TOL
-            if not ok_part.any():  # nothing passes: every candidate in full
-                todo = None
-                sr = structure_of(None)
+        util = u_stab.copy()
+        if part is not None:
+            util[todo] = np.maximum(u_stab[todo], _max_util(part.checks, len(todo)))
+        if complete_if_none and not ((util <= 1.0 + _TOL) & ~bad).any():
+            sr = structure_of(None)  # nothing passes: every candidate in full
+            util = _max_util(list(stab) + list(sr.checks), n)
+        else:
+            sr = _Screened(part, todo, n)
     checks = list(stab) + list(sr.checks)
-    U, E, R = _util_matrix(checks, n)
-    util = U.max(axis=0)
     ok = (util <= 1.0 + _TOL) & ~bad
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
     hs, D = _stem_heights(sec, demand, cond)
     cost = takeoff.cost_per_metre(sec, hs, D, steel, rates)
     return Evaluation(sec=sec, cond=cond, checks=checks, structure=sr, utilization=util,
-                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel, U=U,
-                      actions=allx, E=E, R=R)
+                      ok=ok, cost=np.asarray(cost, dtype=float), steel_kg_per_m=steel,
+                      actions=allx)
+
+
+def _max_util(checks, n: int) -> np.ndarray:
+    """Largest utilization of every candidate over ``checks`` (n,), row by row with the
+    convention of ``results.utilization`` (the same values as the max of the matrix of
+    :func:`_util_matrix`; nan propagates)."""
+    best = np.full(n, -np.inf)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for c in checks:
+            e, r = c.effect, c.resistance
+            u = np.divide(e, r)
+            pos = np.greater(r, 0.0)
+            if not pos.all():
+                u = np.where(pos, u, np.where(np.greater(e, 0.0), np.inf, 0.0))
+            np.maximum(best, u, out=best)
+    if not checks:
+        best[:] = 0.0
+    return best
 
 
 def _util_matrix(checks, n: int):
@@ -354,8 +385,6 @@ def _stem_moment_table(allx, sec: SectionArrays, cond: Conditions, k: int = 41):
 def _entries(ev: Evaluation, i: int) -> tuple[CheckEntry, ...]:
     """``results.entries(ev.checks, i)`` from the evaluation's own effect, resistance and
     utilization matrices (the same values: U is E / R with the same conventions)."""
-    if ev.E is None:
-        return entries(ev.checks, i)
     E, R, U = ev.E[:, i].tolist(), ev.R[:, i].tolist(), ev.U[:, i].tolist()
     worst: dict[tuple[str, str], int] = {}
     for k, c in enumerate(ev.checks):

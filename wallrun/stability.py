@@ -23,6 +23,8 @@ Readings taken where the design basis is silent (also listed in the module repor
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from wallrun.codes import ec7
@@ -788,9 +790,21 @@ class AllActions:
     ``edge_pressure()`` (:func:`edge_pressure_sls`) and ``stem_moment(y)``
     (:func:`stem_moment`); the same numbers as the separate entry points."""
 
-    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis):
-        self.ctx = _Actions(sec, cond, basis)
-        self.checks = _stability_checks(self.ctx)
+    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis, _checks: bool = True):
+        self.ctx = _Actions(sec, cond, basis, check=_checks)
+        self.checks = _stability_checks(self.ctx) if _checks else []
+
+    def subset(self, idx) -> "AllActions":
+        """The actions of the candidates idx only (their own geometry: the same values
+        as the rows idx of this one); no stability checks (they are known already)."""
+        cond = self.ctx.cond
+
+        def take(v):
+            return np.asarray(v, dtype=float)[idx] if v is not None and np.ndim(v) else v
+
+        sub = replace(cond, z_top=take(cond.z_top), z_front=take(cond.z_front),
+                      z_found=take(cond.z_found), water_level_m=take(cond.water_level_m))
+        return AllActions(self.ctx.sec.subset(idx), sub, self.ctx.basis, _checks=False)
 
     def member_actions(self) -> list[MemberActions]:
         return _member_actions(self.ctx)
