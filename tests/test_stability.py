@@ -322,3 +322,52 @@ def test_bad_section_rejected_naming_dimension():
     c = stab.stability_checks(SectionArrays.of([HAND, bad]), COND, BASIS)
     assert all(math.isinf(x.utilization[1]) for x in c)
     assert stab.validate(HAND, COND, BASIS) == []
+
+
+def test_levels_as_arrays_equal_one_panel_at_a_time():
+    # many panels of one ground in one call: z_top, z_front, z_found and the water level
+    # as arrays (n,) give, row by row, the numbers of separate scalar calls (the same
+    # formulas), for every entry point the sizing search uses
+    rng = np.random.default_rng(5)
+    n = 6
+    secs = [Section(0.25, 0.35 + 0.05 * i, 2.2 + 0.2 * i, 0.5, 0.4, 0.4 * (i % 2), 0.3 * (i % 2))
+            for i in range(n)]
+    z_front = np.round(rng.uniform(20.0, 22.0, n), 3)
+    z_top = z_front + np.round(rng.uniform(1.5, 3.5, n), 3)
+    z_found = z_front - 0.9
+    water = z_found + 0.6
+    fd = Foundation(undrained_strength_kpa=60.0, allowable_bearing_kpa=250.0)
+    bf = Backfill(slope_deg=8.0)
+    basis = Basis(factors=resolve("DA1"))
+    many = Conditions(z_top=z_top, z_front=z_front, z_found=z_found, backfill=bf,
+                      foundation=fd, surcharge_kpa=10.0, water_level_m=water)
+    S = SectionArrays.of(secs)
+    allx = stab.evaluate_all(S, many, basis)
+    ma = allx.member_actions()
+    qp = allx.qp()
+    edge = allx.edge_pressure()
+    sm = allx.stem_moment(np.full(n, 1.2))
+    for i in range(n):
+        one = Conditions(z_top=float(z_top[i]), z_front=float(z_front[i]), z_found=float(z_found[i]),
+                         backfill=bf, foundation=fd, surcharge_kpa=10.0,
+                         water_level_m=float(water[i]))
+        s1 = SectionArrays.of([secs[i]])
+        ref = stab.stability_checks(s1, one, basis)
+        assert [(c.check, c.combination, c.case) for c in ref] == \
+            [(c.check, c.combination, c.case) for c in allx.checks]
+        for a, b in zip(allx.checks, ref):
+            assert np.allclose(np.broadcast_to(a.effect, (n,))[i], b.effect, rtol=1e-12, atol=1e-12)
+            assert np.allclose(np.broadcast_to(a.resistance, (n,))[i], b.resistance,
+                               rtol=1e-12, atol=1e-12)
+        for a, b in zip(ma, stab.member_actions(s1, one, basis)):
+            assert np.allclose(a.M_Ed[i], b.M_Ed, rtol=1e-12, atol=1e-12)
+            assert np.allclose(a.V_Ed[i], b.V_Ed, rtol=1e-12, atol=1e-12)
+        q1 = stab.member_moments_qp(s1, one, basis)
+        assert all(np.allclose(qp[k][i], q1[k], rtol=1e-12, atol=1e-12) for k in q1)
+        assert np.allclose(edge[i], stab.edge_pressure_sls(s1, one, basis), rtol=1e-12)
+        assert np.allclose(sm[i], stab.stem_moment(s1, one, basis, 1.2), rtol=1e-12)
+    # a level rule still names the problem with arrays
+    bad = Conditions(z_top=z_top, z_front=z_top + 0.1, z_found=z_found, backfill=bf,
+                     foundation=fd, surcharge_kpa=10.0)
+    with pytest.raises(InputError, match="below the front level"):
+        stab.stability_checks(S, bad, basis)
