@@ -19,6 +19,7 @@ Units: m, kN, kPa; cost in the money units of the rate table, per metre run of w
 from __future__ import annotations
 
 import dataclasses
+import functools
 import itertools
 import math
 from dataclasses import dataclass
@@ -242,13 +243,20 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
         """StructureResult of the candidates idx (None: all); the member actions of a
         subset come from the subset's own geometry (the same values)."""
         if idx is None:
-            src, s_sec, s_hc = allx, sec, h_c
+            s_sec, s_hc = sec, h_c
+            s_act, s_qp = allx.member_actions(), allx.qp()
             at = M_stem(None) if curtail else None
         else:
-            src, s_sec = allx.subset(idx), sec.subset(idx)
+            s_sec = sec.subset(idx)
             s_hc = _full(h_c, n)[idx]
             at = M_stem(idx) if curtail else None
-        s_act, s_qp = src.member_actions(), src.qp()
+            if n >= 64 and 2 * len(idx) < n:  # few survivors: their own geometry
+                src = allx.subset(idx)
+                s_act, s_qp = src.member_actions(), src.qp()
+            else:  # the rows idx of every candidate's actions
+                s_act = [MemberActions(a.member, a.combination, a.case, _full(a.M_Ed, n)[idx],
+                                       _full(a.V_Ed, n)[idx]) for a in allx.member_actions()]
+                s_qp = {k: _full(v, n)[idx] for k, v in allx.qp().items()}
         if given is None:
             return structure.design_reinforcement(s_sec, s_act, s_qp, basis, stem_moment_at=at,
                                                   stem_height_m=s_hc)
@@ -333,12 +341,14 @@ class _Screened:
         self.pos[idx] = np.arange(len(idx))
         if part is None:
             return
-        for c in part.checks:
-            e = np.full(n, np.nan)
-            r = np.full(n, np.nan)
-            e[idx] = c.effect
-            r[idx] = c.resistance
-            self.checks.append(CheckArray(c.check, c.combination, c.case, c.unit, c.clause, e, r))
+        m = len(part.checks)
+        E = np.full((m, n), np.nan)
+        R = np.full((m, n), np.nan)
+        for k, c in enumerate(part.checks):
+            E[k, idx] = c.effect
+            R[k, idx] = c.resistance
+            self.checks.append(CheckArray(c.check, c.combination, c.case, c.unit, c.clause,
+                                          E[k], R[k]))
         self.steel_kg_per_m[idx] = part.steel_kg_per_m
 
     def reinforcement(self, i: int) -> Reinforcement | None:
@@ -560,9 +570,17 @@ def grid(bounds: SearchBounds, stride: int = 1) -> np.ndarray:
 
 
 def _offsets(radius: int) -> np.ndarray:
-    """Every integer offset vector with entries in -radius..radius, shape (m, 7)."""
-    return np.array(list(itertools.product(range(-radius, radius + 1), repeat=_NDIM)),
-                    dtype=np.int64)
+    """Every integer offset vector with entries in -radius..radius, shape (m, 7)
+    (read-only, built once per radius)."""
+    return _offsets_cached(int(radius))
+
+
+@functools.lru_cache(maxsize=8)
+def _offsets_cached(radius: int) -> np.ndarray:
+    a = np.array(list(itertools.product(range(-radius, radius + 1), repeat=_NDIM)),
+                 dtype=np.int64)
+    a.flags.writeable = False
+    return a
 
 
 class _Search:
