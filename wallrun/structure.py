@@ -467,21 +467,32 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
          "heel": t_base - cv - phi["heel"] / 2, "toe": t_base - cg - phi["toe"] / 2,
          "stem_horizontal": t_stem - cv - phi["stem"] - phi["stem_horizontal"] / 2,
          "base_distribution": t_base - cv - phi["heel"] - phi["base_distribution"] / 2}
-    MRd = {f: ec2.moment_resistance(As[f], d[f], fck, fyk, acc) for f in ("stem", "stem_front", "heel", "toe")}
-    VRd = {f: ec2.shear_resistance(As[f], d[f], fck) for f in ("stem", "stem_front", "heel", "toe")}
+    # the four main faces stacked (rows: stem, stem_front, heel, toe; the same formulas
+    # per row as one face at a time)
+    F4 = ("stem", "stem_front", "heel", "toe")
+    As4 = np.vstack([As[f] for f in F4])
+    d4 = np.vstack([d[f] for f in F4])
+    MRd4 = ec2.moment_resistance(As4, d4, fck, fyk, acc)
+    VRd4 = ec2.shear_resistance(As4, d4, fck)
+    row = {f: k for k, f in enumerate(F4)}
     main_face = {"stem": "stem", "heel": "heel", "toe": "toe"}
     opp_face = {"stem": "stem_front", "heel": "toe", "toe": "heel"}
 
     checks: list[CheckArray] = []
-    for a in actions:
-        M = _full(a.M_Ed, n)
-        V = _full(a.V_Ed, n)
-        p = M >= 0
-        mf, of = main_face[a.member], opp_face[a.member]
-        checks.append(CheckArray(f"{a.member}_bending", a.combination, a.case, "kNm/m", CL_BENDING,
-                                 np.abs(M), np.where(p, MRd[mf], MRd[of])))
-        checks.append(CheckArray(f"{a.member}_shear", a.combination, a.case, "kN/m", CL_SHEAR,
-                                 np.abs(V), np.where(p, VRd[mf], VRd[of])))
+    if actions:
+        Ms = np.vstack([_full(a.M_Ed, n) for a in actions])
+        Vs = np.vstack([_full(a.V_Ed, n) for a in actions])
+        main = [row[main_face[a.member]] for a in actions]
+        opp = [row[opp_face[a.member]] for a in actions]
+        p = Ms >= 0
+        RM = np.where(p, MRd4[main], MRd4[opp])
+        RV = np.where(p, VRd4[main], VRd4[opp])
+        aM, aV = np.abs(Ms), np.abs(Vs)
+        for k, a in enumerate(actions):
+            checks.append(CheckArray(f"{a.member}_bending", a.combination, a.case, "kNm/m",
+                                     CL_BENDING, aM[k], RM[k]))
+            checks.append(CheckArray(f"{a.member}_shear", a.combination, a.case, "kN/m",
+                                     CL_SHEAR, aV[k], RV[k]))
 
     # demands per face: ULS moment and quasi-permanent moment on the face in tension
     M_face = {"stem": pos["stem"], "stem_front": neg["stem"],
@@ -489,13 +500,13 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     qp_face = {"stem": np.maximum(q["stem"], 0), "stem_front": np.maximum(-q["stem"], 0),
                "heel": np.maximum(np.maximum(q["heel"], -q["toe"]), 0),
                "toe": np.maximum(np.maximum(q["toe"], -q["heel"]), 0)}
-    inf = np.full(n, np.inf)
-    for f in ("stem", "stem_front", "heel", "toe"):
-        sig = ec2.steel_stress_cracked(qp_face[f], As[f], d[f], ae)
-        dia_ok = phi[f] <= ec2.max_bar_diameter(sig, h[f], d[f], fck, wk)
-        s_crack = np.where((sig <= 0) | dia_ok, inf, ec2.max_bar_spacing(sig, wk))
-        checks.append(CheckArray("crack_spacing", "SLS", f, "mm", CL_CRACK, s[f],
-                                 np.minimum(ec2.max_spacing_main(h[f]), s_crack)))
+    h4 = np.vstack([h[f] for f in F4])
+    sig4 = ec2.steel_stress_cracked(np.vstack([qp_face[f] for f in F4]), As4, d4, ae)
+    dia_ok4 = np.vstack([phi[f] for f in F4]) <= ec2.max_bar_diameter(sig4, h4, d4, fck, wk)
+    s_crack4 = np.where((sig4 <= 0) | dia_ok4, np.inf, ec2.max_bar_spacing(sig4, wk))
+    s_allow4 = np.minimum(ec2.max_spacing_main(h4), s_crack4)
+    for k, f in enumerate(F4):
+        checks.append(CheckArray("crack_spacing", "SLS", f, "mm", CL_CRACK, s[f], s_allow4[k]))
     for f in ("stem_horizontal", "base_distribution"):
         checks.append(CheckArray("crack_spacing", "SLS", f, "mm", "EN 1992-1-1 9.3.1.1(3)", s[f],
                                  ec2.max_spacing_secondary(h[f])))
