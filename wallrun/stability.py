@@ -349,8 +349,28 @@ class _SetActions:
         once per sub-case and reused (stability, member actions, SLS pressure)."""
         r = self._sub.get((unfav, heel_on))
         if r is None:
-            r = self._sub[(unfav, heel_on)] = self._subcase(g, unfav, heel_on)
+            self._all_subcases(g)
+            r = self._sub[(unfav, heel_on)]
         return r
+
+    def _all_subcases(self, g: _Geom) -> None:
+        """The four sub-cases of :data:`SUBCASES` in one pass: the formulas of
+        :meth:`_subcase` on arrays (4, n), one row per sub-case."""
+        fs = self.fs
+        cases = [(unfav, on) for _, unfav, on in SUBCASES]
+        gcs = [fs.gG_unfav if unfav else fs.gG_fav for unfav, _ in cases]
+        ggs = [fs.gG_ground if unfav else fs.gG_fav for unfav, _ in cases]
+        gc = np.array(gcs, dtype=float)[:, None]
+        gg = np.array(ggs, dtype=float)[:, None]
+        gh, gQ = fs.gG_ground, fs.gQ
+        on = np.array([gQ if o else 0.0 for _, o in cases], dtype=float)[:, None]
+        V = gc * g.W_c + gg * (g.W_s + self.Pa_v - g.U) + gQ * self.Pq_v + on * g.Q
+        H = gh * (self.Pa_h + g.Pw) + gQ * self.Pq_h
+        M = (gc * g.M_c + gg * (g.W_s * g.x_s + self.Pa_v * g.B - g.MU) + gQ * self.Pq_v * g.B
+             + on * g.Q * g.xQ - gh * (self.Ma_h + g.Mw) - gQ * self.Mq_h)
+        e = _ecc(V, M, g.B)
+        for k, key in enumerate(cases):
+            self._sub[key] = (V[k], H, M[k], e[k], gcs[k], ggs[k])
 
     def stem_base(self, g: _Geom, K_stem: float):
         """(M, V) at the stem's critical section for a horizontal coefficient K_stem
