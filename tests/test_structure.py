@@ -209,3 +209,25 @@ def test_curtailment():
     r3 = res3.reinforcement(0)
     if 2 * r3.stem.spacing_mm > 400:
         assert r3.stem_curtail_m is None
+
+
+@settings(max_examples=25, deadline=None)
+@given(seed=st.integers(0, 10_000), wk=st.sampled_from([0.2, 0.3, 0.4]))
+def test_crack_window_choice_equals_every_option(seed, wk):
+    # rows whose cheapest area fails crack control (large quasi-permanent moments) take
+    # the first option of the cheapest-first order meeting every requirement: the same
+    # option as testing all of them, for both covers stacked in one call
+    from dataclasses import replace
+    rng = np.random.default_rng(seed)
+    n = 300
+    basis = replace(BASIS, design=replace(BASIS.design, crack_width_mm=wk))
+    opt = structure._options(basis)
+    t = rng.uniform(200.0, 900.0, n)
+    M = rng.uniform(0.0, 600.0, n)
+    qp = M * rng.uniform(0.3, 1.0, n)
+    cover = np.where(rng.random(n) < 0.5, 50.0, 75.0)
+    extra = np.where(rng.random(n) < 0.3, 0.001 * 1000 * t, 0.0)
+    need = rng.random(n) < 0.8
+    a = structure._choose_main(opt, t, cover, M, qp, extra, need, 32.0, basis)
+    b = structure._choose_main_full(opt, t, cover, M, qp, extra, need, 32.0, basis)
+    np.testing.assert_array_equal(a, b)

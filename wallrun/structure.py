@@ -152,8 +152,20 @@ def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin
     The reference (and the path for the rows that fail crack control at their cheapest
     option). Arrays (n,) in, option indices (n,) out.
     """
+    ok = _feasible(opt, None, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis)
+    return _pick(ok, opt.fallback)
+
+
+def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+    """Every requirement of a face in bending for the options ``cols`` (r, w) of each
+    row (None: every option), (r, w) or (r, m) booleans: As,max, spacing limit, d > 0,
+    the extra area, M_Rd >= M_req, As,min, and crack control (when any row has a
+    quasi-permanent moment)."""
     c = basis.concrete
-    phi, s, As = opt.phi[None, :], opt.s[None, :], opt.As[None, :]
+    if cols is None:
+        phi, s, As = opt.phi[None, :], opt.s[None, :], opt.As[None, :]
+    else:
+        phi, s, As = opt.phi[cols], opt.s[cols], opt.As[cols]
     hh = h[:, None]
     cover = np.asarray(cover, dtype=float)
     d = hh - (cover[:, None] if cover.ndim else cover) - phi / 2.0
@@ -164,7 +176,11 @@ def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin
     if np.any(M_qp > 0):
         sig = ec2.steel_stress_cracked(M_qp[:, None], As, d, ec2.alpha_e_long_term(fck))
         ok &= ec2.crack_control_ok(sig, s, phi, hh, d, fck, basis.design.crack_width_mm)
-    return _pick(ok, opt.fallback)
+    return ok
+
+
+#: Options tested after the cheapest one when it fails crack control (then every option).
+_CRACK_WINDOW = 8
 
 
 def _cheapest_per_size(opt: _Options, need, s_limit, h):
@@ -217,10 +233,26 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
         sig = ec2.steel_stress_cracked(M_qp, As, dc, ec2.alpha_e_long_term(fck))
         bad = found & ~ec2.crack_control_ok(sig, s, phi, h, dc, fck, basis.design.crack_width_mm)
         if bad.any():
+            # every cheaper option fails a requirement other than crack control, so the
+            # answer is the first option from idx on (in the cheapest-first order) that
+            # meets every requirement: the next few are tested, then every option for
+            # the rows still without one
             r = np.flatnonzero(bad)
             idx = idx.copy()
-            idx[r] = _choose_main_full(opt, h[r], cover[r] if cover.ndim else cover, M_req[r],
-                                       M_qp[r], as_extra[r], need_asmin[r], fck, basis)
+            cov_r = cover[r] if cover.ndim else cover
+            m = len(opt.As)
+            cols = idx[r][:, None] + np.arange(_CRACK_WINDOW)[None, :]
+            inside = cols < m
+            cols = np.minimum(cols, m - 1)
+            ok = _feasible(opt, cols, h[r], cov_r, M_req[r], M_qp[r], as_extra[r],
+                           need_asmin[r], fck, basis) & inside
+            hit = ok.any(axis=1)
+            idx[r[hit]] = cols[hit, np.argmax(ok[hit], axis=1)]
+            rest = r[~hit]
+            if len(rest):
+                cov_s = cover[rest] if cover.ndim else cover
+                idx[rest] = _choose_main_full(opt, h[rest], cov_s, M_req[rest], M_qp[rest],
+                                              as_extra[rest], need_asmin[rest], fck, basis)
     return idx
 
 
