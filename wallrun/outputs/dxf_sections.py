@@ -94,8 +94,9 @@ def _category(member: str) -> str:
 class _Cell:
     """Drawing helper for one cell: offsets section coordinates by the origin."""
 
-    def __init__(self, doc, msp, origin, scale):
+    def __init__(self, doc, msp, origin, scale, dim_sizes=None):
         self.doc, self.msp = doc, msp
+        self.dim_sizes = dim_sizes or _dim_sizes(doc)
         self.ox, self.oy = float(origin[0]), float(origin[1])
         self.scale = scale
 
@@ -143,16 +144,12 @@ class _Cell:
         return self.msp.add_circle(self.pt(x, z), r, dxfattribs={"layer": layer})
 
     def dim(self, name, p1, p2, base, vertical=False):
-        """A rendered linear DIMENSION named by XDATA; none for a zero length (e.g. no
-        toe)."""
+        """A linear DIMENSION named by XDATA, with its own minimal geometry block
+        (:func:`_dimension`); none for a zero length (e.g. no toe)."""
         if math.hypot(p2[0] - p1[0], p2[1] - p1[1]) < 1e-9:
             return None
-        dim = self.msp.add_linear_dim(base=self.pt(*base), p1=self.pt(*p1), p2=self.pt(*p2),
-                                      angle=90.0 if vertical else 0.0, dimstyle=d.DIM_STYLE,
-                                      dxfattribs={"layer": d.L_DIMS})
-        dim.render()
-        dim.dimension.set_xdata(APPID, [(1000, name)])
-        return dim.dimension
+        return _dimension(self.doc, self.msp, name, self.pt(*p1), self.pt(*p2),
+                          self.pt(*base), 90.0 if vertical else 0.0, self.dim_sizes)
 
     def mtext(self, lines, x, z, layer, mm=d.SMALL_MM, pitch_mm=4.2):
         """One MTEXT of ``lines`` with its top left at (x, z), lines ``pitch_mm`` apart
@@ -175,6 +172,73 @@ class _Cell:
             self.text(label, x - 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_RIGHT)
         else:
             self.text(label, x + 1.6 * s, z + 1.0 * s, d.L_LEVEL_TAGS, A.BOTTOM_LEFT)
+
+
+def _dim_sizes(doc) -> dict:
+    """The sizes (model m) and colours of wallrun's dimension style in ``doc``."""
+    ds = doc.dimstyles.get(d.DIM_STYLE).dxf
+    k = ds.dimscale
+    return {"exo": ds.dimexo * k, "exe": ds.dimexe * k, "tsz": ds.dimtsz * k,
+            "gap": ds.dimgap * k, "txt": ds.dimtxt * k, "lfac": ds.dimlfac,
+            "dec": int(ds.dimdec), "clrd": ds.dimclrd, "clre": ds.dimclre,
+            "clrt": ds.dimclrt}
+
+
+def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
+    """A linear DIMENSION from ``p1`` to ``p2`` (model xy, m) with its dimension line
+    through ``base`` at ``angle_deg``, drawn in wallrun's dimension style.
+
+    The DIMENSION carries the standard definition points (code 10: the dimension line
+    at the second extension line; 13, 14: the measured points; 11: the text middle),
+    the actual measurement (code 42) and its name as XDATA. Its geometry block
+    (``*D<n>``, in model coordinates as DXF requires for dimension blocks) holds two
+    entities instead of the dozen of a full render: one LWPOLYLINE tracing both
+    extension lines (``dimexo`` off the measured points, ``dimexe`` beyond the
+    dimension line), the dimension line and the two oblique ticks (``dimtsz``),
+    retracing where a stroke turns back; and one TEXT of the measurement x
+    ``dimlfac`` (mm) to ``dimdec`` decimals, ``dimgap`` above the line. Block entities
+    are on layer 0 (they take the DIMENSION's layer) in the style's colours. Sizes
+    ``z`` from :func:`_dim_sizes`, model m.
+    """
+    a = math.radians(angle_deg)
+    ux, uy = math.cos(a), math.sin(a)
+    nx, ny = -uy, ux  # the side the text stands on
+    bx, by = base
+
+    def foot(p):
+        t = (p[0] - bx) * ux + (p[1] - by) * uy
+        return (bx + t * ux, by + t * uy)
+
+    d1, d2 = foot(p1), foot(p2)
+    meas = abs((p2[0] - p1[0]) * ux + (p2[1] - p1[1]) * uy)
+
+    def ext(p, q):  # extension line from near p to beyond q (its foot)
+        vx, vy = q[0] - p[0], q[1] - p[1]
+        L = math.hypot(vx, vy)
+        ex, ey = (vx / L, vy / L) if L > 1e-12 else (-nx, -ny)
+        return ((p[0] + ex * z["exo"], p[1] + ey * z["exo"]),
+                (q[0] + ex * z["exe"], q[1] + ey * z["exe"]))
+
+    (s1, e1), (s2, e2) = ext(p1, d1), ext(p2, d2)
+    t = z["tsz"]
+    tx, ty = t * (ux + nx), t * (uy + ny)
+    path = [s1, e1, d1, (d1[0] - tx, d1[1] - ty), (d1[0] + tx, d1[1] + ty), d1,
+            d2, (d2[0] - tx, d2[1] - ty), (d2[0] + tx, d2[1] + ty), d2, e2, s2]
+    off = z["gap"] + z["txt"] / 2
+    mid = ((d1[0] + d2[0]) / 2 + nx * off, (d1[1] + d2[1]) / 2 + ny * off)
+    blk = doc.blocks.new_anonymous_block(type_char="D")
+    blk.add_lwpolyline(path, dxfattribs={"layer": "0", "color": z["clrd"]})
+    blk.add_text(f"{meas * z['lfac']:.{z['dec']}f}", height=z["txt"], rotation=angle_deg,
+                 dxfattribs={"layer": "0", "color": z["clrt"], "style": d.TEXT_STYLE,
+                             "halign": 1, "valign": 2, "insert": mid, "align_point": mid})
+    dim = msp.new_entity("DIMENSION", dxfattribs={
+        "layer": d.L_DIMS, "dimstyle": d.DIM_STYLE, "geometry": blk.name,
+        "dimtype": 32,  # linear (0) with a block of its own (32)
+        "defpoint": d2, "defpoint2": p1, "defpoint3": p2, "angle": angle_deg,
+        "text_midpoint": mid, "attachment_point": 5, "text": "<>",
+        "actual_measurement": meas})
+    dim.set_xdata(APPID, [(1000, name)])
+    return dim
 
 
 def _dot_block(doc, r: float) -> str:
@@ -492,6 +556,7 @@ def write_sections(result, path) -> None:
     msp = doc.modelspace()
     P = lambda mm: d.paper(mm, scale)  # noqa: E731
     gmap = governing_map(result)
+    dim_sizes = _dim_sizes(doc)
     rows_of: dict[str, list] = {}
     for b in result.bar_schedule:
         rows_of.setdefault(b.section, []).append(b)
@@ -510,7 +575,7 @@ def write_sections(result, path) -> None:
         col, row = i % ncols, i // ncols
         ox, oy = col * cw + left, -row * ch - top
         start = len(msp)
-        cell = _Cell(doc, msp, (ox, oy), scale)
+        cell = _Cell(doc, msp, (ox, oy), scale, dim_sizes)
         cell.poly([(-left + P(2), -bottom + P(2)), (right - P(2), -bottom + P(2)),
                    (right - P(2), top - P(2)), (-left + P(2), top - P(2))], d.L_FRAME,
                   close=True)
