@@ -183,6 +183,20 @@ def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, 
 _CRACK_WINDOW = 8
 
 
+_AREA_TABLES: dict = {}
+
+
+def _area_tables(opt: _Options):
+    """Area per metre 1000 a_bar / s of every (bar size, spacing), mm2/m, flattened
+    size-major, and the same rounded to 1e-6 (the tie-break key), computed once."""
+    t = _AREA_TABLES.get(id(opt))
+    if t is None or t[0] is not opt:
+        a_bar = ec2.bar_area(opt.sizes)[:, None]
+        T = (1000.0 * a_bar / opt.spacings[None, :]).ravel()
+        t = _AREA_TABLES[id(opt)] = (opt, T, np.round(T, 6))
+    return t[1], t[2]
+
+
 def _cheapest_per_size(opt: _Options, need, s_limit, h):
     """Cheapest option per candidate meeting an area ``need`` (n, k) per bar size and a
     spacing limit (n,): for each bar size the widest listed spacing giving the area,
@@ -198,9 +212,11 @@ def _cheapest_per_size(opt: _Options, need, s_limit, h):
     found = j >= 0
     jj = np.clip(j, 0, len(sp) - 1)
     s_c = sp[jj]
-    A = 1000.0 * a_bar / s_c
+    T, Tr = _area_tables(opt)  # 1000 a_bar / s per (size, spacing), and rounded
+    flat = jj + (np.arange(len(sizes)) * len(sp))[None, :]
+    A = T[flat]  # = 1000 a_bar / s_c
     found &= A <= ec2.as_max(h)[:, None]
-    key = np.where(found, np.round(A, 6), np.inf)
+    key = np.where(found, Tr[flat], np.inf)
     best = key.min(axis=1, keepdims=True)
     # among the sizes with the least area, the widest spacing
     cand = found & (key == best)
