@@ -155,7 +155,9 @@ def test_every_bar_mark_appears_per_section(out, result):
         # the bar table: one MTEXT per column, one line per schedule row
         table = {line for e in ents if e.dxftype() == "MTEXT" and e.dxf.layer == d.L_TABLE
                  for line in e.plain_text().split("\n")}
-        marks = [e.dxf.text for e in ents if e.dxftype() == "TEXT" and e.dxf.layer == d.L_MARKS]
+        # the leader descriptions: one MTEXT per side, one line per leader
+        marks = [line for e in ents if e.dxftype() == "MTEXT" and e.dxf.layer == d.L_MARKS
+                 for line in e.plain_text().split("\n")]
         rows = [b for b in result.bar_schedule if b.section == st.section_type]
         assert rows
         for b in rows:
@@ -163,6 +165,14 @@ def test_every_bar_mark_appears_per_section(out, result):
             # each mark at a leader (sample groups are small, so every mark is named)
             assert any(b.bar_mark in t.split("  ")[0].split(", ") and f"{b.bar_mm} mm" in t
                        and f"({b.member})" in t for t in marks), (st.section_type, b.bar_mark)
+        # one leader polyline per description line, each ending in a closed circle:
+        # two half-circle arcs (bulge 1) round its anchor
+        leaders = [e for e in ents if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == d.L_MARKS]
+        assert len(leaders) == len(marks)
+        for e in leaders:
+            pts = e.get_points("xyb")
+            assert [p[2] for p in pts[-3:]] == [1.0, 1.0, 0.0]
+            assert pts[-1][:2] == pytest.approx(pts[-3][:2])
     assert len(doc.groups) >= len(result.section_types)
 
 

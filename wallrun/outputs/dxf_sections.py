@@ -16,12 +16,16 @@ base, m (design-basis section 2). A cell holds:
   mats, and the distribution bars cut in section as circles (drawn at least 0.7 mm
   across on paper so that they show; real size when larger);
 - every bar mark of the type's ``bar_schedule`` rows in a bar table beside the section
-  (one TEXT per mark), and at leaders to the drawn bars: one leader per member and
-  diameter, naming its marks (up to three, else the first and last and the count);
-- DIMENSION entities (rendered) for toe, stem base thickness, heel, base width, base
+  (one MTEXT per column, one line per row), and at leaders to the drawn bars: one
+  leader per member and diameter (one polyline ending in a small circle on the bar),
+  naming its marks (up to three, else the first and last and the count), the
+  descriptions of one side in one MTEXT, a line per leader;
+- DIMENSION entities for toe, stem base thickness, heel, base width, base
   thickness, stem top thickness, stem height and key depth/width (none of zero length,
   e.g. no toe); each carries its name as XDATA of application ``WALLRUN`` (e.g.
-  ``base_width_m``);
+  ``base_width_m``); each has a geometry block of its own built directly with two
+  entities (see :func:`_dimension`), which is what keeps a drawing of hundreds of
+  section types quick to write;
 - level labels (top of wall, retained level, front ground, underside of base) and
   the design conditions of the governing panel.
 
@@ -151,17 +155,29 @@ class _Cell:
         return _dimension(self.doc, self.msp, name, self.pt(*p1), self.pt(*p2),
                           self.pt(*base), 90.0 if vertical else 0.0, self.dim_sizes)
 
-    def mtext(self, lines, x, z, layer, mm=d.SMALL_MM, pitch_mm=4.2):
-        """One MTEXT of ``lines`` with its top left at (x, z), lines ``pitch_mm`` apart
-        on paper (exact spacing)."""
-        text = "\\P".join(str(t).replace("\\", "\\\\") for t in lines)
-        m = self.msp.add_mtext(text, dxfattribs={"layer": layer, "style": d.TEXT_STYLE,
-                                                 "char_height": self.P(mm)})
-        m.dxf.insert = self.pt(x, z)
-        m.dxf.attachment_point = 1  # top left
-        m.dxf.line_spacing_style = 2  # exact
-        m.dxf.line_spacing_factor = pitch_mm / (mm * 5.0 / 3.0)
+    def mtext(self, lines, x, z, layer, mm=d.SMALL_MM, pitch_mm=4.2, attach=1):
+        """One MTEXT of ``lines`` with its top left (``attach`` 1; 3: top right) at
+        (x, z), lines ``pitch_mm`` apart on paper (exact spacing)."""
+        text = "\\P".join(_mtext_escape(str(t)) for t in lines)
+        m = self.msp.add_mtext(text, dxfattribs={
+            "layer": layer, "style": d.TEXT_STYLE, "char_height": self.P(mm),
+            "insert": self.pt(x, z), "attachment_point": attach,
+            "line_spacing_style": 2,  # exact
+            "line_spacing_factor": pitch_mm / (mm * 5.0 / 3.0)})
         return m
+
+    def leader(self, start, anchor, r, layer):
+        """A bar-mark leader as one LWPOLYLINE: from ``start`` to the edge of a circle of radius ``r`` round ``anchor``
+        (section coordinates), then round that circle as two half-circle arcs."""
+        ax, az = self.pt(*anchor)
+        sx, sz = self.pt(*start)
+        L = math.hypot(sx - ax, sz - az)
+        ex, ez = ((sx - ax) / L, (sz - az) / L) if L > 1e-12 else (1.0, 0.0)
+        c1 = (ax + r * ex, az + r * ez)
+        c2 = (ax - r * ex, az - r * ez)
+        return self.msp.add_lwpolyline(
+            [(sx, sz, 0.0), (c1[0], c1[1], 1.0), (c2[0], c2[1], 1.0), (c1[0], c1[1], 0.0)],
+            format="xyb", dxfattribs={"layer": layer})
 
     def level_tag(self, label, x, z, left=False):
         """Small downward triangle at (x, z) and the label beside it."""
@@ -239,6 +255,11 @@ def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
         "actual_measurement": meas})
     dim.set_xdata(APPID, [(1000, name)])
     return dim
+
+
+def _mtext_escape(s: str) -> str:
+    """Plain text for MTEXT content: backslashes and braces escaped."""
+    return s.replace("\\", "\\\\").replace("{", "\\{").replace("}", "\\}")
 
 
 def _dot_block(doc, r: float) -> str:
@@ -447,22 +468,17 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
         side.append((anchor, marks[0], desc))
     right.sort(key=lambda t: -t[0][1])
     left.sort(key=lambda t: -t[0][1])
-    z_lab = tb + hd - P(4)
-    x_lab = B + P(10)
-    for anchor, _mark, desc in right:
-        cell.line(anchor, (x_lab - P(1), z_lab), d.L_MARKS)
-        cell.circle(anchor[0], anchor[1], P(0.4), d.L_MARKS)
-        cell.text(desc, x_lab, z_lab, d.L_MARKS, A.MIDDLE_LEFT)
-        z_lab -= P(6)
-    z_lab = tb + hd * 0.75
-    x_lab = -P(24)
-    for anchor, _mark, desc in left:
-        cell.line(anchor, (x_lab + P(1), z_lab), d.L_MARKS)
-        cell.circle(anchor[0], anchor[1], P(0.4), d.L_MARKS)
-        cell.text(desc, x_lab, z_lab, d.L_MARKS, A.MIDDLE_RIGHT)
-        z_lab -= P(6)
+    r_dot = P(0.4)
+    for labels, x_lab, z_lab, gap, attach in ((right, B + P(10), tb + hd - P(4), -P(1), 1),
+                                               (left, -P(24), tb + hd * 0.75, P(1), 3)):
+        for k, (anchor, _mark, _desc) in enumerate(labels):
+            cell.leader((x_lab + gap, z_lab - P(6) * k), anchor, r_dot, d.L_MARKS)
+        if labels:  # the descriptions as one MTEXT per side, lines 6 mm apart
+            cell.mtext([desc for _a, _m, desc in labels], x_lab, z_lab + P(d.SMALL_MM / 2),
+                       d.L_MARKS, pitch_mm=6.0, attach=attach)
 
-    # bar table
+    # bar table: a title, one MTEXT per column (heading, then one line per row at 5 mm
+    # pitch on paper), and one polyline for the frame and the rule under the headings
     x0 = B_max + P(78)
     z0 = tb + hd
     cols = [("mark", 0), ("member", 12), ("dia mm", 44), ("shape", 58), ("length mm", 72),
@@ -470,19 +486,15 @@ def _draw_cell(cell: _Cell, result, st, pr, rows, B_max):
     width = P(106)
     cell.text(f"BARS OF SECTION {st.section_type}", x0, z0 + P(3), d.L_TABLE, A.BOTTOM_LEFT,
               mm=d.TEXT_MM)
-    for name, off in cols:
-        cell.text(name, x0 + P(off + 1), z0 - P(2.5), d.L_TABLE, A.MIDDLE_LEFT)
-    cell.line((x0, z0 - P(5)), (x0 + width, z0 - P(5)), d.L_TABLE)
-    z = z0 - P(8)
-    if rows:  # one MTEXT per column, one line per row at 5 mm pitch on paper
-        vals = [[r.bar_mark, r.member, f"{r.bar_mm}", r.shape_code, f"{r.length_mm}",
-                 f"{r.number}"] for r in rows]
-        for k, (_, off) in enumerate(cols):
-            cell.mtext([v[k] for v in vals], x0 + P(off + 1), z + P(d.SMALL_MM / 2),
-                       d.L_TABLE, pitch_mm=5.0)
-        z -= P(5) * len(rows)
-    cell.poly([(x0, z0), (x0 + width, z0), (x0 + width, z + P(2)), (x0, z + P(2))],
-              d.L_TABLE, close=True)
+    vals = [[r.bar_mark, r.member, f"{r.bar_mm}", r.shape_code, f"{r.length_mm}",
+             f"{r.number}"] for r in rows]
+    for k, (head, off) in enumerate(cols):
+        cell.mtext([head] + [v[k] for v in vals], x0 + P(off + 1),
+                   z0 - P(3) + P(d.SMALL_MM / 2), d.L_TABLE, pitch_mm=5.0)
+    z = z0 - P(8) - P(5) * len(rows)
+    zr, zb = z0 - P(5.5), z + P(2)
+    cell.poly([(x0 + width, zr), (x0, zr), (x0, z0), (x0 + width, z0), (x0 + width, zb),
+               (x0, zb), (x0, zr)], d.L_TABLE)
     if not rows:
         cell.text("no bar schedule rows for this section type", x0 + P(1), z, d.L_TABLE)
 
