@@ -1,8 +1,14 @@
 """Actions and every EN 1997-1 stability check of a cantilever wall, vectorised.
 
 Design-basis sections 2 to 5. Every function evaluates n candidate sections at once
-(``SectionArrays``, arrays of shape (n,)); loops run only over the factor sets and
-the four bearing sub-cases. Section coordinates: x from the toe edge towards the
+(``SectionArrays``, arrays of shape (n,)); loops run only over the factor sets, and the
+four bearing sub-cases of a set are computed together as arrays (4, n). The levels of
+``Conditions`` (z_top, z_front, z_found, water_level_m) may be floats or arrays (n,),
+so that one call can check the sections of many panels of the same ground.
+:func:`evaluate_all` builds the geometry, factored actions and sub-cases once and
+serves the stability checks, member actions, quasi-permanent moments, SLS edge
+pressure and stem moment from them (the sizing search); the separate entry points
+give the same numbers. Section coordinates: x from the toe edge towards the
 retained side, z from the underside of the base; units m, kN/m, kNm/m, kPa.
 
 Readings taken where the design basis is silent (also listed in the module report):
