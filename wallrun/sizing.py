@@ -597,15 +597,21 @@ class _Search:
         self.ok = np.zeros(0, dtype=bool)
         self.cost = np.zeros(0)
         self.util = np.zeros(0)
+        self._best, self._best_n = None, 0
         self.evaluated = 0
 
     def best(self) -> int | None:
-        """Index of the cheapest passing candidate seen (ties: lower utilization)."""
-        if not self.ok.any():
-            return None
-        idx = np.flatnonzero(self.ok)
-        order = np.lexsort((self.util[idx], self.cost[idx]))
-        return int(idx[order[0]])
+        """Index of the cheapest passing candidate seen (ties: lower utilization);
+        recomputed only after new candidates were evaluated."""
+        if self._best_n == len(self.ok):
+            return self._best
+        b = None
+        if self.ok.any():
+            idx = np.flatnonzero(self.ok)
+            order = np.lexsort((self.util[idx], self.cost[idx]))
+            b = int(idx[order[0]])
+        self._best, self._best_n = b, len(self.ok)
+        return b
 
     def best_cost(self) -> float:
         b = self.best()
