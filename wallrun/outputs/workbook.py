@@ -6,6 +6,9 @@ quantities, cost. Headers carry their units, e.g. ``length (m)``. Text cells tha
 spreadsheet would read as a formula (leading ``= + - @``, tab or CR) are written with a
 leading apostrophe so they stay text. Numbers are written unrounded with a display
 format; infinite or undefined numbers are written as the text ``inf`` / empty.
+
+The workbook is written in openpyxl's write-only mode (rows streamed in order), which
+keeps a schedule of thousands of panels quick to write.
 """
 
 from __future__ import annotations
@@ -13,8 +16,12 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+from copy import copy
+
 from openpyxl import Workbook
+from openpyxl.cell import WriteOnlyCell
 from openpyxl.styles import Font
+from openpyxl.utils import get_column_letter
 
 from wallrun.outputs.tables import (BAR_COLUMNS, CAUTION, JOINT_COLUMNS, NOT_CHECKED,
                                     PANEL_COLUMNS, SECTION_COLUMNS, panel_row, section_row)
@@ -61,32 +68,61 @@ def safe(value):
     return s
 
 
-def _put(ws, row: int, col: int, value, fmt: str | None = None):
-    cell = ws.cell(row=row, column=col)
-    v = safe(value)
-    cell.value = v
-    if isinstance(v, str):
-        cell.data_type = "s"  # never a formula
-    elif isinstance(v, float) and fmt:
-        cell.number_format = fmt
-    return cell
+class _Cells:
+    """Cell factory for one write-only sheet: plain values pass through (openpyxl
+    writes them as they are), bold text and formatted numbers become WriteOnlyCells
+    whose style is copied from one template cell per style (set once, not per cell)."""
+
+    def __init__(self, ws):
+        self.ws = ws
+        self._templates: dict = {}
+
+    def _styled(self, value, fmt: str | None, bold: bool):
+        key = (fmt, bold)
+        tpl = self._templates.get(key)
+        if tpl is None:
+            tpl = WriteOnlyCell(self.ws)
+            if fmt:
+                tpl.number_format = fmt
+            if bold:
+                tpl.font = _BOLD
+            self._templates[key] = tpl
+        c = WriteOnlyCell(self.ws, value=value)
+        c._style = copy(tpl._style)
+        return c
+
+    def put(self, value, fmt: str | None = None, bold: bool = False):
+        """``value`` made safe (:func:`safe`), so that text is always text: it never
+        starts with ``=``, which is what openpyxl would write as a formula."""
+        v = safe(value)
+        if bold or (fmt and isinstance(v, float)):
+            c = self._styled(v, fmt if isinstance(v, float) else None, bold)
+            if isinstance(v, str):
+                c.data_type = "s"
+            return c
+        return v
 
 
-def _table(ws, columns, rows, first_row: int = 1, formats: dict | None = None,
-           headers: list[str] | None = None) -> int:
-    """Write a header row and the rows (dicts keyed by column); returns the next free row."""
+def _table(ws, columns, rows, formats: dict | None = None,
+           headers: list[str] | None = None, bold_last: bool = False,
+           header_row: int = 1) -> None:
+    """Column widths, frozen header, a bold header row and the rows (dicts keyed by
+    column) of a write-only sheet; the last row bold with ``bold_last``.
+    ``header_row`` is the sheet row the header lands on (rows above it are written
+    by the caller first)."""
     formats = formats or {}
-    for j, c in enumerate(columns, start=1):
-        _put(ws, first_row, j, headers[j - 1] if headers else header(c)).font = _BOLD
-    r = first_row
-    for r, row in enumerate(rows, start=first_row + 1):
-        for j, c in enumerate(columns, start=1):
-            _put(ws, r, j, row.get(c), formats.get(c, "0.000"))
-    ws.freeze_panes = ws.cell(row=first_row + 1, column=1)
-    for j, c in enumerate(columns, start=1):
-        width = max(len(str(headers[j - 1] if headers else header(c))), 8) + 2
-        ws.column_dimensions[ws.cell(row=first_row, column=j).column_letter].width = min(width, 40)
-    return r + 1
+    heads = headers if headers else [header(c) for c in columns]
+    for j, h in enumerate(heads, start=1):
+        ws.column_dimensions[get_column_letter(j)].width = min(max(len(str(h)), 8) + 2, 40)
+    ws.freeze_panes = f"A{header_row + 1}"
+    cells = _Cells(ws)
+    ws.append([cells.put(h, bold=True) for h in heads])
+    fmts = [formats.get(c, "0.000") for c in columns]
+    last = len(rows) - 1
+    for i, row in enumerate(rows):
+        bold = bold_last and i == last
+        ws.append([cells.put(row.get(c), f, bold=bold and j == 0)
+                   for j, (c, f) in enumerate(zip(columns, fmts))])
 
 
 def _notes(ws, result: DesignResult) -> None:
@@ -100,11 +136,11 @@ def _notes(ws, result: DesignResult) -> None:
     if not result.cost.complete:
         lines.append(("cost", "Incomplete: some items have no rate; the total leaves them out."))
     lines += [("warning", w) for w in result.warnings]
-    for i, (k, v) in enumerate(lines, start=1):
-        _put(ws, i, 1, k).font = _BOLD
-        _put(ws, i, 2, v)
     ws.column_dimensions["A"].width = 14
     ws.column_dimensions["B"].width = 100
+    cells = _Cells(ws)
+    for k, v in lines:
+        ws.append([cells.put(k, bold=True), cells.put(v)])
 
 
 def _panel_quantities(ws, result: DesignResult) -> None:
@@ -124,17 +160,14 @@ def _unit(item: str) -> str:
 
 def _cost(ws, result: DesignResult) -> None:
     c = result.cost
-    r = 1
+    cells = _Cells(ws)
+    above = []
     if c.demo_rates:
-        _put(ws, r, 1, "RATES ARE INVENTED EXAMPLE FIGURES, NOT MARKET PRICES").font = _BOLD
-        _put(ws, r, 2, DEMO_RATES_NOTE)
-        r += 1
+        above.append(["RATES ARE INVENTED EXAMPLE FIGURES, NOT MARKET PRICES",
+                      DEMO_RATES_NOTE])
     if not c.complete:
-        _put(ws, r, 1, "INCOMPLETE ESTIMATE").font = _BOLD
-        _put(ws, r, 2, "items marked unpriced have no rate and are not in the total")
-        r += 1
-    if r > 1:
-        r += 1
+        above.append(["INCOMPLETE ESTIMATE",
+                      "items marked unpriced have no rate and are not in the total"])
     cols = ("item", "unit", "quantity", "rate", "amount")
     heads = ["item", "unit", "quantity (in unit)", "rate (per unit)", "amount"]
     rows = [{"item": x.item, "unit": x.unit, "quantity": x.quantity,
@@ -142,17 +175,20 @@ def _cost(ws, result: DesignResult) -> None:
              "amount": x.amount if x.amount is not None else "unpriced"} for x in c.rows]
     label = "total" if c.complete else "total (incomplete: unpriced items left out)"
     rows.append({"item": label, "amount": c.total})
-    nxt = _table(ws, cols, rows, first_row=r, headers=heads,
-                 formats={"quantity": "0.000", "rate": "0.00", "amount": "0.00"})
-    ws.cell(row=nxt - 1, column=1).font = _BOLD
+    header_row = 1
+    if above:  # the notices, a blank row, then the table
+        for a, b in above:
+            ws.append([cells.put(a, bold=True), cells.put(b)])
+        ws.append([])
+        header_row = len(above) + 2
+    _table(ws, cols, rows, headers=heads, bold_last=True, header_row=header_row,
+           formats={"quantity": "0.000", "rate": "0.00", "amount": "0.00"})
 
 
 def write_workbook(result: DesignResult, path) -> Path:
     """Write ``schedule.xlsx`` for ``result`` at ``path``; returns the path."""
-    wb = Workbook()
-    ws = wb.active
-    ws.title = "notes"
-    _notes(ws, result)
+    wb = Workbook(write_only=True)  # rows streamed to the file, no cell objects kept
+    _notes(wb.create_sheet("notes"), result)
     _table(wb.create_sheet("schedule"), PANEL_COLUMNS, [panel_row(p) for p in result.panels],
            formats={"cost": "0.00", "steel_kg": "0.0"})
     _panel_quantities(wb.create_sheet("panel quantities"), result)
