@@ -80,6 +80,10 @@ def test_workbook_round_trip(tmp_path):
     assert heads[:6] == ["panel", "run", "side", "ch_start (m)", "ch_end (m)", "length (m)"]
     assert "concrete (m3)" in heads and "steel (kg)" in heads
     assert sched.max_row == 3
+    # header bold and frozen; numbers keep their display formats (write-only mode)
+    assert all(c.font.bold for c in sched[1]) and sched.freeze_panes == "A2"
+    assert sched.cell(row=2, column=heads.index("length (m)") + 1).number_format == "0.000"
+    assert sched.cell(row=2, column=heads.index("steel (kg)") + 1).number_format == "0.0"
     col = heads.index("concrete (m3)") + 1
     assert sched.cell(row=2, column=col).value == pytest.approx(
         res.panels[0].quantities["concrete_total"])
