@@ -19,7 +19,7 @@ from dataclasses import dataclass
 
 import ezdxf
 import numpy as np
-from ezdxf.enums import TextEntityAlignment
+from ezdxf.enums import MAP_TEXT_ENUM_TO_ALIGN_FLAGS, TextEntityAlignment
 
 # --- layers --------------------------------------------------------------------------
 
@@ -221,11 +221,15 @@ def new_document(scale: int, title: str = "") -> "ezdxf.document.Drawing":
 def add_text(msp, text: str, xy, height: float, layer: str,
              align: TextEntityAlignment = TextEntityAlignment.MIDDLE_LEFT,
              rotation: float = 0.0):
-    """One TEXT entity in wallrun's text style, placed at ``xy`` with ``align``."""
-    t = msp.add_text(text, height=height, rotation=rotation,
-                     dxfattribs={"layer": layer, "style": TEXT_STYLE})
-    t.set_placement((float(xy[0]), float(xy[1])), align=align)
-    return t
+    """One TEXT entity in wallrun's text style, placed at ``xy`` with ``align``
+    (``align`` one of the nine point alignments, not ALIGNED or FIT); every attribute
+    is set at creation."""
+    h, v = MAP_TEXT_ENUM_TO_ALIGN_FLAGS[align]
+    p = (float(xy[0]), float(xy[1]))
+    attribs = {"layer": layer, "style": TEXT_STYLE, "insert": p}
+    if h or v:
+        attribs.update(halign=h, valign=v, align_point=p)
+    return msp.add_text(text, height=height, rotation=rotation, dxfattribs=attribs)
 
 
 _SAVED: dict = {}
