@@ -142,3 +142,34 @@ def test_every_ok_panel_is_within_its_checks(designed):
     for p in designed["panels"]:
         if p["status"] == "ok":
             assert max(c["utilization"] for c in p["checks"]) <= 1.0
+
+
+@pytest.mark.parametrize("comb,g_phi,gG,gQ", [("DA1-1", 1.0, 1.35, 1.5),
+                                              ("DA1-2", 1.25, 1.0, 1.3)])
+def test_stem_bending_and_shear(designed, comb, g_phi, gG, gQ):
+    fck, fyd = 32.0, 500 / 1.15
+    for p in designed["panels"]:
+        s, lv = p["section"], p["levels"]
+        hs = lv["retained_top_m"] - lv["founding_m"] - s["base_thickness_m"]
+        k = ka(phi_d(35.0, g_phi))
+        M = gG * k * 20.0 * hs ** 3 / 6 + gQ * k * 10.0 * hs ** 2 / 2  # cantilever, kNm/m
+        V = gG * k * 20.0 * hs ** 2 / 2 + gQ * k * 10.0 * hs  # kN/m
+        bars = p["reinforcement"]["stem"]
+        As = math.pi / 4 * bars["bar_mm"] ** 2 * 1000 / bars["spacing_mm"]  # mm2/m
+        d = s["stem_base_m"] * 1000 - 50 - bars["bar_mm"] / 2  # cover 50 mm
+        # rectangular block (EN 1992-1-1 3.1.7): 0.8 x at 0.85 fck / 1.5
+        x = As * fyd / (0.8 * 0.85 * fck / 1.5 * 1000)
+        MRd = As * fyd * (d - 0.4 * x) / 1e6
+        for case in {c["case"] for c in p["checks"] if c["check"] == "stem_bending"
+                     and c["combination"] == comb}:
+            c = check(p, "stem_bending", comb, case)
+            assert c["effect"] == pytest.approx(M, rel=0.01)
+            assert c["resistance"] == pytest.approx(MRd, rel=0.02)
+        # EN 1992-1-1 6.2.2 Eq. 6.2a/b
+        kk = min(1 + math.sqrt(200 / d), 2.0)
+        rho = min(As / (1000 * d), 0.02)
+        v = max(0.18 / 1.5 * kk * (100 * rho * fck) ** (1 / 3), 0.035 * kk ** 1.5 * fck ** 0.5)
+        for c in p["checks"]:
+            if c["check"] == "stem_shear" and c["combination"] == comb:
+                assert c["effect"] == pytest.approx(V, rel=0.01)
+                assert c["resistance"] == pytest.approx(v * d, rel=0.01)
