@@ -196,8 +196,7 @@ def _dim_sizes(doc) -> dict:
     k = ds.dimscale
     return {"exo": ds.dimexo * k, "exe": ds.dimexe * k, "tsz": ds.dimtsz * k,
             "gap": ds.dimgap * k, "txt": ds.dimtxt * k, "lfac": ds.dimlfac,
-            "dec": int(ds.dimdec), "clrd": ds.dimclrd, "clre": ds.dimclre,
-            "clrt": ds.dimclrt}
+            "dec": int(ds.dimdec), "clrd": ds.dimclrd, "clrt": ds.dimclrt}
 
 
 def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
@@ -213,7 +212,9 @@ def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
     dimension line), the dimension line and the two oblique ticks (``dimtsz``),
     retracing where a stroke turns back; and one TEXT of the measurement x
     ``dimlfac`` (mm) to ``dimdec`` decimals, ``dimgap`` above the line. Block entities
-    are on layer 0 (they take the DIMENSION's layer) in the style's colours. Sizes
+    are on layer 0 (they take the DIMENSION's layer), the polyline in the style's
+    dimension-line colour (which it gives the extension lines too), the text in its
+    text colour. Sizes
     ``z`` from :func:`_dim_sizes`, model m.
     """
     a = math.radians(angle_deg)
