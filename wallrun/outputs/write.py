@@ -36,21 +36,66 @@ def _write_text(path: Path, text: str) -> None:
         f.write(text)
 
 
-def write_all(result: DesignResult, folder: Path) -> list[str]:
-    """Write every output file into ``folder`` (which exists and is empty)."""
-    from wallrun.outputs import tables
+def _write_sections_and_preview(result: DesignResult, folder: Path) -> None:
+    from wallrun.outputs import dxf_sections, previews
+    dxf_sections.write_sections(result, folder / "sections.dxf")
+    previews.render_sections_pdf(folder / "sections.dxf", folder / "sections.pdf")
+
+
+def _write_the_rest(result: DesignResult, folder: Path) -> None:
+    from wallrun.outputs import dxf_elevation, dxf_plan, previews, report, tables, workbook
     for name, render in tables.TABLES.items():
         _write_text(folder / name, render(result))
-    from wallrun.outputs import workbook
     workbook.write_workbook(result, folder / "schedule.xlsx")
-    from wallrun.outputs import dxf_elevation, dxf_plan, dxf_sections
     dxf_elevation.write_elevation(result, folder / "elevation.dxf")
-    dxf_sections.write_sections(result, folder / "sections.dxf")
     dxf_plan.write_plan(result, folder / "plan.dxf")
-    from wallrun.outputs import previews
-    previews.write_previews(folder)
-    from wallrun.outputs import report
+    previews.render_elevation_png(folder / "elevation.dxf", folder / "elevation.png")
     report.write_report(result, folder / "report.html")
+
+
+def _child(result, folder, conn) -> None:
+    try:
+        _write_sections_and_preview(result, folder)
+        conn.send("")
+    except BaseException as exc:  # reported by the parent
+        conn.send(f"{type(exc).__name__}: {exc}")
+    finally:
+        conn.close()
+
+
+#: Above this many section types the cross-section drawings (the largest writer) are
+#: written by a second process while this one writes the rest; the files are the same.
+PARALLEL_FROM_TYPES = 60
+
+
+def write_all(result: DesignResult, folder: Path) -> list[str]:
+    """Write every output file into ``folder`` (which exists and is empty).
+
+    The writers are independent renderings of ``result``. For a large job (more than
+    ``PARALLEL_FROM_TYPES`` section types, on a platform with ``fork``) the section
+    drawings and their preview are written by a forked child process at the same time;
+    a failure there fails the whole write.
+    """
+    import multiprocessing as mp
+    if len(result.section_types) > PARALLEL_FROM_TYPES and "fork" in mp.get_all_start_methods():
+        ctx = mp.get_context("fork")
+        recv, send = ctx.Pipe(duplex=False)
+        child = ctx.Process(target=_child, args=(result, folder, send), daemon=True)
+        child.start()
+        send.close()
+        try:
+            _write_the_rest(result, folder)
+        finally:
+            try:
+                message = recv.recv()
+            except EOFError:
+                message = "the writing process ended without an answer"
+            child.join()
+        if message or child.exitcode != 0:
+            raise RuntimeError(f"writing sections.dxf failed: {message or child.exitcode}")
+    else:
+        _write_sections_and_preview(result, folder)
+        _write_the_rest(result, folder)
     return sorted(p.name for p in folder.iterdir())
 
 
