@@ -46,7 +46,7 @@ ELEVATION_PX = (1800, 600)
 DPI = 100
 MAX_ELEVATION_TEXTS = 1500
 MAX_STRIPS = 8
-MAX_SECTION_PAGES = 8  # full pages; more would cost ~0.2 s each
+MAX_SECTION_PAGES = 16  # full pages (~0.2 s each); the rest are listed, and sections.dxf holds all
 A3_IN = (16.54, 11.69)
 
 _CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,

@@ -65,7 +65,7 @@ def _child(result, folder, conn) -> None:
 
 #: Above this many section types the cross-section drawings (the largest writer) are
 #: written by a second process while this one writes the rest; the files are the same.
-PARALLEL_FROM_TYPES = 60
+PARALLEL_FROM_TYPES = 12
 
 
 def write_all(result: DesignResult, folder: Path) -> list[str]:
