@@ -262,16 +262,7 @@ def design_json(result: DesignResult) -> str:
     return json.dumps(design_dict(result), indent=1, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-CAUTION = ("wallrun is a preliminary design aid. Every result is to be checked and signed "
-           "by a qualified engineer under the local codes and the national annex in force.")
-NOT_CHECKED = (
-    "overall (deep-seated) stability",
-    "settlement and tilt beyond the middle-third and edge-pressure-ratio rules",
-    "seismic actions",
-    "compaction pressures",
-    "frost action",
-    "chemical attack and durability beyond the covers given",
-)
+from wallrun.cautions import CAUTION, NOT_CHECKED  # noqa: E402  (re-exported)
 
 
 TABLES = {
