@@ -418,9 +418,15 @@ class Lockstep:
             i = j + 1
         return picks
 
-    def _neighbours(self, demand: sizing.Demand, k: int = 4) -> list[Section]:
+    def _neighbours(self, demand: sizing.Demand, k: int = 4,
+                    taller_first: bool = True) -> list[Section]:
         """The sections of the k passing designs of the ground nearest in retained
-        height (ties in the order designed), as ``sizing.Designer._neighbours``."""
+        height (ties in the order designed), as ``sizing.Designer._neighbours``;
+        ``taller_first``: those of taller (or equal) demands first, nearest first, then
+        the shorter ones. ``Designer`` designs the tallest first, so its neighbours are
+        all taller: a taller panel's section nearly always passes at a shorter one, and
+        a descent that starts from a passing section keeps to passing ones, where one
+        from a failing section wanders (the tests showed designs up to 16 % dearer)."""
         key = demand.ground_key
         got = self.by_ground.get(key)
         if not got:
@@ -430,7 +436,11 @@ class Lockstep:
             vals = list(got.values())
             arr = self._nb[key] = (np.array([h for h, _ in vals]), [s for _, s in vals])
         hs, secs = arr
-        idx = np.argsort(np.abs(hs - demand.h), kind="stable")[:k]
+        dist = np.abs(hs - demand.h)
+        if taller_first:
+            idx = np.lexsort((dist, hs < demand.h - 1e-9))[:k]
+        else:
+            idx = np.argsort(dist, kind="stable")[:k]
         return [secs[i] for i in idx]
 
     def _record(self, d: sizing.Demand, section: Section) -> None:
@@ -447,7 +457,8 @@ class Lockstep:
             if improve:
                 own = self.cache[d]
                 near = [own.section] if own.status == "ok" else []
-                near += [sec for sec in self._neighbours(d, 5) if sec != own.section][:4]
+                near += [sec for sec in self._neighbours(d, 5, taller_first=False)
+                         if sec != own.section][:4]
             else:
                 near = self._neighbours(d)
             starts = [v for v in (bounds.vector_of(sec) for sec in near) if v is not None]
