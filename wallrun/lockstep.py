@@ -339,9 +339,9 @@ class Lockstep:
     so far (as ``sizing.Designer`` does), so a pipeline can design its first-pass panels
     in one call and the halves of split panels in later, smaller calls.
     stride, seeds, warm_polish: as ``sizing.Designer``. polish_passes: improvement
-    passes after the rounds (each demand tries the sections of its nearest designed
-    neighbours as they are, then descends in the small neighbourhood from its own);
-    a pass never makes a design dearer.
+    passes after the rounds (each demand tries the sections of its ``improve_k``
+    nearest designed neighbours, taller or shorter, as they are, then descends in the
+    small neighbourhood from its own design); a pass never makes a design dearer.
     """
 
     basis: Basis
@@ -352,6 +352,7 @@ class Lockstep:
     warm_polish: bool = False
     chunk: int = CHUNK
     polish_passes: int = 1
+    improve_k: int = 8  # neighbours' sections tried by the improvement pass
     cache: dict = field(default_factory=dict)
     #: ground key -> {demand: (retained height, section)} of the passing designs
     by_ground: dict = field(default_factory=dict)
@@ -457,8 +458,8 @@ class Lockstep:
             if improve:
                 own = self.cache[d]
                 near = [own.section] if own.status == "ok" else []
-                near += [sec for sec in self._neighbours(d, 5, taller_first=False)
-                         if sec != own.section][:4]
+                others = self._neighbours(d, self.improve_k + 1, taller_first=False)
+                near += [sec for sec in others if sec != own.section][:self.improve_k]
             else:
                 near = self._neighbours(d)
             starts = [v for v in (bounds.vector_of(sec) for sec in near) if v is not None]
