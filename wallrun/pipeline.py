@@ -264,7 +264,16 @@ def design(site: Site, progress=None) -> DesignResult:
                         joints=tuple(joints), section_types=tuple(section_types),
                         actions=actions, bar_schedule=tuple(schedule),
                         quantities=tuple(quantities), cost=cost, warnings=warnings,
-                        timings=timings)
+                        timings=timings, search=_search_stats(designer))
+
+
+def _search_stats(designer: _Designer) -> dict:
+    """Candidates evaluated by the bespoke search, for the benchmark (empty when the
+    one-panel search of ``sizing`` ran: it keeps its own counters)."""
+    b = designer.batch
+    if b is None:
+        return {}
+    return {"candidates": float(b.evaluated), "calls": float(b.calls)}
 
 
 def _end_kwargs(panel_rows, k: int) -> dict:

@@ -300,6 +300,7 @@ class DesignResult:
     cost: Cost
     warnings: tuple[str, ...] = ()
     timings: dict[str, float] = field(default_factory=dict)  # seconds per stage
+    search: dict[str, float] = field(default_factory=dict)  # candidates searched, calls
 
     @property
     def ok(self) -> bool:
