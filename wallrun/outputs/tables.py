@@ -259,7 +259,22 @@ def design_dict(result: DesignResult) -> dict:
 
 
 def design_json(result: DesignResult) -> str:
-    return json.dumps(design_dict(result), indent=1, ensure_ascii=False, allow_nan=False) + "\n"
+    """``design.json``: the top-level keys one per line, and each entry of a long list
+    (panels, joints, sections, bar schedule) as one compact line, so that the file
+    stays readable and diffable and the C encoder does the work."""
+    d = design_dict(result)
+
+    def enc(v, **kw):
+        return json.dumps(v, ensure_ascii=False, allow_nan=False, **kw)
+
+    parts = []
+    for k, v in d.items():
+        if isinstance(v, list) and v and isinstance(v[0], dict):
+            body = ",\n".join("  " + enc(x, separators=(", ", ": ")) for x in v)
+            parts.append(f" {enc(k)}: [\n{body}\n ]")
+        else:
+            parts.append(f" {enc(k)}: " + enc(v, indent=1).replace("\n", "\n "))
+    return "{\n" + ",\n".join(parts) + "\n}\n"
 
 
 from wallrun.cautions import CAUTION, NOT_CHECKED  # noqa: E402  (re-exported)
