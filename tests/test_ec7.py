@@ -19,7 +19,7 @@ gh_ex = pytest.importorskip("groundhog.excavations.basic")
 # --- earth pressure ------------------------------------------------------------------------
 
 def test_level_rankine_values():
-    # Rankine, phi = 30 deg, level surface: Ka = 1/3, Kp = 3 (textbook values).
+    # Rankine, phi = 30 deg, level surface: Ka = 1/3, Kp = 3 (classical values, common practice).
     assert ec7.ka_rankine(30.0, 0.0) == pytest.approx(1.0 / 3.0, rel=1e-12)
     assert ec7.kp_rankine(30.0) == pytest.approx(3.0, rel=1e-12)
     # common practice: Ka of about 0.33 for a granular fill (phi' about 30 deg)
@@ -53,7 +53,7 @@ def test_coulomb_against_groundhog(phi, delta, beta):
 
 
 def test_coulomb_smooth_level_is_rankine():
-    # Coulomb with delta = 0 and a level surface reduces to Rankine (textbook identity)
+    # Coulomb with delta = 0 and a level surface reduces to Rankine (classical identity)
     for phi in (22.0, 30.0, 38.0):
         assert ec7.ka_coulomb(phi, 0.0, 0.0) == pytest.approx(ec7.ka_rankine(phi), rel=1e-12)
 

@@ -4,7 +4,7 @@ Check values are worked by hand in the comments from design-basis section 1 and 
 standard parabolic vertical curve of highway geometry,
 y = y0 + g1 x + (g2 - g1) x^2 / (2 L) from the start of the curve (BVC), whose
 middle ordinate is e = (g1 - g2) L / 8 (= A L / 800 with A in percent) and whose high
-or low point is at x = -g1 L / (g2 - g1) (textbook highway geometry, from memory).
+or low point is at x = -g1 L / (g2 - g1) (standard highway geometry, from memory).
 """
 
 from __future__ import annotations

@@ -3,7 +3,7 @@
 A level fill wall with no water and no key, designed by wallrun; then overturning
 (EQU), drained sliding (DA1-1, DA1-2), drained bearing (EN 1997-1 Annex D) and
 eccentricity are recomputed here from the reported levels and dimensions with
-textbook hand formulas (rectangles and triangles, Rankine Ka, no shoelace, no wallrun
+classical hand formulas (rectangles and triangles, Rankine Ka, no shoelace, no wallrun
 engine code) and compared with the reported effects, resistances and utilizations.
 """
 
