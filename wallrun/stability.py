@@ -676,34 +676,11 @@ def _contact(V, e, B):
     return np.where(full, c0_f, c0_t), np.where(full, c1_f, c1_t), s0, s1
 
 
-def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool,
-                 sub=None):
-    """(M, V) of stem, heel and toe for one factor set and sub-case."""
-    fs = a.fs
-    gQ = fs.gQ
-    M_stem, V_stem = a.stem_base(g, K_stem)
-    V, H, M, e, gc, gg = a.subcase(g, unfav, on) if sub is None else sub
-    c0, c1, s0, s1 = _contact(V, e, g.B)
-    B, xh, toe = g.B, g.x_h, g.toe
-    # heel, about the back face of the stem x_h
-    Lh = B - xh
-    onf = gQ if on else 0.0
-    down_F = (gc * GAMMA_C * g.t * Lh + gg * g.W_s_heel + onf * g.q * Lh + gg * a.Pa_v
-              + gQ * a.Pq_v)
-    down_M = (gc * GAMMA_C * g.t * Lh ** 2 / 2 + gg * g.W_s_heel * (g.x_s_heel - xh)
-              + onf * g.q * Lh ** 2 / 2 + (gg * a.Pa_v + gQ * a.Pq_v) * Lh)
-    cF, cM = _lin_integral(c0, c1, s0, s1, xh, B, xh)
-    uc1 = gg * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
-    uF, uM = _lin_integral(0.0, uc1, 0.0, B, xh, B, xh)
-    M_heel = down_M - cM - uM
-    V_heel = np.abs(down_F - cF - uF)
-    # toe, about the front face of the stem x = toe (arm toe - x)
-    cF2, cM2 = _lin_integral(c0, c1, s0, s1, 0.0, toe, toe)
-    uF2, uM2 = _lin_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
-    wF = gc * GAMMA_C * g.t * toe
-    M_toe = -(cM2 + uM2) - wF * toe / 2.0
-    V_toe = np.abs(cF2 + uF2 - wF)
-    return (M_stem, V_stem), (M_heel, V_heel), (M_toe, V_toe)
+def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool):
+    """(M, V) of stem, heel and toe for one factor set and sub-case (one row of
+    :func:`_members_rows`)."""
+    stem, (M_heel, V_heel), (M_toe, V_toe) = _members_rows(g, [("", "", a, K_stem, unfav, on)])
+    return stem[0], (M_heel[0], V_heel[0]), (M_toe[0], V_toe[0])
 
 
 def member_actions(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[MemberActions]:
@@ -731,8 +708,11 @@ def _member_actions(ctx: _Actions) -> list[MemberActions]:
 
 
 def _members_rows(g: _Geom, rows):
-    """:func:`_members_for` of many (set, sub-case) rows at once: the same formulas on
-    arrays (rows, n). rows: (name, label, set actions, K_stem, unfav, heel load on).
+    """ (M, V) of stem, heel and toe for many (set, sub-case) rows at once, on
+    arrays (rows, n). Heel about the back face of the stem: down its own weight, the
+    soil and heel load beyond it and the vertical thrust components at x = B; up the
+    contact pressure and the uplift. Toe about the front face: up the contact pressure
+    and uplift, down its own weight (design-basis section 5). rows: (name, label, set actions, K_stem, unfav, heel load on).
     Returns ([(M_stem, V_stem) per row], (M_heel, V_heel), (M_toe, V_toe)), the last
     two of shape (rows, n)."""
     stem = [a.stem_base(g, K) for _, _, a, K, _, _ in rows]
