@@ -15,6 +15,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from wallrun import sizing
+from wallrun.section import SectionArrays, section_problems
 from wallrun.factors import resolve
 from wallrun.settings import Backfill, Basis, CatalogueSection, Foundation, Water
 
@@ -289,7 +290,7 @@ def test_steep_backfill_is_flagged_not_raised():
     assert sd.reinforcement is not None and sd.cost_per_m > 0
     b = sizing.bounds_for(d, 0.05)
     assert b.b_lo <= sd.section.base_width_m <= b.b_hi
-    assert not sizing.section_problems(sizing.SectionArrays.of([sd.section])).any()
+    assert not section_problems(SectionArrays.of([sd.section])).any()
     types = (cat("T1", (12, 200), (0.25, 0.3, 2.0, 0.5, 0.3)),
              cat("T2", (16, 200), (0.25, 0.35, 2.6, 0.6, 0.35)))
     sc = sizing.catalogue_design(d, BASIS, None, types)

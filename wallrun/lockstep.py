@@ -37,8 +37,6 @@ Units: m, kN, kPa; money per metre run.
 
 from __future__ import annotations
 
-import itertools
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -57,9 +55,6 @@ CHUNK = 60_000
 _NDIM = sizing._NDIM
 _TOL = sizing._TOL
 # the small neighbourhood of sizing._Search.local (radius 1 in B, toe, t_base, t_stem)
-_SMALL = np.zeros((3 ** 4, _NDIM), dtype=np.int64)
-_SMALL[:, :4] = np.array(list(itertools.product(range(-1, 2), repeat=4)))
-_LINE = np.array([(db, dt) for db in (-1, 0) for dt in (0,)], dtype=np.int64)
 
 
 # --- one demand's search state -------------------------------------------------------------
@@ -111,43 +106,10 @@ def _run(s: _Store, v, prune: bool = True):
 
 def _local(s: _Store, start, radius: int = 1, max_iter: int = 60, extra=None,
            polish: bool = True, first_full: bool | None = None):
-    """Generator form of ``sizing._Search.local`` (the same neighbourhoods and moves).
-    ``first_full=False`` with ``polish=False`` (the improvement pass): only the small
-    neighbourhood, until it settles."""
-    if radius != 1:
-        small = np.zeros(((2 * radius + 1) ** 4, _NDIM), dtype=np.int64)
-        small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
-    else:
-        small = _SMALL
-    full = sizing._offsets(radius)
-    toes = s.bounds.axes()[1]
-    line = _LINE
-    cur = np.asarray(start, dtype=np.int64)
-    use_full = (not polish) if first_full is None else first_full
-    for _ in range(max_iter):
-        if use_full:
-            cand = cur[None, :] + full
-        else:
-            tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
-            tl[:, 0] += np.repeat(line[:, 0], len(toes))
-            tl[:, 2] += np.repeat(line[:, 1], len(toes))
-            tl[:, 1] = np.tile(toes, len(line))
-            cand = np.vstack([cur[None, :] + small, tl])
-        if extra is not None:
-            cand, extra = np.vstack([np.asarray(extra, dtype=np.int64), cand]), None
+    """The moves of ``sizing.descent`` (the one-panel search's own), each
+    neighbourhood yielded as a request for the joined evaluation."""
+    for cand in sizing.descent(s, start, radius, max_iter, extra, polish, first_full):
         yield from _run(s, cand)
-        b = s.best()
-        if b is not None:
-            nxt = s.V[b]
-        else:
-            nxt = s.V[int(np.argmin(s.util))] if len(s.util) else cur
-        if np.array_equal(nxt, cur):
-            if use_full or not polish:
-                return
-            use_full = True
-        else:
-            use_full = False
-            cur = nxt
 
 
 def _search(s: _Store, starts, stride: int, n_seeds: int, warm_polish: bool,

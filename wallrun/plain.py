@@ -137,7 +137,7 @@ def plain_stability_checks(section: Section, cond: Conditions, basis: Basis) -> 
             if kind == "soil":
                 Vd0 += fs.gG_fav * Vv
         Veff = Vd0 - fs.gG_ground * U
-        dd = base_k = basis.design.base_friction_factor * _phid(fd.phi_cv_deg, fs.g_phi)
+        dd = basis.design.base_friction_factor * _phid(fd.phi_cv_deg, fs.g_phi)
         R = max(Veff, 0.0) * math.tan(math.radians(dd)) / fs.gR_sliding
         if basis.design.passive != "none":
             Kp = (1 + math.sin(math.radians(phi_f))) / (1 - math.sin(math.radians(phi_f)))

@@ -31,11 +31,10 @@ import csv
 import difflib
 import io
 import math
-import os
 import tomllib
 from dataclasses import dataclass, fields
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import numpy as np
 import pandas as pd

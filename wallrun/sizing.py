@@ -28,9 +28,8 @@ import numpy as np
 
 from wallrun import panels
 from wallrun.conditions import Conditions
-from wallrun.results import (BarSet, CheckArray, CheckEntry, Reinforcement, entries,
-                             utilization)
-from wallrun.section import Section, SectionArrays, section_problems
+from wallrun.results import BarSet, CheckArray, CheckEntry, Reinforcement
+from wallrun.section import Section, SectionArrays
 from wallrun.settings import Backfill, Basis, CatalogueSection, Foundation, Water
 
 #: Largest retained height h = z_top - z_front the search is offered for, m. Above it a
@@ -656,50 +655,64 @@ class _Search:
 
     def local(self, start: np.ndarray, radius: int = 1, max_iter: int = 60,
               extra: np.ndarray | None = None, polish: bool = True) -> None:
-        """Descent from ``start``. A step evaluates a neighbourhood and moves to the
-        cheapest passing candidate (or, while nothing passes, the least utilised).
-
-        Neighbourhoods: first the offsets -radius..radius in every combination of base
-        width, toe, base thickness and stem base thickness, with (because feasibility in
-        the toe length is not convex: a toe a little longer or shorter can fail while a
-        longer one passes) the whole toe range 0..B/2 at base widths two steps narrower
-        to one step wider and base thicknesses one step either side; once that settles,
-        the joint neighbourhood of all seven integers (stem top and key too), after
-        which the small neighbourhood runs again; until nothing improves. ``extra``
-        candidates are evaluated with the first neighbourhood. ``polish=False`` (a warm
-        start near a known optimum) takes the joint neighbourhood at the first step
-        instead, then the small one until it settles."""
-        small = np.zeros((3 ** 4, _NDIM), dtype=np.int64)
-        small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
-        full = _offsets(radius)
-        toes = self.bounds.axes()[1]
-        line = np.array([(db, dt) for db in (-1, 0) for dt in (0,)], dtype=np.int64)
-        cur = np.asarray(start, dtype=np.int64)
-        use_full = not polish
-        for _ in range(max_iter):
-            if use_full:
-                cand = cur[None, :] + full
-            else:
-                tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
-                tl[:, 0] += np.repeat(line[:, 0], len(toes))
-                tl[:, 2] += np.repeat(line[:, 1], len(toes))
-                tl[:, 1] = np.tile(toes, len(line))
-                cand = np.vstack([cur[None, :] + small, tl])
-            if extra is not None:
-                cand, extra = np.vstack([np.asarray(extra, dtype=np.int64), cand]), None
+        """Descent from ``start`` (see :func:`descent`, which gives the moves): each
+        neighbourhood is evaluated here as it comes."""
+        for cand in descent(self, start, radius, max_iter, extra, polish):
             self.run(cand)
-            b = self.best()
-            if b is not None:
-                nxt = self.V[b]
-            else:
-                nxt = self.V[int(np.argmin(self.util))] if len(self.util) else cur
-            if np.array_equal(nxt, cur):
-                if use_full or not polish:
-                    return
-                use_full = True
-            else:
-                use_full = False
-                cur = nxt
+
+
+def descent(store, start, radius: int = 1, max_iter: int = 60, extra=None,
+            polish: bool = True, first_full: bool | None = None):
+    """The moves of the local search, as a generator of neighbourhoods.
+
+    Yields arrays of integer grid vectors to evaluate; the caller evaluates each into
+    ``store`` (which has ``bounds``, ``best()``, ``V`` and ``util``) before resuming, so
+    the same moves serve the one-panel search here and the many-panel search of
+    ``wallrun.lockstep``. A step evaluates a neighbourhood and moves to the cheapest
+    passing candidate (or, while nothing passes, the least utilised).
+
+    Neighbourhoods: first the offsets -radius..radius in every combination of base
+    width, toe, base thickness and stem base thickness, with (because feasibility in
+    the toe length is not convex: a toe a little longer or shorter can fail while a
+    longer one passes) the whole toe range 0..B/2 at base widths one step narrower or
+    the same; once that settles, the joint neighbourhood of all seven integers (stem
+    top and key too), after which the small neighbourhood runs again; until nothing
+    improves. ``extra`` candidates are evaluated with the first neighbourhood.
+    ``polish=False`` (a warm start near a known optimum) takes the joint neighbourhood
+    at the first step instead, then the small one until it settles; ``first_full``
+    overrides which neighbourhood comes first.
+    """
+    small = np.zeros(((2 * radius + 1) ** 4, _NDIM), dtype=np.int64)
+    small[:, :4] = np.array(list(itertools.product(range(-radius, radius + 1), repeat=4)))
+    full = _offsets(radius)
+    toes = store.bounds.axes()[1]
+    line = np.array([(db, dt) for db in (-1, 0) for dt in (0,)], dtype=np.int64)
+    cur = np.asarray(start, dtype=np.int64)
+    use_full = (not polish) if first_full is None else first_full
+    for _ in range(max_iter):
+        if use_full:
+            cand = cur[None, :] + full
+        else:
+            tl = np.repeat(cur[None, :], len(line) * len(toes), axis=0)
+            tl[:, 0] += np.repeat(line[:, 0], len(toes))
+            tl[:, 2] += np.repeat(line[:, 1], len(toes))
+            tl[:, 1] = np.tile(toes, len(line))
+            cand = np.vstack([cur[None, :] + small, tl])
+        if extra is not None:
+            cand, extra = np.vstack([np.asarray(extra, dtype=np.int64), cand]), None
+        yield cand
+        b = store.best()
+        if b is not None:
+            nxt = store.V[b]
+        else:
+            nxt = store.V[int(np.argmin(store.util))] if len(store.util) else cur
+        if np.array_equal(nxt, cur):
+            if use_full or not polish:
+                return
+            use_full = True
+        else:
+            use_full = False
+            cur = nxt
 
 
 # --- bespoke -------------------------------------------------------------------------

@@ -468,7 +468,7 @@ def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list
 
 
 def _stability_checks(ctx: _Actions) -> list[CheckArray]:
-    g, cond, basis, sec = ctx.g, ctx.cond, ctx.basis, ctx.sec
+    g, cond, basis = ctx.g, ctx.cond, ctx.basis
     out: list[CheckArray] = []
     fd = cond.foundation
     # overturning, EQU (2.4.7.2)

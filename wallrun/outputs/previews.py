@@ -29,7 +29,6 @@ import matplotlib
 
 matplotlib.use("Agg")
 
-import ezdxf  # noqa: E402
 from ezdxf.addons.drawing import Frontend, RenderContext  # noqa: E402
 from ezdxf.addons.drawing.config import (BackgroundPolicy, Configuration,  # noqa: E402
                                          LinePolicy)
