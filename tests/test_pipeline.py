@@ -92,3 +92,23 @@ def test_progress_reports_each_new_design(tmp_path):
     wallrun.design(site, progress=lambda stage, done, total: calls.append((stage, done, total)))
     assert calls and all(stage == "sizing" and 1 <= done <= total for stage, done, total in calls)
     assert calls[-1][1] == 2  # two distinct panel conditions designed
+
+
+def test_rationalised_four_types_mends_its_joints(tmp_path):
+    # the hillside demo as a rationalised job of at most four types: the set alone leaves
+    # edge-pressure-ratio failures between panels of very different types; the joints are
+    # mended by building a panel with another type of the set (no new type, no failure)
+    import shutil
+    d = tmp_path / "rat"
+    shutil.copytree("sites/hillside-cut", d, ignore=shutil.ignore_patterns("out"))
+    toml = (d / "site.toml").read_text().replace(
+        "[design]", '[design]\nsections = "rationalised"\nmax_types = 4', 1)
+    (d / "site.toml").write_text(toml)
+    r = wallrun.design(wallrun.load_site(d))
+    assert len({p.section_type for p in r.panels}) <= 4
+    assert all(p.status == "ok" for p in r.panels)
+    for p in r.panels:
+        assert max(c.utilization for c in p.checks) <= 1.0
+    for j in r.joints:
+        assert j.status == "ok" or "cannot split further" in j.reason
+    assert r.ok

@@ -301,7 +301,69 @@ def _rationalise(site: Site, laid):
     for run, exts, designs, _ in laid:
         new = list(assigned[k:k + len(exts)])
         k += len(exts)
+        _mend_joints(site, exts, new)
         jfigs = [_joint(exts[i], new[i], exts[i + 1], new[i + 1], site.wall)
                  for i in range(len(exts) - 1)]
         out.append((run, exts, new, jfigs))
     return out
+
+
+def _with_type(site: Site, ext, d_type: sizing.SizedDesign):
+    """The panel of ``ext`` built with the section and bars of another panel's type, or
+    None where that fails a check at this panel, or where this panel would need its
+    stem bars to run higher than the type's common curtailment stop."""
+    from dataclasses import replace
+
+    from wallrun.section import SectionArrays
+    demand = demand_of(ext, site)
+    ev = sizing.evaluate(SectionArrays.of([d_type.section]), demand, site.basis, site.rates,
+                         given=d_type.reinforcement)
+    if not bool(ev.ok[0]):
+        return None
+    own_stop = ev.structure.reinforcement(0).stem_curtail_m
+    type_stop = d_type.reinforcement.stem_curtail_m
+    if type_stop is not None and (own_stop is None or own_stop > type_stop + 1e-9):
+        return None
+    d = sizing._sized(ev, 0, demand, site.basis, section_type=d_type.section_type)
+    return replace(d, reinforcement=replace(d.reinforcement, stem_curtail_m=type_stop))
+
+
+def _mend_joints(site: Site, exts, designs, passes: int = 3) -> None:
+    """Cure joints that the rationalised set breaks, without new types: at a failing
+    joint, build one of its two panels with another type of the run when that passes
+    every check there and cures the joint (the cheaper such move first; a move may pass the
+    problem on to the next joint along the run, never back to the previous one). In
+    place, joints in chainage order, a few passes; joints no move cures stay failing
+    (flagged)."""
+    wall = site.wall
+    types = {d.section_type: d for d in designs if d.status == "ok"}  # one design per type
+
+    def fails(i):
+        return 0 <= i < len(exts) - 1 and bool(
+            _joint(exts[i], designs[i], exts[i + 1], designs[i + 1], wall)[1])
+
+    for _ in range(passes):
+        moved = False
+        for i in range(len(exts) - 1):
+            if not fails(i):
+                continue
+            moves = []
+            for k in (i, i + 1):
+                for t in types.values():
+                    if t.section_type == designs[k].section_type:
+                        continue
+                    cand = _with_type(site, exts[k], t)
+                    if cand is not None:
+                        moves.append((cand.cost_per_m * exts[k].length, k, cand))
+            for _, k, cand in sorted(moves, key=lambda m: m[0]):
+                old = designs[k]
+                designs[k] = cand
+                # moving the left panel must not break the joint before it (already
+                # settled); moving the right one may pass the problem on to the next
+                # joint, which this pass comes to next
+                if not fails(i) and (k == i + 1 or not fails(i - 1)):
+                    moved = True
+                    break
+                designs[k] = old
+        if not moved:
+            return
