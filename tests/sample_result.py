@@ -24,7 +24,7 @@ from wallrun.results import (BarMark, BarSet, CheckEntry, Cost, CostRow, DesignR
                              Joint, Panel, PanelResult, Quantity, Reinforcement, Run,
                              SectionType)
 from wallrun.section import Section
-from wallrun.settings import (Backfill, Drawings, Foundation, ProfileData, Project, Site,
+from wallrun.settings import (Drawings, ProfileData, Project, Site,
                               Wall, Water)
 
 STEEL_DENSITY = 7850.0  # kg/m3 (design-basis section 7)

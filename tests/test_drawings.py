@@ -151,7 +151,6 @@ def test_every_bar_mark_appears_per_section(out, result):
     doc, _ = _read(out / "sections.dxf")
     for st in result.section_types:
         ents = _group(doc, st.section_type)
-        texts = [e.dxf.text for e in ents if e.dxftype() == "TEXT"]
         # the bar table: one MTEXT per column, one line per schedule row
         table = {line for e in ents if e.dxftype() == "MTEXT" and e.dxf.layer == d.L_TABLE
                  for line in e.plain_text().split("\n")}

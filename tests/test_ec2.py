@@ -3,7 +3,6 @@ hand values from the published formulas."""
 
 import math
 
-import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
