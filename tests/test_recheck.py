@@ -173,3 +173,57 @@ def test_stem_bending_and_shear(designed, comb, g_phi, gG, gQ):
             if c["check"] == "stem_shear" and c["combination"] == comb:
                 assert c["effect"] == pytest.approx(V, rel=0.01)
                 assert c["resistance"] == pytest.approx(v * d, rel=0.01)
+
+
+@pytest.mark.parametrize("comb,g_phi,gQ", [("DA1-1", 1.0, 1.5), ("DA1-2", 1.25, 1.3)])
+def test_bearing_g_fav_heel_load_on(designed, comb, g_phi, gQ):
+    # favourable permanent actions (gG_fav = 1.0) with the heel load q on the plan width
+    # from the stem's back face at z_top to x = B (design-basis section 4)
+    for p in designed["panels"]:
+        w, H, B = parts(p)
+        s, lv = p["section"], p["levels"]
+        k = ka(phi_d(35.0, g_phi))
+        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
+        bq = B - s["toe_m"] - s["stem_top_m"]
+        Q, xq = gQ * 10.0 * bq, B - bq / 2
+        gG = 1.35 if comb == "DA1-1" else 1.0  # thrusts at their unfavourable factors
+        V = sum(v for v, _ in w) + Q
+        Hh = gG * pa + gQ * pq
+        M = sum(v * x for v, x in w) + Q * xq - gG * pa * H / 3 - gQ * pq * H / 2
+        e = abs(B / 2 - M / V)
+        Bp = B - 2 * e
+        D = lv["front_min_m"] - lv["founding_m"]
+        nq, ng = annex_d(phi_d(30.0, g_phi))
+        iq, ig = (1 - Hh / V) ** 2, (1 - Hh / V) ** 3
+        R = Bp * (19.0 * D * nq * iq + 0.5 * 19.0 * Bp * ng * ig)
+        c = check(p, "bearing", comb, "G fav, heel load on, drained")
+        assert c["effect"] == pytest.approx(V, rel=0.005)
+        assert c["resistance"] == pytest.approx(R, rel=0.01)
+
+
+def test_heel_bending_da1_1_g_unfav_heel_load_off(designed):
+    # heel at the back face of the stem, x_h = toe + stem_base: down the heel slab and the
+    # soil above it (level backfill: hs x L_h), up the linear contact pressure of the
+    # same sub-case (no uplift: a drained wall); moment about x_h (design-basis 5)
+    for p in designed["panels"]:
+        w, H, B = parts(p)
+        s = p["section"]
+        gG, gQ = 1.35, 1.5
+        k = ka(35.0)
+        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
+        V = gG * sum(v for v, _ in w)
+        M = gG * sum(v * x for v, x in w) - gG * pa * H / 3 - gQ * pq * H / 2
+        e_t = B / 2 - M / V  # towards the toe positive
+        assert abs(e_t) <= B / 6  # full contact for this simple closed form
+        xh = s["toe_m"] + s["stem_base_m"]
+        Lh = B - xh
+        hs = H - s["base_thickness_m"]
+        down = gG * (GC * s["base_thickness_m"] + 20.0 * hs) * Lh ** 2 / 2
+        n = 2000  # midpoint rule on the linear pressure (exact to rounding)
+        up = 0.0
+        for i in range(n):
+            x = xh + (i + 0.5) * Lh / n
+            sigma = V / B + 12 * V * e_t * (B / 2 - x) / B ** 3
+            up += sigma * (x - xh) * Lh / n
+        c = check(p, "heel_bending", "DA1-1", "G unfav, heel load off")
+        assert c["effect"] == pytest.approx(down - up, rel=0.01)
