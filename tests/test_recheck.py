@@ -113,29 +113,42 @@ def annex_d(phi):
     return nq, 2 * (nq - 1) * t
 
 
+def bearing_by_hand(p, comb, g_phi, gQ, g_perm, heel_load):
+    """(V, e, R) of one bearing sub-case: permanent vertical actions at ``g_perm``, the
+    thrusts at their unfavourable factors, the heel load q on the plan width from the
+    stem's back face at z_top to x = B when ``heel_load`` (design-basis section 4);
+    R by EN 1997-1 Annex D, drained, c' = 0, B' = B - 2|e|."""
+    w, H, B = parts(p)
+    s, lv = p["section"], p["levels"]
+    gG = 1.35 if comb == "DA1-1" else 1.0
+    k = ka(phi_d(35.0, g_phi))
+    pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
+    bq = B - s["toe_m"] - s["stem_top_m"]
+    Q = gQ * 10.0 * bq if heel_load else 0.0
+    V = g_perm * sum(v for v, _ in w) + Q
+    Hh = gG * pa + gQ * pq
+    M = (g_perm * sum(v * x for v, x in w) + Q * (B - bq / 2)
+         - gG * pa * H / 3 - gQ * pq * H / 2)
+    e = abs(B / 2 - M / V)
+    Bp = B - 2 * e
+    D = lv["front_min_m"] - lv["founding_m"]
+    nq, ng = annex_d(phi_d(30.0, g_phi))
+    iq, ig = (1 - Hh / V) ** 2, (1 - Hh / V) ** 3
+    return V, e, Bp * (19.0 * D * nq * iq + 0.5 * 19.0 * Bp * ng * ig)
+
+
 @pytest.mark.parametrize("comb,g_phi,gQ", [("DA1-1", 1.0, 1.5), ("DA1-2", 1.25, 1.3)])
 def test_bearing_and_eccentricity_g_unfav_heel_load_off(designed, comb, g_phi, gQ):
     gG = 1.35 if comb == "DA1-1" else 1.0
     for p in designed["panels"]:
-        w, H, B = parts(p)
-        lv = p["levels"]
-        k = ka(phi_d(35.0, g_phi))
-        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
-        V = gG * sum(v for v, _ in w)
-        Hh = gG * pa + gQ * pq
-        M = gG * sum(v * x for v, x in w) - gG * pa * H / 3 - gQ * pq * H / 2
-        e = abs(B / 2 - M / V)
-        Bp = B - 2 * e
-        D = lv["front_min_m"] - lv["founding_m"]
-        nq, ng = annex_d(phi_d(30.0, g_phi))
-        iq, ig = (1 - Hh / V) ** 2, (1 - Hh / V) ** 3
-        R = Bp * (19.0 * D * nq * iq + 0.5 * 19.0 * Bp * ng * ig)
+        V, e, R = bearing_by_hand(p, comb, g_phi, gQ, gG, heel_load=False)
         c = check(p, "bearing", comb, "G unfav, heel load off, drained")
         assert c["effect"] == pytest.approx(V, rel=0.005)
         assert c["resistance"] == pytest.approx(R, rel=0.01)
         ce = check(p, "eccentricity", comb, "G unfav, heel load off")
         assert ce["effect"] == pytest.approx(e, rel=0.01, abs=2e-3)
-        assert ce["resistance"] == pytest.approx(B / 3, rel=1e-6, abs=1e-3)
+        assert ce["resistance"] == pytest.approx(p["section"]["base_width_m"] / 3,
+                                                 rel=1e-6, abs=1e-3)
 
 
 def test_every_ok_panel_is_within_its_checks(designed):
@@ -177,25 +190,9 @@ def test_stem_bending_and_shear(designed, comb, g_phi, gG, gQ):
 
 @pytest.mark.parametrize("comb,g_phi,gQ", [("DA1-1", 1.0, 1.5), ("DA1-2", 1.25, 1.3)])
 def test_bearing_g_fav_heel_load_on(designed, comb, g_phi, gQ):
-    # favourable permanent actions (gG_fav = 1.0) with the heel load q on the plan width
-    # from the stem's back face at z_top to x = B (design-basis section 4)
+    # favourable permanent actions (gG_fav = 1.0) with the heel load on
     for p in designed["panels"]:
-        w, H, B = parts(p)
-        s, lv = p["section"], p["levels"]
-        k = ka(phi_d(35.0, g_phi))
-        pa, pq = 0.5 * k * 20.0 * H ** 2, k * 10.0 * H
-        bq = B - s["toe_m"] - s["stem_top_m"]
-        Q, xq = gQ * 10.0 * bq, B - bq / 2
-        gG = 1.35 if comb == "DA1-1" else 1.0  # thrusts at their unfavourable factors
-        V = sum(v for v, _ in w) + Q
-        Hh = gG * pa + gQ * pq
-        M = sum(v * x for v, x in w) + Q * xq - gG * pa * H / 3 - gQ * pq * H / 2
-        e = abs(B / 2 - M / V)
-        Bp = B - 2 * e
-        D = lv["front_min_m"] - lv["founding_m"]
-        nq, ng = annex_d(phi_d(30.0, g_phi))
-        iq, ig = (1 - Hh / V) ** 2, (1 - Hh / V) ** 3
-        R = Bp * (19.0 * D * nq * iq + 0.5 * 19.0 * Bp * ng * ig)
+        V, _, R = bearing_by_hand(p, comb, g_phi, gQ, 1.0, heel_load=True)
         c = check(p, "bearing", comb, "G fav, heel load on, drained")
         assert c["effect"] == pytest.approx(V, rel=0.005)
         assert c["resistance"] == pytest.approx(R, rel=0.01)

@@ -151,13 +151,7 @@ def conditions_of(t_base, z_top, z_front, ground: sizing.Demand) -> Conditions:
     zfr = np.asarray(z_front, dtype=float)
     z_found = panels.founding_level(zfr, tb, ground.min_founding_depth_m,
                                     ground.founding_step_m)
-    level = None
-    w = ground.water
-    if w is not None:
-        if w.level_m is not None:
-            level = float(w.level_m)
-        elif w.height_above_base_m is not None:
-            level = z_found + float(w.height_above_base_m)
+    level = sizing.water_level(ground.water, z_found)
     return Conditions(z_top=np.asarray(z_top, dtype=float), z_front=zfr, z_found=z_found,
                       backfill=ground.backfill, foundation=ground.foundation,
                       surcharge_kpa=float(ground.surcharge_kpa), water_level_m=level)
@@ -197,6 +191,16 @@ def _structure(allx, sec, h_c, basis, idx, acts, qp, stem_moment_at=None):
                                           stem_height_m=h_c[idx])
 
 
+def _stability_of(sec: SectionArrays, z_top, z_front, ground: sizing.Demand, basis: Basis):
+    """Conditions, every stability action and check, the sections that do not close,
+    and the checked stem height (top of base to z_top, m) of joined candidates."""
+    cond = conditions_of(sec.base_thickness_m, z_top, z_front, ground)
+    allx = stability.evaluate_all(sec, cond, basis)
+    tb = np.asarray(sec.base_thickness_m, dtype=float)
+    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - tb
+    return cond, allx, allx.ctx.bad(), h_c
+
+
 def evaluate_search(sec: SectionArrays, z_top, z_front, top, seg: np.ndarray,
                     complete: np.ndarray, ground: sizing.Demand, basis: Basis, rates):
     """(ok, cost, utilization) of joined candidates, as ``sizing.evaluate(curtail=False,
@@ -209,11 +213,7 @@ def evaluate_search(sec: SectionArrays, z_top, z_front, top, seg: np.ndarray,
     ``complete`` and no candidate passing has the structure of all its candidates
     designed too (complete utilizations for the descent)."""
     n = len(sec)
-    cond = conditions_of(sec.base_thickness_m, z_top, z_front, ground)
-    allx = stability.evaluate_all(sec, cond, basis)
-    bad = allx.ctx.bad()
-    tb = np.asarray(sec.base_thickness_m, dtype=float)
-    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - tb
+    cond, allx, bad, h_c = _stability_of(sec, z_top, z_front, ground, basis)
     u_stab = sizing._max_util(allx.checks, n)
     util = u_stab.copy()
     steel = np.full(n, np.nan)
@@ -256,11 +256,7 @@ def evaluate_full(sec: SectionArrays, z_top, z_front, top, ground: sizing.Demand
     candidate. Candidate i of the result is candidate i of ``sizing.evaluate`` at its
     own demand."""
     n = len(sec)
-    cond = conditions_of(sec.base_thickness_m, z_top, z_front, ground)
-    allx = stability.evaluate_all(sec, cond, basis)
-    bad = allx.ctx.bad()
-    tb = np.asarray(sec.base_thickness_m, dtype=float)
-    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - tb
+    cond, allx, bad, h_c = _stability_of(sec, z_top, z_front, ground, basis)
     M_stem = sizing._stem_moment_table(allx, sec, cond)
     sr = structure.design_reinforcement(sec, allx.member_actions(), allx.qp(), basis,
                                         stem_moment_at=M_stem(None), stem_height_m=h_c)

@@ -128,10 +128,9 @@ def water_level_used(demand: sizing.Demand, d: sizing.SizedDesign, beta_deg: flo
     is capped at the backfill surface at the virtual back x = B, which rises at beta
     from the back face of the stem at z_top. None for a drained wall.
     """
-    if demand.water is None:
+    level = sizing.water_level(demand.water, d.z_found)
+    if level is None:
         return None
-    w = demand.water
-    level = w.level_m if w.level_m is not None else d.z_found + w.height_above_base_m
     s = d.section
     surface = demand.z_top + (s.base_width_m - s.toe_m - s.stem_top_m) * math.tan(
         math.radians(beta_deg))

@@ -78,6 +78,19 @@ class Demand:
                 self.min_founding_depth_m, self.founding_step_m)
 
 
+def water_level(water: Water | None, z_found):
+    """Absolute water level behind the wall before capping, m (design-basis 3):
+    ``level_m``, or the underside of the base ``z_found`` (float or array) plus
+    ``height_above_base_m``; None for a drained wall."""
+    if water is None:
+        return None
+    if water.level_m is not None:
+        return float(water.level_m)
+    if water.height_above_base_m is not None:
+        return z_found + float(water.height_above_base_m)
+    return None
+
+
 def conditions_for(demand: Demand, t_base) -> Conditions:
     """Conditions of ``demand`` for candidates of base thickness ``t_base`` (m, float or
     array (n,)): z_found = ``panels.founding_level`` (design-basis section 1), and the
@@ -88,13 +101,7 @@ def conditions_for(demand: Demand, t_base) -> Conditions:
                                     demand.founding_step_m)
     if tb.ndim == 0:
         z_found = float(z_found)
-    level = None
-    w = demand.water
-    if w is not None:
-        if w.level_m is not None:
-            level = float(w.level_m)
-        elif w.height_above_base_m is not None:
-            level = z_found + float(w.height_above_base_m)
+    level = water_level(demand.water, z_found)
     return Conditions(z_top=float(demand.z_top), z_front=float(demand.z_front), z_found=z_found,
                       backfill=demand.backfill, foundation=demand.foundation,
                       surcharge_kpa=float(demand.surcharge_kpa), water_level_m=level)
