@@ -14,7 +14,7 @@ import sys
 import traceback
 from pathlib import Path
 
-from wallrun import __version__
+from wallrun import __version__, memory
 from wallrun.errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_FLAGGED = 0, 1, 2, 3
@@ -47,6 +47,7 @@ def _parser() -> argparse.ArgumentParser:
 
 def main(argv=None) -> int:
     """Run the command line; returns the exit status."""
+    memory.tune_allocator()
     parser = _parser()
     try:
         args = parser.parse_args(argv)
