@@ -110,3 +110,86 @@ def test_key_and_long_bars():
     hor = _by(rows, "stem_horizontal")
     assert hor[0].length_mm == bars.round_up((13900 + float(ec2.lap_length(10, 32))) / 2)
     assert all(b.length_mm <= 12000 for b in rows)
+
+
+# --- the array forms give the numbers of the per-value formulas --------------------------
+
+import math  # noqa: E402
+
+import numpy as np  # noqa: E402
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+# halves at the last kept decimal (2.675 is stored just below the half), exact binary
+# halves (0.125), noise just either side of a half, zero, negatives, huge and non-finite
+EDGES = [2.675, 0.125, 0.375, 1.0000005, 1.0000015, 2.5e-7, -2.675, -0.0, 0.0, 1e15, 1e300,
+         123456.0005, 7.0000004999999, 7.0000005000001, float("inf"), float("-inf"), float("nan")]
+
+
+def _same(a, b):
+    return (math.isnan(a) and math.isnan(b)) or (a == b and math.copysign(1, a) == math.copysign(1, b))
+
+
+@pytest.mark.parametrize("nd", [0, 1, 2, 3, 6])
+def test_round_like_builtin_edges(nd):
+    got = bars.round_like_builtin(EDGES, nd).tolist()
+    assert all(_same(g, round(x, nd)) for g, x in zip(got, EDGES))
+
+
+@settings(max_examples=50, deadline=None)
+@given(st.lists(st.floats(allow_nan=True, allow_infinity=True), min_size=1, max_size=200),
+       st.sampled_from([1, 2, 3, 6]))
+def test_round_like_builtin_any(values, nd):
+    got = bars.round_like_builtin(values, nd).tolist()
+    assert all(_same(g, round(x, nd)) for g, x in zip(got, values))
+
+
+@settings(max_examples=50, deadline=None)
+@given(st.lists(st.floats(0.0, 20000.0), min_size=1, max_size=100), st.sampled_from([25.0, 50.0]))
+def test_round_up_many_both_kinds(values, step):
+    # a 6-decimal half after dividing by the step is where numpy and the builtin disagree
+    values = values + [step * 1.0000005, step * 151.0000005, step * 3.0000015]
+    assert bars.round_up_many(values, step).tolist() == [bars.round_up(v, step) for v in values]
+    as_np = [bars.round_up(np.float64(v), step) for v in values]
+    assert bars.round_up_many(values, step, True).tolist() == as_np
+
+
+def _plain_stem_lengths(section, panel, spacing, l0, cv=50.0):
+    """The per-bar rule of the module docstring, one bar at a time (numpy scalars as the
+    drawn heights come from an array), and the starter projection above the base."""
+    base_top = panel.founding_m + section.base_thickness_m
+    hs = max((panel.retained_top_m - base_top) * 1000.0, 0.0)
+    h0 = (panel.wall_top_start_m - base_top) * 1000.0
+    h1 = (panel.wall_top_end_m - base_top) * 1000.0
+    L = panel.length_m * 1000.0
+    n = bars.n_along(L, cv, spacing)
+    hloc = h0 + (h1 - h0) * np.clip((cv + np.arange(n) * spacing) / L, 0, 1)
+    dt = (section.stem_base_m - section.stem_top_m) * 1000.0
+    step = 25.0 if h0 == h1 else 50.0
+    out = []
+    for h in hloc:
+        taper = math.hypot(min(hs, h), dt) - min(hs, h)
+        out.append(bars.round_up(max(h - cv, 0.0) + taper, step))
+    return out, min(l0, max(float(hloc.min()) - cv, 0.0))
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(48.95, 56.0), st.floats(49.0, 56.0), st.floats(2.0, 14.0),
+       st.sampled_from([100, 150, 200]))
+def test_stem_bars_match_the_per_bar_rule(top_start, top_end, length, spacing):
+    top_start, top_end = round(top_start, 3), round(top_end, 3)
+    p = replace(PANEL, ch_end_m=100.0 + round(length, 3), wall_top_start_m=top_start,
+                wall_top_end_m=top_end, retained_top_m=min(top_start, top_end))
+    r = replace(R, stem=_b(16, spacing), stem_front=_b(12, spacing))
+    rows = bars.panel_bars("S09", SEC, r, p, BASIS)
+    l0 = float(ec2.lap_length(16.0, 32.0, 500.0, True))
+    lengths, proj = _plain_stem_lengths(SEC, p, float(spacing), l0)
+    expect = {}
+    for Lb in lengths:
+        if Lb > proj:  # bars only where the stem rises above the starters
+            pieces, piece = bars.split_run(Lb, l0)
+            key = bars.cutting_length("00", 16.0, {"A": int(math.ceil(piece))})
+            expect[key] = expect.get(key, 0) + pieces
+    got = {}
+    for b in _by(rows, "stem", "00"):
+        got[b.length_mm] = got.get(b.length_mm, 0) + b.number
+    assert got == expect

@@ -29,12 +29,16 @@ Detailing rules (wallrun's, common practice; every length in mm):
   distribution bar in the bends.
 - Number along the panel = floor((L - 2 cover) / spacing) + 1, end covers
   ``concrete.cover_mm`` at both joints.
+
+The bars of a row of equal spacing (stem bars, horizontal rows) are computed as arrays;
+the array forms give exactly the numbers of the per-value formulas above.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import replace
+from functools import lru_cache
 
 import numpy as np
 
@@ -56,6 +60,39 @@ def round_up(x: float, step: float = 25.0) -> int:
     return int(math.ceil(round(x / step, 6)) * step)
 
 
+def round_like_builtin(values, nd: int) -> np.ndarray:
+    """``round(x, nd)`` of every value (nd >= 0), as a float array, without a Python call per
+    value: ``rint(x 10^nd) / 10^nd`` is the same double as the builtin's correctly rounded
+    result wherever x 10^nd is not within rounding noise of a half; those few values (and
+    huge or non-finite ones) are redone by the builtin."""
+    a = np.array(values, dtype=float)
+    scale = 10.0 ** nd
+    with np.errstate(over="ignore", invalid="ignore"):  # huge values: redone below
+        y = a * scale
+        out = np.rint(y) / scale
+        unsure = ~((np.abs(y - np.floor(y) - 0.5) > 1e-6) & (np.abs(y) < 1e9))
+    for i in np.flatnonzero(unsure).tolist():
+        out[i] = round(float(a[i]), nd)
+    return out
+
+
+def round_up_many(x, step: float = 25.0, numpy_scalar=None) -> np.ndarray:
+    """``round_up`` of every value of x, as an int64 array of the same numbers.
+
+    ``round_up`` of a numpy scalar rounds x / step to 6 decimals the way numpy does
+    (``np.round``), which differs from the builtin's rounding of a Python float in the
+    last decimal now and then: ``numpy_scalar`` (a boolean mask, or True for all) marks
+    the values that the per-value formula met as numpy scalars."""
+    y = np.asarray(x, dtype=float) / step
+    if numpy_scalar is None or numpy_scalar is False:
+        r = round_like_builtin(y, 6)
+    elif numpy_scalar is True:
+        r = np.round(y, 6)
+    else:
+        r = np.where(numpy_scalar, np.round(y, 6), round_like_builtin(y, 6))
+    return (np.ceil(r) * step).astype(np.int64)
+
+
 def cutting_length(shape_code: str, phi: float, dims: dict[str, float]) -> int:
     """Cutting length by the BS 8666 formula of the shape code, rounded up to 25 mm."""
     r = bend_radius(phi)
@@ -70,9 +107,26 @@ def cutting_length(shape_code: str, phi: float, dims: dict[str, float]) -> int:
     return round_up(L)
 
 
+@lru_cache(maxsize=None)
+def _mass_per_m(phi: float) -> float:
+    return float(ec2.mass_per_m(phi))
+
+
 def mass_kg(phi: float, length_mm: float, number: int) -> float:
     """Mass of ``number`` bars of length_mm, kg (pi/4 phi^2 x 7850 kg/m3)."""
-    return float(ec2.mass_per_m(phi)) * length_mm / 1000.0 * number
+    return _mass_per_m(phi) * length_mm / 1000.0 * number
+
+
+# The anchorage and lap lengths of a bar size repeat on every panel: computed once per
+# (phi, fck, fyk, bond) and reused (pure functions of their arguments).
+@lru_cache(maxsize=None)
+def _lbd(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
+    return float(ec2.anchorage_length(phi, fck, fyk, good_bond))
+
+
+@lru_cache(maxsize=None)
+def _l0(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
+    return float(ec2.lap_length(phi, fck, fyk, good_bond))
 
 
 def _mark(section: str, member: str, phi: float, shape: str, dims: dict[str, float], number: int) -> BarMark:
@@ -119,9 +173,16 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     front = r.stem_front if r.stem_front is not None else r.stem_horizontal
     out: list[BarMark] = []
 
-    def stem_len(h_local):  # along the tapered back face up to the top less cover
-        taper = math.hypot(min(hs_checked, h_local), t_bot - t_top) - min(hs_checked, h_local)
-        return max(h_local - cv, 0.0) + taper
+    dt = t_bot - t_top
+
+    def stem_lengths(hloc, step):  # along the tapered back face up to the top less cover
+        m = np.minimum(hs_checked, hloc)
+        uniq, inv = np.unique(m, return_inverse=True)  # few distinct: one hypot each
+        hyp = np.array([math.hypot(v, dt) for v in uniq.tolist()])[inv.reshape(-1)]
+        # the per-bar sum is a Python float only where both max() and min() give their
+        # Python-float argument: a stem lower than the cover and not lower than hs
+        as_float = (hloc - cv < 0.0) & ~(hloc < hs_checked)
+        return round_up_many(np.maximum(hloc - cv, 0.0) + (hyp - m), step, ~as_float)
 
     def heights(spacing):  # local drawn stem height at each bar position along the panel
         n = n_along(L, cv, spacing)
@@ -131,46 +192,45 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     embed = starter_embedment_mm(tb, cg, r.toe.bar_mm, r.base_distribution.bar_mm)
     for member, bs, curtail in (("stem", r.stem, r.stem_curtail_m), ("stem_front", front, None)):
         phi, s = float(bs.bar_mm), float(bs.spacing_mm)
-        lbd = float(ec2.anchorage_length(phi, fck, fyk, True))
-        l0 = float(ec2.lap_length(phi, fck, fyk, True))
+        lbd = _lbd(phi, fck, fyk, True)
+        l0 = _l0(phi, fck, fyk, True)
         foot = float(starter_foot_mm(phi, lbd, embed))
         hloc = heights(s)
         n = len(hloc)
         proj = min(l0, max(float(hloc.min()) - cv, 0.0))
         out.append(_mark(section_type, member, phi, "11", {"A": embed + proj, "B": foot}, n))
-        lengths = np.array([stem_len(h) for h in hloc])
-        step = 25.0 if h0 == h1 else 50.0
-        lengths = np.array([round_up(x, step) for x in lengths])
+        lengths = stem_lengths(hloc, 25.0 if h0 == h1 else 50.0)
         keep = lengths > proj  # bars only where the stem rises above the starters
-        idx = np.arange(n)
         if curtail is not None:
             stop = curtail * 1000.0
-            short = (idx % 2 == 1) & keep & (lengths > stop)
+            short = (np.arange(n) % 2 == 1) & keep & (lengths > stop)
             if stop > proj:
                 k = int(short.sum())
                 if k:
                     out.append(_mark(section_type, member, phi, "00", {"A": round_up(stop)}, k))
             keep = keep & ~short
-        for Lb in sorted(set(lengths[keep].tolist())):
-            cnt = int(np.sum(keep & (lengths == Lb)))
+        kept, counts = np.unique(lengths[keep], return_counts=True)  # sorted lengths
+        for Lb, cnt in zip(kept.tolist(), counts.tolist()):
             pieces, piece = split_run(Lb, l0)
             out.append(_mark(section_type, member, phi, "00", {"A": piece}, cnt * pieces))
 
     # stem horizontal bars, each face
     hb = r.stem_horizontal
     phi, s = float(hb.bar_mm), float(hb.spacing_mm)
-    l0 = float(ec2.lap_length(phi, fck, fyk, True))
+    l0 = _l0(phi, fck, fyk, True)
     hmax = max(h0, h1)
     n_rows = n_along(hmax, cv, s)
     row_z = cv + np.arange(n_rows) * s
+    full = L - 2 * cv
+    if h0 == h1:
+        exts = [full] * n_rows
+    else:  # the part of the panel where the stem top stands above z + cover
+        lo_h, hi_h = min(h0, h1), max(h0, h1)
+        frac = np.clip((hi_h - cv - row_z) / (hi_h - lo_h), 0.0, 1.0)
+        part = round_up_many(np.maximum(frac * L - cv, 0.0), 50.0).tolist()
+        exts = [full if f >= 1.0 else e for f, e in zip(frac.tolist(), part)]
     run = {}
-    for z in row_z:
-        if h0 == h1:
-            ext = L - 2 * cv
-        else:  # the part of the panel where the stem top stands above z + cover
-            lo_h, hi_h = min(h0, h1), max(h0, h1)
-            frac = float(np.clip((hi_h - cv - z) / (hi_h - lo_h), 0.0, 1.0))
-            ext = L - 2 * cv if frac >= 1.0 else round_up(max(frac * L - cv, 0.0), 50.0)
+    for ext in exts:
         if ext > 0:
             run[ext] = run.get(ext, 0) + 2
     for ext, cnt in sorted(run.items()):
@@ -182,7 +242,7 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
                          n_along(L, cv, bs.spacing_mm)))
     db = r.base_distribution
     phi = float(db.bar_mm)
-    l0 = float(ec2.lap_length(phi, fck, fyk, False))  # top mat in poor bond: used for both mats
+    l0 = _l0(phi, fck, fyk, False)  # top mat in poor bond: used for both mats
     out += _straight_runs(section_type, "base_distribution", phi, L - 2 * cv, l0,
                           2 * n_along(B, cv, db.spacing_mm))
 
@@ -196,7 +256,7 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
                          n_along(L, cv, r.toe.spacing_mm)))
         phi_d = float(db.bar_mm)
         out += _straight_runs(section_type, "key", phi_d, L - 2 * cv,
-                              float(ec2.lap_length(phi_d, fck, fyk, True)), 2)
+                              _l0(phi_d, fck, fyk, True), 2)
     return out
 
 
