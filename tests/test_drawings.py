@@ -345,3 +345,25 @@ def test_long_wall_is_fast(tmp_path):
     assert elapsed < 6.0, elapsed  # a couple of seconds on a quiet machine
     doc, msp = _read(tmp_path / "elevation.dxf")
     assert len(msp.query(f'LINE[layer=="{d.L_JOINTS}"]')) == len(r.joints)
+
+
+# --- fast writing --------------------------------------------------------------------
+
+@pytest.mark.parametrize("name", ["elevation.dxf", "sections.dxf", "plan.dxf"])
+def test_fast_writer_matches_ezdxf_byte_for_byte(out, name, monkeypatch):
+    """drafting.document_text writes the same text as ezdxf's own doc.write."""
+    import io
+    monkeypatch.setattr(ezdxf.options, "write_fixed_meta_data_for_testing", True)
+    doc = ezdxf.readfile(str(out / name))
+    s = io.StringIO()
+    doc.write(s)
+    assert d.document_text(doc) == s.getvalue()
+
+
+def test_saved_file_is_what_ezdxf_writes(tmp_path, result, monkeypatch):
+    """The file save_document writes equals doc.saveas of the same document."""
+    monkeypatch.setattr(ezdxf.options, "write_fixed_meta_data_for_testing", True)
+    write_sections(result, tmp_path / "s.dxf")
+    doc = d.saved_document(tmp_path / "s.dxf")
+    doc.saveas(str(tmp_path / "ref.dxf"))
+    assert (tmp_path / "s.dxf").read_bytes() == (tmp_path / "ref.dxf").read_bytes()

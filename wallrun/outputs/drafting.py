@@ -239,11 +239,12 @@ def save_document(doc, path) -> None:
     """Save ``doc`` to ``path`` and keep the document object for the previews, keyed by
     the resolved path with the file's modification time and size, so that
     :func:`saved_document` hands back exactly what the file holds without parsing it
-    again (reading a long drawing back costs more than writing it)."""
+    again (reading a long drawing back costs more than writing it). The file is the
+    one ``doc.saveas`` writes, written by the faster :func:`write_document`."""
     import os
     from pathlib import Path
 
-    doc.saveas(str(path))
+    write_document(doc, path)
     key = str(Path(path).resolve())
     st = os.stat(key)
     _SAVED[key] = (doc, st.st_mtime_ns, st.st_size)
@@ -458,3 +459,230 @@ def tick_values(a: float, b: float, step: float) -> np.ndarray:
     k0 = math.ceil(a / step - 1e-9)
     k1 = math.floor(b / step + 1e-9)
     return np.arange(k0, k1 + 1) * step
+
+
+# --- fast DXF writing ------------------------------------------------------------------
+#
+# ezdxf writes each entity through a generic per-attribute routine (a dozen look-ups
+# and checks per attribute, for every attribute the type knows, set or not), which is
+# most of the time of saving a drawing of tens of thousands of entities. The writer
+# below produces the same text for the entity types wallrun draws (LINE, CIRCLE,
+# LWPOLYLINE, TEXT, MTEXT, INSERT and linear DIMENSION) from their set attributes with
+# the same rules (a required attribute unset is written with its default; an optional
+# one equal to its default is left out; values cast by group code), and hands every
+# other entity, the BLOCK/ENDBLK markers, the header, tables and objects to ezdxf.
+# tests/test_drawings.py checks that the file is the same byte for byte.
+
+_ACDB_ENTITY = ["paperspace", "layer", "linetype", "material_handle", "color",
+                "lineweight", "ltscale", "invisible", "true_color", "color_name",
+                "transparency", "plotstyle_enum", "plotstyle_handle", "shadow_mode",
+                "visualstyle_handle"]
+
+#: dxftype -> list of (subclass marker or None, attribute names) written in order.
+_PLANS = {
+    "LINE": [("AcDbLine", ["start", "end", "thickness", "extrusion"])],
+    "CIRCLE": [("AcDbCircle", ["center", "radius", "thickness", "extrusion"])],
+    "TEXT": [("AcDbText", ["insert", "height", "text", "thickness", "rotation", "oblique",
+                           "style", "width", "text_generation_flag", "halign",
+                           "align_point", "extrusion"]),
+             ("AcDbText", ["valign"])],
+    "INSERT": [(None, ["name", "insert", "xscale", "yscale", "zscale", "rotation",
+                       "column_count", "row_count", "column_spacing", "row_spacing",
+                       "extrusion"])],
+    "LWPOLYLINE": [("AcDbPolyline", ["count", "flags", "const_width", "elevation",
+                                     "thickness"])],
+    "MTEXT": [("AcDbMText", ["insert", "char_height", "width", "defined_height",
+                             "attachment_point", "flow_direction"])],
+    "DIMENSION": [("AcDbDimension", ["version", "geometry", "dimstyle", "defpoint",
+                                     "text_midpoint", "insert", "dimtype",
+                                     "attachment_point", "line_spacing_style",
+                                     "line_spacing_factor", "actual_measurement",
+                                     "unknown1", "flip_arrow_1", "flip_arrow_2", "text",
+                                     "oblique_angle", "text_rotation",
+                                     "horizontal_direction", "extrusion"]),
+                  ("AcDbAlignedDimension", ["defpoint2", "defpoint3", "angle"]),
+                  ("AcDbRotatedDimension", [])],
+}
+_MTEXT_TAIL = ["style", "extrusion", "text_direction", "rect_width", "rect_height",
+               "rotation", "line_spacing_style", "line_spacing_factor", "box_fill_scale",
+               "bg_fill", "bg_fill_color", "bg_fill_true_color", "bg_fill_color_name",
+               "bg_fill_transparency"]
+#: dxftype -> the ezdxf class written here (not its subclasses, e.g. ATTRIB of TEXT).
+_CLASSES = {"LINE": "Line", "CIRCLE": "Circle", "TEXT": "Text", "INSERT": "Insert",
+            "LWPOLYLINE": "LWPolyline", "MTEXT": "MText", "DIMENSION": "Dimension"}
+_COMPILED: dict = {}
+
+
+def _compile(entity, names, dxfversion):
+    """(name, code, optional, default, kind, cast) for the attributes ``names`` of the
+    entity's class that the DXF version has; kind 2: 2D point, 3: point, 0: value."""
+    from ezdxf.lldxf.attributes import XType
+    from ezdxf.lldxf.types import BINARY_DATA, POINT_CODES, TYPE_TABLE
+
+    out = []
+    for name in names:
+        a = entity.dxf.dxfattribs.get(name)
+        if dxfversion < a.dxfversion:
+            continue
+        if a.code in BINARY_DATA:
+            raise TypeError("binary attribute")
+        kind = (2 if a.xtype == XType.point2d else 3) if a.code in POINT_CODES else 0
+        out.append((name, a.code, a.optional, a.default, kind, TYPE_TABLE.get(a.code, str)))
+    return out
+
+
+def _plan(entity, dxfversion):
+    """The compiled export plan of the entity's class (made once per class)."""
+    key = (type(entity), dxfversion)
+    plan = _COMPILED.get(key)
+    if plan is None:
+        t = entity.dxftype()
+        plan = {"entity": _compile(entity, _ACDB_ENTITY, dxfversion),
+                "parts": [(m, _compile(entity, names, dxfversion)) for m, names in _PLANS[t]]}
+        if t == "MTEXT":
+            plan["tail"] = _compile(entity, _MTEXT_TAIL, dxfversion)
+        _COMPILED[key] = plan
+    return plan
+
+
+def _put(out, values: dict, compiled) -> None:
+    """Append the tags of ``compiled`` attributes of ``values`` (ezdxf's rules)."""
+    for name, code, optional, default, kind, cast in compiled:
+        v = values.get(name)
+        if v is None:
+            if optional:
+                continue
+            v = default
+            if v is None:
+                continue
+        elif optional and default is not None and default == v:
+            continue
+        if kind:
+            comps = (v[0], v[1]) if kind == 2 and len(v) > 2 else v
+            for i, c in enumerate(comps):
+                out.append("%3d\n%s\n" % (code + 10 * i, float(c)))
+        else:
+            out.append("%3d\n%s\n" % (code, cast(v)))
+
+
+def _fast_entity(e, out, dxfversion) -> bool:
+    """Append the DXF text of ``e`` to ``out``; False (nothing appended) for an entity
+    this writer leaves to ezdxf."""
+    t = e.dxftype()
+    if (type(e).__name__ != _CLASSES.get(t) or e.appdata or e.has_extension_dict
+            or getattr(e, "proxy_graphic", None)):
+        return False
+    if t == "INSERT" and (e.attribs_follow or e.attribs):
+        return False
+    if t == "MTEXT" and e._columns is not None:
+        return False
+    if t == "DIMENSION" and e.dimtype != 0:
+        return False
+    values = e.dxf.__dict__
+    plan = _plan(e, dxfversion)
+    mark = len(out)
+    out.append("  0\n%s\n  5\n%s\n" % (t, values["handle"]))
+    if e.reactors:
+        out.append("102\n{ACAD_REACTORS\n")
+        out.extend("330\n%s\n" % h for h in e.reactors.get())
+        out.append("102\n}\n")
+    out.append("330\n%s\n100\nAcDbEntity\n" % values.get("owner", "0"))
+    _put(out, values, plan["entity"])
+    for marker, compiled in plan["parts"]:
+        if marker is None:  # INSERT: block reference or grid of them
+            grid = values.get("column_count", 1) > 1 or values.get("row_count", 1) > 1
+            marker = "AcDbMInsertBlock" if grid else "AcDbBlockReference"
+        out.append("100\n%s\n" % marker)
+        if t == "LWPOLYLINE":
+            if not len(e.lwpoints):
+                del out[mark:]
+                return True  # ezdxf writes no polyline without vertices either
+            _put(out, {**values, "count": len(e.lwpoints)}, compiled)
+            for x, y, sw, ew, b in e.lwpoints:
+                out.append(" 10\n%s\n 20\n%s\n" % (x, y))
+                if sw or ew:
+                    out.append(" 40\n%s\n 41\n%s\n" % (sw, ew))
+                if b:
+                    out.append(" 42\n%s\n" % b)
+            _put(out, values, _compile(e, ["extrusion"], dxfversion))
+            continue
+        _put(out, values, compiled)
+        if t == "MTEXT":
+            from ezdxf.entities.mtext import escape_dxf_line_endings, split_mtext_string
+            chunks = split_mtext_string(escape_dxf_line_endings(e.text), size=250) or [""]
+            out.extend("  3\n%s\n" % c for c in chunks[:-1])
+            out.append("  1\n%s\n" % chunks[-1])
+            _put(out, values, plan["tail"])
+    if e.xdata:
+        _ezdxf_tags(out, e.xdata.export_dxf, dxfversion)
+    return True
+
+
+class _ListWriter:
+    """A tag writer appending DXF text to a list (ezdxf's TagWriter on a list)."""
+
+    def __init__(self, out, dxfversion):
+        from ezdxf.lldxf.tagwriter import TagWriter
+
+        self.w = TagWriter(self, dxfversion=dxfversion)
+        self.write = out.append
+
+
+def _ezdxf_tags(out, export, dxfversion) -> None:
+    """Append what ezdxf's ``export(tagwriter)`` writes to ``out``."""
+    export(_ListWriter(out, dxfversion).w)
+
+
+def document_text(doc) -> str:
+    """The DXF text of ``doc``, as ``doc.write`` makes it, with the entities of the
+    BLOCKS and ENTITIES sections written by the fast writer above."""
+    from ezdxf.lldxf.const import DXF12
+
+    if doc.dxfversion == DXF12:  # wallrun writes R2013; anything else goes to ezdxf
+        import io
+        s = io.StringIO()
+        doc.write(s)
+        return s.getvalue()
+    doc.commit_pending_changes()
+    doc.classes.add_required_classes(doc.dxfversion)
+    doc.update_all()
+    v = doc.dxfversion
+    out: list[str] = []
+    tw = _ListWriter(out, v).w
+    doc.header.export_dxf(tw)
+    doc.classes.export_dxf(tw)
+    doc.tables.export_dxf(tw)
+
+    def entities(space):
+        for e in space:
+            if not _fast_entity(e, out, v):
+                e.export_dxf(tw)
+
+    out.append("  0\nSECTION\n  2\nBLOCKS\n")
+    for br in doc.blocks.block_records:
+        if br.block_layout is not None:
+            br.block_layout.update_block_flags()
+        br.block.export_dxf(tw)
+        if not (br.is_modelspace or br.is_active_paperspace):
+            entities(br.entity_space)
+        br.endblk.export_dxf(tw)
+    out.append("  0\nENDSEC\n")
+    out.append("  0\nSECTION\n  2\nENTITIES\n")
+    entities(doc.layouts.modelspace().entity_space)
+    entities(doc.layouts.active_layout().entity_space)
+    out.append("  0\nENDSEC\n")
+    doc.objects.export_dxf(tw)
+    if doc.acdsdata.is_valid:
+        doc.acdsdata.export_dxf(tw)
+    for section in doc.stored_sections:
+        section.export_dxf(tw)
+    out.append("  0\nEOF\n")
+    return "".join(out)
+
+
+def write_document(doc, path) -> None:
+    """Save ``doc`` to ``path`` as ``doc.saveas`` does (same text, same encoding),
+    written by :func:`document_text`."""
+    doc.filename = str(path)
+    with open(str(path), "wt", encoding=doc.output_encoding, errors="dxfreplace") as f:
+        f.write(document_text(doc))
