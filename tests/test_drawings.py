@@ -367,3 +367,13 @@ def test_saved_file_is_what_ezdxf_writes(tmp_path, result, monkeypatch):
     doc = d.saved_document(tmp_path / "s.dxf")
     doc.saveas(str(tmp_path / "ref.dxf"))
     assert (tmp_path / "s.dxf").read_bytes() == (tmp_path / "ref.dxf").read_bytes()
+
+
+def test_audit_finds_a_block_reference_cycle():
+    """The quicker block-cycle check of the audit still finds a block inserting itself."""
+    doc = d.new_document(100)
+    blk = doc.blocks.new("LOOP")
+    blk.add_blockref("LOOP", (0, 0))
+    doc.modelspace().add_blockref("LOOP", (0, 0))
+    with pytest.raises(RuntimeError, match="cycle"):
+        d.audit_or_raise(doc, "loop.dxf")
