@@ -41,7 +41,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from wallrun import panels, sizing, stability, structure, takeoff
+from wallrun import panels, sizing, stability, structure, takeoff, workers
 from wallrun.conditions import Conditions
 from wallrun.members import MemberActions
 from wallrun.section import Section, SectionArrays
@@ -68,17 +68,7 @@ class _Store(sizing._Search):
 
     def prepare(self, v: np.ndarray):
         """The new valid candidates of ``v`` (sorted by code, as ``_Search.run``)."""
-        v = np.asarray(v, dtype=np.int64).reshape(-1, _NDIM)
-        if not len(v):
-            return v, np.zeros(0, dtype=np.int64)
-        v = v[self.bounds.valid(v)]
-        codes = sizing._codes(v)
-        codes, first = np.unique(codes, return_index=True)
-        v = v[first]
-        if len(self.codes):
-            new = ~np.isin(codes, self.codes, assume_unique=True)
-            v, codes = v[new], codes[new]
-        return v, codes
+        return self.fresh(v)
 
     def commit(self, v, codes, ok, cost, util) -> None:
         self.evaluated += len(v)
@@ -112,14 +102,24 @@ def _local(s: _Store, start, radius: int = 1, max_iter: int = 60, extra=None,
         yield from _run(s, cand)
 
 
-def _search(s: _Store, starts, stride: int, n_seeds: int, warm_polish: bool,
-            first_full: bool | None = None):
+def _best_first(s: _Store, demand: sizing.Demand, rates, v, m: int):
+    """Generator form of ``_Search.run_best_first`` (the cold start's coarse grid in
+    increasing lower bound of the cost, until its m cheapest passing are known)."""
+    v, _ = s.prepare(v)
+    if len(v):
+        lb = sizing.lower_bound_cost(s.bounds.sections(v), demand, rates)
+        for part in sizing.best_first(s, v, lb, m):
+            yield from _run(s, part, prune=False)
+
+
+def _search(s: _Store, demand: sizing.Demand, rates, starts, stride: int, n_seeds: int,
+            warm_polish: bool, first_full: bool | None = None):
     """The search of ``sizing.Designer._design`` (warm start, else cold start)."""
     if starts:
         yield from _local(s, starts[0], extra=np.array(starts), polish=warm_polish,
                           first_full=first_full)
     if s.best() is None:
-        yield from _run(s, sizing.grid(s.bounds, stride))
+        yield from _best_first(s, demand, rates, sizing.grid(s.bounds, stride), n_seeds)
         for v in s.seeds(n_seeds):
             yield from _local(s, v)
 
@@ -201,6 +201,42 @@ def _stability_of(sec: SectionArrays, z_top, z_front, ground: sizing.Demand, bas
     return cond, allx, allx.ctx.bad(), h_c
 
 
+_SECTION_FIELDS = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "base_thickness_m",
+                   "key_depth_m", "key_width_m")
+
+
+def _checked(arrays: dict, ground: sizing.Demand, basis: Basis, rates, complete: bool) -> dict:
+    """(ok, cost, util) of the candidates of ``arrays`` (the section fields and each
+    candidate's z_top, z_front and wall top): stability for every candidate, the
+    structure for those passing it, or (``complete``) for every candidate. Each row's
+    answer depends on that row only, so a batch may be cut anywhere
+    (``workers.split``)."""
+    sec = SectionArrays(**{k: arrays[k] for k in _SECTION_FIELDS})
+    z_top, z_front, top = arrays["z_top"], arrays["z_front"], arrays["top"]
+    n = len(sec)
+    cond, allx, bad, h_c = _stability_of(sec, z_top, z_front, ground, basis)
+    u_stab = sizing._max_util(allx.checks, n)
+    util = u_stab.copy()
+    steel = np.full(n, np.nan)
+    idx = np.arange(n) if complete else np.flatnonzero((u_stab <= 1.0 + _TOL) & ~bad)
+    if len(idx):
+        part = _structure(allx, sec, h_c, basis, idx, [None], [None])
+        util[idx] = np.maximum(u_stab[idx], sizing._max_util(part.checks, len(idx)))
+        steel[idx] = part.steel_kg_per_m
+    ok = (util <= 1.0 + _TOL) & ~bad
+    hs, D = _heights(sec, cond, top)
+    cost = np.asarray(takeoff.cost_per_metre(sec, hs, D, steel, rates), dtype=float)
+    return {"ok": ok, "cost": cost, "util": util}
+
+
+def _screened(arrays, ground, basis, rates) -> dict:
+    return _checked(arrays, ground, basis, rates, False)
+
+
+def _in_full(arrays, ground, basis, rates) -> dict:
+    return _checked(arrays, ground, basis, rates, True)
+
+
 def evaluate_search(sec: SectionArrays, z_top, z_front, top, seg: np.ndarray,
                     complete: np.ndarray, ground: sizing.Demand, basis: Basis, rates):
     """(ok, cost, utilization) of joined candidates, as ``sizing.evaluate(curtail=False,
@@ -211,30 +247,23 @@ def evaluate_search(sec: SectionArrays, z_top, z_front, top, seg: np.ndarray,
     (the search of that demand has no passing candidate yet). Stability is checked for
     every candidate, the structure designed for those passing it; a batch with
     ``complete`` and no candidate passing has the structure of all its candidates
-    designed too (complete utilizations for the descent)."""
+    designed too (complete utilizations for the descent). Inside a ``workers.twin()``
+    block half the candidates are checked by the second process."""
     n = len(sec)
-    cond, allx, bad, h_c = _stability_of(sec, z_top, z_front, ground, basis)
-    u_stab = sizing._max_util(allx.checks, n)
-    util = u_stab.copy()
-    steel = np.full(n, np.nan)
-    done = (u_stab <= 1.0 + _TOL) & ~bad
-    acts, qp = [None], [None]
-
-    def design(idx):
-        if len(idx):
-            part = _structure(allx, sec, h_c, basis, idx, acts, qp)
-            util[idx] = np.maximum(u_stab[idx], sizing._max_util(part.checks, len(idx)))
-            steel[idx] = part.steel_kg_per_m
-
-    design(np.flatnonzero(done))
-    passing = (util <= 1.0 + _TOL) & ~bad
-    seg_pass = np.bincount(seg, weights=passing.astype(float), minlength=len(complete)) > 0
-    need = np.asarray(complete, dtype=bool) & ~seg_pass
+    arrays = {k: np.broadcast_to(np.asarray(getattr(sec, k), dtype=float), (n,))
+              for k in _SECTION_FIELDS}
+    arrays.update(z_top=np.asarray(z_top, dtype=float), z_front=np.asarray(z_front, dtype=float),
+                  top=np.asarray(top, dtype=float))
+    params = (ground, basis, rates)
+    out = workers.split(_screened, arrays, params, cut=n // 2)
+    ok, cost, util = out["ok"], out["cost"], out["util"]
+    passing = np.bincount(seg, weights=ok.astype(float), minlength=len(complete)) > 0
+    need = np.asarray(complete, dtype=bool) & ~passing
     if need.any():  # no candidate of these batches passes: every candidate in full
-        design(np.flatnonzero(need[seg] & ~done))
-    ok = (util <= 1.0 + _TOL) & ~bad
-    hs, D = _heights(sec, cond, top)
-    cost = np.asarray(takeoff.cost_per_metre(sec, hs, D, steel, rates), dtype=float)
+        rows = np.flatnonzero(need[seg])
+        sub = {k: v[rows] for k, v in arrays.items()}
+        full = workers.split(_in_full, sub, params, cut=len(rows) // 2)
+        ok[rows], cost[rows], util[rows] = full["ok"], full["cost"], full["util"]
     return ok, cost, util
 
 
@@ -272,10 +301,8 @@ def evaluate_full(sec: SectionArrays, z_top, z_front, top, ground: sizing.Demand
 
 
 def _concat(secs: list[SectionArrays]) -> SectionArrays:
-    names = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "base_thickness_m",
-             "key_depth_m", "key_width_m")
     return SectionArrays(**{k: np.concatenate([np.asarray(getattr(s, k), dtype=float)
-                                               for s in secs]) for k in names})
+                                               for s in secs]) for k in _SECTION_FIELDS})
 
 
 def _levels(demands, counts):
@@ -422,7 +449,7 @@ class Lockstep:
                 near = self._neighbours(d)
             starts = [v for v in (bounds.vector_of(sec) for sec in near) if v is not None]
             t = _Task(d, bounds, _Store(bounds), near)
-            t.gen = _search(t.store, starts, self.stride, self.seeds, self.warm_polish,
+            t.gen = _search(t.store, d, self.rates, starts, self.stride, self.seeds, self.warm_polish,
                             first_full=False if improve else None)
             t.advance()
             tasks.append(t)

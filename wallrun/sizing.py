@@ -22,6 +22,7 @@ import dataclasses
 import functools
 import itertools
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -288,7 +289,7 @@ def evaluate(sec: SectionArrays, demand: Demand, basis: Basis, rates,
             util = _max_util(list(stab) + list(sr.checks), n)
         else:
             sr = _Screened(part, todo, n)
-    checks = list(stab) + list(sr.checks)
+    checks = _Checks(stab, sr)
     ok = (util <= 1.0 + _TOL) & ~bad
     steel = np.broadcast_to(np.asarray(sr.steel_kg_per_m, dtype=float), util.shape)
     hs, D = _stem_heights(sec, demand, cond)
@@ -341,21 +342,47 @@ class _Screened:
 
     def __init__(self, part, idx: np.ndarray, n: int):
         self.part, self.idx, self.n = part, idx, n
-        self.checks = []
         self.steel_kg_per_m = np.full(n, np.nan)
         self.pos = np.full(n, -1, dtype=np.int64)
         self.pos[idx] = np.arange(len(idx))
+        if part is not None:
+            self.steel_kg_per_m[idx] = part.steel_kg_per_m
+
+    @functools.cached_property
+    def checks(self) -> list[CheckArray]:
+        """The structural checks of all n candidates (nan where not designed), built on
+        first use: the search reads only utilizations and costs."""
+        part, idx, n = self.part, self.idx, self.n
         if part is None:
-            return
+            return []
         m = len(part.checks)
         E = np.full((m, n), np.nan)
         R = np.full((m, n), np.nan)
+        out = []
         for k, c in enumerate(part.checks):
             E[k, idx] = c.effect
             R[k, idx] = c.resistance
-            self.checks.append(CheckArray(c.check, c.combination, c.case, c.unit, c.clause,
-                                          E[k], R[k]))
-        self.steel_kg_per_m[idx] = part.steel_kg_per_m
+            out.append(CheckArray(c.check, c.combination, c.case, c.unit, c.clause, E[k], R[k]))
+        return out
+
+
+class _Checks(Sequence):
+    """The stability checks then the structural checks of an evaluation, the structural
+    ones taken from ``structure`` only when first read (see :class:`_Screened`)."""
+
+    def __init__(self, stab, structure):
+        self._stab, self._structure, self._all = list(stab), structure, None
+
+    def _list(self) -> list[CheckArray]:
+        if self._all is None:
+            self._all = self._stab + list(self._structure.checks)
+        return self._all
+
+    def __getitem__(self, k):
+        return self._list()[k]
+
+    def __len__(self) -> int:
+        return len(self._list())
 
     def reinforcement(self, i: int) -> Reinforcement | None:
         """The bars of candidate i, None where its structure was not designed."""
@@ -650,6 +677,36 @@ class _Search:
             self.util = np.concatenate([self.util, util])
         self.codes = np.concatenate([self.codes, codes])
 
+    def fresh(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The valid candidates of ``v`` not evaluated yet, once each (sorted by code),
+        and their codes."""
+        v = np.asarray(v, dtype=np.int64).reshape(-1, _NDIM)
+        if not len(v):
+            return v, np.zeros(0, dtype=np.int64)
+        v = v[self.bounds.valid(v)]
+        codes, first = np.unique(_codes(v), return_index=True)
+        v = v[first]
+        if len(self.codes):
+            new = ~np.isin(codes, self.codes, assume_unique=True)
+            v, codes = v[new], codes[new]
+        return v, codes
+
+    def nth_passing_cost(self, m: int) -> float:
+        """Cost of the m-th cheapest passing candidate seen (inf: fewer pass)."""
+        c = self.cost[self.ok]
+        if len(c) < m:
+            return math.inf
+        return float(np.partition(c, m - 1)[m - 1])
+
+    def run_best_first(self, v: np.ndarray, m: int) -> None:
+        """Evaluate ``v`` (the coarse grid of a cold start) in increasing lower bound of
+        the cost until the ``m`` cheapest passing candidates of ``v`` are known (see
+        :func:`best_first`); the seeds and the best are those of evaluating all of ``v``."""
+        v, _ = self.fresh(v)
+        if len(v):
+            for part in best_first(self, v, self.lb(v), m):
+                self.run(part, prune=False)
+
     def seeds(self, m: int) -> list[np.ndarray]:
         """Starting points for the local search: the ``m`` cheapest passing candidates,
         else the ``m`` least utilised."""
@@ -666,6 +723,29 @@ class _Search:
         neighbourhood is evaluated here as it comes."""
         for cand in descent(self, start, radius, max_iter, extra, polish):
             self.run(cand)
+
+
+#: Candidates per batch of :func:`best_first`.
+BEST_FIRST_BATCH = 8192
+
+
+def best_first(store, v: np.ndarray, lb: np.ndarray, m: int, batch: int = BEST_FIRST_BATCH):
+    """Batches of the candidates ``v`` in increasing lower bound ``lb`` of their cost, as
+    a generator; the caller evaluates each batch into ``store`` (``nth_passing_cost``)
+    before resuming. It stops once the m-th cheapest passing cost seen is below the
+    lower bound of every candidate left: none of them can be among the m cheapest
+    passing, so the m cheapest (the seeds of a cold start, the first of them the best)
+    are those of evaluating every candidate. A cold start's coarse grid is mostly
+    sections far dearer than the optimum; this skips them."""
+    order = np.argsort(lb, kind="stable")
+    v, lb = v[order], np.asarray(lb, dtype=float)[order]
+    a = 0
+    while a < len(v):
+        b = min(a + batch, len(v))
+        yield v[a:b]
+        a = b
+        if a < len(v) and store.nth_passing_cost(m) < lb[a] - 1e-9:
+            return
 
 
 def descent(store, start, radius: int = 1, max_iter: int = 60, extra=None,
@@ -928,7 +1008,7 @@ class Designer:
             # best of them (pruned by the best cost found)
             s.local(starts[0], extra=np.array(starts), polish=self.warm_polish)
         if s.best() is None:  # cold start (or the warm start found nothing passing)
-            s.run(grid(bounds, self.stride))
+            s.run_best_first(grid(bounds, self.stride), self.n_seeds)
             for v in s.seeds(self.n_seeds):
                 s.local(v)
         self.evaluated += s.evaluated
@@ -980,7 +1060,7 @@ def search(demand: Demand, basis: Basis, rates, bounds: SearchBounds, stride: in
     d = Designer(basis, rates, bounds.step, stride=stride, seeds=seeds, warm=False)
     f, lb = d._f(demand, bounds)
     s = _Search(bounds, f, lb)
-    s.run(grid(bounds, stride))
+    s.run_best_first(grid(bounds, stride), seeds)
     for v in s.seeds(seeds):
         s.local(v)
     b = s.best()
