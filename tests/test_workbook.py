@@ -132,3 +132,23 @@ def test_user_rates_unit_row(tmp_path):
     rows = [[c.value for c in r] for r in ws.iter_rows()]
     conc = next(r for r in rows if r[0] == "concrete_total")
     assert conc[1] == "m3" and conc[4] == pytest.approx(conc[2] * 100.0)
+
+
+def test_text_cells_escape_and_keep_spaces(tmp_path):
+    # markup characters, surrounding spaces and a non-ASCII name survive the streamed XML
+    res = _result(name="  Wall <RW1> & Co, Müller  ")
+    wb = openpyxl.load_workbook(write_workbook(res, tmp_path / "t.xlsx"))
+    assert "  Wall <RW1> & Co, Müller  " in _cells(wb["notes"])
+    sched = wb["schedule"]
+    heads = [c.value for c in sched[1]]
+    # an empty reason stays an empty cell; numbers keep their full value
+    assert sched.cell(row=2, column=heads.index("reason") + 1).value is None
+    assert sched.cell(row=2, column=heads.index("steel (kg)") + 1).value == pytest.approx(
+        res.panels[0].steel_kg, rel=1e-15)
+    assert wb["notes"].column_dimensions["B"].width == 100
+
+
+def test_control_characters_are_refused(tmp_path):
+    from openpyxl.utils.exceptions import IllegalCharacterError
+    with pytest.raises(IllegalCharacterError):
+        write_workbook(_result(name="bad\x01name"), tmp_path / "x.xlsx")
