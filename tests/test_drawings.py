@@ -377,3 +377,15 @@ def test_audit_finds_a_block_reference_cycle():
     doc.modelspace().add_blockref("LOOP", (0, 0))
     with pytest.raises(RuntimeError, match="cycle"):
         d.audit_or_raise(doc, "loop.dxf")
+
+
+@pytest.mark.parametrize("name", ["elevation.dxf", "sections.dxf", "plan.dxf"])
+def test_preview_extents_equal_ezdxf_extents(out, name):
+    """The previews' quicker extents are ezdxf's fast extents, for the whole drawing
+    and for each section group (without its MTEXTs, as the pages frame them)."""
+    from wallrun.outputs.previews import _ezdxf_box, _group_box
+    doc, msp = _read(out / name)
+    assert _group_box(msp, doc) == pytest.approx(_ezdxf_box(msp), abs=0)
+    for _name, g in doc.groups:
+        ents = [e for e in g if e.dxftype() != "MTEXT"]
+        assert _group_box(ents, doc) == pytest.approx(_ezdxf_box(ents), abs=0)

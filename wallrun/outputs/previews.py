@@ -141,7 +141,7 @@ def render_elevation_png(dxf_path, png_path) -> int:
     W, H = ELEVATION_PX
     fig, ax = _figure((W / DPI, H / DPI))
     _draw(doc, ax, (lambda e: e.dxf.layer not in skip) if skip else None, solid=long)
-    x0, y0, x1, y1 = _group_box(msp) or (*ax.get_xlim(), *ax.get_ylim())
+    x0, y0, x1, y1 = _group_box(msp, doc) or (*ax.get_xlim(), *ax.get_ylim())
     k = strip_count(x1 - x0, y1 - y0)
     h_strip = H // k
     size = (W * k / DPI, h_strip / DPI)
@@ -159,7 +159,113 @@ def render_elevation_png(dxf_path, png_path) -> int:
     return k
 
 
-def _group_box(entities) -> tuple[float, float, float, float] | None:
+def _text_bound(e):
+    """A box surely holding a TEXT: a circle of 4 + 2 x its length in text heights
+    round its insertion and alignment points."""
+    r = e.dxf.height * (4.0 + 2.0 * len(e.dxf.text))
+    ps = [e.dxf.insert] + ([e.dxf.align_point] if e.dxf.hasattr("align_point") else [])
+    return (min(p[0] for p in ps) - r, min(p[1] for p in ps) - r,
+            max(p[0] for p in ps) + r, max(p[1] for p in ps) + r)
+
+
+def _bound(e, doc):
+    """A box surely holding entity ``e`` as ezdxf measures it, cheaply, or None where
+    none is made here: TEXT (:func:`_text_bound`), a DIMENSION from the vertices and
+    texts of its geometry block, a (grid) INSERT of a block of circles from the grid's
+    corner insertion points and the circles' reach."""
+    t = e.dxftype()
+    if t == "TEXT":
+        return _text_bound(e)
+    boxes = []
+    if t == "DIMENSION" and doc is not None:
+        blk = doc.blocks.get(e.dxf.get("geometry", ""))
+        if blk is None:
+            return None
+        for b in blk:
+            bt = b.dxftype()
+            if bt == "TEXT":
+                boxes.append(_text_bound(b))
+            elif bt == "LWPOLYLINE":
+                v = np.asarray(b.lwpoints.values, dtype=float).reshape(-1, 5)
+                if not len(v) or v[:, 2:].any():
+                    return None
+                boxes.append((*v[:, :2].min(axis=0), *v[:, :2].max(axis=0)))
+            else:
+                return None
+    elif t == "INSERT" and doc is not None and not e.attribs:
+        blk = doc.blocks.get(e.dxf.name)
+        dx = e.dxf
+        if blk is None or (dx.xscale, dx.yscale, dx.zscale) != (1, 1, 1):
+            return None
+        reach = 0.0
+        for b in blk:
+            if b.dxftype() != "CIRCLE":
+                return None
+            reach = max(reach, abs(b.dxf.radius) + math.hypot(b.dxf.center[0], b.dxf.center[1]))
+        a = math.radians(dx.rotation)
+        ux, uy = math.cos(a), math.sin(a)
+        cx, cy = (dx.column_count - 1) * dx.column_spacing, (dx.row_count - 1) * dx.row_spacing
+        reach = reach * 1.001 + 1e-9
+        for i, j in ((0, 0), (cx, 0), (0, cy), (cx, cy)):
+            x, y = dx.insert[0] + i * ux - j * uy, dx.insert[1] + i * uy + j * ux
+            boxes.append((x - reach, y - reach, x + reach, y + reach))
+    else:
+        return None
+    if not boxes:
+        return None
+    return (min(b[0] for b in boxes), min(b[1] for b in boxes),
+            max(b[2] for b in boxes), max(b[3] for b in boxes))
+
+
+def _group_box(entities, doc=None) -> tuple[float, float, float, float] | None:
+    """ezdxf's fast extents (x/y) of ``entities``, computed with less work and the
+    same result: straight LINEs and LWPOLYLINEs exactly from their vertices, every
+    other entity by ezdxf, except that one which a cheap box surely holding it
+    (:func:`_bound`) shows to lie inside the box of the rest cannot widen it and is
+    not measured (measuring text and block contents is most of the cost)."""
+    from ezdxf import bbox
+
+    pts, bounded, others = [], [], []
+    for e in entities:
+        t = e.dxftype()
+        if t == "LINE":
+            pts.append((e.dxf.start[0], e.dxf.start[1]))
+            pts.append((e.dxf.end[0], e.dxf.end[1]))
+        elif t == "LWPOLYLINE":
+            v = np.asarray(e.lwpoints.values, dtype=float).reshape(-1, 5)
+            if len(v) and not v[:, 2:].any():  # no widths, no bulges
+                pts.extend(map(tuple, v[:, :2]))
+            else:
+                others.append(e)
+        elif t in ("TEXT", "DIMENSION", "INSERT"):
+            bounded.append(e)
+        else:
+            others.append(e)
+    box = None
+    if pts:
+        a = np.asarray(pts)
+        box = [*a.min(axis=0), *a.max(axis=0)]
+
+    def widen(ents):
+        nonlocal box
+        ext = bbox.extents(ents, fast=True)
+        if ext.has_data:
+            b = [ext.extmin.x, ext.extmin.y, ext.extmax.x, ext.extmax.y]
+            box = b if box is None else [min(box[0], b[0]), min(box[1], b[1]),
+                                         max(box[2], b[2]), max(box[3], b[3])]
+
+    widen(others)
+    near = []
+    for e in bounded:
+        b = None if box is None else _bound(e, doc)
+        if b is None or b[0] < box[0] or b[1] < box[1] or b[2] > box[2] or b[3] > box[3]:
+            near.append(e)
+    widen(near)
+    return None if box is None else tuple(float(v) for v in box)
+
+
+def _ezdxf_box(entities):
+    """ezdxf's fast extents (x/y) of ``entities`` (the reference of :func:`_group_box`)."""
     from ezdxf import bbox
 
     ext = bbox.extents(entities, fast=True)
@@ -181,7 +287,7 @@ def render_sections_pdf(dxf_path, pdf_path) -> None:
             ents = list(g)
             # extents without the MTEXTs (ezdxf's fast extents overestimate MTEXT
             # with exact line spacing); they lie inside the cell's frame anyway
-            box = _group_box([e for e in ents if e.dxftype() != "MTEXT"])
+            box = _group_box([e for e in ents if e.dxftype() != "MTEXT"], doc)
             fig, ax = _figure(A3_IN)
             _draw(doc, ax, entities=ents, ctx=ctx)
             if box:
@@ -206,7 +312,7 @@ def render_sections_pdf(dxf_path, pdf_path) -> None:
             return  # the whole sheet is too large to preview usefully
         fig, ax = _figure(A3_IN)
         _draw(doc, ax)
-        box = _group_box(doc.modelspace())
+        box = _group_box(doc.modelspace(), doc)
         if box:
             _keep_aspect_limits(ax, box, A3_IN, pad=0.01)
         pdf.savefig(fig, facecolor="white")
