@@ -53,6 +53,18 @@ def read_transform(doc) -> tuple[float, float]:
     return float(cv.get("WALLRUN_DATUM_M")), float(cv.get("WALLRUN_VERTICAL_EXAGGERATION"))
 
 
+def _polyline(msp, xy, layer: str):
+    """An open LWPOLYLINE through the points ``xy`` ((n, 2) array-like), its vertex array
+    set in one go: the same vertices as adding them one by one, without a copy of the
+    growing array per vertex."""
+    pl = msp.add_lwpolyline([], format="xy", dxfattribs={"layer": layer})
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    v = np.zeros((len(xy), 5))  # x, y, start width, end width, bulge
+    v[:, :2] = xy
+    pl.lwpoints.values = v
+    return pl
+
+
 def _runs(result) -> list[list]:
     """Panel results grouped by run, each sorted by chainage."""
     by: dict[int, list] = {}
@@ -106,25 +118,24 @@ def write_elevation(result, path) -> None:
     msp = doc.modelspace()
 
     # profiles
-    msp.add_lwpolyline(np.column_stack([chs, Y(G)]).tolist(), format="xy",
-                       dxfattribs={"layer": d.L_GROUND})
-    msp.add_lwpolyline(np.column_stack([chs, Y(F)]).tolist(), format="xy",
-                       dxfattribs={"layer": d.L_FINISHED})
+    _polyline(msp, np.column_stack([chs, Y(G)]), d.L_GROUND)
+    _polyline(msp, np.column_stack([chs, Y(F)]), d.L_FINISHED)
 
     # the wall, run by run
     txt, small = P(d.TEXT_MM), P(d.SMALL_MM)
     for prs in _runs(result):
         for piece in _pieces(prs):
-            top, und, tob = [], [], []
-            for pr in piece:
-                p = pr.panel
-                top += [(p.ch_start_m, Y(p.wall_top_start_m)), (p.ch_end_m, Y(p.wall_top_end_m))]
-                und += [(p.ch_start_m, Y(p.founding_m)), (p.ch_end_m, Y(p.founding_m))]
-                zt = p.founding_m + pr.section.base_thickness_m
-                tob += [(p.ch_start_m, Y(zt)), (p.ch_end_m, Y(zt))]
-            msp.add_lwpolyline(top, format="xy", dxfattribs={"layer": d.L_TOP})
-            msp.add_lwpolyline(und, format="xy", dxfattribs={"layer": d.L_UNDERSIDE})
-            msp.add_lwpolyline(tob, format="xy", dxfattribs={"layer": d.L_BASE_TOP})
+            # each panel gives two vertices: its start and its end
+            ch = np.array([(pr.panel.ch_start_m, pr.panel.ch_end_m) for pr in piece]).ravel()
+            found = np.array([pr.panel.founding_m for pr in piece])
+            zt = found + np.array([pr.section.base_thickness_m for pr in piece])
+            top = np.column_stack([ch, Y(np.array([(pr.panel.wall_top_start_m,
+                                                    pr.panel.wall_top_end_m)
+                                                   for pr in piece]).ravel())])
+            und = np.column_stack([ch, Y(np.repeat(found, 2))])
+            _polyline(msp, top, d.L_TOP)
+            _polyline(msp, und, d.L_UNDERSIDE)
+            _polyline(msp, np.column_stack([ch, Y(np.repeat(zt, 2))]), d.L_BASE_TOP)
             first, last = piece[0].panel, piece[-1].panel
             msp.add_line((first.ch_start_m, und[0][1]), (first.ch_start_m, top[0][1]),
                          dxfattribs={"layer": d.L_TOP})
