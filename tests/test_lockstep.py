@@ -12,6 +12,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from wallrun import lockstep, sizing
 from wallrun.factors import resolve
@@ -211,3 +213,19 @@ def test_round_picks_bisect():
     assert lockstep.Lockstep._round_picks(done, True) == [2, 6]
     assert lockstep.Lockstep._round_picks(np.zeros(5, dtype=bool), True) == [2]
     assert lockstep._chunks([5, 5, 20, 1, 1], 10) == [(0, 2), (2, 3), (3, 5)]
+
+
+# --- a taller panel never gets a cheaper design -----------------------------------------------
+
+@settings(max_examples=6, deadline=None)
+@given(st.lists(st.floats(0.8, 4.5), min_size=8, max_size=14, unique=True), st.integers(0, 2))
+def test_taller_panel_never_cheaper(hs, ground):
+    """Demands of one ground that differ only in z_top: the design costs never fall
+    with the height (the taller designs' sections and bars are tried by the shorter
+    ones). The reference is the ordering itself."""
+    kw = [{}, {"water": WET}, {"foundation": WEAK}][ground]
+    ds = [demand(round(h, 2), **kw) for h in sorted(set(round(h, 2) for h in hs))]
+    got = lockstep.Lockstep(BASIS, None, STEP).design_many(ds)
+    assert all(g.status == "ok" for g in got)
+    c = np.array([g.cost_per_m for g in got])
+    assert np.all(np.diff(c) >= -1e-6), c

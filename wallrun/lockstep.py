@@ -327,6 +327,8 @@ class Lockstep:
     passes after the rounds (each demand tries the sections of its ``improve_k``
     nearest designed neighbours, taller or shorter, as they are, then descends in the
     small neighbourhood from its own design); a pass never makes a design dearer.
+    taller_passes, taller_k: then the passes of :meth:`_taller_sections` (each demand
+    tries the cheaper sections of taller demands as they are).
     """
 
     basis: Basis
@@ -338,6 +340,8 @@ class Lockstep:
     chunk: int = CHUNK
     polish_passes: int = 1
     improve_k: int = 8  # neighbours' sections tried by the improvement pass
+    taller_passes: int = 3  # passes of :meth:`_taller_sections` (until nothing changes)
+    taller_k: int = 4  # taller, cheaper sections tried by each demand in such a pass
     cache: dict = field(default_factory=dict)
     #: ground key -> {demand: (retained height, section)} of the passing designs
     by_ground: dict = field(default_factory=dict)
@@ -383,6 +387,77 @@ class Lockstep:
         for _ in range(self.polish_passes):
             if not self._design_round(key, ds, improve=True):
                 break
+        for _ in range(self.taller_passes):
+            if not self._taller_sections(ds):
+                break
+
+    def _taller_sections(self, ds) -> bool:
+        """Each passing design tries, as they are, the sections of the taller demands of
+        its ground whose designs cost less (the ``taller_k`` nearest in height), all in
+        joined calls; the cheapest that passes is taken when it is cheaper. A taller
+        panel's section nearly always passes at a shorter panel and costs less there,
+        so after this pass a taller panel rarely has a cheaper section than a shorter
+        one of the same ground (``sizing.Designer`` gets this from its order: tallest
+        first, each next one trying the taller designs). Then a demand that still has a
+        cheaper taller design tries that design's bars too. Returns whether any got
+        cheaper."""
+        ok = sorted((d for d in ds if self.cache[d].status == "ok"), key=lambda d: (d.h, d.z_front))
+        if len(ok) < 2:
+            return False
+        h = np.array([d.h for d in ok])
+        c = np.array([self.cache[d].cost_per_m for d in ok])
+        tasks, cands_of = [], []
+        for j, d in enumerate(ok):
+            after = j + 1 + np.flatnonzero((h[j + 1:] > h[j] + 1e-9) & (c[j + 1:] < c[j] - 1e-9))
+            own = self.cache[d].section
+            secs = []
+            for i in after:  # nearest in height first
+                sec = self.cache[ok[i]].section
+                if sec != own and sec not in secs:
+                    secs.append(sec)
+                    if len(secs) == self.taller_k:
+                        break
+            if secs:
+                tasks.append(d)
+                cands_of.append(secs)
+        better = False
+        counts = [len(cs) for cs in cands_of]
+        ground = ok[0]
+        for c0, c1 in _chunks(counts, self.chunk):
+            sec = SectionArrays.of([x for cs in cands_of[c0:c1] for x in cs])
+            zt, zf, top = _levels(tasks[c0:c1], counts[c0:c1])
+            ev = evaluate_full(sec, zt, zf, top, ground, self.basis, self.rates)
+            self.calls += 1
+            pos = 0
+            for d, m in zip(tasks[c0:c1], counts[c0:c1]):
+                idx = np.arange(pos, pos + m)
+                pos += m
+                okk = idx[ev.ok[idx]]
+                if not len(okk):
+                    continue
+                i = int(okk[np.lexsort((ev.utilization[okk], ev.cost[okk]))[0]])
+                if ev.cost[i] < self.cache[d].cost_per_m - 1e-9:
+                    self.cache[d] = sizing._sized(ev, i, d, self.basis)
+                    self._record(d, self.cache[d].section)
+                    better = True
+        # where a taller design still costs less, its bars as well as its section: the
+        # bars are chosen by least area per face, which is not always the least mass
+        # (laps and anchorages grow with the diameter), so a section's cost need not
+        # fall with the height; the taller design's own bars, checked here, can
+        c = np.array([self.cache[d].cost_per_m for d in ok])
+        for j, d in enumerate(ok):
+            after = j + 1 + np.flatnonzero((h[j + 1:] > h[j] + 1e-9) & (c[j + 1:] < c[j] - 1e-9))
+            if not len(after):
+                continue
+            tall = self.cache[ok[int(after[0])]]
+            ev = sizing.evaluate(SectionArrays.of([tall.section]), d, self.basis, self.rates,
+                                 given=tall.reinforcement)
+            if ev.ok[0] and ev.cost[0] < c[j] - 1e-9:
+                self.cache[d] = sizing._sized(ev, 0, d, self.basis)
+                self._record(d, tall.section)
+                c[j] = self.cache[d].cost_per_m
+                better = True
+        return better
 
     @staticmethod
     def _round_picks(done: np.ndarray, prior: bool) -> list[int]:

@@ -244,9 +244,11 @@ def design(site: Site, progress=None) -> DesignResult:
 
     section_types = []
     actions = {}
+    by_type: dict[str, list] = {}
+    for r, (_, d, dem, _) in zip(results, panel_rows):
+        by_type.setdefault(r.section_type, []).append((r, d, dem))
     for key, name in type_names.items():
-        members = [(r, d, dem) for r, (_, d, dem, _) in zip(results, panel_rows)
-                   if r.section_type == name]
+        members = by_type[name]
         worst_r, worst_d, worst_dem = max(
             members, key=lambda m: max((c.utilization for c in m[0].checks), default=0.0))
         section_types.append(SectionType(

@@ -511,13 +511,18 @@ class SearchBounds:
                 np.arange(tt[0], tt[1] + 1), np.arange(0, len(self.key_depths) + 1),
                 np.arange(0, max(len(self.key_widths), 1))]
 
+    @functools.cached_property
+    def _box(self) -> tuple[np.ndarray, np.ndarray]:
+        """Least and greatest value of each integer axis, (7,) each."""
+        axes = self.axes()
+        return (np.array([a[0] for a in axes], dtype=np.int64),
+                np.array([a[-1] for a in axes], dtype=np.int64))
+
     def valid(self, v: np.ndarray) -> np.ndarray:
         """Mask of integer candidates (m, 7) inside the bounds and closing."""
-        axes = self.axes()
-        ok = np.ones(len(v), dtype=bool)
-        for k, a in enumerate(axes):
-            ok &= (v[:, k] >= a[0]) & (v[:, k] <= a[-1])
-        B, toe, tb, ts, tt, kd, kw = (v[:, k] for k in range(_NDIM))
+        lo, hi = self._box
+        ok = ((v >= lo) & (v <= hi)).all(axis=1)
+        B, toe, tb, ts, tt, kd, kw = v.T
         ok &= 2 * toe <= B  # toe <= B / 2
         ok &= tb >= ts  # base not thinner than the stem it anchors
         ok &= tt <= ts
@@ -943,6 +948,7 @@ class Designer:
         self.warm_polish = warm_polish
         self.cache: dict[Demand, SizedDesign] = {}
         self.by_ground: dict[tuple, list[tuple[float, Section]]] = {}
+        self.designs_by_ground: dict[tuple, list[tuple[float, SizedDesign]]] = {}
         self.evaluated = 0  # candidates evaluated in searches
         self.decided = 0  # candidates decided (passed, or failed a check they needed)
         self.structured = 0  # of them, candidates whose structure was designed
@@ -979,9 +985,29 @@ class Designer:
         if d is not None:
             return d
         d = self._design(demand)
+        if d.status == "ok":
+            d = self._taller_bars(demand, d)
         self.cache[demand] = d
         if d.status == "ok":
             self.by_ground.setdefault(demand.ground_key, []).append((demand.h, d.section))
+            self.designs_by_ground.setdefault(demand.ground_key, []).append((demand.h, d))
+        return d
+
+    def _taller_bars(self, demand: Demand, d: SizedDesign) -> SizedDesign:
+        """The nearest taller design of the ground that costs less than ``d``, section
+        and bars as they are, when it passes here and costs less still. The bars of a
+        design are chosen by least area per face, which is not always the least mass
+        (laps and anchorages grow with the diameter), so a section's cost need not fall
+        with the height; a taller panel's own bars can make a shorter one cheaper."""
+        taller = [(h, t) for h, t in self.designs_by_ground.get(demand.ground_key, [])
+                  if h > demand.h + 1e-9 and t.cost_per_m < d.cost_per_m - 1e-9]
+        if not taller:
+            return d
+        _, t = min(taller, key=lambda ht: ht[0])
+        ev = evaluate(SectionArrays.of([t.section]), demand, self.basis, self.rates,
+                      given=t.reinforcement)
+        if ev.ok[0] and ev.cost[0] < d.cost_per_m - 1e-9:
+            return _sized(ev, 0, demand, self.basis)
         return d
 
     def design_many(self, demands) -> list[SizedDesign]:
