@@ -13,7 +13,9 @@ writing), the candidate sections per second through every check they need inside
 search and on one large batch, counted as candidates *decided*: stability is checked
 for every candidate and the structure only for those that pass it (a candidate failing
 stability fails anyway); the batch is also timed with every check on every candidate.
-Batch timings are the least of three runs. Also the speed-up of the vectorised checks
+The batch goes through the evaluator of the long runs (``lockstep.evaluate_search``)
+with half of it on the second core (``wallrun.workers``), as in the search; the figure
+for one process is printed beside it. Batch timings are the least of three runs. Also the speed-up of the vectorised checks
 over a plain per-candidate evaluation of the same checks (``plain.plain_stability_checks``
 and the structural design of one candidate at a time) on a sample of 200 candidates.
 The run tunes the allocator as the command line does (``wallrun.memory``).
@@ -86,7 +88,7 @@ def _least(f, repeat: int = REPEAT) -> float:
 def throughput(site: Site, n_bulk: int = 100_000, n_plain: int = 200) -> dict:
     """Candidates per second through every check on one batch, and the speed-up over a
     plain per-candidate evaluation of the same checks."""
-    from wallrun import plain, stability, structure
+    from wallrun import lockstep, plain, stability, structure, workers
 
     basis = site.basis
     d = sizing.Demand(z_top=63.5, z_front=60.0, backfill=site.backfill,
@@ -100,11 +102,16 @@ def throughput(site: Site, n_bulk: int = 100_000, n_plain: int = 200) -> dict:
     # a candidate is counted when it is decided (passed, or failed a check it needed)
     # each batch timing is the least of REPEAT runs (the timeit convention: the others
     # only add what the machine did meanwhile)
-    t_bulk = _least(lambda: sizing.evaluate(bulk, d, basis, site.rates, curtail=False,
-                                            screen=True, complete_if_none=False))
-    ev = sizing.evaluate(bulk, d, basis, site.rates, curtail=False, screen=True,
-                         complete_if_none=False)
-    structured = int(np.isfinite(ev.steel_kg_per_m).sum())
+    one = lambda: sizing.evaluate(bulk, d, basis, site.rates, curtail=False,  # noqa: E731
+                                  screen=True, complete_if_none=False)
+    t_one = _least(one)
+    structured = int(np.isfinite(one().steel_kg_per_m).sum())
+    # the long runs' evaluator (wallrun.lockstep), half the batch on the second core
+    lv = np.full(n_bulk, d.z_top), np.full(n_bulk, d.z_front), np.full(n_bulk, d.wall_top_m)
+    seg, no = np.zeros(n_bulk, dtype=np.int64), np.array([False])
+    with workers.twin():
+        t_bulk = _least(lambda: lockstep.evaluate_search(bulk, *lv, seg, no, d, basis,
+                                                         site.rates))
     t_full = _least(lambda: sizing.evaluate(bulk, d, basis, site.rates, curtail=False))
     sample = _sample_candidates(n_plain, seed=2)
     t_vec = _least(lambda: sizing.evaluate(sample, d, basis, site.rates, curtail=False))
@@ -121,6 +128,7 @@ def throughput(site: Site, n_bulk: int = 100_000, n_plain: int = 200) -> dict:
     t_plain = time.perf_counter() - t0
     return {"bulk_candidates": n_bulk, "bulk_seconds": t_bulk,
             "bulk_candidates_per_second": n_bulk / t_bulk,
+            "bulk_one_process_candidates_per_second": n_bulk / t_one,
             "bulk_structured": structured,
             "bulk_unscreened_candidates_per_second": n_bulk / t_full,
             "plain_sample": n_plain, "plain_seconds": t_plain,
@@ -220,8 +228,10 @@ def _table(r: dict) -> str:
                  if st is not None else " (searched many panels per call)"),
               f"  candidates/s in the search           {r['candidates_per_second_in_search']:,.0f}",
               f"  candidates/s on one batch of {tp['bulk_candidates']:,}  "
-              f"{r['candidates_per_second']:,.0f} decided ({tp['bulk_structured']:,} passed "
-              f"stability and went through structure; every check on every candidate: "
+              f"{r['candidates_per_second']:,.0f} decided, two processes "
+              f"({tp['bulk_one_process_candidates_per_second']:,.0f} in one; "
+              f"{tp['bulk_structured']:,} passed stability and went through structure; "
+              f"every check on every candidate, one process: "
               f"{tp['bulk_unscreened_candidates_per_second']:,.0f}/s)",
               f"  plain per-candidate path             {tp['plain_candidates_per_second']:,.0f} /s",
               f"  speed-up vs plain (per candidate)    {r['speedup_vs_plain']:,.0f} x"
