@@ -21,6 +21,8 @@ the entities of that section's group.
 
 from __future__ import annotations
 
+import contextlib
+import gc
 import math
 import textwrap
 from pathlib import Path
@@ -50,6 +52,21 @@ A3_IN = (16.54, 11.69)
 
 _CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,
                         lineweight_scaling=0.6)
+
+
+@contextlib.contextmanager
+def _gc_paused():
+    """Pause Python's cyclic garbage collector while a preview renders, and let it
+    run afterwards. Rendering makes hundreds of thousands of small objects, each batch
+    of which starts a collection that walks every live object, the whole DXF document
+    included: most of the time of a long drawing's preview went there."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
 
 
 def _figure(size_in):
@@ -126,6 +143,13 @@ def strip_count(width: float, height: float, max_strips: int = MAX_STRIPS) -> in
 
 
 def render_elevation_png(dxf_path, png_path) -> int:
+    """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips
+    (see :func:`_render_elevation_png`), with the garbage collector paused."""
+    with _gc_paused():
+        return _render_elevation_png(dxf_path, png_path)
+
+
+def _render_elevation_png(dxf_path, png_path) -> int:
     """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips.
 
     A drawing much longer than 3:1 is cut into k strips of consecutive chainage,
@@ -275,7 +299,15 @@ def _ezdxf_box(entities):
 
 
 def render_sections_pdf(dxf_path, pdf_path) -> None:
-    """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet."""
+    """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet
+    (see :func:`_render_sections_pdf`), with the garbage collector paused."""
+    with _gc_paused():
+        _render_sections_pdf(dxf_path, pdf_path)
+
+
+def _render_sections_pdf(dxf_path, pdf_path) -> None:
+    """One page per section group (at most ``MAX_SECTION_PAGES``), then the sheet or
+    the list of the rest."""
     doc = d.saved_document(dxf_path)
     groups = sorted(((name, g) for name, g in doc.groups
                      if name.startswith(d.SECTION_GROUP_PREFIX)), key=lambda t: t[0])
