@@ -393,17 +393,28 @@ class Lockstep:
 
     def _taller_sections(self, ds) -> bool:
         """Each passing design tries, as they are, the sections of the taller demands of
-        its ground whose designs cost less (the ``taller_k`` nearest in height), all in
-        joined calls; the cheapest that passes is taken when it is cheaper. A taller
+        its ground with the same front level and wall-top allowance (the same conditions
+        but for the height) whose designs cost less (the ``taller_k`` nearest in
+        height), in joined calls; the cheapest that passes is taken when cheaper. A taller
         panel's section nearly always passes at a shorter panel and costs less there,
         so after this pass a taller panel rarely has a cheaper section than a shorter
         one of the same ground (``sizing.Designer`` gets this from its order: tallest
         first, each next one trying the taller designs). Then a demand that still has a
         cheaper taller design tries that design's bars too. Returns whether any got
         cheaper."""
-        ok = sorted((d for d in ds if self.cache[d].status == "ok"), key=lambda d: (d.h, d.z_front))
-        if len(ok) < 2:
-            return False
+        groups: dict[tuple, list] = {}
+        for d in ds:  # the same conditions but for the height (and so the wall top)
+            if self.cache[d].status == "ok":
+                groups.setdefault((d.z_front, round(d.wall_top_m - d.z_top, 6)), []).append(d)
+        better = False
+        for same in groups.values():
+            if len(same) > 1:
+                better |= self._taller_in(sorted(same, key=lambda d: d.h))
+        return better
+
+    def _taller_in(self, ok: list) -> bool:
+        """:meth:`_taller_sections` for demands of the same conditions but for the
+        height, in increasing height."""
         h = np.array([d.h for d in ok])
         c = np.array([self.cache[d].cost_per_m for d in ok])
         tasks, cands_of = [], []

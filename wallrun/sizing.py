@@ -948,7 +948,7 @@ class Designer:
         self.warm_polish = warm_polish
         self.cache: dict[Demand, SizedDesign] = {}
         self.by_ground: dict[tuple, list[tuple[float, Section]]] = {}
-        self.designs_by_ground: dict[tuple, list[tuple[float, SizedDesign]]] = {}
+        self.designs_by_ground: dict[tuple, list[tuple[float, SizedDesign, tuple]]] = {}
         self.evaluated = 0  # candidates evaluated in searches
         self.decided = 0  # candidates decided (passed, or failed a check they needed)
         self.structured = 0  # of them, candidates whose structure was designed
@@ -990,17 +990,20 @@ class Designer:
         self.cache[demand] = d
         if d.status == "ok":
             self.by_ground.setdefault(demand.ground_key, []).append((demand.h, d.section))
-            self.designs_by_ground.setdefault(demand.ground_key, []).append((demand.h, d))
+            self.designs_by_ground.setdefault(demand.ground_key, []).append(
+                (demand.h, d, (demand.z_front, round(demand.wall_top_m - demand.z_top, 6))))
         return d
 
     def _taller_bars(self, demand: Demand, d: SizedDesign) -> SizedDesign:
-        """The nearest taller design of the ground that costs less than ``d``, section
-        and bars as they are, when it passes here and costs less still. The bars of a
+        """The nearest taller design of the ground under the same conditions but for the
+        height (front level, wall-top allowance) that costs less than ``d``, section and
+        bars as they are, when it passes here and costs less still. The bars of a
         design are chosen by least area per face, which is not always the least mass
         (laps and anchorages grow with the diameter), so a section's cost need not fall
         with the height; a taller panel's own bars can make a shorter one cheaper."""
-        taller = [(h, t) for h, t in self.designs_by_ground.get(demand.ground_key, [])
-                  if h > demand.h + 1e-9 and t.cost_per_m < d.cost_per_m - 1e-9]
+        same = (demand.z_front, round(demand.wall_top_m - demand.z_top, 6))
+        taller = [(h, t) for h, t, c in self.designs_by_ground.get(demand.ground_key, [])
+                  if c == same and h > demand.h + 1e-9 and t.cost_per_m < d.cost_per_m - 1e-9]
         if not taller:
             return d
         _, t = min(taller, key=lambda ht: ht[0])
