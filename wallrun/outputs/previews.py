@@ -314,7 +314,9 @@ def _render_sections_pdf(dxf_path, pdf_path) -> None:
     shown, rest = groups[:MAX_SECTION_PAGES], groups[MAX_SECTION_PAGES:]
     ctx = RenderContext(doc)
     n_all = len(groups)
-    with PdfPages(str(pdf_path)) as pdf:
+    # zlib level 1 instead of matplotlib's 6: the same pages, a sixth larger file,
+    # compressed in a third of the time
+    with matplotlib.rc_context({"pdf.compression": 1}), PdfPages(str(pdf_path)) as pdf:
         for k, (name, g) in enumerate(shown, start=1):
             ents = list(g)
             # extents without the MTEXTs (ezdxf's fast extents overestimate MTEXT
