@@ -275,6 +275,28 @@ def _type_colours(names):
     return {n: cmap(i % 20) for i, n in enumerate(names)}
 
 
+#: Where a legend sits until :func:`_place_best` moves it (inside its axes, like every
+#: "best" place, so the layout pass sees the same extents).
+_FIRST_TRY = "upper right"
+
+
+def _place_best(fig, legends) -> None:
+    """Fix each legend at the place matplotlib's ``loc="best"`` search picks on the
+    final layout, searching once. The search scans every vertex of every line in the
+    axes (tens of thousands on a long job); left at "best", matplotlib repeats it at
+    the layout pass and again at each draw of the save."""
+    renderer = fig.canvas.get_renderer()
+    for leg in legends:
+        leg.set_loc("best")
+        best = leg.get_window_extent(renderer).bounds  # the one search
+        for code in range(1, 11):  # the fixed place with the same box, lowest code first
+            leg.set_loc(code)
+            if leg.get_window_extent(renderer).bounds == best:
+                break
+        else:
+            leg.set_loc("best")
+
+
 def run_figure(result) -> bytes | None:
     """Long section along chainage (PNG): ground, finished level, wall top and
     founding level per panel, panel boundaries, a band of section types, and below it
@@ -297,6 +319,7 @@ def run_figure(result) -> bytes | None:
 
     fig, (ax, axh) = plt.subplots(2, 1, figsize=(10.5, 5.6), dpi=110, sharex=True,
                                   gridspec_kw={"height_ratios": [3, 1.3]})
+    legends = []  # each placed where matplotlib's "best" search puts it, after layout
     if ch is not None:
         ax.plot(ch, G, color="#7a5230", lw=1.0, label="existing ground")
         ax.plot(ch, F, color="black", lw=1.0, ls="--", label="finished level")
@@ -334,12 +357,13 @@ def run_figure(result) -> bytes | None:
             handles, labels = ax.get_legend_handles_labels()
             handles += [Patch(color=col[n]) for n in names]
             labels += [f"type {n}" for n in names]
-            ax.legend(handles, labels, fontsize=6, ncol=4, loc="best", framealpha=0.8)
+            legends.append(ax.legend(handles, labels, fontsize=6, ncol=4, loc=_FIRST_TRY,
+                                     framealpha=0.8))
         else:
-            ax.legend(fontsize=6, loc="best", framealpha=0.8)
+            legends.append(ax.legend(fontsize=6, loc=_FIRST_TRY, framealpha=0.8))
         ax.set_ylim(band_lo - 2.0 * band_h, None)
     else:
-        ax.legend(fontsize=6, loc="best")
+        legends.append(ax.legend(fontsize=6, loc=_FIRST_TRY))
     ax.autoscale_view()
     ax.set_ylabel("level (m)")
     ax.grid(True, lw=0.3, color="#dddddd")
@@ -355,13 +379,14 @@ def run_figure(result) -> bytes | None:
         if hmin is not None:
             axh.axhline(hmin, color="#b00000", lw=0.7, ls=":",
                         label=f"wall needed from h = {hmin:g} m")
-        axh.legend(fontsize=6, loc="best", framealpha=0.8)
+        legends.append(axh.legend(fontsize=6, loc=_FIRST_TRY, framealpha=0.8))
     if panels:
         axh.vlines(ends, 0, axh.get_ylim()[1], colors="#999999", lw=0.4)
     axh.set_ylabel("retained h (m)")
     axh.set_xlabel("chainage (m)")
     axh.grid(True, lw=0.3, color="#dddddd")
     fig.tight_layout()
+    _place_best(fig, legends)
     data = _png(fig)
     plt.close(fig)
     return data
