@@ -603,7 +603,7 @@ def grid(bounds: SearchBounds, stride: int = 1) -> np.ndarray:
             if sel[-1] != a[-1]:
                 sel = np.append(sel, a[-1])
             axes.append(sel)
-    mesh = np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, _NDIM)
+    mesh = np.stack(np.meshgrid(*axes, indexing="ij", copy=False), axis=-1).reshape(-1, _NDIM)
     return mesh[bounds.valid(mesh)]
 
 
