@@ -874,20 +874,68 @@ def _ec(x) -> str:
     return r
 
 
+_CHECK_RANK = {n: i for i, n in enumerate(CHECK_ORDER)}
+
+
+def _in_check_order(checks) -> list:
+    """``checks`` stably sorted by :data:`CHECK_ORDER` (unknown checks last, in their
+    own order): the order of ``_order(checks, check name, CHECK_ORDER)``, by buckets."""
+    rank, last = _CHECK_RANK, len(CHECK_ORDER)
+    buckets: dict = {}
+    for c in checks:
+        r = rank.get(c.check, last)
+        b = buckets.get(r)
+        if b is None:
+            buckets[r] = [c]
+        else:
+            b.append(c)
+    if len(buckets) == 1:
+        return next(iter(buckets.values()))
+    return [c for r in sorted(buckets) for c in buckets[r]]
+
+
+# Fragments of a check row, escaped once per distinct value (a 10 km job has some
+# 60,000 check rows but only a few hundred distinct names, cases, units and clauses).
+_ROW_HEAD: dict = {}  # (check, case) -> cells up to the opening of the effect cell
+_ROW_MID: dict = {}   # unit -> (decimals, cells from the resistance to the utilization)
+_ROW_TAIL: dict = {}  # (passes, governs, clause or None) -> the closing cells and </tr>
+
+
+def _row_mid(unit) -> tuple:
+    """(decimals, the cells between the resistance and the utilization) of a unit."""
+    r = _ROW_MID.get(unit)
+    if r is None:
+        r = _ROW_MID[unit] = (_decimals(unit), f'</td><td class="t">{_ec(unit)}</td><td>')
+    return r
+
+
 def _check_rows(checks, with_clause: bool = True) -> list[str]:
+    """The ``<tr>`` rows of a check table (see :data:`_CHECK_HEAD`), in check order;
+    the worst entry of its check and combination in bold (``tr.gov``)."""
     rows = []
-    for c in _order(checks, lambda c: c.check, CHECK_ORDER):
-        nd = _decimals(c.unit)
+    heads, tails = _ROW_HEAD, _ROW_TAIL
+    for c in _in_check_order(checks):
+        hk = (c.check, c.case)
+        head = heads.get(hk)
+        if head is None:
+            head = heads[hk] = f'<td class="t">{_ec(c.check)}</td><td class="t">{_ec(c.case)}</td><td>'
+        nd, mid = _row_mid(c.unit)
         u = c.utilization
-        ok = u <= 1.0  # False for NaN
-        cells = (f'<td class="t">{_ec(c.check)}</td><td class="t">{_ec(c.case)}</td>'
-                 f"<td>{_num(c.effect, nd)}</td><td>{_num(c.resistance, nd)}</td>"
-                 f'<td class="t">{_ec(c.unit)}</td><td>{_util(u)}</td>'
-                 + ('<td class="ok">pass</td>' if ok else '<td class="bad">FAILS</td>')
-                 + ('<td class="t">governs</td>' if c.governs else '<td class="t"></td>'))
-        if with_clause:
-            cells += f'<td class="t w">{_ec(c.clause)}</td>'
-        rows.append(f'<tr class="gov">{cells}</tr>' if c.governs else cells)
+        gv = bool(c.governs)
+        tk = (u <= 1.0, gv, c.clause if with_clause else None)  # u <= 1 is False for NaN
+        tail = tails.get(tk)
+        if tail is None:
+            tail = tails[tk] = (
+                "</td>" + ('<td class="ok">pass</td>' if tk[0] else '<td class="bad">FAILS</td>')
+                + ('<td class="t">governs</td>' if gv else '<td class="t"></td>')
+                + (f'<td class="t w">{_ec(c.clause)}</td>' if with_clause else "") + "</tr>")
+        e, r = c.effect, c.resistance
+        tr = '<tr class="gov">' if gv else "<tr>"
+        if type(e) is float and type(r) is float and type(u) is float:
+            # one C-level format; "%.*f" spells nan/inf as _num and _util do
+            rows.append("%s%s%.*f</td><td>%.*f%s%.3f%s" % (tr, head, nd, e, nd, r, mid, u, tail))
+        else:
+            rows.append(f"{tr}{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
     return rows
 
 
@@ -900,15 +948,31 @@ def _table_raw(head, rows) -> str:
 
 _CHECK_HEAD = ["check", "case", "effect", "resistance", "unit", "utilization", "result",
                "worst", "clause"]
+#: The opening of every check table, up to its first row.
+_CHECK_TABLE_OPEN = ("<table><thead><tr>" + "".join(f"<th>{_e(c)}</th>" for c in _CHECK_HEAD)
+                     + "</tr></thead>\n<tbody>\n")
+_COMB_HEADING: dict = {}  # combination -> its <h4>
 
 
 def _checks_by_combination(checks) -> str:
+    """One check table per combination (in :data:`COMBINATION_ORDER`), each under its
+    heading; the checks split by combination in one pass."""
     out = []
-    combos = _order({c.combination for c in checks}, lambda x: x, COMBINATION_ORDER)
-    for comb in combos:
-        sub = [c for c in checks if c.combination == comb]
-        out.append(f"<h4>{_e(comb)}: {_e(COMBINATION_WORDS.get(comb, ''))}</h4>")
-        out.append(_table_raw(_CHECK_HEAD, _check_rows(sub)))
+    by_comb: dict = {}
+    for c in checks:
+        b = by_comb.get(c.combination)
+        if b is None:
+            by_comb[c.combination] = [c]
+        else:
+            b.append(c)
+    for comb in _order(set(by_comb), lambda x: x, COMBINATION_ORDER):
+        h = _COMB_HEADING.get(comb)
+        if h is None:
+            h = _COMB_HEADING[comb] = (f"<h4>{_e(comb)}: "
+                                       f"{_e(COMBINATION_WORDS.get(comb, ''))}</h4>")
+        out.append(h)
+        out.append(_CHECK_TABLE_OPEN + "\n".join(_check_rows(by_comb[comb]))
+                   + "\n</tbody></table>\n")
     return "\n".join(out)
 
 
