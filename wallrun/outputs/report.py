@@ -392,6 +392,10 @@ def run_figure(result) -> bytes | None:
     return data
 
 
+_LINE_END: dict = {}    # (stroke, width, dash) -> the end of a <line> element
+_TEXT_STYLE: dict = {}  # (size, anchor, fill, halo) -> the style attributes of a <text>
+
+
 class _Svg:
     """A small hand-built SVG in world coordinates (m; x to the right, z up), scaled
     to ``width_px``: the world box (x0, z0, x1, z1) fills the picture."""
@@ -410,24 +414,32 @@ class _Svg:
         return (self.z1 - z) * self.k
 
     def poly(self, pts, fill="none", stroke="#000", sw=1.0, extra=""):
-        d = " ".join(f"{self.X(x):.1f},{self.Y(z):.1f}" for x, z in pts)
+        x0, z1, k = self.x0, self.z1, self.k
+        d = " ".join("%.1f,%.1f" % ((x - x0) * k, (z1 - z) * k) for x, z in pts)
         self.parts.append(f'<polygon points="{d}" fill="{fill}" stroke="{stroke}" '
                           f'stroke-width="{sw:g}"{extra}/>')
 
     def line(self, p, q, stroke="#000", sw=0.8, dash=""):
-        da = f' stroke-dasharray="{dash}"' if dash else ""
-        self.parts.append(f'<line x1="{self.X(p[0]):.1f}" y1="{self.Y(p[1]):.1f}" '
-                          f'x2="{self.X(q[0]):.1f}" y2="{self.Y(q[1]):.1f}" '
-                          f'stroke="{stroke}" stroke-width="{sw:g}"{da}/>')
+        key = (stroke, sw, dash)
+        end = _LINE_END.get(key)
+        if end is None:  # the same few styles in every figure: their text built once
+            da = f' stroke-dasharray="{dash}"' if dash else ""
+            end = _LINE_END[key] = f'" stroke="{stroke}" stroke-width="{sw:g}"{da}/>'
+        x0, z1, k = self.x0, self.z1, self.k
+        self.parts.append('<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f%s' % (
+            (p[0] - x0) * k, (z1 - p[1]) * k, (q[0] - x0) * k, (z1 - q[1]) * k, end))
 
     def text(self, x, z, s, size=9.5, anchor="start", fill="#000", rot=0, dy=0.0,
              halo=False):
-        X, Y = self.X(x), self.Y(z) + dy
+        X, Y = (x - self.x0) * self.k, (self.z1 - z) * self.k + dy
+        key = (size, anchor, fill, halo)
+        style = _TEXT_STYLE.get(key)
+        if style is None:
+            h = ' paint-order="stroke" stroke="#fff" stroke-width="3"' if halo else ""
+            style = _TEXT_STYLE[key] = (f'" font-size="{size:g}" text-anchor="{anchor}" '
+                                        f'dominant-baseline="middle" fill="{fill}"{h}')
         tr = f' transform="rotate({-rot:g} {X:.1f} {Y:.1f})"' if rot else ""
-        h = ' paint-order="stroke" stroke="#fff" stroke-width="3"' if halo else ""
-        self.parts.append(f'<text x="{X:.1f}" y="{Y:.1f}" font-size="{size:g}" '
-                          f'text-anchor="{anchor}" dominant-baseline="middle" '
-                          f'fill="{fill}"{h}{tr}>{_e(s)}</text>')
+        self.parts.append('<text x="%.1f" y="%.1f%s%s>%s</text>' % (X, Y, style, tr, _e(s)))
 
     def dim(self, p, q, label, rot=0, side=(0.0, 0.0)):
         """A dimension line from p to q with oblique ticks at both ends and its label
