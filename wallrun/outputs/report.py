@@ -1109,6 +1109,41 @@ def _costs(result) -> str:
     return "\n".join(out)
 
 
+_APX_HEAD: dict = {}  # (governs, check, combination, case) -> cells up to the effect
+_APX_MID: dict = {}   # unit -> (decimals, cells from the resistance to the utilization)
+_APX_TAIL = {(False, False): '</td><td class="bad">FAILS</td></tr>',
+             (False, True): '</td><td class="bad">FAILS</td></tr>',
+             (True, False): "</td><td></td></tr>", (True, True): "</td><td>G</td></tr>"}
+
+
+def _appendix_rows(checks) -> list[str]:
+    """The appendix rows of one panel's checks, in design.json order: the repeated
+    names, cases and units escaped once per distinct value, each row one format."""
+    heads, mids, tails = _APX_HEAD, _APX_MID, _APX_TAIL
+    esc = html.escape
+    rows = []
+    for c in checks:
+        gv = bool(c.governs)
+        hk = (gv, c.check, c.combination, c.case)
+        head = heads.get(hk)
+        if head is None:
+            head = heads[hk] = (('<tr class="gov">' if gv else "<tr>")
+                                + f'<td class="t">{esc(c.check)}</td><td class="t">'
+                                f'{esc(c.combination)}</td><td class="t">{esc(c.case)}</td><td>')
+        m = mids.get(c.unit)
+        if m is None:
+            m = mids[c.unit] = (_decimals(c.unit), f'</td><td class="t">{esc(c.unit)}</td><td>')
+        nd, mid = m
+        u = c.utilization
+        tail = tails[(u <= 1.0, gv)]  # u <= 1 is False for NaN: FAILS
+        e, r = c.effect, c.resistance
+        if type(e) is float and type(r) is float and type(u) is float:
+            rows.append("%s%.*f</td><td>%.*f%s%.3f%s" % (head, nd, e, nd, r, mid, u, tail))
+        else:
+            rows.append(f"{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
+    return rows
+
+
 def _appendix(result, gmap=None) -> str:
     """Every panel's checks, one row per check entry in design.json order. A panel
     that is the governing panel of its section type has every one of its checks in
@@ -1147,19 +1182,7 @@ def _appendix(result, gmap=None) -> str:
                        + ("" if worst is None else f" (highest u {_util(worst)})")
                        + ".</p></div>")
             continue
-        rows = []
-        for c in p.checks:
-            nd = _decimals(c.unit)
-            u = c.utilization
-            tr = '<tr class="gov">' if c.governs else "<tr>"
-            if not u <= 1.0:  # also NaN
-                mark = '<td class="bad">FAILS</td>'
-            else:
-                mark = "<td>G</td>" if c.governs else "<td></td>"
-            rows.append(f'{tr}<td class="t">{esc(c.check)}</td><td class="t">'
-                        f'{esc(c.combination)}</td><td class="t">{esc(c.case)}</td>'
-                        f"<td>{_num(c.effect, nd)}</td><td>{_num(c.resistance, nd)}</td>"
-                        f'<td class="t">{esc(c.unit)}</td><td>{_util(u)}</td>{mark}</tr>')
+        rows = _appendix_rows(p.checks)
         if rows:
             out.append(f"<table>{head}<tbody>{''.join(rows)}</tbody></table></div>")
         else:
