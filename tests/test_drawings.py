@@ -389,3 +389,19 @@ def test_preview_extents_equal_ezdxf_extents(out, name):
     for _name, g in doc.groups:
         ents = [e for e in g if e.dxftype() != "MTEXT"]
         assert _group_box(ents, doc) == pytest.approx(_ezdxf_box(ents), abs=0)
+
+
+def test_quick_creation_gives_the_same_files(tmp_path, result, monkeypatch):
+    """Entities made by drafting.add_entity directly give the same files as entities
+    made through ezdxf's own validating new_entity (CHECKED_CREATION)."""
+    monkeypatch.setattr(ezdxf.options, "write_fixed_meta_data_for_testing", True)
+    files = {}
+    for checked in (False, True):
+        monkeypatch.setattr(d, "CHECKED_CREATION", checked)
+        o = tmp_path / str(checked)
+        o.mkdir()
+        write_sections(result, o / "sections.dxf")
+        write_elevation(result, o / "elevation.dxf")
+        write_plan(result, o / "plan.dxf")
+        files[checked] = {p.name: p.read_bytes() for p in o.iterdir()}
+    assert files[False] == files[True]

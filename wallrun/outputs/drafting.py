@@ -229,7 +229,8 @@ def add_text(msp, text: str, xy, height: float, layer: str,
     attribs = {"layer": layer, "style": TEXT_STYLE, "insert": p}
     if h or v:
         attribs.update(halign=h, valign=v, align_point=p)
-    return msp.add_text(text, height=height, rotation=rotation, dxfattribs=attribs)
+    attribs.update(text=str(text), height=float(height), rotation=float(rotation))
+    return add_entity(msp, "TEXT", attribs)
 
 
 _SAVED: dict = {}
@@ -714,3 +715,61 @@ def write_document(doc, path) -> None:
     doc.filename = str(path)
     with open(str(path), "wt", encoding=doc.output_encoding, errors="dxfreplace") as f:
         f.write(document_text(doc))
+
+
+# --- quick entity creation -------------------------------------------------------------
+#
+# ezdxf's ``layout.add_*`` passes each attribute through a validating setter (a cast,
+# a validity check, change events): about as costly as writing the entity. The
+# drawings' own attributes are made here, valid by construction, so
+# :func:`add_entity` casts them by group code as that setter does and stores them
+# directly. ``CHECKED_CREATION = True`` builds every entity through ezdxf's own
+# ``new_entity`` instead; tests/test_drawings.py checks both give the same file.
+
+CHECKED_CREATION = False
+
+
+def add_entity(layout, dxftype: str, attribs: dict, points=None):
+    """A new graphic entity ``dxftype`` with ``attribs`` in ``layout`` (modelspace or
+    a block), as ``layout.new_entity`` makes it; ``points`` (n, 5) rows x, y, start
+    width, end width, bulge are the vertices of an LWPOLYLINE."""
+    if CHECKED_CREATION:
+        e = layout.new_entity(dxftype, dict(attribs))
+        if points is not None:
+            e.set_points([tuple(p) for p in points], format="xyseb")
+        return e
+    from ezdxf.entities import factory
+    from ezdxf.entities.dxfns import SETTER_EVENTS
+    from ezdxf.lldxf.types import cast_value
+
+    cls = factory.ENTITY_CLASSES[dxftype]
+    e = cls()
+    ns = e.dxf.__dict__
+    ns["handle"] = None
+    ns["owner"] = None
+    defs = e.dxf.dxfattribs
+    events = []
+    for k, v in {**cls.DEFAULT_ATTRIBS, **attribs}.items():
+        ns[k] = cast_value(defs.get(k).code, v)
+        if k in SETTER_EVENTS:
+            events.append((SETTER_EVENTS[k], ns[k]))
+    for name, v in events:
+        handler = getattr(e, name, None)
+        if handler:
+            handler(v)
+    if points is not None:
+        e.lwpoints.values = np.asarray(points, dtype=np.float64).reshape(-1, 5)
+    e.post_new_hook()
+    factory.bind(e, layout.doc)
+    layout.add_entity(e)
+    return e
+
+
+def lw_rows(pts, bulges=None) -> np.ndarray:
+    """LWPOLYLINE vertex rows (x, y, 0, 0, bulge) of points ``pts``."""
+    a = np.zeros((len(pts), 5))
+    if len(pts):
+        a[:, :2] = np.asarray(pts, dtype=float)[:, :2]
+    if bulges is not None:
+        a[:, 4] = bulges
+    return a

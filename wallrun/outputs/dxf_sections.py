@@ -29,7 +29,9 @@ base, m (design-basis section 2). A cell holds:
 - level labels (top of wall, retained level, front ground, underside of base) and
   the design conditions of the governing panel.
 
-Each cell's entities form a DXF group ``WALLRUN-SECTION-<type>``.
+Each cell's entities form a DXF group ``WALLRUN-SECTION-<type>``. Entities are made
+with ``drafting.add_entity`` (attributes stored directly, the same entities as
+ezdxf's ``add_*`` make) and the file written by ``drafting.save_document``.
 """
 
 from __future__ import annotations
@@ -111,11 +113,14 @@ class _Cell:
         return (self.ox + float(x), self.oy + float(z))
 
     def poly(self, pts, layer, close=False):
-        return self.msp.add_lwpolyline([self.pt(x, z) for x, z in pts], close=close,
-                                       dxfattribs={"layer": layer})
+        a = d.lw_rows(pts)
+        a[:, 0] += self.ox
+        a[:, 1] += self.oy
+        return d.add_entity(self.msp, "LWPOLYLINE", {"layer": layer, "flags": int(close)}, a)
 
     def line(self, p, q, layer):
-        return self.msp.add_line(self.pt(*p), self.pt(*q), dxfattribs={"layer": layer})
+        return d.add_entity(self.msp, "LINE", {"layer": layer, "start": self.pt(*p),
+                                               "end": self.pt(*q)})
 
     def text(self, s, x, z, layer, align=A.MIDDLE_LEFT, mm=d.SMALL_MM, rotation=0.0):
         return d.add_text(self.msp, s, self.pt(x, z), self.P(mm), layer, align, rotation)
@@ -136,16 +141,18 @@ class _Cell:
                     j += 1
                 j += 1
             cnt = j - i
-            ins = self.msp.add_blockref(blk, self.pt(xs[i], zs[i]),
-                                        dxfattribs={"layer": d.L_DOTS})
+            attribs = {"layer": d.L_DOTS, "name": blk, "insert": self.pt(xs[i], zs[i])}
             if cnt > 1:
                 dx, dz = xs[i + 1] - xs[i], zs[i + 1] - zs[i]
-                ins.dxf.rotation = math.degrees(math.atan2(dz, dx))
-                ins.grid(size=(1, cnt), spacing=(1.0, math.hypot(dx, dz)))
+                attribs.update(rotation=math.degrees(math.atan2(dz, dx)), row_count=1,
+                               column_count=cnt, row_spacing=1.0,
+                               column_spacing=math.hypot(dx, dz))
+            d.add_entity(self.msp, "INSERT", attribs)
             i = j
 
     def circle(self, x, z, r, layer):
-        return self.msp.add_circle(self.pt(x, z), r, dxfattribs={"layer": layer})
+        return d.add_entity(self.msp, "CIRCLE", {"layer": layer, "center": self.pt(x, z),
+                                                 "radius": float(r)})
 
     def dim(self, name, p1, p2, base, vertical=False):
         """A linear DIMENSION named by XDATA, with its own minimal geometry block
@@ -159,11 +166,12 @@ class _Cell:
         """One MTEXT of ``lines`` with its top left (``attach`` 1; 3: top right) at
         (x, z), lines ``pitch_mm`` apart on paper (exact spacing)."""
         text = "\\P".join(_mtext_escape(str(t)) for t in lines)
-        m = self.msp.add_mtext(text, dxfattribs={
+        m = d.add_entity(self.msp, "MTEXT", {
             "layer": layer, "style": d.TEXT_STYLE, "char_height": self.P(mm),
             "insert": self.pt(x, z), "attachment_point": attach,
             "line_spacing_style": 2,  # exact
             "line_spacing_factor": pitch_mm / (mm * 5.0 / 3.0)})
+        m.text = text
         return m
 
     def leader(self, start, anchor, r, layer):
@@ -175,9 +183,8 @@ class _Cell:
         ex, ez = ((sx - ax) / L, (sz - az) / L) if L > 1e-12 else (1.0, 0.0)
         c1 = (ax + r * ex, az + r * ez)
         c2 = (ax - r * ex, az - r * ez)
-        return self.msp.add_lwpolyline(
-            [(sx, sz, 0.0), (c1[0], c1[1], 1.0), (c2[0], c2[1], 1.0), (c1[0], c1[1], 0.0)],
-            format="xyb", dxfattribs={"layer": layer})
+        rows = d.lw_rows([(sx, sz), c1, c2, c1], bulges=(0.0, 1.0, 1.0, 0.0))
+        return d.add_entity(self.msp, "LWPOLYLINE", {"layer": layer, "flags": 0}, rows)
 
     def level_tag(self, label, x, z, left=False):
         """Small downward triangle at (x, z) and the label beside it."""
@@ -244,11 +251,13 @@ def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
     off = z["gap"] + z["txt"] / 2
     mid = ((d1[0] + d2[0]) / 2 + nx * off, (d1[1] + d2[1]) / 2 + ny * off)
     blk = doc.blocks.new_anonymous_block(type_char="D")
-    blk.add_lwpolyline(path, dxfattribs={"layer": "0", "color": z["clrd"]})
-    blk.add_text(f"{meas * z['lfac']:.{z['dec']}f}", height=z["txt"], rotation=angle_deg,
-                 dxfattribs={"layer": "0", "color": z["clrt"], "style": d.TEXT_STYLE,
-                             "halign": 1, "valign": 2, "insert": mid, "align_point": mid})
-    dim = msp.new_entity("DIMENSION", dxfattribs={
+    d.add_entity(blk, "LWPOLYLINE", {"layer": "0", "color": z["clrd"], "flags": 0},
+                 d.lw_rows(path))
+    d.add_entity(blk, "TEXT", {
+        "text": f"{meas * z['lfac']:.{z['dec']}f}", "height": float(z["txt"]),
+        "rotation": float(angle_deg), "layer": "0", "color": z["clrt"],
+        "style": d.TEXT_STYLE, "halign": 1, "valign": 2, "insert": mid, "align_point": mid})
+    dim = d.add_entity(msp, "DIMENSION", {
         "layer": d.L_DIMS, "dimstyle": d.DIM_STYLE, "geometry": blk.name,
         "dimtype": 32,  # linear (0) with a block of its own (32)
         "defpoint": d2, "defpoint2": p1, "defpoint3": p2, "angle": angle_deg,
