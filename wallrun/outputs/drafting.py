@@ -561,37 +561,53 @@ def _compile(entity, names, dxfversion):
 
 
 def _plan(entity, dxfversion):
-    """The compiled export plan of the entity's class (made once per class)."""
+    """The compiled export plan of the entity's class (made once per class): for the
+    AcDbEntity attributes, each part and the MTEXT tail, a function appending their
+    tags (see :func:`_writer_of`)."""
     key = (type(entity), dxfversion)
     plan = _COMPILED.get(key)
     if plan is None:
         t = entity.dxftype()
-        plan = {"entity": _compile(entity, _ACDB_ENTITY, dxfversion),
-                "parts": [(m, _compile(entity, names, dxfversion)) for m, names in _PLANS[t]]}
+        plan = {"entity": _writer_of(_compile(entity, _ACDB_ENTITY, dxfversion)),
+                "parts": [(m, _writer_of(_compile(entity, names, dxfversion)))
+                          for m, names in _PLANS[t]],
+                "extrusion": _writer_of(_compile(entity, ["extrusion"], dxfversion))}
         if t == "MTEXT":
-            plan["tail"] = _compile(entity, _MTEXT_TAIL, dxfversion)
+            plan["tail"] = _writer_of(_compile(entity, _MTEXT_TAIL, dxfversion))
         _COMPILED[key] = plan
     return plan
 
 
-def _put(out, values: dict, compiled) -> None:
-    """Append the tags of ``compiled`` attributes of ``values`` (ezdxf's rules)."""
-    for name, code, optional, default, kind, cast in compiled:
-        v = values.get(name)
-        if v is None:
-            if optional:
-                continue
-            v = default
-            if v is None:
-                continue
-        elif optional and default is not None and default == v:
-            continue
-        if kind:
-            comps = (v[0], v[1]) if kind == 2 and len(v) > 2 else v
-            for i, c in enumerate(comps):
-                out.append("%3d\n%s\n" % (code + 10 * i, float(c)))
+def _writer_of(compiled):
+    """A function ``f(values, out)`` appending the tags of the ``compiled`` attributes
+    of ``values`` to ``out`` by ezdxf's rules: an unset required attribute is written
+    with its default (none if that is None), an optional one is left out when unset
+    or equal to its default; points as their components (x, y only for 2D points),
+    other values cast by group code. Generated as Python source once per attribute
+    list, so that each attribute costs a few direct operations."""
+    env: dict = {}
+    src = ["def f(values, out):", "    g = values.get", "    a = out.append"]
+    for k, (name, code, optional, default, kind, cast) in enumerate(compiled):
+        env[f"D{k}"], env[f"C{k}"] = default, cast
+        src.append(f"    v = g({name!r})")
+        if optional:
+            cond = "v is not None" + (f" and not (D{k} == v)" if default is not None else "")
+            src.append(f"    if {cond}:")
         else:
-            out.append("%3d\n%s\n" % (code, cast(v)))
+            src.append("    if v is None:")
+            src.append(f"        v = D{k}")
+            src.append("    if v is not None:")
+        if kind == 2:
+            src.append(f"        a('{code:3d}\\n%s\\n{code + 10:3d}\\n%s\\n' "
+                       "% (float(v[0]), float(v[1])))")
+        elif kind == 3:
+            src.append("        for i, c in enumerate(v):")
+            src.append(f"            a('%3d\\n%s\\n' % ({code} + 10 * i, float(c)))")
+        else:
+            src.append(f"        a('{code:3d}\\n%s\\n' % C{k}(v))")
+    src.append("    return None")
+    exec("\n".join(src), env)  # noqa: S102 - source built here from ezdxf's tables
+    return env["f"]
 
 
 def _fast_entity(e, out, dxfversion) -> bool:
@@ -616,7 +632,7 @@ def _fast_entity(e, out, dxfversion) -> bool:
         out.extend("330\n%s\n" % h for h in e.reactors.get())
         out.append("102\n}\n")
     out.append("330\n%s\n100\nAcDbEntity\n" % values.get("owner", "0"))
-    _put(out, values, plan["entity"])
+    plan["entity"](values, out)
     for marker, compiled in plan["parts"]:
         if marker is None:  # INSERT: block reference or grid of them
             grid = values.get("column_count", 1) > 1 or values.get("row_count", 1) > 1
@@ -626,22 +642,22 @@ def _fast_entity(e, out, dxfversion) -> bool:
             if not len(e.lwpoints):
                 del out[mark:]
                 return True  # ezdxf writes no polyline without vertices either
-            _put(out, {**values, "count": len(e.lwpoints)}, compiled)
+            compiled({**values, "count": len(e.lwpoints)}, out)
             for x, y, sw, ew, b in e.lwpoints:
                 out.append(" 10\n%s\n 20\n%s\n" % (x, y))
                 if sw or ew:
                     out.append(" 40\n%s\n 41\n%s\n" % (sw, ew))
                 if b:
                     out.append(" 42\n%s\n" % b)
-            _put(out, values, _compile(e, ["extrusion"], dxfversion))
+            plan["extrusion"](values, out)
             continue
-        _put(out, values, compiled)
+        compiled(values, out)
         if t == "MTEXT":
             from ezdxf.entities.mtext import escape_dxf_line_endings, split_mtext_string
             chunks = split_mtext_string(escape_dxf_line_endings(e.text), size=250) or [""]
             out.extend("  3\n%s\n" % c for c in chunks[:-1])
             out.append("  1\n%s\n" % chunks[-1])
-            _put(out, values, plan["tail"])
+            plan["tail"](values, out)
     if e.xdata:
         _ezdxf_tags(out, e.xdata.export_dxf, dxfversion)
     return True
