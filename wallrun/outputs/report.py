@@ -799,6 +799,52 @@ def _basis(result) -> str:
     return "\n".join(out)
 
 
+_STATUS_CELL = {"ok": '<td class="ok">ok</td>'}  # status -> its cell (_status_cell)
+_TYPE_DIMS = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
+              "base_thickness_m", "key_depth_m", "key_width_m")
+_TYPE_ROW = ('<td class="t">%s</td>' + "<td>%.3f</td>" * len(_TYPE_DIMS)
+             + '<td>%d</td><td>%.2f</td><td class="t">%s</td><td>%.3f</td>')
+
+
+def _status_cell_of(status) -> str:
+    """:func:`_status_cell`, remembered per status word."""
+    r = _STATUS_CELL.get(status)
+    if r is None:
+        r = _STATUS_CELL[status] = _status_cell(status)
+    return r
+
+
+def _type_row(st, lengths) -> str:
+    """A row of the section-type table: name, dimensions (m, 3 decimals), number and
+    total length of its panels, governing check and utilization."""
+    s = st.section
+    try:
+        return _TYPE_ROW % ((_ec(st.section_type),) + tuple(getattr(s, k) for k in _TYPE_DIMS)
+                            + (len(lengths), sum(lengths), _ec(st.governing), st.utilization))
+    except TypeError:  # a value that is not a number: cell by cell
+        return (_td(_e(st.section_type), "t")
+                + "".join(_td(_num(getattr(s, k), 3)) for k in _TYPE_DIMS)
+                + _td(len(lengths)) + _td(_num(sum(lengths)))
+                + _td(_e(st.governing), "t") + _td(_util(st.utilization)))
+
+
+_JOINT_ROW = ('<td class="t">%s</td><td>%.3f</td><td class="t">%s</td><td class="t">%s</td>'
+              '<td>%.3f</td><td>%.3f</td><td>%.3f</td>%s<td class="t w">%s</td>')
+
+
+def _joint_row(j) -> str:
+    """A row of the joints table."""
+    try:
+        return _JOINT_ROW % (_e(j.joint), j.ch_m, _ec(j.left), _ec(j.right), j.founding_step_m,
+                             j.top_step_m, j.pressure_ratio, _status_cell_of(j.status),
+                             _ec(j.reason))
+    except TypeError:  # a value that is not a number: cell by cell
+        return (_td(_e(j.joint), "t") + _td(_num(j.ch_m, 3)) + _td(_e(j.left), "t")
+                + _td(_e(j.right), "t") + _td(_num(j.founding_step_m, 3))
+                + _td(_num(j.top_step_m, 3)) + _td(_num(j.pressure_ratio, 3))
+                + _status_cell(j.status) + _td(_e(j.reason), "t w"))
+
+
 def _run(result, figures) -> str:
     out = ['<section class="part landscape" id="run"><h2>2. The run</h2>']
     if result.runs:
@@ -820,13 +866,7 @@ def _run(result, figures) -> str:
     out.append(_table(
         ["type", "stem top", "stem base", "base B", "toe", "heel", "base t", "key d",
          "key w", "panels", "length (m)", "governing", "utilization"],
-        [_td(_e(st.section_type), "t")
-         + "".join(_td(_num(getattr(st.section, k), 3)) for k in (
-             "stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
-             "base_thickness_m", "key_depth_m", "key_width_m"))
-         + _td(len(counts.get(st.section_type, ()))) + _td(_num(sum(counts.get(st.section_type, ()))))
-         + _td(_e(st.governing), "t") + _td(_util(st.utilization))
-         for st in result.section_types]))
+        [_type_row(st, counts.get(st.section_type, ())) for st in result.section_types]))
     out.append("<h3>Panel schedule</h3>")
     out.append('<p class="note">The columns of panels.csv, in two tables of one row a '
                "panel: levels and lengths in m, utilizations to 3 decimals, concrete m3, "
@@ -836,23 +876,36 @@ def _run(result, figures) -> str:
     split = PANEL_COLUMNS.index("section")
     groups = (PANEL_COLUMNS[:split], ("panel",) + PANEL_COLUMNS[split:])
     rendered = [panel_row(p) for p in result.panels]
+    decimals = {"steel_kg": 1, "cost": 2}  # else 3
     for g, title in zip(groups, ("extent and levels", "section, results and take-off")):
+        def cell(k, v):
+            """One cell of column ``k`` (the rule of every row, one value at a time)."""
+            if k == "status":
+                return _status_cell(v)
+            if k in text:
+                return _td(_e(v), "t w" if k in ("reason", "governing") else "t")
+            if k in num3:
+                return _td(_util(v))
+            if k == "run":
+                return _td(_e(v))
+            return _td(_num(v, decimals.get(k, 3)))
+
+        # The same rule as one format a row: text and status cells take their escaped
+        # words, number cells format the values themselves; a row holding a value that
+        # is not a number (None, text) is spelled out by ``cell``.
+        fmt = "".join(_td("%s", "t w" if k in ("reason", "governing") else "t") if k in text
+                      else "%s" if k == "status" else _td("%.3f") if k in num3
+                      else _td("%s") if k == "run"
+                      else _td(f"%.{decimals.get(k, 3)}f") for k in g)
+        words = {k for k in g if k in text or k in ("status", "run")}
         rows = []
         for r in rendered:
-            cells = []
-            for k in g:
-                v = r[k]
-                if k == "status":
-                    cells.append(_status_cell(v))
-                elif k in text:
-                    cells.append(_td(_e(v), "t w" if k in ("reason", "governing") else "t"))
-                elif k in num3:
-                    cells.append(_td(_util(v)))
-                elif k == "run":
-                    cells.append(_td(_e(v)))
-                else:
-                    cells.append(_td(_num(v, {"steel_kg": 1, "cost": 2}.get(k, 3))))
-            rows.append("".join(cells))
+            try:
+                args = tuple(_status_cell_of(r[k]) if k == "status" else
+                             _ec(r[k]) if k in words else r[k] for k in g)
+                rows.append(fmt % args)
+            except TypeError:
+                rows.append("".join([cell(k, r[k]) for k in g]))
         out.append(f"<h4>Panel schedule: {title}</h4>")
         out.append(_table(list(g), rows, "wide"))
     out.append("<h3>Joints</h3>")
@@ -860,10 +913,7 @@ def _run(result, figures) -> str:
         out.append(_table(
             ["joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
              "pressure_ratio", "status", "reason"],
-            [_td(_e(j.joint), "t") + _td(_num(j.ch_m, 3)) + _td(_e(j.left), "t")
-             + _td(_e(j.right), "t") + _td(_num(j.founding_step_m, 3))
-             + _td(_num(j.top_step_m, 3)) + _td(_num(j.pressure_ratio, 3))
-             + _status_cell(j.status) + _td(_e(j.reason), "t w") for j in result.joints]))
+            [_joint_row(j) for j in result.joints]))
         wall = getattr(result.site, "wall", None)
         if wall is not None:
             out.append(f'<p class="note">Limits: founding step {wall.max_founding_step_m:g} m, '
@@ -880,6 +930,8 @@ _ESC: dict = {}
 
 def _ec(x) -> str:
     """:func:`_e` with a cache, for the few strings repeated in every check row."""
+    if type(x) is not str:  # (1, 1.0 and True are one dict key)
+        return _e(x)
     r = _ESC.get(x)
     if r is None:
         r = _ESC[x] = _e(x)
