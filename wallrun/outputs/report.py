@@ -1040,6 +1040,57 @@ def _checks_by_combination(checks) -> str:
     return "\n".join(out)
 
 
+_ACTION_ROW = ('<td class="t">%s</td><td class="t">%s</td><td>%.2f</td><td>%.2f</td>'
+               "<td>%.3f</td><td>%.3f</td><td>%.2f</td>")
+
+
+def _action_row(a) -> str:
+    """A row of the characteristic actions table."""
+    try:
+        return _ACTION_ROW % (_ec(a.name), _ec(a.kind), a.vertical_kn_m, a.horizontal_kn_m,
+                              a.x_m, a.z_m, a.moment_kn_m_m)
+    except TypeError:  # a value that is not a number: cell by cell
+        return (_td(_e(a.name), "t") + _td(_e(a.kind), "t") + _td(_num(a.vertical_kn_m))
+                + _td(_num(a.horizontal_kn_m)) + _td(_num(a.x_m, 3)) + _td(_num(a.z_m, 3))
+                + _td(_num(a.moment_kn_m_m)))
+
+
+_MEMBER_CELLS: dict = {}  # member -> its name and position cells
+_BAR_SET_ROW = "%s<td>%g mm</td><td>%g mm</td><td>%.0f</td><td>%.0f</td><td>%.0f</td>%s"
+_ENOUGH = ('<td class="bad">SHORT</td>', '<td class="ok">enough</td>')
+
+
+def _bar_set_row(m: str, b) -> str:
+    """A row of the reinforcement table: member ``m`` and its bar set ``b``."""
+    cells = _MEMBER_CELLS.get(m)
+    if cells is None:
+        cells = _MEMBER_CELLS[m] = (_td(_e(m), "t")
+                                    + _td(_e(MEMBER_WORDS.get(m, "")), "t w"))
+    ok = b.as_prov_mm2_per_m >= b.as_req_mm2_per_m - 1e-9
+    try:
+        return _BAR_SET_ROW % (cells, b.bar_mm, b.spacing_mm, b.as_prov_mm2_per_m,
+                               b.as_req_mm2_per_m, b.d_mm, _ENOUGH[bool(ok)])
+    except TypeError:  # a value that is not a number: cell by cell
+        return (cells + _td(f"{b.bar_mm:g} mm") + _td(f"{b.spacing_mm:g} mm")
+                + _td(_num(b.as_prov_mm2_per_m, 0)) + _td(_num(b.as_req_mm2_per_m, 0))
+                + _td(_num(b.d_mm, 0)) + _ENOUGH[bool(ok)])
+
+
+_BAR_MARK_ROW = ('<td class="t">%s</td><td class="t">%s</td><td>%s</td><td class="t">%s</td>'
+                 "<td>%s</td><td>%s</td><td>%.2f</td><td>%.2f</td>")
+
+
+def _bar_mark_row(b) -> str:
+    """A row of a type's bar-mark table."""
+    try:
+        return _BAR_MARK_ROW % (_ec(b.member), _e(b.bar_mark), b.bar_mm, _ec(b.shape_code),
+                                b.length_mm, b.number, b.total_length_m, b.mass_kg)
+    except TypeError:  # a value that is not a number: cell by cell
+        return (_td(_e(b.member), "t") + _td(_e(b.bar_mark), "t") + _td(b.bar_mm)
+                + _td(_e(b.shape_code), "t") + _td(b.length_mm) + _td(b.number)
+                + _td(_num(b.total_length_m)) + _td(_num(b.mass_kg)))
+
+
 def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
     sid = f"type-{st.section_type}"
     out = [f'<section class="sectype" id="{_e(sid)}"><h2>3.{k} Section type '
@@ -1065,9 +1116,7 @@ def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
     acts = tuple(result.actions.get(st.section_type, ()) or ())
     out.append("<h3>Characteristic actions at the governing panel</h3>")
     if acts:
-        rows = [_td(_e(a.name), "t") + _td(_e(a.kind), "t") + _td(_num(a.vertical_kn_m))
-                + _td(_num(a.horizontal_kn_m)) + _td(_num(a.x_m, 3)) + _td(_num(a.z_m, 3))
-                + _td(_num(a.moment_kn_m_m)) for a in acts]
+        rows = [_action_row(a) for a in acts]
         sv = sum(a.vertical_kn_m for a in acts)
         sh = sum(a.horizontal_kn_m for a in acts)
         sm = sum(a.moment_kn_m_m for a in acts)
@@ -1095,12 +1144,7 @@ def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
         b = getattr(rf, m, None)
         if b is None:
             continue
-        ok = b.as_prov_mm2_per_m >= b.as_req_mm2_per_m - 1e-9
-        rows.append(_td(_e(m), "t") + _td(_e(MEMBER_WORDS.get(m, "")), "t w")
-                    + _td(f"{b.bar_mm:g} mm") + _td(f"{b.spacing_mm:g} mm")
-                    + _td(_num(b.as_prov_mm2_per_m, 0)) + _td(_num(b.as_req_mm2_per_m, 0))
-                    + _td(_num(b.d_mm, 0))
-                    + f'<td class="{"ok" if ok else "bad"}">{"enough" if ok else "SHORT"}</td>')
+        rows.append(_bar_set_row(m, b))
     out.append(_table_raw(["member", "position", "bar", "spacing", "As,prov (mm2/m)",
                            "As,req (mm2/m)", "d (mm)", "As,prov >= As,req"], rows))
     if getattr(rf, "stem_curtail_m", None) is not None:
@@ -1118,9 +1162,7 @@ def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
         out.append(_table(
             ["member", "bar mark", "bar (mm)", "shape code", "length (mm)", "number",
              "total length (m)", "mass (kg)"],
-            [_td(_e(b.member), "t") + _td(_e(b.bar_mark), "t") + _td(b.bar_mm)
-             + _td(_e(b.shape_code), "t") + _td(b.length_mm) + _td(b.number)
-             + _td(_num(b.total_length_m)) + _td(_num(b.mass_kg)) for b in marks]))
+            [_bar_mark_row(b) for b in marks]))
     used = list(st.panels) or [p.panel.panel for p in result.panels
                                if p.section_type == st.section_type]
     out.append(f"<h3>Panels using type {_e(st.section_type)} ({len(used)})</h3>")
