@@ -536,3 +536,26 @@ def test_no_wall_needed_still_renders():
     p = parse(page)
     assert p.errors == [] and p.stack == []
     assert "Preliminary design aid" in page and "No joints between panels" in page
+
+
+def test_section_outlines_are_the_section_polygons():
+    """The cross-section figures draw section.polygons' exterior rings, vertex for
+    vertex (report.section_outlines builds them without shapely)."""
+    from wallrun.section import polygons
+    rng = np.random.default_rng(11)
+    for i in range(300):
+        stem_base = round(float(rng.uniform(0.2, 0.8)), 2)
+        stem_top = stem_base if i % 5 == 0 else round(float(rng.uniform(0.2, stem_base)), 2)
+        toe = 0.0 if i % 7 == 0 else round(float(rng.uniform(0.1, 1.5)), 2)
+        heel = round(float(rng.uniform(0.05, 3.0)), 2)
+        key = i % 3 == 0
+        s = Section(stem_top, stem_base, toe + stem_base + heel, toe,
+                    round(float(rng.uniform(0.2, 0.8)), 2),
+                    round(float(rng.uniform(0.2, 0.6)), 2) if key else 0.0,
+                    round(float(rng.uniform(0.2, min(0.6, stem_base + heel))), 2) if key else 0.0)
+        hc = float(rng.uniform(0.5, 6.0))
+        hd = hc + (0.0 if i % 2 else float(rng.uniform(0.0, 1.0)))
+        beta = 0.0 if i % 4 == 0 else float(rng.uniform(0.0, 30.0))
+        want = {k: list(v.exterior.coords)[:-1] for k, v in polygons(s, hd, hc, beta).items()
+                if not v.is_empty}
+        assert report.section_outlines(s, hd, hc, beta) == want
