@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
+import weakref
 from dataclasses import dataclass
 
 import ezdxf
@@ -754,6 +755,15 @@ def add_entity(layout, dxftype: str, attribs: dict, points=None):
         if points is not None:
             e.set_points([tuple(p) for p in points], format="xyseb")
         return e
+    e = new_db_entity(layout.doc, dxftype, attribs, points)
+    layout.add_entity(e)
+    return e
+
+
+def new_db_entity(doc, dxftype: str, attribs: dict, points=None):
+    """A new entity ``dxftype`` with ``attribs`` in the entity database of ``doc``, as
+    ezdxf's ``factory.create_db_entry`` makes it, its attributes cast by group code
+    and stored directly (see :func:`add_entity`)."""
     from ezdxf.entities import factory
     from ezdxf.entities.dxfns import SETTER_EVENTS
     from ezdxf.lldxf.types import cast_value
@@ -776,9 +786,60 @@ def add_entity(layout, dxftype: str, attribs: dict, points=None):
     if points is not None:
         e.lwpoints.values = np.asarray(points, dtype=np.float64).reshape(-1, 5)
     e.post_new_hook()
-    factory.bind(e, layout.doc)
-    layout.add_entity(e)
+    factory.bind(e, doc)
     return e
+
+
+def new_anonymous_block(doc, type_char: str = "U"):
+    """A new anonymous block layout (``*<type_char><n>``), as
+    ``doc.blocks.new_anonymous_block`` makes it, from entities made by
+    :func:`new_db_entity`."""
+    from ezdxf.lldxf.const import BLK_ANONYMOUS
+
+    if CHECKED_CREATION:
+        return doc.blocks.new_anonymous_block(type_char=type_char)
+    name = doc.blocks.anonymous_block_name(type_char)  # an unused name
+    table = doc.block_records
+    br = new_db_entity(doc, "BLOCK_RECORD", {"name": name, "owner": table._head.dxf.handle})
+    table._append(br)
+    owner = br.dxf.handle
+    head = new_db_entity(doc, "BLOCK", {"flags": BLK_ANONYMOUS, "owner": owner,
+                                        "name": name, "base_point": (0.0, 0.0, 0.0)})
+    tail = new_db_entity(doc, "ENDBLK", {"owner": owner})
+    br.set_block(head, tail)
+    return doc.blocks.add(br)
+
+
+def new_group(doc, name: str, entities, description: str = ""):
+    """A new named, selectable GROUP of ``entities`` (graphic entities of one layout),
+    as ``doc.groups.new(name, description).set_data(entities)`` makes it, without
+    that method's search of every existing group name (a drawing with hundreds of
+    groups spent most of their time there) and re-validation of entities made just
+    before. Names are case-insensitive and unique per document."""
+    if CHECKED_CREATION:
+        grp = doc.groups.new(name, description=description)
+        grp.set_data(entities)
+        return grp
+    from ezdxf.lldxf.const import DXFValueError
+
+    names = _GROUP_NAMES.get(doc)
+    if names is None or len(names) != len(doc.groups):  # groups made elsewhere too
+        names = _GROUP_NAMES[doc] = {n.upper() for n, _g in doc.groups}
+    key = name.upper()
+    if key in names:
+        raise DXFValueError(f"GROUP '{name}' already exists.")
+    grp = doc.groups._new(name, {"description": description, "unnamed": 0,
+                                  "selectable": 1})
+    names.add(key)
+    ents = list(entities)
+    h = grp.dxf.handle
+    for e in ents:
+        e.append_reactor_handle(h)
+    grp._data = ents
+    return grp
+
+
+_GROUP_NAMES: "weakref.WeakKeyDictionary" = weakref.WeakKeyDictionary()  # doc -> names
 
 
 def lw_rows(pts, bulges=None) -> np.ndarray:

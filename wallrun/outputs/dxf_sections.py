@@ -250,7 +250,7 @@ def _dimension(doc, msp, name, p1, p2, base, angle_deg, z: dict):
             d2, (d2[0] - tx, d2[1] - ty), (d2[0] + tx, d2[1] + ty), d2, e2, s2]
     off = z["gap"] + z["txt"] / 2
     mid = ((d1[0] + d2[0]) / 2 + nx * off, (d1[1] + d2[1]) / 2 + ny * off)
-    blk = doc.blocks.new_anonymous_block(type_char="D")
+    blk = d.new_anonymous_block(doc, "D")
     d.add_entity(blk, "LWPOLYLINE", {"layer": "0", "color": z["clrd"], "flags": 0},
                  d.lw_rows(path))
     d.add_entity(blk, "TEXT", {
@@ -604,9 +604,8 @@ def write_sections(result, path) -> None:
         _draw_cell(cell, result, st, gmap[st.section_type],
                    rows_of.get(st.section_type, []), B_max)
         ents = [msp[i] for i in range(start, len(msp))]
-        grp = doc.groups.new(f"{d.SECTION_GROUP_PREFIX}{st.section_type}",
-                             description=f"section {st.section_type}")
-        grp.set_data(ents)
+        d.new_group(doc, f"{d.SECTION_GROUP_PREFIX}{st.section_type}", ents,
+                    description=f"section {st.section_type}")
     nrows = max(1, math.ceil(len(types) / ncols))
     if not types:
         d.add_text(msp, "No section types to draw.", (0.0, 0.0), P(d.TITLE_MM), d.L_TITLES)
