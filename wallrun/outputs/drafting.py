@@ -756,7 +756,14 @@ def add_entity(layout, dxftype: str, attribs: dict, points=None):
             e.set_points([tuple(p) for p in points], format="xyseb")
         return e
     e = new_db_entity(layout.doc, dxftype, attribs, points)
-    layout.add_entity(e)
+    br = layout.block_record  # as BlockRecord.add_entity: owner, paperspace flag
+    ns = e.dxf.__dict__
+    ns["owner"] = br.dxf.handle
+    if br.is_any_paperspace:
+        ns["paperspace"] = 1
+    else:
+        ns.pop("paperspace", None)
+    br.entity_space.add(e)
     return e
 
 
@@ -786,7 +793,14 @@ def new_db_entity(doc, dxftype: str, attribs: dict, points=None):
     if points is not None:
         e.lwpoints.values = np.asarray(points, dtype=np.float64).reshape(-1, 5)
     e.post_new_hook()
-    factory.bind(e, doc)
+    # as factory.bind for a new entity without an extension dictionary
+    db = doc.entitydb
+    e.doc = doc
+    ns["handle"] = h = db.next_handle()
+    db[h] = e
+    if hasattr(e, "add_sub_entities_to_entitydb"):
+        e.add_sub_entities_to_entitydb(db)
+    e.post_bind_hook()
     return e
 
 
