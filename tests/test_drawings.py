@@ -404,4 +404,12 @@ def test_quick_creation_gives_the_same_files(tmp_path, result, monkeypatch):
         write_elevation(result, o / "elevation.dxf")
         write_plan(result, o / "plan.dxf")
         files[checked] = {p.name: p.read_bytes() for p in o.iterdir()}
+        # the documents in memory too (the previews draw them): every database
+        # entity, SEQENDs of INSERTs included, with the same attributes and reactors
+        doc = d.saved_document(o / "sections.dxf")
+        files[checked]["memory"] = [
+            (e.dxftype(), repr(sorted((k, str(v)) for k, v in
+                                      e.dxf.all_existing_dxf_attribs().items())),
+             tuple(e.reactors.get()) if e.reactors else ())
+            for e in doc.entitydb.values()]
     assert files[False] == files[True]

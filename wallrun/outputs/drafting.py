@@ -757,14 +757,24 @@ def add_entity(layout, dxftype: str, attribs: dict, points=None):
         return e
     e = new_db_entity(layout.doc, dxftype, attribs, points)
     br = layout.block_record  # as BlockRecord.add_entity: owner, paperspace flag
-    ns = e.dxf.__dict__
-    ns["owner"] = br.dxf.handle
-    if br.is_any_paperspace:
-        ns["paperspace"] = 1
-    else:
-        ns.pop("paperspace", None)
+    if type(e).set_owner is _graphic_set_owner():
+        ns = e.dxf.__dict__
+        ns["owner"] = br.dxf.handle
+        if br.is_any_paperspace:
+            ns["paperspace"] = 1
+        else:
+            ns.pop("paperspace", None)
+    else:  # e.g. INSERT, which hands its owner on to its SEQEND
+        e.set_owner(br.dxf.handle, paperspace=int(br.is_any_paperspace))
     br.entity_space.add(e)
     return e
+
+
+def _graphic_set_owner():
+    """ezdxf's plain ``DXFGraphic.set_owner`` (which :func:`add_entity` inlines)."""
+    from ezdxf.entities.dxfgfx import DXFGraphic
+
+    return DXFGraphic.set_owner
 
 
 def new_db_entity(doc, dxftype: str, attribs: dict, points=None):
