@@ -559,3 +559,22 @@ def test_section_outlines_are_the_section_polygons():
         want = {k: list(v.exterior.coords)[:-1] for k, v in polygons(s, hd, hc, beta).items()
                 if not v.is_empty}
         assert report.section_outlines(s, hd, hc, beta) == want
+
+
+def test_highest_utilization_is_the_first_maximum():
+    """report._highest picks what max over every (u, panel, check) keyed by u picks:
+    the first entry on a tie, NaN entries as max treats them."""
+    from types import SimpleNamespace as NS
+    rng = np.random.default_rng(5)
+    pool = [0.2, 0.5, 0.5, 0.9, 0.9, float("nan"), 1.3, -0.0, 0.0]
+    for _ in range(400):
+        panels = [NS(panel=NS(panel=f"P{i}"),
+                     checks=tuple(NS(utilization=pool[j] * 1.0) for j in
+                                  rng.integers(0, len(pool), int(rng.integers(0, 4)))))
+                  for i in range(int(rng.integers(0, 5)))]
+        want = max(((c.utilization, p.panel.panel, c) for p in panels for c in p.checks),
+                   default=None, key=lambda t: t[0])
+        got = report._highest(panels)
+        assert (got is None) == (want is None)
+        if want is not None:
+            assert got[1:] == want[1:] and got[2] is want[2]

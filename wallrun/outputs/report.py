@@ -156,12 +156,26 @@ def _pass_cell(u: float) -> str:
     return f'<td class="{"ok" if ok else "bad"}">{"pass" if ok else "FAILS"}</td>'
 
 
+_TABLE_OPEN: dict = {}  # (header labels, class, breaks at "_") -> the table's opening
+
+
+def _table_open(head, cls: str = "", wbr: bool = True) -> str:
+    """The opening of a table up to its first row: ``<thead>`` with the escaped labels
+    (a line break allowed after each "_" when ``wbr``), built once per header."""
+    key = (tuple(head), cls, wbr)
+    r = _TABLE_OPEN.get(key)
+    if r is None:
+        h = "".join(f"<th>{_e(c).replace('_', '_<wbr>') if wbr else _e(c)}</th>"
+                    for c in head)
+        c = f' class="{cls}"' if cls else ""
+        r = _TABLE_OPEN[key] = f"<table{c}><thead><tr>{h}</tr></thead>\n<tbody>\n"
+    return r
+
+
 def _table(head, rows, cls: str = "") -> str:
     """A table from header labels and rows of already-rendered ``<td>`` strings."""
-    h = "".join(f"<th>{_e(c).replace('_', '_<wbr>')}</th>" for c in head)
-    body = "\n".join(f"<tr>{r}</tr>" for r in rows)
-    c = f' class="{cls}"' if cls else ""
-    return f"<table{c}><thead><tr>{h}</tr></thead>\n<tbody>\n{body}\n</tbody></table>\n"
+    body = ("<tr>" + "</tr>\n<tr>".join(rows) + "</tr>") if rows else ""
+    return f"{_table_open(head, cls)}{body}\n</tbody></table>\n"
 
 
 def _td(x, cls: str = "") -> str:
@@ -171,7 +185,7 @@ def _td(x, cls: str = "") -> str:
 
 def _kv_table(pairs) -> str:
     """Two-column table of (label, value text) pairs; the value is escaped here."""
-    rows = "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in pairs)
+    rows = "".join(f"<tr><th>{_ec(k)}</th><td>{_e(v)}</td></tr>" for k, v in pairs)
     return f'<table class="kv"><tbody>{rows}</tbody></table>\n'
 
 
@@ -635,6 +649,23 @@ section.part, section.sectype { margin-top: 2em; }
 """
 
 
+def _highest(panels):
+    """(u, panel name, check) of the highest utilization over every check of every
+    panel, the first on a tie (what ``max`` over them keyed by u gives); None without
+    checks. The utilizations go through the C-level ``max`` and ``list.index``: the
+    first entry equal to the maximum is the one ``max`` keeps (a leading NaN included,
+    found by identity)."""
+    us = [c.utilization for p in panels for c in p.checks]
+    if not us:
+        return None
+    i = us.index(max(us))
+    for p in panels:
+        n = len(p.checks)
+        if i < n:
+            return p.checks[i].utilization, p.panel.panel, p.checks[i]
+        i -= n
+
+
 def _front(result, date: str) -> str:
     site = result.site
     proj = getattr(site, "project", None)
@@ -644,8 +675,7 @@ def _front(result, date: str) -> str:
     n_bad = sum(p.status != "ok" for p in panels)
     j_bad = sum(j.status != "ok" for j in result.joints)
     length = sum(p.panel.length_m for p in panels)
-    worst = max(((c.utilization, p.panel.panel, c) for p in panels for c in p.checks),
-                default=None, key=lambda t: t[0])
+    worst = _highest(panels)
     overall = ("ok: every panel and joint passes" if result.ok
                else f"FLAGGED: {n_bad} panel(s) and {j_bad} joint(s) flagged")
     pairs = [("project", name), ("reference", ref), ("date", date),
@@ -1043,16 +1073,14 @@ def _check_rows(checks, with_clause: bool = True) -> list[str]:
 
 def _table_raw(head, rows) -> str:
     """Like :func:`_table` but rows may already carry their own ``<tr>``."""
-    h = "".join(f"<th>{_e(c)}</th>" for c in head)
     body = "\n".join(r if r.startswith("<tr") else f"<tr>{r}</tr>" for r in rows)
-    return f"<table><thead><tr>{h}</tr></thead>\n<tbody>\n{body}\n</tbody></table>\n"
+    return f"{_table_open(head, wbr=False)}{body}\n</tbody></table>\n"
 
 
 _CHECK_HEAD = ["check", "case", "effect", "resistance", "unit", "utilization", "result",
                "worst", "clause"]
 #: The opening of every check table, up to its first row.
-_CHECK_TABLE_OPEN = ("<table><thead><tr>" + "".join(f"<th>{_e(c)}</th>" for c in _CHECK_HEAD)
-                     + "</tr></thead>\n<tbody>\n")
+_CHECK_TABLE_OPEN = _table_open(_CHECK_HEAD, wbr=False)
 _COMB_HEADING: dict = {}  # combination -> its <h4>
 
 
