@@ -25,7 +25,9 @@ repeats it.
 from __future__ import annotations
 
 import base64
+import contextlib
 import datetime as _dt
+import gc
 import html
 import io
 import math
@@ -1351,6 +1353,21 @@ def _appendix(result, gmap=None) -> str:
     return "\n".join(out)
 
 
+@contextlib.contextmanager
+def _collector_paused():
+    """Hold Python's cyclic garbage collector while the report is built and let it run
+    again afterwards. Building makes a great many short-lived objects (rows, figure
+    artists); each batch of them would start a collection that walks every live object,
+    the whole design result included (about 0.12 s of the 10 km report)."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+
+
 def render_report(result, figures: dict | None = None, date: str | None = None) -> str:
     """The whole report as HTML text.
 
@@ -1360,6 +1377,12 @@ def render_report(result, figures: dict | None = None, date: str | None = None) 
     date: ISO date shown on the front page (default: ``SOURCE_DATE_EPOCH`` when set,
     else today).
     """
+    with _collector_paused():
+        return _render(result, figures, date)
+
+
+def _render(result, figures, date) -> str:
+    """:func:`render_report` itself."""
     figures = dict(figures or {})
     if date is None:
         sde = os.environ.get("SOURCE_DATE_EPOCH")
