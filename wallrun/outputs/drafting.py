@@ -13,7 +13,9 @@ given in paper millimetres and converted with the drawing's nominal scale 1:N
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
+import gc
 import math
 import weakref
 from dataclasses import dataclass
@@ -172,6 +174,22 @@ def along_wall_scale(panel_lengths) -> int:
     lengths = np.asarray(list(panel_lengths), dtype=float)
     med = float(np.median(lengths)) if lengths.size else 10.0
     return pick_scale_down(40.0 * med, lowest=50)
+
+
+@contextlib.contextmanager
+def gc_paused():
+    """Pause Python's cyclic garbage collector while a drawing is built, written or
+    rendered, and let it run again afterwards. Those make hundreds of thousands of
+    small long-lived objects, and each batch of them starts a collection that walks
+    every live object, the whole drawing included: for a long job that was a quarter
+    of the time of writing sections.dxf and half of that of rendering elevation.png."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
 
 
 # --- document ------------------------------------------------------------------------

@@ -570,7 +570,14 @@ def write_sections(result, path) -> None:
     """Write one cross-section per section type of ``result`` to ``path``.
 
     Raises RuntimeError if the DXF audit reports errors (nothing is written then).
+    Built and written with the garbage collector paused (``drafting.gc_paused``).
     """
+    with d.gc_paused():
+        _write_sections(result, path)
+
+
+def _write_sections(result, path) -> None:
+    """The drawing of :func:`write_sections`, audited and saved."""
     scale = section_scale(result)
     doc = d.new_document(scale, "cross-sections")
     if APPID not in doc.appids:

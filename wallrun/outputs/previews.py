@@ -21,8 +21,6 @@ the entities of that section's group.
 
 from __future__ import annotations
 
-import contextlib
-import gc
 import math
 import textwrap
 from pathlib import Path
@@ -52,21 +50,6 @@ A3_IN = (16.54, 11.69)
 
 _CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,
                         lineweight_scaling=0.6)
-
-
-@contextlib.contextmanager
-def _gc_paused():
-    """Pause Python's cyclic garbage collector while a preview renders, and let it
-    run afterwards. Rendering makes hundreds of thousands of small objects, each batch
-    of which starts a collection that walks every live object, the whole DXF document
-    included: most of the time of a long drawing's preview went there."""
-    was = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was:
-            gc.enable()
 
 
 def _figure(size_in):
@@ -145,7 +128,7 @@ def strip_count(width: float, height: float, max_strips: int = MAX_STRIPS) -> in
 def render_elevation_png(dxf_path, png_path) -> int:
     """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips
     (see :func:`_render_elevation_png`), with the garbage collector paused."""
-    with _gc_paused():
+    with d.gc_paused():
         return _render_elevation_png(dxf_path, png_path)
 
 
@@ -301,7 +284,7 @@ def _ezdxf_box(entities):
 def render_sections_pdf(dxf_path, pdf_path) -> None:
     """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet
     (see :func:`_render_sections_pdf`), with the garbage collector paused."""
-    with _gc_paused():
+    with d.gc_paused():
         _render_sections_pdf(dxf_path, pdf_path)
 
 
