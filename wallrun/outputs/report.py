@@ -313,6 +313,28 @@ def _place_best(fig, legends) -> None:
             leg.set_loc("best")
 
 
+def _vlines(ax, xs, y0: float, y1: float, colour, lw: float):
+    """What ``ax.vlines(xs, y0, y1, colors=colour, lw=lw)`` adds to a linear axes: one
+    line collection of vertical segments, the data limits grown to its corners and
+    the view rescaled at the next draw. Built from a plain array: ``vlines`` builds a
+    masked one, and each of its thousand segments then cost a masked-array slice."""
+    from matplotlib.collections import LineCollection
+    x = np.ravel(np.asarray(xs, dtype=float))
+    if not len(x) or not hasattr(ax, "_request_autoscale_view"):
+        ax.vlines(xs, y0, y1, colors=colour, lw=lw)
+        return
+    verts = np.empty((len(x), 2, 2))
+    verts[:, 0, 0] = x
+    verts[:, 0, 1] = y0
+    verts[:, 1, 0] = x
+    verts[:, 1, 1] = y1
+    lines = LineCollection(verts, colors=colour, linestyles="solid", label="")
+    ax.add_collection(lines, autolim=False)
+    lines.set_linewidth(lw)
+    ax.update_datalim(((np.nanmin(x), min(y0, y1)), (np.nanmax(x), max(y0, y1))))
+    ax._request_autoscale_view()
+
+
 def run_figure(result) -> bytes | None:
     """Long section along chainage (PNG): ground, finished level, wall top and
     founding level per panel, panel boundaries, a band of section types, and below it
@@ -350,7 +372,7 @@ def run_figure(result) -> bytes | None:
         ends = sorted({p.panel.ch_start_m for p in panels} | {p.panel.ch_end_m for p in panels})
         lo = min(p.panel.founding_m for p in panels)
         hi = max(max(p.panel.wall_top_start_m, p.panel.wall_top_end_m) for p in panels)
-        ax.vlines(ends, lo, hi, colors="#999999", lw=0.4)
+        _vlines(ax, ends, lo, hi, "#999999", 0.4)
         names = [st.section_type for st in result.section_types] or sorted(
             {p.section_type for p in panels})
         col = _type_colours(names)
@@ -397,7 +419,7 @@ def run_figure(result) -> bytes | None:
                         label=f"wall needed from h = {hmin:g} m")
         legends.append(axh.legend(fontsize=6, loc=_FIRST_TRY, framealpha=0.8))
     if panels:
-        axh.vlines(ends, 0, axh.get_ylim()[1], colors="#999999", lw=0.4)
+        _vlines(axh, ends, 0, axh.get_ylim()[1], "#999999", 0.4)
     axh.set_ylabel("retained h (m)")
     axh.set_xlabel("chainage (m)")
     axh.grid(True, lw=0.3, color="#dddddd")
