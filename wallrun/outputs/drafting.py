@@ -557,7 +557,8 @@ _MTEXT_TAIL = ["style", "extrusion", "text_direction", "rect_width", "rect_heigh
                "bg_fill_transparency"]
 #: dxftype -> the ezdxf class written here (not its subclasses, e.g. ATTRIB of TEXT).
 _CLASSES = {"LINE": "Line", "CIRCLE": "Circle", "TEXT": "Text", "INSERT": "Insert",
-            "LWPOLYLINE": "LWPolyline", "MTEXT": "MText", "DIMENSION": "Dimension"}
+            "LWPOLYLINE": "LWPolyline", "MTEXT": "MText", "DIMENSION": "Dimension",
+            "BLOCK": "Block", "ENDBLK": "EndBlk"}
 _COMPILED: dict = {}
 
 
@@ -585,6 +586,13 @@ def _plan(entity, dxfversion):
     tags (see :func:`_writer_of`)."""
     key = (type(entity), dxfversion)
     plan = _COMPILED.get(key)
+    if plan is None and entity.dxftype() in ("BLOCK", "ENDBLK"):
+        # BLOCK and ENDBLK: AcDbEntity with only the paperspace flag and the layer
+        plan = _COMPILED[key] = {
+            "entity": _writer_of(_compile(entity, ["layer"], dxfversion)),
+            "parts": [(None, _writer_of(_compile(entity, names, dxfversion)))
+                      for names in ((["flags", "base_point"], ["xref_path", "description"])
+                                    if entity.dxftype() == "BLOCK" else ())]}
     if plan is None:
         t = entity.dxftype()
         plan = {"entity": _writer_of(_compile(entity, _ACDB_ENTITY, dxfversion)),
@@ -651,6 +659,11 @@ def _fast_entity(e, out, dxfversion) -> bool:
         out.extend("330\n%s\n" % h for h in e.reactors.get())
         out.append("102\n}\n")
     out.append("330\n%s\n100\nAcDbEntity\n" % values.get("owner", "0"))
+    if t in ("BLOCK", "ENDBLK"):
+        _block_tags(e, t, values, plan, out)
+        if e.xdata:
+            _ezdxf_tags(out, e.xdata.export_dxf, dxfversion)
+        return True
     plan["entity"](values, out)
     for marker, compiled in plan["parts"]:
         if marker is None:  # INSERT: block reference or grid of them
@@ -682,6 +695,21 @@ def _fast_entity(e, out, dxfversion) -> bool:
     return True
 
 
+def _block_tags(e, t, values, plan, out) -> None:
+    """The tags of a BLOCK or ENDBLK after its AcDbEntity marker (R2000 and later)."""
+    if "paperspace" in values:
+        out.append(" 67\n1\n")
+    plan["entity"](values, out)
+    if t == "ENDBLK":
+        out.append("100\nAcDbBlockEnd\n")
+        return
+    name = values.get("name")
+    out.append("100\nAcDbBlockBegin\n  2\n%s\n" % name)
+    plan["parts"][0][1](values, out)
+    out.append("  3\n%s\n" % name)
+    plan["parts"][1][1](values, out)
+
+
 class _ListWriter:
     """A tag writer appending DXF text to a list (ezdxf's TagWriter on a list)."""
 
@@ -708,8 +736,7 @@ def document_text(doc) -> str:
         doc.write(s)
         return s.getvalue()
     doc.commit_pending_changes()
-    doc.classes.add_required_classes(doc.dxfversion)
-    doc.update_all()
+    doc.update_all()  # which adds the required classes (doc.write adds them twice)
     v = doc.dxfversion
     out: list[str] = []
     tw = _ListWriter(out, v).w
@@ -726,10 +753,10 @@ def document_text(doc) -> str:
     for br in doc.blocks.block_records:
         if br.block_layout is not None:
             br.block_layout.update_block_flags()
-        br.block.export_dxf(tw)
+        entities((br.block,))
         if not (br.is_modelspace or br.is_active_paperspace):
             entities(br.entity_space)
-        br.endblk.export_dxf(tw)
+        entities((br.endblk,))
     out.append("  0\nENDSEC\n")
     out.append("  0\nSECTION\n  2\nENTITIES\n")
     entities(doc.layouts.modelspace().entity_space)
