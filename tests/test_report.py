@@ -578,3 +578,39 @@ def test_highest_utilization_is_the_first_maximum():
         assert (got is None) == (want is None)
         if want is not None:
             assert got[1:] == want[1:] and got[2] is want[2]
+
+
+def test_legend_place_is_matplotlibs_best():
+    """report._best_code gives each legend the location code of matplotlib's own
+    loc="best" search (report._searched_code), on figures of lines, band rectangles,
+    fills and texts placed at random."""
+    import matplotlib
+    matplotlib.use("Agg", force=False)
+    import matplotlib.pyplot as plt
+    from matplotlib.collections import PolyCollection
+    rng = np.random.default_rng(23)
+    seen = set()
+    for k in range(12):
+        fig, ax = plt.subplots(figsize=(6, 3), dpi=80)
+        x = np.linspace(0, 100, 50 + 40 * k)
+        ax.plot(x, np.cumsum(rng.normal(size=len(x))), label="a")
+        if k % 2:
+            ax.plot(x, np.where(rng.random(len(x)) < 0.1, np.nan, rng.normal(size=len(x))),
+                    label="b")
+        n = int(rng.integers(0, 80))
+        x0 = np.sort(rng.uniform(0, 100, n))
+        y0 = rng.uniform(-3, 3, n)
+        ax.add_collection(PolyCollection(
+            [((a, b), (a + 2, b), (a + 2, b + 0.5), (a, b + 0.5)) for a, b in zip(x0, y0)]),
+            autolim=k % 3 == 0)
+        if k % 4 == 1:
+            ax.fill_between(x, 0, np.abs(np.sin(x / 9.0)) * 3, label="fill")
+            ax.text(50, 0, "note")
+        leg = ax.legend(loc="upper right", fontsize=6)
+        fig.tight_layout()
+        renderer = fig.canvas.get_renderer()
+        got = report._best_code(leg, renderer)
+        assert got == report._searched_code(leg, renderer), k
+        seen.add(got)
+        plt.close(fig)
+    assert len(seen) > 1  # the figures do move the legend

@@ -303,14 +303,63 @@ def _place_best(fig, legends) -> None:
     the layout pass and again at each draw of the save."""
     renderer = fig.canvas.get_renderer()
     for leg in legends:
-        leg.set_loc("best")
-        best = leg.get_window_extent(renderer).bounds  # the one search
-        for code in range(1, 11):  # the fixed place with the same box, lowest code first
-            leg.set_loc(code)
-            if leg.get_window_extent(renderer).bounds == best:
-                break
-        else:
-            leg.set_loc("best")
+        try:
+            code = _best_code(leg, renderer)
+        except (AttributeError, TypeError, ValueError):  # another matplotlib: its own search
+            code = _searched_code(leg, renderer)
+        leg.set_loc(code)
+
+
+def _searched_code(leg, renderer):
+    """The location code whose box matplotlib's own "best" search gives ``leg`` (the
+    lowest such code), or "best" itself when no fixed code gives that box."""
+    leg.set_loc("best")
+    best = leg.get_window_extent(renderer).bounds  # the search
+    for code in range(1, 11):
+        leg.set_loc(code)
+        if leg.get_window_extent(renderer).bounds == best:
+            return code
+    return "best"
+
+
+def _best_code(leg, renderer) -> int:
+    """The location code matplotlib's ``loc="best"`` picks for ``leg``, by its rule
+    (``Legend._find_best_position``): of the codes 1-10 in turn, the first whose box
+    holds no data vertex, offset, text box or crossing line, else the one with the
+    fewest of them (lowest code on a tie). The same counts, cheaper: the vertices of
+    all lines are counted in one array, and the crossing test is asked only of the
+    lines whose vertex extent comes within a pixel of the box (no other can cross it;
+    on a 10 km job that is a handful of the 1,250 band rectangles)."""
+    from matplotlib.transforms import Bbox
+
+    box0 = leg._legend_box.get_bbox(renderer)
+    w, h = box0.width, box0.height
+    bboxes, lines, offsets = leg._auto_legend_data(renderer)
+    lines = [ln for ln in lines if len(ln.vertices)]  # an empty path neither counts nor crosses
+    if lines:
+        sizes = np.array([len(ln.vertices) for ln in lines])
+        verts = np.concatenate([ln.vertices for ln in lines])
+        starts = np.concatenate(([0], np.cumsum(sizes)[:-1]))
+        lo = np.fmin.reduceat(verts, starts, axis=0)  # NaN vertices aside;
+        hi = np.fmax.reduceat(verts, starts, axis=0)  # all-NaN lines stay NaN (kept)
+    else:
+        verts = np.empty((0, 2))
+    anchor = leg.get_bbox_to_anchor()
+    candidates = []
+    for idx in range(1, len(leg.codes)):
+        l, b = leg._get_anchored_bbox(idx, Bbox.from_bounds(0, 0, w, h), anchor, renderer)
+        box = Bbox.from_bounds(l, b, w, h)
+        badness = (box.count_contains(verts) + box.count_contains(offsets)
+                   + box.count_overlaps(bboxes))
+        if lines:
+            far = ((hi[:, 0] < box.x0 - 1.0) | (lo[:, 0] > box.x1 + 1.0)
+                   | (hi[:, 1] < box.y0 - 1.0) | (lo[:, 1] > box.y1 + 1.0))
+            badness += sum(lines[i].intersects_bbox(box, filled=False)
+                           for i in np.flatnonzero(~far))
+        candidates.append((badness, idx))
+        if badness == 0:
+            break
+    return min(candidates)[1]
 
 
 def _vlines(ax, xs, y0: float, y1: float, colour, lw: float):
