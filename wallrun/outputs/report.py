@@ -1101,16 +1101,22 @@ def _in_check_order(checks) -> list:
 
 # Fragments of a check row, escaped once per distinct value (a 10 km job has some
 # 60,000 check rows but only a few hundred distinct names, cases, units and clauses).
-_ROW_HEAD: dict = {}  # (check, case) -> cells up to the opening of the effect cell
-_ROW_MID: dict = {}   # unit -> (decimals, cells from the resistance to the utilization)
-_ROW_TAIL: dict = {}  # (passes, governs, clause or None) -> the closing cells and </tr>
+_ROW_PARTS: dict = {}  # (check, case, unit, governs, clause) -> row fragments
+_NO_CLAUSE = object()  # the clause slot of a row without the clause column
 
 
-def _row_mid(unit) -> tuple:
-    """(decimals, the cells between the resistance and the utilization) of a unit."""
-    r = _ROW_MID.get(unit)
-    if r is None:
-        r = _ROW_MID[unit] = (_decimals(unit), f'</td><td class="t">{_ec(unit)}</td><td>')
+def _row_parts(key) -> tuple:
+    """The fixed fragments of a check row with ``key`` (check, case, unit, governs,
+    clause or :data:`_NO_CLAUSE`): its opening up to the effect, the decimals of its unit, the cells
+    from the resistance to the utilization, and its ends when it passes and fails."""
+    check, case, unit, gv, clause = key
+    head = (('<tr class="gov">' if gv else "<tr>")
+            + f'<td class="t">{_ec(check)}</td><td class="t">{_ec(case)}</td><td>')
+    worst = '<td class="t">governs</td>' if gv else '<td class="t"></td>'
+    end = (f'<td class="t w">{_ec(clause)}</td>' if clause is not _NO_CLAUSE else "") + "</tr>"
+    r = _ROW_PARTS[key] = (head, _decimals(unit), f'</td><td class="t">{_ec(unit)}</td><td>',
+                           '</td><td class="ok">pass</td>' + worst + end,
+                           '</td><td class="bad">FAILS</td>' + worst + end)
     return r
 
 
@@ -1118,29 +1124,22 @@ def _check_rows(checks, with_clause: bool = True) -> list[str]:
     """The ``<tr>`` rows of a check table (see :data:`_CHECK_HEAD`), in check order;
     the worst entry of its check and combination in bold (``tr.gov``)."""
     rows = []
-    heads, tails = _ROW_HEAD, _ROW_TAIL
+    append = rows.append
+    parts = _ROW_PARTS
     for c in _in_check_order(checks):
-        hk = (c.check, c.case)
-        head = heads.get(hk)
-        if head is None:
-            head = heads[hk] = f'<td class="t">{_ec(c.check)}</td><td class="t">{_ec(c.case)}</td><td>'
-        nd, mid = _row_mid(c.unit)
-        u = c.utilization
-        gv = bool(c.governs)
-        tk = (u <= 1.0, gv, c.clause if with_clause else None)  # u <= 1 is False for NaN
-        tail = tails.get(tk)
-        if tail is None:
-            tail = tails[tk] = (
-                "</td>" + ('<td class="ok">pass</td>' if tk[0] else '<td class="bad">FAILS</td>')
-                + ('<td class="t">governs</td>' if gv else '<td class="t"></td>')
-                + (f'<td class="t w">{_ec(c.clause)}</td>' if with_clause else "") + "</tr>")
-        e, r = c.effect, c.resistance
-        tr = '<tr class="gov">' if gv else "<tr>"
+        key = (c.check, c.case, c.unit, True if c.governs else False,
+               c.clause if with_clause else _NO_CLAUSE)
+        p = parts.get(key)
+        if p is None:
+            p = _row_parts(key)
+        head, nd, mid, passes, fails = p
+        e, r, u = c.effect, c.resistance, c.utilization
+        tail = passes if u <= 1.0 else fails  # u <= 1 is False for NaN
         if type(e) is float and type(r) is float and type(u) is float:
             # one C-level format; "%.*f" spells nan/inf as _num and _util do
-            rows.append("%s%s%.*f</td><td>%.*f%s%.3f%s" % (tr, head, nd, e, nd, r, mid, u, tail))
+            append("%s%.*f</td><td>%.*f%s%.3f%s" % (head, nd, e, nd, r, mid, u, tail))
         else:
-            rows.append(f"{tr}{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
+            append(f"{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
     return rows
 
 
@@ -1342,38 +1341,43 @@ def _costs(result) -> str:
     return "\n".join(out)
 
 
-_APX_HEAD: dict = {}  # (governs, check, combination, case) -> cells up to the effect
-_APX_MID: dict = {}   # unit -> (decimals, cells from the resistance to the utilization)
-_APX_TAIL = {(False, False): '</td><td class="bad">FAILS</td></tr>',
-             (False, True): '</td><td class="bad">FAILS</td></tr>',
-             (True, False): "</td><td></td></tr>", (True, True): "</td><td>G</td></tr>"}
+_APX_PARTS: dict = {}  # (governs, check, combination, case, unit) -> row fragments
+
+
+def _appendix_parts(key) -> tuple:
+    """The fixed fragments of an appendix row with ``key`` (governs, check,
+    combination, case, unit): its opening up to the effect, the decimals of its unit,
+    the cells from the resistance to the utilization, its ends when it passes and fails."""
+    gv, check, comb, case, unit = key
+    esc = html.escape
+    r = _APX_PARTS[key] = (
+        ('<tr class="gov">' if gv else "<tr>")
+        + f'<td class="t">{esc(check)}</td><td class="t">{esc(comb)}</td>'
+        f'<td class="t">{esc(case)}</td><td>',
+        _decimals(unit), f'</td><td class="t">{esc(unit)}</td><td>',
+        "</td><td>G</td></tr>" if gv else "</td><td></td></tr>",
+        '</td><td class="bad">FAILS</td></tr>')
+    return r
 
 
 def _appendix_rows(checks) -> list[str]:
     """The appendix rows of one panel's checks, in design.json order: the repeated
     names, cases and units escaped once per distinct value, each row one format."""
-    heads, mids, tails = _APX_HEAD, _APX_MID, _APX_TAIL
-    esc = html.escape
+    parts = _APX_PARTS
     rows = []
+    append = rows.append
     for c in checks:
-        gv = bool(c.governs)
-        hk = (gv, c.check, c.combination, c.case)
-        head = heads.get(hk)
-        if head is None:
-            head = heads[hk] = (('<tr class="gov">' if gv else "<tr>")
-                                + f'<td class="t">{esc(c.check)}</td><td class="t">'
-                                f'{esc(c.combination)}</td><td class="t">{esc(c.case)}</td><td>')
-        m = mids.get(c.unit)
-        if m is None:
-            m = mids[c.unit] = (_decimals(c.unit), f'</td><td class="t">{esc(c.unit)}</td><td>')
-        nd, mid = m
-        u = c.utilization
-        tail = tails[(u <= 1.0, gv)]  # u <= 1 is False for NaN: FAILS
-        e, r = c.effect, c.resistance
+        key = (True if c.governs else False, c.check, c.combination, c.case, c.unit)
+        p = parts.get(key)
+        if p is None:
+            p = _appendix_parts(key)
+        head, nd, mid, passes, fails = p
+        e, r, u = c.effect, c.resistance, c.utilization
+        tail = passes if u <= 1.0 else fails  # u <= 1 is False for NaN: FAILS
         if type(e) is float and type(r) is float and type(u) is float:
-            rows.append("%s%.*f</td><td>%.*f%s%.3f%s" % (head, nd, e, nd, r, mid, u, tail))
+            append("%s%.*f</td><td>%.*f%s%.3f%s" % (head, nd, e, nd, r, mid, u, tail))
         else:
-            rows.append(f"{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
+            append(f"{head}{_num(e, nd)}</td><td>{_num(r, nd)}{mid}{_util(u)}{tail}")
     return rows
 
 
