@@ -1082,21 +1082,15 @@ def _ec(x) -> str:
 _CHECK_RANK = {n: i for i, n in enumerate(CHECK_ORDER)}
 
 
-def _in_check_order(checks) -> list:
+def _in_check_order(checks):
     """``checks`` stably sorted by :data:`CHECK_ORDER` (unknown checks last, in their
-    own order): the order of ``_order(checks, check name, CHECK_ORDER)``, by buckets."""
+    own order): the order of ``_order(checks, check name, CHECK_ORDER)``; most tables
+    come in that order already and are returned as they are."""
     rank, last = _CHECK_RANK, len(CHECK_ORDER)
-    buckets: dict = {}
-    for c in checks:
-        r = rank.get(c.check, last)
-        b = buckets.get(r)
-        if b is None:
-            buckets[r] = [c]
-        else:
-            b.append(c)
-    if len(buckets) == 1:
-        return next(iter(buckets.values()))
-    return [c for r in sorted(buckets) for c in buckets[r]]
+    keys = [rank.get(c.check, last) for c in checks]
+    if keys == sorted(keys):
+        return checks
+    return [checks[i] for i in sorted(range(len(keys)), key=keys.__getitem__)]
 
 
 # Fragments of a check row, escaped once per distinct value (a 10 km job has some
@@ -1394,10 +1388,9 @@ def _appendix(result, gmap=None) -> str:
            "effect / resistance (pass at u &lt;= 1.000); G: the worst entry of its check "
            "and combination; FAILS: u &gt; 1. The governing panel of each section type "
            "has its checks in that type's part, linked from its entry here. Clauses:</p>"]
-    clauses = {}
-    for p in result.panels:
-        for c in p.checks:
-            clauses.setdefault(c.check, set()).add(c.clause)
+    clauses: dict = {}  # check -> its clauses, checks in order of first appearance
+    for k, cl in {(c.check, c.clause): None for p in result.panels for c in p.checks}:
+        clauses.setdefault(k, set()).add(cl)
     out.append(_table(["check", "what it checks", "clause"],
                       [_td(_e(k), "t") + _td(_e(CHECK_WORDS.get(k, "")), "t")
                        + _td(_e("; ".join(sorted(clauses[k]))), "t w")
