@@ -61,6 +61,7 @@ def _figure(size_in):
     # The view limits are set from the DXF extents below; skipping matplotlib's per-patch
     # data-limit update (exact Bezier extrema of every glyph outline) halves the time.
     ax._update_patch_limits = lambda patch: None
+    ax._update_line_limits = lambda line: None  # likewise for the lines
     return fig, ax
 
 
