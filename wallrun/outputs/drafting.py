@@ -4,6 +4,13 @@ Layer scheme (wallrun's own descriptive names, colour, linetype and lineweight b
 layer), the one text style and the one dimension style of a drawing, drawing scales,
 the title block, the notes with the cautions, and the section outline.
 
+Also the means of writing long drawings quickly with the same content: entities made
+with their attributes stored directly (:func:`add_entity`, :func:`new_anonymous_block`,
+:func:`new_group`), the file written by a direct DXF writer that gives ezdxf's text
+byte for byte (:func:`document_text`), an audit without a query per block
+(:func:`audit_or_raise`), and the garbage collector paused while a drawing is built
+(:func:`gc_paused`).
+
 Model space is in metres (``$INSUNITS`` = 6). Sizes of text, ticks and symbols are
 given in paper millimetres and converted with the drawing's nominal scale 1:N
 (``paper(mm, N)`` = mm * N / 1000 m), so a drawing printed at its stated scale has
