@@ -31,6 +31,7 @@ import gc
 import html
 import io
 import math
+import operator
 import os
 import re
 from dataclasses import fields
@@ -60,6 +61,7 @@ STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear",
 GEOTECHNICAL_CHECKS = ("overturning", "sliding", "bearing", "eccentricity",
                        "eccentricity_sls", "bearing_sls")
 CHECK_ORDER = GEOTECHNICAL_CHECKS + STRUCTURAL_CHECKS
+_STRUCTURAL = frozenset(STRUCTURAL_CHECKS)
 COMBINATION_ORDER = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", "SLS")
 
 CHECK_WORDS = {
@@ -288,7 +290,8 @@ def _pyplot():
 def _type_colours(names):
     plt = _pyplot()
     cmap = plt.get_cmap("tab20")
-    return {n: cmap(i % 20) for i, n in enumerate(names)}
+    palette = [cmap(i) for i in range(20)]  # the 20 colours, looked up once each
+    return {n: palette[i % 20] for i, n in enumerate(names)}
 
 
 #: Where a legend sits until :func:`_place_best` moves it (inside its axes, like every
@@ -1038,13 +1041,18 @@ def _run(result, figures) -> str:
                       else "%s" if k == "status" else _td("%.3f") if k in num3
                       else _td("%s") if k == "run"
                       else _td(f"%.{decimals.get(k, 3)}f") for k in g)
-        words = {k for k in g if k in text or k in ("status", "run")}
+        values = operator.itemgetter(*g)  # a row's values in column order, at C speed
+        words = [i for i, k in enumerate(g) if k in text or k == "run"]
+        status = g.index("status") if "status" in g else None
         rows = []
         for r in rendered:
             try:
-                args = tuple(_status_cell_of(r[k]) if k == "status" else
-                             _ec(r[k]) if k in words else r[k] for k in g)
-                rows.append(fmt % args)
+                args = list(values(r))
+                for i in words:
+                    args[i] = _ec(args[i])
+                if status is not None:
+                    args[status] = _status_cell_of(args[status])
+                rows.append(fmt % tuple(args))
             except TypeError:
                 rows.append("".join([cell(k, r[k]) for k in g]))
         out.append(f"<h4>Panel schedule: {title}</h4>")
@@ -1264,8 +1272,8 @@ def _sectype(result, st, k: int, figures, gov, marks=None) -> str:
         out.append("<p>No action table was produced for this section type.</p>")
 
     checks = gov.checks if gov is not None else ()
-    geo = [c for c in checks if c.check not in STRUCTURAL_CHECKS]
-    struc = [c for c in checks if c.check in STRUCTURAL_CHECKS]
+    geo = [c for c in checks if c.check not in _STRUCTURAL]
+    struc = [c for c in checks if c.check in _STRUCTURAL]
     out.append("<h3>Geotechnical checks (EN 1997-1) at the governing panel</h3>")
     out.append(_checks_by_combination(geo) if geo else "<p>No geotechnical checks recorded.</p>")
 
