@@ -833,25 +833,19 @@ def new_db_entity(doc, dxftype: str, attribs: dict, points=None):
     """A new entity ``dxftype`` with ``attribs`` in the entity database of ``doc``, as
     ezdxf's ``factory.create_db_entry`` makes it, its attributes cast by group code
     and stored directly (see :func:`add_entity`)."""
-    from ezdxf.entities import factory
-    from ezdxf.entities.dxfns import SETTER_EVENTS
-    from ezdxf.lldxf.types import cast_value
-
-    cls = factory.ENTITY_CLASSES[dxftype]
+    info = _NEW_INFO.get(dxftype) or _new_info(dxftype)
+    cls, casters, events = info
     e = cls()
     ns = e.dxf.__dict__
     ns["handle"] = None
     ns["owner"] = None
-    defs = e.dxf.dxfattribs
-    events = []
-    for k, v in {**cls.DEFAULT_ATTRIBS, **attribs}.items():
-        ns[k] = cast_value(defs.get(k).code, v)
-        if k in SETTER_EVENTS:
-            events.append((SETTER_EVENTS[k], ns[k]))
-    for name, v in events:
-        handler = getattr(e, name, None)
-        if handler:
-            handler(v)
+    for src in (cls.DEFAULT_ATTRIBS, attribs):
+        for k, v in src.items():
+            c = casters.get(k) or _caster(info, e, k)
+            ns[k] = None if v is None else c(v)
+    for k, name in events:  # the setter events this class handles (e.g. POLYLINE)
+        if k in ns:
+            getattr(e, name)(ns[k])
     if points is not None:
         e.lwpoints.values = np.asarray(points, dtype=np.float64).reshape(-1, 5)
     e.post_new_hook()
@@ -864,6 +858,31 @@ def new_db_entity(doc, dxftype: str, attribs: dict, points=None):
         e.add_sub_entities_to_entitydb(db)
     e.post_bind_hook()
     return e
+
+
+_NEW_INFO: dict = {}  # dxftype -> (class, {attribute: caster}, [(attribute, handler)])
+
+
+def _new_info(dxftype: str):
+    """(class, casters, setter events with a handler) of ``dxftype``, made once."""
+    from ezdxf.entities import factory
+    from ezdxf.entities.dxfns import SETTER_EVENTS
+
+    cls = factory.ENTITY_CLASSES[dxftype]
+    events = [(k, name) for k, name in SETTER_EVENTS.items() if getattr(cls, name, None)]
+    info = _NEW_INFO[dxftype] = (cls, {}, events)
+    return info
+
+
+def _caster(info, e, name: str):
+    """The cast of attribute ``name`` of ``e``'s class by its group code, as ezdxf's
+    ``cast_value``: a point to Vec3, any other value by the code's type."""
+    from ezdxf.lldxf.types import POINT_CODES, TYPE_TABLE
+    from ezdxf.math import Vec3
+
+    code = e.dxf.dxfattribs.get(name).code
+    c = info[1][name] = Vec3 if code in POINT_CODES else TYPE_TABLE.get(code, str)
+    return c
 
 
 def new_anonymous_block(doc, type_char: str = "U"):
