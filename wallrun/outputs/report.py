@@ -483,6 +483,9 @@ def run_figure(result) -> bytes | None:
 
 
 _LINE_END: dict = {}    # (stroke, width, dash) -> the end of a <line> element
+#: A dimension line and its two end ticks (the markup of three :meth:`_Svg.line`).
+_DIM_LINES = ('<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#333" stroke-width="0.7"/>'
+              + '<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#333" stroke-width="1.1"/>' * 2)
 _TEXT_STYLE: dict = {}  # (size, anchor, fill, halo) -> the style attributes of a <text>
 
 
@@ -534,11 +537,16 @@ class _Svg:
     def dim(self, p, q, label, rot=0, side=(0.0, 0.0)):
         """A dimension line from p to q with oblique ticks at both ends and its label
         at the middle (on a white halo)."""
-        self.line(p, q, "#333", 0.7)
-        t = 4.0 / self.k  # 4 px ticks
-        for x, z in (p, q):
-            self.line((x - t, z - t), (x + t, z + t), "#333", 1.1)
-        mx, mz = 0.5 * (p[0] + q[0]) + side[0], 0.5 * (p[1] + q[1]) + side[1]
+        x0, z1, k = self.x0, self.z1, self.k
+        t = 4.0 / k  # 4 px ticks
+        (px, pz), (qx, qz) = p, q
+        # the three lines of self.line(p, q, "#333", 0.7) and the two ticks of
+        # self.line((x - t, z - t), (x + t, z + t), "#333", 1.1), in one format
+        self.parts.append(_DIM_LINES % (
+            (px - x0) * k, (z1 - pz) * k, (qx - x0) * k, (z1 - qz) * k,
+            (px - t - x0) * k, (z1 - (pz - t)) * k, (px + t - x0) * k, (z1 - (pz + t)) * k,
+            (qx - t - x0) * k, (z1 - (qz - t)) * k, (qx + t - x0) * k, (z1 - (qz + t)) * k))
+        mx, mz = 0.5 * (px + qx) + side[0], 0.5 * (pz + qz) + side[1]
         self.text(mx, mz, label, 9, "middle", "#000", rot, halo=True)
 
     def svg(self, title: str) -> str:
