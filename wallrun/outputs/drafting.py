@@ -644,9 +644,10 @@ def _writer_of(compiled):
     return env["f"]
 
 
-def _fast_entity(e, out, dxfversion) -> bool:
+def _fast_entity(e, out, dxfversion, tw) -> bool:
     """Append the DXF text of ``e`` to ``out``; False (nothing appended) for an entity
-    this writer leaves to ezdxf."""
+    this writer leaves to ezdxf. ``tw`` is an ezdxf tag writer appending to ``out``
+    (for the XDATA)."""
     t = e.dxftype()
     if (type(e).__name__ != _CLASSES.get(t) or e.appdata or e.has_extension_dict
             or getattr(e, "proxy_graphic", None)):
@@ -669,7 +670,7 @@ def _fast_entity(e, out, dxfversion) -> bool:
     if t in ("BLOCK", "ENDBLK"):
         _block_tags(e, t, values, plan, out)
         if e.xdata:
-            _ezdxf_tags(out, e.xdata.export_dxf, dxfversion)
+            e.xdata.export_dxf(tw)
         return True
     plan["entity"](values, out)
     for marker, compiled in plan["parts"]:
@@ -698,7 +699,7 @@ def _fast_entity(e, out, dxfversion) -> bool:
             out.append("  1\n%s\n" % chunks[-1])
             plan["tail"](values, out)
     if e.xdata:
-        _ezdxf_tags(out, e.xdata.export_dxf, dxfversion)
+        e.xdata.export_dxf(tw)
     return True
 
 
@@ -727,11 +728,6 @@ class _ListWriter:
         self.write = out.append
 
 
-def _ezdxf_tags(out, export, dxfversion) -> None:
-    """Append what ezdxf's ``export(tagwriter)`` writes to ``out``."""
-    export(_ListWriter(out, dxfversion).w)
-
-
 def document_text(doc) -> str:
     """The DXF text of ``doc``, as ``doc.write`` makes it, with the entities of the
     BLOCKS and ENTITIES sections written by the fast writer above."""
@@ -753,7 +749,7 @@ def document_text(doc) -> str:
 
     def entities(space):
         for e in space:
-            if not _fast_entity(e, out, v):
+            if not _fast_entity(e, out, v, tw):
                 e.export_dxf(tw)
 
     out.append("  0\nSECTION\n  2\nBLOCKS\n")
