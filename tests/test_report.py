@@ -614,3 +614,15 @@ def test_legend_place_is_matplotlibs_best():
         seen.add(got)
         plt.close(fig)
     assert len(seen) > 1  # the figures do move the legend
+
+
+def test_escaping_shortcut_is_html_escape():
+    """report._e returns exactly html.escape(str(x)) (the letters-and-digits shortcut
+    included), and '' for None."""
+    rng = np.random.default_rng(2)
+    alphabet = list("aZ09_- .,;&<>\"'/éß²") + ["\u00a0"]
+    samples = ["", "P0001", "S17", "P0001<", "a&b", 12, 3.5, True]
+    samples += ["".join(rng.choice(alphabet, int(rng.integers(0, 8)))) for _ in range(300)]
+    for x in samples:
+        assert report._e(x) == html.escape(str(x), quote=True)
+    assert report._e(None) == ""

@@ -115,9 +115,15 @@ MEMBER_WORDS = {
 
 # --- small formatting helpers ---------------------------------------------------------
 
+def _esc_text(s: str) -> str:
+    """``html.escape(s)``; a text of letters and digits only (a panel name, a bar mark)
+    has nothing to escape and is returned as it is."""
+    return s if s.isalnum() else html.escape(s, quote=True)
+
+
 def _e(x) -> str:
     """Escaped text of anything (None as an empty string)."""
-    return "" if x is None else html.escape(str(x), quote=True)
+    return "" if x is None else _esc_text(str(x))
 
 
 def _num(x, nd: int = 2) -> str:
@@ -1413,7 +1419,7 @@ def _appendix(result, gmap=None) -> str:
                        for k in _order(list(clauses), lambda x: x, CHECK_ORDER)]))
     head = ("<thead><tr><th>check</th><th>comb.</th><th>case</th><th>effect</th>"
             "<th>resistance</th><th>unit</th><th>u</th><th></th></tr></thead>")
-    esc = html.escape
+    esc = _esc_text
     for p in result.panels:
         pn = p.panel
         st = "ok" if p.status == "ok" else "FLAGGED" + (f": {p.reason}" if p.reason else "")
