@@ -16,10 +16,16 @@ Layout (plain engineering order, each part starting a new printed page):
 6. Appendix: every panel's checks, one row per check entry, with the utilization
    rendered exactly as ``design.json`` gives it (``f"{u:.3f}"``).
 
-Everything is inline: CSS in a ``<style>`` element, figures as base64 PNG drawn with
-matplotlib (Agg backend). All text passes through :func:`html.escape`. Status is
-always written in words (``ok``, ``FLAGGED``, ``pass``, ``FAILS``); colour only
-repeats it.
+Everything is inline: CSS in a ``<style>`` element, the long section as base64 PNG
+drawn with matplotlib (Agg backend; its legends fixed where matplotlib's "best" rule
+puts them, found once), the cross-sections as SVG markup built here. All text passes
+through :func:`html.escape`. Status is always written in words (``ok``, ``FLAGGED``,
+``pass``, ``FAILS``); colour only repeats it.
+
+Speed (a 10 km job has some 110,000 check rows): the fixed fragments of a row (escaped
+names, cases, units, clauses, table headers) are built once per distinct value, most
+rows are one ``%`` format of their values (cell by cell only when a value is missing
+or not a number), and the garbage collector is held while the report is built.
 """
 
 from __future__ import annotations
