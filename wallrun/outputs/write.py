@@ -7,6 +7,7 @@ The inputs are only ever read.
 
 from __future__ import annotations
 
+import gc
 import os
 import shutil
 import tempfile
@@ -54,6 +55,7 @@ def _write_the_rest(result: DesignResult, folder: Path) -> None:
 
 
 def _child(result, folder, conn) -> None:
+    gc.disable()  # this process ends after the two files; nothing to collect meanwhile
     try:
         _write_sections_and_preview(result, folder)
         conn.send("")
@@ -77,6 +79,13 @@ def write_all(result: DesignResult, folder: Path) -> list[str]:
     a failure there fails the whole write.
     """
     import multiprocessing as mp
+
+    from wallrun.outputs.drafting import gc_paused
+    with gc_paused():  # the writers make many long-lived objects (see gc_paused)
+        return _write_all(result, folder, mp)
+
+
+def _write_all(result: DesignResult, folder: Path, mp) -> list[str]:
     if len(result.section_types) > PARALLEL_FROM_TYPES and "fork" in mp.get_all_start_methods():
         ctx = mp.get_context("fork")
         recv, send = ctx.Pipe(duplex=False)
