@@ -79,9 +79,10 @@ def cut_points(ch_start: float, ch_end: float, zone_bounds, wall) -> list[float]
 
 def _sample(profiles, a: float, b: float) -> np.ndarray:
     """Chainages where the panel's levels are evaluated: its ends and every breakpoint inside."""
-    bp = np.asarray(profiles.breakpoints, dtype=float)
-    inside = bp[(bp > a + _EPS) & (bp < b - _EPS)]
-    return np.concatenate(([a], inside, [b]))
+    bp = np.asarray(profiles.breakpoints, dtype=float)  # sorted
+    lo = np.searchsorted(bp, a + _EPS, side="right")
+    hi = np.searchsorted(bp, b - _EPS, side="left")
+    return np.concatenate(([a], bp[lo:max(hi, lo)], [b]))
 
 
 def retained_and_front(profiles, side: str, ch):
