@@ -20,9 +20,7 @@ given in paper millimetres and converted with the drawing's nominal scale 1:N
 
 from __future__ import annotations
 
-import contextlib
 import datetime as _dt
-import gc
 import math
 import weakref
 from dataclasses import dataclass
@@ -138,6 +136,7 @@ SCALES = (10, 20, 25, 50, 100, 200, 250, 500, 1000, 1250, 2000, 2500, 5000, 1000
           20000, 25000, 50000, 100000)
 
 from wallrun.cautions import NOT_CHECKED  # noqa: E402
+from wallrun.memory import collector_paused  # noqa: E402
 
 CAUTION_LINES = (
     "PRELIMINARY DESIGN AID - NOT FOR CONSTRUCTION UNTIL CHECKED.",
@@ -183,20 +182,8 @@ def along_wall_scale(panel_lengths) -> int:
     return pick_scale_down(40.0 * med, lowest=50)
 
 
-@contextlib.contextmanager
-def gc_paused():
-    """Pause Python's cyclic garbage collector while a drawing is built, written or
-    rendered, and let it run again afterwards. Those make hundreds of thousands of
-    small long-lived objects, and each batch of them starts a collection that walks
-    every live object, the whole drawing included: for a long job that was a quarter
-    of the time of writing sections.dxf and half of that of rendering elevation.png."""
-    was = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was:
-            gc.enable()
+#: Pause of the garbage collector while a drawing is built, written or rendered.
+gc_paused = collector_paused
 
 
 # --- document ------------------------------------------------------------------------

@@ -31,9 +31,7 @@ or not a number), and the garbage collector is held while the report is built.
 from __future__ import annotations
 
 import base64
-import contextlib
 import datetime as _dt
-import gc
 import html
 import io
 import math
@@ -47,6 +45,7 @@ import numpy as np
 
 import wallrun
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED, resolve
+from wallrun.memory import collector_paused
 
 __all__ = ["write_report", "render_report", "governing_panel", "panel_row",
            "PANEL_COLUMNS", "NOT_CHECKED"]
@@ -1449,21 +1448,6 @@ def _appendix(result, gmap=None) -> str:
     return "\n".join(out)
 
 
-@contextlib.contextmanager
-def _collector_paused():
-    """Hold Python's cyclic garbage collector while the report is built and let it run
-    again afterwards. Building makes a great many short-lived objects (rows, figure
-    artists); each batch of them would start a collection that walks every live object,
-    the whole design result included (about 0.12 s of the 10 km report)."""
-    was = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was:
-            gc.enable()
-
-
 def render_report(result, figures: dict | None = None, date: str | None = None) -> str:
     """The whole report as HTML text.
 
@@ -1473,7 +1457,7 @@ def render_report(result, figures: dict | None = None, date: str | None = None) 
     date: ISO date shown on the front page (default: ``SOURCE_DATE_EPOCH`` when set,
     else today).
     """
-    with _collector_paused():
+    with collector_paused():
         return _render(result, figures, date)
 
 

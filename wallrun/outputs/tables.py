@@ -260,7 +260,7 @@ def _panel_numbers(p: PanelResult, v3: list, v1: list, v2: list) -> None:
 
 def _panel_json_from(p: PanelResult, n3, n1, n2) -> dict:
     """``panel_json(p)`` with the rounded numbers taken from the iterators' ``__next__``."""
-    pa, s, r = p.panel, p.section, p.reinforcement
+    pa, r = p.panel, p.reinforcement
     ch = {"ch_start_m": n3(), "ch_end_m": n3()}
     levels = {"retained_top_m": n3(), "front_min_m": n3(), "founding_m": n3(),
               "wall_top_start_m": n3(), "wall_top_end_m": n3()}

@@ -80,8 +80,8 @@ def write_all(result: DesignResult, folder: Path) -> list[str]:
     """
     import multiprocessing as mp
 
-    from wallrun.outputs.drafting import gc_paused
-    with gc_paused():  # the writers make many long-lived objects (see gc_paused)
+    from wallrun.memory import collector_paused
+    with collector_paused():  # the writers make many long-lived objects
         return _write_all(result, folder, mp)
 
 
