@@ -32,6 +32,12 @@ by sizing's own functions. The search is the same heuristic as sizing's; with ot
 neighbours in the warm starts it may settle on another local optimum, which is why
 ``tests/test_lockstep.py`` compares it with ``sizing`` cold searches and brute force.
 
+After the rounds and the improvement pass, the taller-design passes
+(``Lockstep._taller_sections``): a demand tries the cheaper designs of taller demands
+under the same conditions but for the height, so that a taller panel never gets a
+cheaper design. Inside a ``workers.twin()`` block (the pipeline opens one) half of
+every large joined batch is checked by a forked copy of the process: the same numbers.
+
 Units: m, kN, kPa; money per metre run.
 """
 
