@@ -60,7 +60,6 @@ CHUNK = 60_000
 
 _NDIM = sizing._NDIM
 _TOL = sizing._TOL
-# the small neighbourhood of sizing._Search.local (radius 1 in B, toe, t_base, t_stem)
 
 
 # --- one demand's search state -------------------------------------------------------------
@@ -72,17 +71,6 @@ class _Store(sizing._Search):
     def __init__(self, bounds: sizing.SearchBounds):
         super().__init__(bounds, None, None)
 
-    def prepare(self, v: np.ndarray):
-        """The new valid candidates of ``v`` (sorted by code, as ``_Search.run``)."""
-        return self.fresh(v)
-
-    def commit(self, v, codes, ok, cost, util) -> None:
-        self.evaluated += len(v)
-        self.V = np.vstack([self.V, v])
-        self.ok = np.concatenate([self.ok, ok])
-        self.cost = np.concatenate([self.cost, cost])
-        self.util = np.concatenate([self.util, util])
-        self.codes = np.concatenate([self.codes, codes])
 
 
 @dataclass
@@ -95,7 +83,7 @@ class _Request:
 def _run(s: _Store, v, prune: bool = True):
     """Generator form of ``_Search.run``: yields the batch to evaluate (the driver
     prunes, evaluates and commits it)."""
-    v, codes = s.prepare(v)
+    v, codes = s.fresh(v)
     if len(v):
         yield _Request(v, codes, prune)
 
@@ -111,7 +99,7 @@ def _local(s: _Store, start, radius: int = 1, max_iter: int = 60, extra=None,
 def _best_first(s: _Store, demand: sizing.Demand, rates, v, m: int):
     """Generator form of ``_Search.run_best_first`` (the cold start's coarse grid in
     increasing lower bound of the cost, until its m cheapest passing are known)."""
-    v, _ = s.prepare(v)
+    v, _ = s.fresh(v)
     if len(v):
         lb = sizing.lower_bound_cost(s.bounds.sections(v), demand, rates)
         for part in sizing.best_first(s, v, lb, m):

@@ -657,29 +657,23 @@ class _Search:
 
     def run(self, v: np.ndarray, prune: bool = True) -> None:
         """Evaluate the new valid candidates of ``v`` whose lower bound beats the best."""
-        v = np.asarray(v, dtype=np.int64).reshape(-1, _NDIM)
-        if not len(v):
-            return
-        v = v[self.bounds.valid(v)]
-        codes = _codes(v)
-        codes, first = np.unique(codes, return_index=True)
-        v = v[first]
-        if len(self.codes):
-            new = ~np.isin(codes, self.codes, assume_unique=True)
-            v, codes = v[new], codes[new]
+        v, codes = self.fresh(v)
         if not len(v):
             return
         if prune and np.isfinite(self.best_cost()):
             keep = self.lb(v) < self.best_cost() - 1e-9
             v, codes = v[keep], codes[keep]
         for a in range(0, len(v), self.chunk):
-            part = v[a:a + self.chunk]
-            ok, cost, util = self.f(part, bool(self.ok.any()))
-            self.evaluated += len(part)
-            self.V = np.vstack([self.V, part])
-            self.ok = np.concatenate([self.ok, ok])
-            self.cost = np.concatenate([self.cost, cost])
-            self.util = np.concatenate([self.util, util])
+            part = slice(a, a + self.chunk)
+            self.commit(v[part], codes[part], *self.f(v[part], bool(self.ok.any())))
+
+    def commit(self, v, codes, ok, cost, util) -> None:
+        """Remember evaluated candidates ``v`` (m, 7) with their codes and results."""
+        self.evaluated += len(v)
+        self.V = np.vstack([self.V, v])
+        self.ok = np.concatenate([self.ok, ok])
+        self.cost = np.concatenate([self.cost, cost])
+        self.util = np.concatenate([self.util, util])
         self.codes = np.concatenate([self.codes, codes])
 
     def fresh(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
