@@ -78,6 +78,11 @@ _PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
 _CT = "application/vnd.openxmlformats-officedocument.spreadsheetml"
 
 
+def _attr(value: str) -> str:
+    """``value`` escaped for a double-quoted XML attribute."""
+    return escape(value, {'"': "&quot;"})
+
+
 def _text(value: str) -> str:
     """The ``<is>`` of an inline string cell (openpyxl's checks: at most 32,767
     characters, no XML-illegal control characters; surrounding space preserved)."""
@@ -115,7 +120,7 @@ class _Styles:
                     num = custom.setdefault(fmt, 164 + len(custom))
             xfs.append(f'<xf numFmtId="{num}" fontId="{1 if bold else 0}" fillId="0" borderId="0"'
                        f' pivotButton="0" quotePrefix="0" xfId="0"/>')
-        fmts = "".join(f'<numFmt numFmtId="{i}" formatCode="{escape(f)}"/>'
+        fmts = "".join(f'<numFmt numFmtId="{i}" formatCode="{_attr(f)}"/>'
                        for f, i in custom.items())
         return (f'<styleSheet xmlns="{_MAIN}"><numFmts count="{len(custom)}">{fmts}</numFmts>'
                 '<fonts count="2"><font><name val="Calibri"/><family val="2"/>'
@@ -286,7 +291,7 @@ def _package(sheets: list[_Sheet], styles: _Styles, path: Path) -> None:
             'Target="xl/workbook.xml" Id="rId1"/></Relationships>')
     book = (f'<workbook xmlns="{_MAIN}"><workbookPr/><bookViews><workbookView '
             'visibility="visible" activeTab="0"/></bookViews><sheets>'
-            + "".join(f'<sheet xmlns:r="{_REL}" name="{escape(s.title)}" sheetId="{i}" '
+            + "".join(f'<sheet xmlns:r="{_REL}" name="{_attr(s.title)}" sheetId="{i}" '
                       f'state="visible" r:id="rId{i}"/>' for i, s in enumerate(sheets, 1))
             + '</sheets><calcPr calcId="124519" fullCalcOnLoad="1"/></workbook>')
     book_rels = (f'<Relationships xmlns="{_PKG_REL}">'
