@@ -399,7 +399,7 @@ class Lockstep:
         groups: dict[tuple, list] = {}
         for d in ds:  # the same conditions but for the height (and so the wall top)
             if self.cache[d].status == "ok":
-                groups.setdefault((d.z_front, round(d.wall_top_m - d.z_top, 6)), []).append(d)
+                groups.setdefault(d.height_free_key, []).append(d)
         better = False
         for same in groups.values():
             if len(same) > 1:

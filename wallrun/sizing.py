@@ -73,6 +73,12 @@ class Demand:
         return self.z_top - self.z_front
 
     @property
+    def height_free_key(self) -> tuple:
+        """Front level and wall-top allowance: demands of one ground with equal keys have
+        the same conditions but for the height (the taller-design passes compare them)."""
+        return (self.z_front, round(self.wall_top_m - self.z_top, 6))
+
+    @property
     def ground_key(self) -> tuple:
         """Everything but the levels: panels with equal keys differ only in height."""
         return (self.backfill, self.foundation, self.surcharge_kpa, self.water,
@@ -985,7 +991,7 @@ class Designer:
         if d.status == "ok":
             self.by_ground.setdefault(demand.ground_key, []).append((demand.h, d.section))
             self.designs_by_ground.setdefault(demand.ground_key, []).append(
-                (demand.h, d, (demand.z_front, round(demand.wall_top_m - demand.z_top, 6))))
+                (demand.h, d, demand.height_free_key))
         return d
 
     def _taller_bars(self, demand: Demand, d: SizedDesign) -> SizedDesign:
@@ -995,7 +1001,7 @@ class Designer:
         design are chosen by least area per face, which is not always the least mass
         (laps and anchorages grow with the diameter), so a section's cost need not fall
         with the height; a taller panel's own bars can make a shorter one cheaper."""
-        same = (demand.z_front, round(demand.wall_top_m - demand.z_top, 6))
+        same = demand.height_free_key
         taller = [(h, t) for h, t, c in self.designs_by_ground.get(demand.ground_key, [])
                   if c == same and h > demand.h + 1e-9 and t.cost_per_m < d.cost_per_m - 1e-9]
         if not taller:
