@@ -1,26 +1,40 @@
 """The cautions every output carries, in one place.
 
 wallrun is a preliminary design aid; these texts say so on the report, the drawings,
-the workbook and ``design.json``, and list what wallrun does not check (design-basis
-section 8, and the EN 1992-1-1 clauses the structural design leaves out).
+the workbook and ``design.json``, and list what wallrun does not check for the site at
+hand (design-basis section 8, and the EN 1992-1-1 clauses the structural design leaves
+out). Writers take the list from :func:`not_checked` of the result's site, never a fixed
+copy, so that a check turned on by the site is never listed and one turned off always is.
 """
 
 CAUTION = ("wallrun is a preliminary design aid. Every result is to be checked, and the "
            "design signed, by a qualified engineer under the local codes and the national "
            "annex in force.")
 
-#: What wallrun does not check.
-NOT_CHECKED = (
-    "overall (deep-seated) stability of the slope and wall together",
+OVERALL = "overall (deep-seated) stability of the slope and wall together (EN 1997-1 11.5.1)"
+SEISMIC = "seismic actions (EN 1998-5)"
+RESTRAINT = ("minimum reinforcement for crack control of restrained early-age and shrinkage "
+             "strains (EN 1992-1-1 7.3.2)")
+BENDS = "bearing stress inside bar bends (EN 1992-1-1 8.3)"
+
+#: Never checked by wallrun, whatever the site says (design-basis section 8).
+ALWAYS = (
     "settlement and tilt, beyond the middle-third rule and the edge-pressure ratio "
     "between neighbouring panels",
-    "seismic actions",
     "compaction pressures from placing and compacting the backfill",
     "frost action and frost heave",
     "chemical attack on the concrete or the reinforcement (exposure and durability "
     "beyond the covers given)",
-    "minimum reinforcement for crack control of restrained early-age and shrinkage "
-    "strains (EN 1992-1-1 7.3.2)",
-    "bearing stress inside bar bends (EN 1992-1-1 8.3); members are sized to need no "
-    "shear reinforcement",
+    "shear reinforcement: members are sized to need none (EN 1992-1-1 6.2.1(4))",
 )
+
+
+def not_checked(site) -> tuple[str, ...]:
+    """What wallrun does not check for ``site`` (a ``wallrun.settings.Site``): the fixed
+    list, plus each optional check the site leaves off or wallrun does not make yet.
+    Every output lists exactly this."""
+    return (OVERALL, SEISMIC, RESTRAINT, BENDS) + ALWAYS
+
+
+#: The list for a site with every optional check off (tests and documentation).
+NOT_CHECKED = (OVERALL, SEISMIC, RESTRAINT, BENDS) + ALWAYS
