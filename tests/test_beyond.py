@@ -104,8 +104,10 @@ def test_foundation_too_weak_for_any_section(tmp_path, capsys):
         assert "no section" in p["reason"] and "fails" in p["reason"], p["reason"]
 
 
-STEEP = [("34 over 30", "\n[backfill]\nfriction_angle_deg = 30.0\nslope_deg = 34.0\n"),
-         ("28 over 32 (above phi_d)", "\n[backfill]\nfriction_angle_deg = 32.0\nslope_deg = 28.0\n")]
+# above phi'_d of DA1-2 (atan(tan 32 / 1.25) = 26.6 deg) but below phi'_k: accepted,
+# every panel flagged (a slope at or above phi'_k is refused by the site reader)
+STEEP = [("28 over 32 (above phi_d)", "\n[backfill]\nfriction_angle_deg = 32.0\nslope_deg = 28.0\n"),
+         ("31 over 32", "\n[backfill]\nfriction_angle_deg = 32.0\nslope_deg = 31.0\n")]
 
 
 @pytest.mark.parametrize("extra", [s[1] for s in STEEP], ids=[s[0] for s in STEEP])

@@ -29,7 +29,7 @@ from hypothesis import strategies as st
 
 from wallrun import pipeline
 from wallrun.conditions import Conditions
-from wallrun.plain import plain_stability_checks
+from plain_reference import plain_stability_checks
 from wallrun.profile import needed_stretches
 from wallrun.site import load_site
 

@@ -368,3 +368,34 @@ def test_site_reader_fuzz(tmp_path_factory, table, key, value):
     except InputError as e:
         assert e.problems and all(m.startswith(("site.toml", "ground.csv", "finished.csv"))
                                   for m in e.problems)
+
+
+# --- every rule declared once, beside its setting ------------------------------------
+
+def test_every_table_key_has_its_rule_beside_the_setting():
+    # the reader's key list is exactly the fields of the settings dataclasses
+    from dataclasses import fields
+
+    from wallrun.site import CLASSES, SPEC
+    for name, cls in CLASSES.items():
+        assert list(SPEC[name]) == [f.name for f in fields(cls) if "rule" in f.metadata]
+
+
+def test_backfill_slope_at_friction_angle_is_refused(tmp_path, capsys):
+    # a cohesionless surface steeper than its friction angle does not stand
+    # (infinite-slope limit, common practice): refused before any design
+    bad(tmp_path, capsys, "[backfill] slope_deg: must be less than the backfill "
+        "friction_angle_deg (32)", toml=TOML + "\n[backfill]\nslope_deg = 32.0\n")
+
+
+def test_strength_class_c20_25_is_designed(tmp_path, capsys):
+    # C20/25 is a Table 3.1 class (EN 1992-1-1); check and design both accept it
+    d = make_site(tmp_path, toml=TOML + '\n[concrete]\nstrength_class = "C20/25"\n')
+    assert main(["check", str(d)]) == 0
+    assert main(["design", str(d), "--out", str(tmp_path / "out"), "--quiet"]) in (0, 3)
+    assert "input problem" not in capsys.readouterr().err
+
+
+def test_strength_class_below_annex_e_minimum_is_refused(tmp_path, capsys):
+    bad(tmp_path, capsys, "[concrete] strength_class: must be one of",
+        toml=TOML + '\n[concrete]\nstrength_class = "C16/20"\n')

@@ -10,7 +10,6 @@ import pytest
 from hypothesis import given, settings, strategies as st
 from shapely.geometry import Polygon
 
-from wallrun.errors import InputError
 from wallrun.results import BarMark, Panel, Quantity
 from wallrun.section import Section, SectionArrays
 from wallrun.settings import Backfill, Foundation, Rate, Takeoff
@@ -239,26 +238,6 @@ def test_no_rate_at_all_lists_group_totals_unpriced():
     assert "reinforcement_total" in items and "reinforcement_12" not in items
     assert c.total == 0.0 and not c.complete
     assert all(r.rate is None and r.amount is None for r in c.rows)
-
-
-def test_unit_mismatch_is_an_input_error():
-    rates = list(DEMO_RATES) + [Rate("formwork_stem", "m3", 40.0)]
-    rates = [r for r in rates if not (r.item == "formwork_stem" and r.unit == "m2")]
-    with pytest.raises(InputError) as e:
-        cost(_q(), rates)
-    assert "rates.csv" in str(e.value) and "formwork_stem" in str(e.value)
-    with pytest.raises(InputError, match="rates.csv"):
-        cost_per_metre(SectionArrays.of([STRAIGHT_SEC]), 3.0, 1.0, 100.0, rates)
-
-
-def test_check_rates_lists_every_problem():
-    from wallrun.takeoff import check_rates, unknown_rate_items
-    bad = [Rate("excavation", "m2", 10.0), Rate("joint_seal", "m", -1.0),
-           Rate("reinforcement_16", "t", 1200.0), Rate("mystery", "nr", 5.0)]
-    probs = check_rates(bad)
-    assert len(probs) == 3 and all(p.startswith("rates.csv: item ") for p in probs)
-    assert check_rates(DEMO_RATES) == []
-    assert unknown_rate_items(bad) == ["rates.csv: item mystery: not a take-off item, ignored"]
 
 
 def test_cost_per_metre_matches_one_metre_panel():

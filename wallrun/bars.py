@@ -158,7 +158,7 @@ def _straight_runs(section, member, phi, run_mm, lap_mm, count) -> list[BarMark]
 def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement, panel: Panel,
                basis) -> list[BarMark]:
     """Bars of one panel (bar_mark left ""), see the module docstring for the rules."""
-    fck = ec2.fck_of_class(basis.concrete.strength_class)
+    fck = basis.concrete.fck_mpa
     fyk = basis.steel.fyk_mpa
     cv, cg = float(basis.concrete.cover_mm), float(basis.concrete.cover_ground_mm)
     r = reinforcement

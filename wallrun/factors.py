@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from wallrun.rules import Rule
+
 
 @dataclass(frozen=True)
 class FactorSet:
@@ -53,6 +55,8 @@ RECOMMENDED: dict[str, FactorSet] = {
 #: Keys a ``[factors.<set>]`` table may give.
 OVERRIDE_KEYS = ("gG_unfav", "gG_fav", "gQ", "g_phi", "g_c", "g_cu",
                  "gR_bearing", "gR_sliding", "gR_passive", "gG_unfav_ground")
+#: The rule every override value is checked against: a partial factor, > 0 and <= 10.
+OVERRIDE_RULE = Rule("float", lo=0.0, hi=10.0, lo_open=True)
 
 #: Sets used by each design approach, EQU always included (design-basis section 4).
 SETS_OF_APPROACH = {"DA1": ("EQU", "DA1-1", "DA1-2"), "DA2": ("EQU", "DA2"),

@@ -2,8 +2,10 @@
 
 Field names are the ``site.toml`` key names (see ``shared/interfaces.md``); defaults
 are the documented defaults. Units: m, kPa, kN/m3, degrees, mm for bars and covers.
-``wallrun.site`` reads and validates a site folder into these objects; the engine
-only ever sees them, never the files.
+Each key is declared once, with its default, unit and range (``wallrun.rules.setting``),
+and rules between keys are each class's ``problems()``. ``wallrun.site`` reads and
+checks a site folder against exactly these declarations; the engine only ever sees the
+checked objects, never the files, and checks nothing again.
 """
 
 from __future__ import annotations
@@ -13,12 +15,21 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from wallrun.factors import FactorSet
+from wallrun.rules import g, setting
 
 
 @dataclass(frozen=True)
 class Project:
-    name: str
-    reference: str = ""
+    name: str = setting("", required=True, nonempty=True)
+    reference: str = setting("")
+
+
+@dataclass(frozen=True)
+class ProfileFiles:
+    """``[profiles]``: the files the two profiles are read from (inside the site folder)."""
+
+    ground: str = setting("", required=True, nonempty=True)
+    finished: str = setting("", nonempty=True)  # or [[profiles.finished_alignment]]
 
 
 @dataclass(frozen=True)
@@ -42,43 +53,78 @@ class ProfileData:
 class AlignmentPoint:
     """Vertical intersection point of a road alignment (``[[profiles.finished_alignment]]``)."""
 
-    chainage_m: float
-    level_m: float
-    curve_length_m: float = 0.0
+    chainage_m: float = setting(0.0, unit="m", ge=-1e6, le=1e7, required=True)
+    level_m: float = setting(0.0, unit="m", ge=-1000, le=10000, required=True)
+    curve_length_m: float = setting(0.0, unit="m", ge=0, le=10000)
+
+
+#: Concrete strength classes accepted, with fck in MPa (EN 1992-1-1 Table 3.1, plus the
+#: BS 8500 classes C28/35 and C32/40). Up to C50/60: the eta = 1, lambda = 0.8 stress
+#: block and x/d <= 0.45 of design-basis section 5 hold only for fck <= 50 MPa. From
+#: C20/25: the indicative least class of reinforced concrete (EN 1992-1-1 Annex E,
+#: Table E.1N, exposure XC1).
+STRENGTH_CLASSES = {"C20/25": 20.0, "C25/30": 25.0, "C28/35": 28.0, "C30/37": 30.0,
+                    "C32/40": 32.0, "C35/45": 35.0, "C40/50": 40.0, "C45/55": 45.0,
+                    "C50/60": 50.0}
 
 
 @dataclass(frozen=True)
 class Wall:
-    min_retained_height_m: float = 0.5
-    merge_gap_m: float = 5.0
-    max_panel_length_m: float = 8.0
-    min_panel_length_m: float = 2.0
-    min_founding_depth_m: float = 0.6
-    founding_step_m: float = 0.15
-    max_founding_step_m: float = 0.6
-    top: str = "stepped"  # stepped | sloped
-    top_step_m: float = 0.15
-    max_top_step_m: float = 0.6
-    freeboard_m: float = 0.0
-    max_pressure_ratio: float = 1.5
+    min_retained_height_m: float = setting(0.5, unit="m", gt=0, le=10)
+    merge_gap_m: float = setting(5.0, unit="m", ge=0, le=1000)
+    max_panel_length_m: float = setting(8.0, unit="m", gt=0, le=50)
+    min_panel_length_m: float = setting(2.0, unit="m", gt=0, le=50)
+    min_founding_depth_m: float = setting(0.6, unit="m", ge=0, le=10)
+    founding_step_m: float = setting(0.15, unit="m", gt=0, le=2)
+    max_founding_step_m: float = setting(0.6, unit="m", ge=0, le=10)
+    top: str = setting("stepped", choices=("stepped", "sloped"))
+    top_step_m: float = setting(0.15, unit="m", gt=0, le=2)
+    max_top_step_m: float = setting(0.6, unit="m", ge=0, le=10)
+    freeboard_m: float = setting(0.0, unit="m", ge=0, le=5)
+    max_pressure_ratio: float = setting(1.5, ge=1, le=100)
+
+    def problems(self) -> list[tuple[str, str]]:
+        """Rules between keys (design-basis section 1): (key, problem)."""
+        if self.min_panel_length_m > self.max_panel_length_m / 2:
+            return [("min_panel_length_m",
+                     f"must be at most half of max_panel_length_m ({g(self.max_panel_length_m)}"
+                     f" / 2 = {g(self.max_panel_length_m / 2)}), got {g(self.min_panel_length_m)}")]
+        return []
 
 
 @dataclass(frozen=True)
 class Backfill:
-    unit_weight_kn_m3: float = 19.0
-    friction_angle_deg: float = 32.0
-    slope_deg: float = 0.0
-    wall_friction_deg: float = 0.0
+    unit_weight_kn_m3: float = setting(19.0, unit="kN/m3", gt=0, le=30)
+    friction_angle_deg: float = setting(32.0, unit="deg", gt=0, lt=50)
+    slope_deg: float = setting(0.0, unit="deg", ge=0, lt=90)
+    wall_friction_deg: float = setting(0.0, unit="deg", ge=0, lt=50)
+
+    def problems(self) -> list[tuple[str, str]]:
+        """Rules between keys: (key, problem). A surface at or steeper than the
+        characteristic friction angle of a cohesionless backfill does not stand
+        (infinite-slope limit, common practice), so no wall can be designed for it."""
+        out = []
+        if self.wall_friction_deg > self.friction_angle_deg:
+            out.append(("wall_friction_deg",
+                        f"must not exceed the backfill friction_angle_deg "
+                        f"({g(self.friction_angle_deg)}), got {g(self.wall_friction_deg)}"))
+        if self.slope_deg >= self.friction_angle_deg:
+            out.append(("slope_deg",
+                        f"must be less than the backfill friction_angle_deg "
+                        f"({g(self.friction_angle_deg)}): a cohesionless surface at or steeper "
+                        f"than its friction angle does not stand, got {g(self.slope_deg)}"))
+        return out
 
 
 @dataclass(frozen=True)
 class Foundation:
-    unit_weight_kn_m3: float = 19.0
-    friction_angle_deg: float = 30.0
-    critical_state_angle_deg: float | None = None  # None: friction_angle_deg
-    cohesion_kpa: float = 0.0
-    undrained_strength_kpa: float = 0.0
-    allowable_bearing_kpa: float = 0.0
+    unit_weight_kn_m3: float = setting(19.0, unit="kN/m3", gt=0, le=30)
+    friction_angle_deg: float = setting(30.0, unit="deg", gt=0, lt=50)
+    critical_state_angle_deg: float | None = setting(None, "float_or_none", unit="deg",
+                                                     gt=0, lt=50)
+    cohesion_kpa: float = setting(0.0, unit="kPa", ge=0, le=500)
+    undrained_strength_kpa: float = setting(0.0, unit="kPa", ge=0, le=1000)
+    allowable_bearing_kpa: float = setting(0.0, unit="kPa", ge=0, le=5000)
 
     @property
     def phi_cv_deg(self) -> float:
@@ -92,72 +138,80 @@ class Foundation:
 class FoundationZone:
     """A stretch ``from_m``..``to_m`` of chainage with its own foundation soil."""
 
-    from_m: float
-    to_m: float
-    foundation: Foundation
+    from_m: float = setting(0.0, unit="m", ge=-1e6, le=1e7, required=True)
+    to_m: float = setting(0.0, unit="m", ge=-1e6, le=1e7, required=True)
+    foundation: Foundation = Foundation()
 
 
 @dataclass(frozen=True)
 class Water:
     """Water behind the wall: exactly one of the two is set."""
 
-    level_m: float | None = None
-    height_above_base_m: float | None = None
+    level_m: float | None = setting(None, "float_or_none", unit="m", ge=-1000, le=10000)
+    height_above_base_m: float | None = setting(None, "float_or_none", unit="m", ge=0, le=100)
 
 
 @dataclass(frozen=True)
 class Loads:
-    surcharge_kpa: float = 10.0
-    psi2: float = 0.0
+    surcharge_kpa: float = setting(10.0, unit="kPa", ge=0, le=1000)
+    psi2: float = setting(0.0, ge=0, le=1, why="EN 1990 Table A1.1")
 
 
 @dataclass(frozen=True)
 class Concrete:
-    strength_class: str = "C32/40"
-    cover_mm: float = 50.0
-    cover_ground_mm: float = 75.0
-    alpha_cc: float = 0.85
+    strength_class: str = setting("C32/40", choices=tuple(STRENGTH_CLASSES),
+                                  why="EN 1992-1-1 Table 3.1 from C20/25 (Annex E) to C50/60")
+    cover_mm: float = setting(50.0, unit="mm", ge=15, le=150)
+    cover_ground_mm: float = setting(75.0, unit="mm", ge=15, le=150)
+    alpha_cc: float = setting(0.85, ge=0.8, le=1.0, why="EN 1992-1-1 3.1.6(1) Note")
+
+    @property
+    def fck_mpa(self) -> float:
+        """Characteristic cylinder strength of the class, MPa (EN 1992-1-1 Table 3.1)."""
+        return STRENGTH_CLASSES[self.strength_class]
 
 
 @dataclass(frozen=True)
 class Steel:
-    fyk_mpa: float = 500.0
-    bar_sizes_mm: tuple[int, ...] = (10, 12, 16, 20, 25, 32)
-    spacings_mm: tuple[int, ...] = (100, 125, 150, 175, 200, 250, 300)
+    fyk_mpa: float = setting(500.0, unit="MPa", ge=400, le=600, why="EN 1992-1-1 Annex C")
+    bar_sizes_mm: tuple[int, ...] = setting((10, 12, 16, 20, 25, 32), unit="mm", ge=6, le=50)
+    spacings_mm: tuple[int, ...] = setting((100, 125, 150, 175, 200, 250, 300), unit="mm",
+                                           ge=50, le=500)
 
 
 @dataclass(frozen=True)
 class Design:
-    approach: str = "DA1"  # DA1 | DA2 | DA3
-    earth_pressure: str = "rankine"  # rankine | coulomb (stem design only)
-    passive: str = "key"  # none | key | full
-    base_friction_factor: float = 1.0
-    undrained_interface_open: bool = True
-    sls_middle_third: bool = True
-    crack_width_mm: float = 0.3
-    sections: str = "bespoke"  # bespoke | catalogue | rationalised
-    max_types: int = 6
-    dimension_step_m: float = 0.05
+    approach: str = setting("DA1", choices=("DA1", "DA2", "DA3"))
+    earth_pressure: str = setting("rankine", choices=("rankine", "coulomb"))  # stem design
+    passive: str = setting("key", choices=("none", "key", "full"))
+    base_friction_factor: float = setting(1.0, gt=0, le=1)
+    undrained_interface_open: bool = setting(True)
+    sls_middle_third: bool = setting(True)
+    crack_width_mm: float = setting(0.3, "choice", unit="mm", choices=(0.2, 0.3, 0.4),
+                                    why="the columns of EN 1992-1-1 Table 7.3N")
+    sections: str = setting("bespoke", choices=("bespoke", "catalogue", "rationalised"))
+    max_types: int = setting(6, ge=1, le=100)
+    dimension_step_m: float = setting(0.05, unit="m", ge=0.01, le=0.5)
 
 
 @dataclass(frozen=True)
 class Takeoff:
     """Quantity take-off settings (wallrun's own table ``[takeoff]``)."""
 
-    working_space_m: float = 0.6  # clear space beside the base for formwork, m
-    excavation_side_slope: float = 1.0  # batter of the dig, horizontal per vertical
-    blinding_thickness_m: float = 0.075
-    drainage_layer_thickness_m: float = 0.3  # free-draining layer behind the stem
-    drain_pipe: bool = True  # perforated pipe at the heel along the run
-    waterproofing: bool = True  # back face of the stem below the retained level
+    working_space_m: float = setting(0.6, unit="m", ge=0, le=5)  # beside the base
+    excavation_side_slope: float = setting(1.0, ge=0, le=10)  # horizontal per vertical
+    blinding_thickness_m: float = setting(0.075, unit="m", ge=0, le=0.5)
+    drainage_layer_thickness_m: float = setting(0.3, unit="m", ge=0, le=2)
+    drain_pipe: bool = setting(True)  # perforated pipe at the heel along the run
+    waterproofing: bool = setting(True)  # back face of the stem below the retained level
 
 
 @dataclass(frozen=True)
 class Drawings:
     """Drawing settings (wallrun's own table ``[drawings]``)."""
 
-    vertical_exaggeration: float = 1.0
-    chainage_tick_m: float = 20.0
+    vertical_exaggeration: float = setting(1.0, gt=0, le=20)
+    chainage_tick_m: float = setting(20.0, unit="m", gt=0, le=10000)
 
 
 @dataclass(frozen=True)

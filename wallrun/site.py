@@ -15,24 +15,23 @@ counted). Inputs are only ever read. File names given in ``site.toml`` (and the 
 ``sections.csv`` / ``rates.csv``) must resolve inside the site folder: absolute paths,
 ``..`` that leaves it and symlinks that point out of it are refused.
 
-Ranges that are a reading of this module (not written in the design basis):
-friction angles 0 < phi' < 50 deg, unit weights 0 < gamma <= 30 kN/m3, covers
-15..150 mm, alpha_cc 0.8..1.0 (EN 1992-1-1 3.1.6(1) Note), fyk 400..600 MPa
-(EN 1992-1-1 Annex C), concrete classes C12/15..C50/60 (the eta = 1, lambda = 0.8
-stress block of design-basis section 5 holds only up to C50/60), crack width one of
-the Table 7.3N columns 0.2, 0.3, 0.4 mm, psi2 0..1, wall friction 0 <= delta <=
-phi' of the backfill. A backfill slope steeper than the backfill's friction angle is
-accepted here (the affected panels are flagged by the design, not refused).
+The rule of every key (kind, range, allowed words, unit) is declared once, beside the
+key, in ``wallrun.settings`` (``wallrun.rules.setting``), and the rules between keys in
+each settings class's ``problems()``; this module applies exactly those and the rules
+of the files themselves (columns, numbers, increasing chainage). The engine checks
+nothing again, so ``wallrun check`` and ``wallrun design`` accept the same sites.
+A backfill slope at or above the backfill's characteristic friction angle is refused
+(no such slope stands); one between the design and the characteristic angle of a
+factor set is accepted with a warning, and the design flags its panels.
 """
 
 from __future__ import annotations
 
 import csv
-import difflib
 import io
 import math
 import tomllib
-from dataclasses import dataclass, fields
+from dataclasses import fields
 from pathlib import Path
 from typing import Any
 
@@ -41,9 +40,13 @@ import pandas as pd
 
 from wallrun import factors as _factors
 from wallrun.errors import InputError
+from wallrun.rules import Rule, check_value, rules_of
+from wallrun.rules import g as _g
+from wallrun.rules import nearest as _nearest
+from wallrun.rules import show as _show
 from wallrun.settings import (AlignmentPoint, Backfill, CatalogueSection, Concrete, Design,
                               Drawings, Foundation, FoundationZone, Loads, ProfileData,
-                              Project, Rate, Site, Steel, Takeoff, Wall, Water)
+                              ProfileFiles, Project, Rate, Site, Steel, Takeoff, Wall, Water)
 
 SITE_FILE = "site.toml"
 SECTIONS_FILE = "sections.csv"
@@ -57,220 +60,28 @@ PLAN_TOLERANCE_M = 0.5
 #: Plan length and chainage length differing by more than this give a warning.
 PLAN_LENGTH_TOLERANCE = 0.01
 
-#: Concrete strength classes accepted (EN 1992-1-1 Table 3.1, up to C50/60).
-STRENGTH_CLASSES = ("C12/15", "C16/20", "C20/25", "C25/30", "C30/37", "C32/40",
-                    "C35/45", "C40/50", "C45/55", "C50/60")
-
 #: Columns of ``sections.csv`` (interfaces.md), in order.
 CATALOGUE_COLUMNS = tuple(f.name for f in fields(CatalogueSection))
 RATE_COLUMNS = ("item", "unit", "rate")
 FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
 
 
-# --- value specifications ------------------------------------------------------------
+# --- the keys of each table: the rules declared beside each setting ------------------
 
-@dataclass(frozen=True)
-class _Spec:
-    """How one key is checked: ``kind`` float|int|bool|str|choice|intlist."""
-
-    kind: str
-    lo: float | None = None
-    hi: float | None = None
-    lo_open: bool = False
-    hi_open: bool = False
-    choices: tuple = ()
-    required: bool = False
-    nonempty: bool = False
-
-
-def _F(lo=None, hi=None, lo_open=False, hi_open=False, required=False):
-    return _Spec("float", lo, hi, lo_open, hi_open, required=required)
-
-
-def _I(lo=None, hi=None):
-    return _Spec("int", lo, hi)
-
-
-def _C(*choices):
-    return _Spec("choice", choices=choices)
-
-
-_B = _Spec("bool")
-_S = _Spec("str")
-
-
-def _range_text(s: _Spec) -> str:
-    if s.lo is not None and s.hi is not None:
-        if s.lo_open and s.hi_open:
-            return f"between {_g(s.lo)} and {_g(s.hi)} (exclusive)"
-        lo = f"> {_g(s.lo)}" if s.lo_open else f">= {_g(s.lo)}"
-        hi = f"< {_g(s.hi)}" if s.hi_open else f"<= {_g(s.hi)}"
-        return f"{lo} and {hi}"
-    if s.lo is not None:
-        return f"> {_g(s.lo)}" if s.lo_open else f">= {_g(s.lo)}"
-    return f"< {_g(s.hi)}" if s.hi_open else f"<= {_g(s.hi)}"
-
-
-def _g(v) -> str:
-    return f"{v:g}" if isinstance(v, float) else str(v)
-
-
-def _is_num(v) -> bool:
-    return isinstance(v, (int, float)) and not isinstance(v, bool)
-
-
-def _check_value(v, s: _Spec) -> tuple[Any, str | None]:
-    """Return (converted value, problem or None)."""
-    if s.kind in ("float", "int"):
-        if not _is_num(v):
-            return None, f"must be a number, got {_show(v)}"
-        if s.kind == "int" and not isinstance(v, int):
-            if not (math.isfinite(v) and float(v).is_integer()):
-                return None, f"must be a whole number, got {_show(v)}"
-            v = int(v)
-        if not math.isfinite(v):
-            return None, f"must be a finite number, got {_show(v)}"
-        bad = ((s.lo is not None and (v <= s.lo if s.lo_open else v < s.lo))
-               or (s.hi is not None and (v >= s.hi if s.hi_open else v > s.hi)))
-        if bad:
-            return None, f"must be {_range_text(s)}, got {_show(v)}"
-        return (float(v) if s.kind == "float" else int(v)), None
-    if s.kind == "bool":
-        if not isinstance(v, bool):
-            return None, f"must be true or false, got {_show(v)}"
-        return v, None
-    if s.kind == "str":
-        if not isinstance(v, str):
-            return None, f"must be a text in quotes, got {_show(v)}"
-        if s.nonempty and not v.strip():
-            return None, "must not be empty"
-        return v, None
-    if s.kind == "choice":
-        if not isinstance(v, str) or v not in s.choices:
-            words = ", ".join(f'"{c}"' for c in s.choices)
-            hint = _nearest(v, s.choices) if isinstance(v, str) else None
-            extra = f" (did you mean \"{hint}\"?)" if hint else ""
-            return None, f"must be one of {words}, got {_show(v)}{extra}"
-        return v, None
-    if s.kind == "intlist":
-        if not isinstance(v, list) or not v:
-            return None, f"must be a non-empty list of whole numbers, got {_show(v)}"
-        if not all(isinstance(x, int) and not isinstance(x, bool) for x in v):
-            return None, f"must be a list of whole numbers, got {_show(v)}"
-        if any(x <= 0 for x in v):
-            return None, f"must hold positive numbers only, got {_show(v)}"
-        if s.hi is not None and any(x > s.hi for x in v):
-            return None, f"values must be <= {_g(s.hi)}, got {_show(v)}"
-        if s.lo is not None and any(x < s.lo for x in v):
-            return None, f"values must be >= {_g(s.lo)}, got {_show(v)}"
-        if any(b <= a for a, b in zip(v, v[1:])):
-            return None, f"must be sorted smallest first without repeats, got {_show(v)}"
-        return tuple(v), None
-    raise AssertionError(s.kind)
-
-
-def _show(v) -> str:
-    if isinstance(v, str):
-        return f'"{v}"'
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    if isinstance(v, dict):
-        return "a table"
-    return repr(v)
-
-
-def _nearest(word: str, known) -> str | None:
-    m = difflib.get_close_matches(word, list(known), n=1, cutoff=0.6)
-    if not m:
-        m = difflib.get_close_matches(word.lower(), [k.lower() for k in known], n=1, cutoff=0.6)
-        if m:
-            m = [k for k in known if k.lower() == m[0]]
-    return m[0] if m else None
-
-
-_FOUNDATION_SPEC = {
-    "unit_weight_kn_m3": _F(0, 30, lo_open=True),
-    "friction_angle_deg": _F(0, 50, True, True),
-    "critical_state_angle_deg": _F(0, 50, True, True),
-    "cohesion_kpa": _F(0, 500),
-    "undrained_strength_kpa": _F(0, 1000),
-    "allowable_bearing_kpa": _F(0, 5000),
-}
-
-#: Key specifications per table, in the order of interfaces.md.
-SPEC: dict[str, dict[str, _Spec]] = {
-    "project": {"name": _Spec("str", required=True, nonempty=True), "reference": _S},
-    "profiles": {"ground": _Spec("str", required=True, nonempty=True),
-                 "finished": _Spec("str", nonempty=True)},
-    "wall": {
-        "min_retained_height_m": _F(0, 10, lo_open=True),
-        "merge_gap_m": _F(0, 1000),
-        "max_panel_length_m": _F(0, 50, lo_open=True),
-        "min_panel_length_m": _F(0, 50, lo_open=True),
-        "min_founding_depth_m": _F(0, 10),
-        "founding_step_m": _F(0, 2, lo_open=True),
-        "max_founding_step_m": _F(0, 10),
-        "top": _C("stepped", "sloped"),
-        "top_step_m": _F(0, 2, lo_open=True),
-        "max_top_step_m": _F(0, 10),
-        "freeboard_m": _F(0, 5),
-        "max_pressure_ratio": _F(1, 100),
-    },
-    "backfill": {
-        "unit_weight_kn_m3": _F(0, 30, lo_open=True),
-        "friction_angle_deg": _F(0, 50, True, True),
-        "slope_deg": _F(0, 90, hi_open=True),
-        "wall_friction_deg": _F(0, 50, hi_open=True),
-    },
-    "foundation": dict(_FOUNDATION_SPEC),
-    "water": {"level_m": _F(-1000, 10000), "height_above_base_m": _F(0, 100)},
-    "loads": {"surcharge_kpa": _F(0, 1000), "psi2": _F(0, 1)},
-    "concrete": {
-        "strength_class": _C(*STRENGTH_CLASSES),
-        "cover_mm": _F(15, 150),
-        "cover_ground_mm": _F(15, 150),
-        "alpha_cc": _F(0.8, 1.0),
-    },
-    "steel": {
-        "fyk_mpa": _F(400, 600),
-        "bar_sizes_mm": _Spec("intlist", lo=6, hi=50),
-        "spacings_mm": _Spec("intlist", lo=50, hi=500),
-    },
-    "design": {
-        "approach": _C("DA1", "DA2", "DA3"),
-        "earth_pressure": _C("rankine", "coulomb"),
-        "passive": _C("none", "key", "full"),
-        "base_friction_factor": _F(0, 1, lo_open=True),
-        "undrained_interface_open": _B,
-        "sls_middle_third": _B,
-        "crack_width_mm": _Spec("float", 0.2, 0.4),
-        "sections": _C("bespoke", "catalogue", "rationalised"),
-        "max_types": _I(1, 100),
-        "dimension_step_m": _F(0.01, 0.5),
-    },
-    "takeoff": {
-        "working_space_m": _F(0, 5),
-        "excavation_side_slope": _F(0, 10),
-        "blinding_thickness_m": _F(0, 0.5),
-        "drainage_layer_thickness_m": _F(0, 2),
-        "drain_pipe": _B,
-        "waterproofing": _B,
-    },
-    "drawings": {
-        "vertical_exaggeration": _F(0, 20, lo_open=True),
-        "chainage_tick_m": _F(0, 10000, lo_open=True),
-    },
-}
+#: The dataclass each ``site.toml`` table is read into; its fields carry the rule of each
+#: key (``wallrun.rules.setting``) and its ``problems()`` the rules between keys.
+CLASSES = {"project": Project, "profiles": ProfileFiles, "wall": Wall, "backfill": Backfill,
+           "foundation": Foundation, "water": Water, "loads": Loads, "concrete": Concrete,
+           "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings}
+#: Key rules per table, taken from those dataclasses.
+SPEC: dict[str, dict[str, Rule]] = {name: rules_of(cls) for name, cls in CLASSES.items()}
 #: Sub-tables allowed beside the keys of a table.
 SUBTABLES = {"profiles": ("finished_alignment",), "foundation": ("zones",),
              "factors": FACTOR_SETS}
 TABLES = tuple(SPEC) + ("factors",)
-_ALIGNMENT_SPEC = {"chainage_m": _F(-1e6, 1e7, required=True),
-                   "level_m": _F(-1000, 10000, required=True),
-                   "curve_length_m": _F(0, 10000)}
-_ZONE_SPEC = {"from_m": _F(-1e6, 1e7, required=True), "to_m": _F(-1e6, 1e7, required=True),
-              **_FOUNDATION_SPEC}
-_CRACK_WIDTHS = (0.2, 0.3, 0.4)
+_ALIGNMENT_SPEC = rules_of(AlignmentPoint)
+_FOUNDATION_SPEC = rules_of(Foundation)
+_ZONE_SPEC = {**rules_of(FoundationZone), **_FOUNDATION_SPEC}
 
 
 class _Problems:
@@ -288,7 +99,7 @@ class _Problems:
         self.items.append(f"{SITE_FILE}: [{section}]: {msg}")
 
 
-def _read_table(tab: dict, section: str, spec: dict[str, _Spec], pr: _Problems,
+def _read_table(tab: dict, section: str, spec: dict[str, Rule], pr: _Problems,
                 sub: tuple[str, ...] = ()) -> dict[str, Any]:
     """Check every key of ``tab`` against ``spec``; return the good values."""
     out: dict[str, Any] = {}
@@ -300,7 +111,7 @@ def _read_table(tab: dict, section: str, spec: dict[str, _Spec], pr: _Problems,
             pr.key(section, k, "unknown key" + (f"; did you mean '{hint}'?" if hint else
                                                  f"; known keys: {', '.join(spec)}"))
             continue
-        val, err = _check_value(v, spec[k])
+        val, err = check_value(v, spec[k])
         if err:
             pr.key(section, k, err)
         else:
@@ -803,23 +614,19 @@ def load_site(path) -> Site:
         if name not in doc:
             pr.table(name, "required table is missing")
 
-    # cross-checks between settings
+    # rules between keys, declared with each table's dataclass
+    for name, cls in CLASSES.items():
+        if name in vals and hasattr(cls, "problems"):
+            try:
+                obj = cls(**vals[name])
+            except TypeError:
+                continue
+            for key, msg in obj.problems():
+                pr.key(name, key, msg)
+                vals[name].pop(key, None)
     w = vals.get("wall", {})
-    mx = w.get("max_panel_length_m", Wall.max_panel_length_m)
-    mn = w.get("min_panel_length_m", Wall.min_panel_length_m)
-    if mn > mx / 2 and "wall" in doc:
-        pr.key("wall", "min_panel_length_m",
-               f"must be at most half of max_panel_length_m ({_g(mx)} / 2 = {_g(mx / 2)}), got {_g(mn)}")
     b = vals.get("backfill", {})
-    if b.get("wall_friction_deg", 0.0) > b.get("friction_angle_deg", Backfill.friction_angle_deg):
-        pr.key("backfill", "wall_friction_deg",
-               f"must not exceed the backfill friction_angle_deg "
-               f"({_g(b.get('friction_angle_deg', Backfill.friction_angle_deg))}), got {_g(b['wall_friction_deg'])}")
     d = vals.get("design", {})
-    if "crack_width_mm" in d and not any(abs(d["crack_width_mm"] - c) < 1e-9 for c in _CRACK_WIDTHS):
-        pr.key("design", "crack_width_mm",
-               f"must be one of 0.2, 0.3, 0.4 (the columns of EN 1992-1-1 Table 7.3N), got {_g(d['crack_width_mm'])}")
-        d.pop("crack_width_mm")
 
     wat = None
     if "water" in doc and isinstance(doc["water"], dict):
@@ -878,7 +685,7 @@ def load_site(path) -> Site:
                 continue
             keys = _factors.OVERRIDE_KEYS if setname == "DA3" else tuple(
                 k for k in _factors.OVERRIDE_KEYS if k != "gG_unfav_ground")
-            spec = {k: _F(0, 10, lo_open=True) for k in keys}
+            spec = {k: _factors.OVERRIDE_RULE for k in keys}
             fvals = _read_table(t, f"factors.{setname}", spec, pr)
             overrides[setname] = fvals
             if setname not in _factors.SETS_OF_APPROACH[approach]:

@@ -35,12 +35,10 @@ import numpy as np
 
 from wallrun.codes import ec7
 from wallrun.conditions import Conditions
-from wallrun.errors import InputError
 from wallrun.factors import SLS, FactorSet
 from wallrun.members import MemberActions
 from wallrun.results import ActionRow, CheckArray
-from wallrun.section import (Section, SectionArrays, area_centroid_cols, section_problems,
-                             validate_section)
+from wallrun.section import Section, SectionArrays, area_centroid_cols, section_problems
 from wallrun.settings import Basis
 
 GAMMA_C = 25.0  # reinforced concrete, kN/m3 (EN 1991-1-1 Table A.1)
@@ -63,120 +61,7 @@ CLAUSE = {
 }
 
 
-# --- validation --------------------------------------------------------------------------
-
-def _ground_problems(cond: Conditions, basis: Basis) -> list[str]:
-    """Physical ranges of the ground, loads and settings. The levels z_top, z_front,
-    z_found and the water level may be floats or arrays of shape (n,) (many panels of
-    the same ground at once); a level problem is reported when any entry has it."""
-    p, early = _static_problems(cond, basis)
-    p = list(p)
-    if early:
-        return p
-    zt, zfr = np.asarray(cond.z_top, dtype=float), np.asarray(cond.z_front, dtype=float)
-    if np.any(zt < zfr):
-        p.append(f"retained level z_top = {_fmt_level(zt[zt < zfr] if zt.ndim else zt)} is below "
-                 f"the front level z_front = {_fmt_level(zfr[zt < zfr] if zfr.ndim else zfr)}")
-    if np.any(np.asarray(cond.z_found) >= zfr):
-        p.append("founding level z_found is not below the front level z_front")
-    return p
-
-
-def _fmt_level(v) -> str:
-    v = np.asarray(v, dtype=float).reshape(-1)
-    return f"{v[0]:g}"
-
-
-_STATIC_CACHE: dict = {}
-
-
-def _static_problems(cond: Conditions, basis: Basis) -> tuple[tuple[str, ...], bool]:
-    """The level-independent problems of :func:`_ground_problems` (cached: the sizing
-    search asks for the same ground thousands of times) and whether the rules stopped
-    early (then the level rules are not applied)."""
-    try:
-        key = (cond.backfill, cond.foundation, cond.surcharge_kpa, cond.water_level_m is None,
-               basis.loads, basis.design, tuple(sorted(basis.factors.items())))
-        hash(key)
-    except TypeError:  # an unhashable setting: no caching
-        return _static_problems_uncached(cond, basis)
-    r = _STATIC_CACHE.get(key)
-    if r is None:
-        if len(_STATIC_CACHE) > 256:
-            _STATIC_CACHE.clear()
-        r = _STATIC_CACHE[key] = _static_problems_uncached(cond, basis)
-    return r
-
-
-def _static_problems_uncached(cond: Conditions, basis: Basis) -> tuple[tuple[str, ...], bool]:
-    p = []
-    bf, fd = cond.backfill, cond.foundation
-
-    def num(key, v, lo=None, hi=None, lo_open=False, hi_open=False, what=""):
-        try:
-            v = float(v)
-        except (TypeError, ValueError):
-            p.append(f"{key}: {v!r} is not a number")
-            return
-        if not np.isfinite(v):
-            p.append(f"{key}: {v!r} is not a finite number")
-            return
-        if lo is not None and (v < lo or (lo_open and v <= lo)):
-            p.append(f"{key} = {v:g}: must be {'>' if lo_open else '>='} {lo:g}{what}")
-        if hi is not None and (v > hi or (hi_open and v >= hi)):
-            p.append(f"{key} = {v:g}: must be {'<' if hi_open else '<='} {hi:g}{what}")
-
-    num("[backfill] friction_angle_deg", bf.friction_angle_deg, 0, 50, True, True)
-    num("[backfill] unit_weight_kn_m3", bf.unit_weight_kn_m3, 0, 30, True)
-    num("[backfill] slope_deg", bf.slope_deg, 0, 89)
-    num("[backfill] wall_friction_deg", bf.wall_friction_deg, 0, bf.friction_angle_deg)
-    num("[foundation] friction_angle_deg", fd.friction_angle_deg, 0, 50, True, True)
-    num("[foundation] critical_state_angle_deg", fd.phi_cv_deg, 0, 50, True, True)
-    num("[foundation] unit_weight_kn_m3", fd.unit_weight_kn_m3, 0, 30, True)
-    num("[foundation] cohesion_kpa", fd.cohesion_kpa, 0)
-    num("[foundation] undrained_strength_kpa", fd.undrained_strength_kpa, 0)
-    num("[foundation] allowable_bearing_kpa", fd.allowable_bearing_kpa, 0)
-    num("[loads] surcharge_kpa", cond.surcharge_kpa, 0)
-    num("[loads] psi2", basis.loads.psi2, 0, 1)
-    num("[design] base_friction_factor", basis.design.base_friction_factor, 0, 1, True)
-    if p:
-        return tuple(p), True
-    if cond.water_level_m is not None:
-        if bf.unit_weight_kn_m3 <= GAMMA_W:
-            p.append(f"[backfill] unit_weight_kn_m3 = {bf.unit_weight_kn_m3:g}: must exceed "
-                     f"the unit weight of water {GAMMA_W} with water behind the wall")
-        if fd.unit_weight_kn_m3 <= GAMMA_W:
-            p.append(f"[foundation] unit_weight_kn_m3 = {fd.unit_weight_kn_m3:g}: must exceed "
-                     f"the unit weight of water {GAMMA_W} with water behind the wall")
-    d = basis.design
-    if d.approach not in ("DA1", "DA2", "DA3"):
-        p.append(f"[design] approach = {d.approach!r}: must be DA1, DA2 or DA3")
-    if d.earth_pressure not in ("rankine", "coulomb"):
-        p.append(f"[design] earth_pressure = {d.earth_pressure!r}: must be rankine or coulomb")
-    if d.passive not in ("none", "key", "full"):
-        p.append(f"[design] passive = {d.passive!r}: must be none, key or full")
-    if p:
-        return tuple(p), True
-    sets = {"EQU": basis.factors.get("EQU")} | {s: basis.factors.get(s) for s in basis.uls_sets}
-    for name, fs in sets.items():
-        if fs is None:
-            p.append(f"[factors.{name}]: factor set missing from the basis")
-            continue
-        for k in ("gG_unfav", "gG_fav", "gQ", "g_phi", "g_c", "g_cu", "gR_bearing",
-                  "gR_sliding", "gR_passive", "gG_ground"):
-            v = getattr(fs, k)
-            if not (np.isfinite(v) and v > 0) and not (k in ("gG_fav", "gQ") and v == 0):
-                p.append(f"[factors.{name}] {k} = {v:g}: must be > 0")
-    if p:
-        return tuple(p), True
-    for name, fs in sets.items():
-        phid = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
-        if bf.slope_deg >= phid:
-            p.append(f"[backfill] slope_deg = {bf.slope_deg:g}: at or above the design friction "
-                     f"angle {phid:.2f} of the backfill in {name} (friction_angle_deg "
-                     f"{bf.friction_angle_deg:g} / g_phi {fs.g_phi:g}): no active limit state")
-    return tuple(p), False
-
+# --- a backfill too steep for an active limit state -------------------------------------
 
 def steep_backfill(cond: Conditions, basis: Basis) -> tuple[str, float, str] | None:
     """(set name, phi'_d deg, message) of the first factor set in use (EQU, then the
@@ -193,35 +78,6 @@ def steep_backfill(cond: Conditions, basis: Basis) -> tuple[str, float, str] | N
             return (name, phid, f"backfill slope {float(bf.slope_deg):.1f} deg >= phi'_d "
                                 f"{phid:.1f} deg ({name}): no active limit state, not designed")
     return None
-
-
-def validate(section_or_arrays, cond: Conditions, basis: Basis) -> list[str]:
-    """Every problem with a section (or candidate arrays), its conditions and basis,
-    before any arithmetic; each names its key or dimension. Empty list: fine.
-
-    Ranges: phi' in (0, 50) deg, unit weights in (0, 30], cohesion, cu, allowable,
-    surcharge >= 0; backfill slope below the design friction angle of every
-    combination in use (EQU and the approach's sets); wall friction within
-    [0, phi'_k]; the stem height z_top - z_found - base_thickness_m > 0.
-    """
-    p = _ground_problems(cond, basis)
-    s = section_or_arrays
-    if isinstance(s, Section):
-        p += validate_section(s)
-        t = np.asarray(s.base_thickness_m)
-    else:
-        bad = section_problems(s)
-        if bad.any():
-            i = int(np.argmax(bad))
-            first = validate_section(s.take(i), where=f"candidate {i}")
-            p.append(f"{int(bad.sum())} of {len(s)} candidate sections do not close; "
-                     + "; ".join(first))
-        t = np.asarray(s.base_thickness_m)
-    hc = np.asarray(cond.z_top, dtype=float) - np.asarray(cond.z_found, dtype=float) - t
-    if np.any(hc <= 0):
-        p.append("base_thickness_m: the base reaches z_top (stem height z_top - z_found - "
-                 "base_thickness_m <= 0)")
-    return p
 
 
 # --- characteristic geometry ------------------------------------------------------------------
@@ -415,12 +271,6 @@ def _sets(basis: Basis):
     return [(name, basis.factors[name]) for name in basis.uls_sets]
 
 
-def _check(cond, basis, sec):
-    p = _ground_problems(cond, basis)
-    if p:
-        raise InputError(p)
-
-
 # --- stability checks ---------------------------------------------------------------------------
 
 class _Actions:
@@ -429,9 +279,7 @@ class _Actions:
     actions, quasi-permanent moments, SLS edge pressure, stem moment), so that one
     evaluation of the sizing search pays the fixed cost once (:func:`evaluate_all`)."""
 
-    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis, check: bool = True):
-        if check:
-            _check(cond, basis, sec)
+    def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis):
         self.sec, self.cond, self.basis = sec, cond, basis
         self.g = _Geom(sec, cond)
         self._sets: dict = {}
@@ -462,7 +310,8 @@ def stability_checks(sec: SectionArrays, cond: Conditions, basis: Basis) -> list
     Order: overturning (EQU); per ULS set: sliding drained (+ undrained), then bearing
     drained (+ undrained) per sub-case, then eccentricity per sub-case; then
     eccentricity_sls and bearing_sls where they apply. Candidates whose dimensions do
-    not close get infinite effects. Raises InputError for ground out of range.
+    not close get infinite effects. The ground and basis are taken as checked by the
+    site reader (``wallrun.rules``); nothing is checked again here.
     """
     return _stability_checks(_Actions(sec, cond, basis))
 
@@ -605,7 +454,6 @@ def action_table(section: Section, cond: Conditions, basis: Basis) -> tuple[Acti
     """Characteristic actions on one section (phi'_k, factors 1.0) with their points of
     application and moments about the toe edge at the underside (restoring positive),
     for the report. Vertical downward positive, horizontal towards the front positive."""
-    _check(cond, basis, section)
     g = _Geom(SectionArrays.of([section]), cond)
     a = _SetActions(g, SLS, cond, basis)
     v = lambda x: float(np.asarray(x)[0])
@@ -797,7 +645,7 @@ class AllActions:
     (:func:`stem_moment`); the same numbers as the separate entry points."""
 
     def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis, _checks: bool = True):
-        self.ctx = _Actions(sec, cond, basis, check=_checks)
+        self.ctx = _Actions(sec, cond, basis)
         self.checks = _stability_checks(self.ctx) if _checks else []
 
     def subset(self, idx) -> "AllActions":
@@ -830,6 +678,5 @@ class AllActions:
 def evaluate_all(sec: SectionArrays, cond: Conditions, basis: Basis) -> AllActions:
     """The stability checks of n candidates, with their member actions, quasi-permanent
     moments, SLS edge pressure and stem moment available from the same geometry and
-    factored actions (see :class:`AllActions`). Raises InputError as
-    :func:`stability_checks`."""
+    factored actions (see :class:`AllActions`)."""
     return AllActions(sec, cond, basis)

@@ -315,7 +315,7 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     it only enters the steel mass and the curtailment).
     """
     n = len(sec)
-    fck = ec2.fck_of_class(basis.concrete.strength_class)
+    fck = basis.concrete.fck_mpa
     opt = _options(basis)
     cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
     t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
@@ -367,7 +367,7 @@ def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: di
     if given.stem_front is not None:
         chosen["stem_front"] = (full(given.stem_front.bar_mm), full(given.stem_front.spacing_mm))
     else:
-        fck = ec2.fck_of_class(basis.concrete.strength_class)
+        fck = basis.concrete.fck_mpa
         opt = _options(basis)
         t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
         _, neg = _envelopes(actions, n)
@@ -498,7 +498,7 @@ def _curtailment(sec, basis, fck, phi, s, As, h_s, stem_moment_at, M_base, qp_ba
 
 def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env=None) -> StructureResult:
     n = len(sec)
-    fck = ec2.fck_of_class(basis.concrete.strength_class)
+    fck = basis.concrete.fck_mpa
     fyk, acc, wk = basis.steel.fyk_mpa, basis.concrete.alpha_cc, basis.design.crack_width_mm
     cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
     t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0

@@ -31,7 +31,6 @@ from collections.abc import Iterable, Mapping
 
 import numpy as np
 
-from wallrun.errors import InputError
 from wallrun.results import BarMark, Cost, CostRow, Panel, Quantity
 from wallrun.section import Section, SectionArrays
 from wallrun.settings import Rate, Takeoff
@@ -346,50 +345,9 @@ def _norm_unit(u: str) -> str:
 
 
 def _rate_table(rates: Iterable[Rate]) -> dict[str, float]:
-    """``{item: rate}`` checked against the item units; InputError naming ``rates.csv``.
-
-    A rate for an item wallrun does not know, or for an item the job does not have, is
-    ignored unless its unit disagrees with a known item's unit.
-    """
-    problems: list[str] = []
-    table: dict[str, float] = {}
-    for r in rates:
-        try:
-            unit = unit_of(r.item)
-        except ValueError:
-            unit = None
-        if unit is not None and _norm_unit(r.unit) != unit:
-            problems.append(f"rates.csv: item {r.item}: unit {r.unit!r} does not match the "
-                            f"item's unit {unit!r}")
-        rate = float(r.rate)
-        if not math.isfinite(rate) or rate < 0:
-            problems.append(f"rates.csv: item {r.item}: rate {r.rate!r} must be a number >= 0")
-        if r.item in table and table[r.item] != rate:
-            problems.append(f"rates.csv: item {r.item}: given twice with different rates")
-        table[r.item] = rate
-    if problems:
-        raise InputError(problems)
-    return table
-
-
-def check_rates(rates: Iterable[Rate]) -> list[str]:
-    """Problems of a rate table (for ``wallrun check``, before any design): a unit that
-    differs from the item's unit, a rate that is not a number >= 0, an item given twice
-    with different rates. Each names ``rates.csv`` and the item. Empty when fine."""
-    try:
-        _rate_table(rates)
-    except InputError as e:
-        return list(e.problems)
-    return []
-
-
-def unknown_rate_items(rates: Iterable[Rate]) -> list[str]:
-    """Warnings for rate items that are not take-off items (they are ignored)."""
-    out = []
-    for r in rates:
-        if r.item not in UNITS:
-            out.append(f"rates.csv: item {r.item}: not a take-off item, ignored")
-    return out
+    """``{item: rate}`` of a rate table as the site reader checked it (``wallrun.site``
+    refuses a unit that differs from the item's, a negative rate and a repeated item)."""
+    return {r.item: float(r.rate) for r in rates}
 
 
 def _priced_items(items: list[str], qty: Mapping[str, float],
@@ -419,8 +377,7 @@ def cost(quantities: Iterable[Quantity], rates: Iterable[Rate] | None) -> Cost:
     else by ``reinforcement_<mm>``. An item with no rate is a row with rate and amount
     None and makes the estimate incomplete (``complete=False``), never a silent zero;
     an unrated item of zero quantity needs no price and gets no row. ``total`` is the
-    sum of the priced rows' amounts. A rate whose unit differs from the item's unit is
-    an :class:`InputError` naming ``rates.csv`` and the item.
+    sum of the priced rows' amounts.
     """
     demo = rates is None
     table = _rate_table(DEMO_RATES if demo else rates)

@@ -26,11 +26,7 @@ Choices where the code leaves a value open (all stated again in the docstrings):
 
 from __future__ import annotations
 
-import re
-
 import numpy as np
-
-from wallrun.errors import InputError
 
 GAMMA_C = 1.5  # 2.4.2.4 Table 2.1N, persistent and transient
 GAMMA_S = 1.15  # 2.4.2.4 Table 2.1N
@@ -42,31 +38,7 @@ XU_D_MAX = 0.45  # 5.6.3(2), no redistribution, fck <= 50
 CREEP_PHI = 2.0  # long-term creep coefficient for the quasi-permanent stress (our choice)
 B_STRIP = 1000.0  # mm, 1 m strip
 
-# Table 3.1 classes (and the BS 8500 classes C28/35, C32/40) accepted by wallrun.
-STRENGTH_CLASSES = {"C25/30": 25, "C28/35": 28, "C30/37": 30, "C32/40": 32, "C35/45": 35,
-                    "C40/50": 40, "C45/55": 45, "C50/60": 50}
-
-
 # --- materials -----------------------------------------------------------------------
-
-def fck_of_class(strength_class: str) -> float:
-    """fck in MPa from a strength class such as ``"C32/40"`` (Table 3.1).
-
-    Accepts C25/30 .. C50/60 (the Table 3.1 classes, plus C28/35 and C32/40 of BS 8500);
-    the formulas used elsewhere (fctm, lambda, eta, x/d <= 0.45) hold for fck <= 50 MPa.
-    Raises InputError naming the ``[concrete] strength_class`` key otherwise.
-    """
-    s = str(strength_class).strip().upper().replace(" ", "")
-    if s in STRENGTH_CLASSES:
-        return float(STRENGTH_CLASSES[s])
-    m = re.fullmatch(r"C(\d+)/(\d+)", s)
-    hint = ", ".join(STRENGTH_CLASSES)
-    if m is None:
-        raise InputError(f"site.toml: [concrete] strength_class: {strength_class!r} is not a "
-                         f"class like 'C32/40' (one of {hint})")
-    raise InputError(f"site.toml: [concrete] strength_class: {strength_class!r} is outside "
-                     f"the supported range (one of {hint}; fck <= 50 MPa)")
-
 
 def fcm(fck):
     """Mean cylinder strength fcm = fck + 8, MPa (Table 3.1)."""

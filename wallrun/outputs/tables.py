@@ -306,9 +306,8 @@ def design_dict(result: DesignResult) -> dict:
     site = result.site
     factors = {name: {k: v for k, v in fs.__dict__.items() if k != "name" and v is not None}
                for name, fs in site.factors.items()}
-    from wallrun.codes import ec2  # materials as used
     mats = {"strength_class": site.concrete.strength_class,
-            "fck_mpa": num(ec2.fck_of_class(site.concrete.strength_class)),
+            "fck_mpa": num(site.concrete.fck_mpa),
             "fyk_mpa": num(site.steel.fyk_mpa), "alpha_cc": num(site.concrete.alpha_cc),
             "cover_mm": num(site.concrete.cover_mm),
             "cover_ground_mm": num(site.concrete.cover_ground_mm)}

@@ -1,4 +1,4 @@
-"""A plain, one-section-at-a-time evaluation of the stability checks.
+"""A plain, one-section-at-a-time evaluation of the stability checks (tests only).
 
 Written separately from ``wallrun.stability`` (which evaluates arrays of candidates)
 so that the two can check each other: scalar ``math`` only, shapely polygons for the
@@ -12,7 +12,6 @@ from __future__ import annotations
 import math
 
 from wallrun.conditions import Conditions
-from wallrun.errors import InputError
 from wallrun.factors import SLS
 from wallrun.results import CheckEntry, utilization
 from wallrun.section import Section, polygons
@@ -58,10 +57,6 @@ def _edge(V, e, B):
 
 def plain_stability_checks(section: Section, cond: Conditions, basis: Basis) -> list[CheckEntry]:
     """Every stability check of one section (design-basis 4), scalar path."""
-    from wallrun.stability import _ground_problems  # the same input rules
-    probs = _ground_problems(cond, basis)
-    if probs:
-        raise InputError(probs)
     s = section
     bf, fd = cond.backfill, cond.foundation
     B, toe, t = s.base_width_m, s.toe_m, s.base_thickness_m
