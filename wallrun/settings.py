@@ -189,8 +189,9 @@ class Design:
     sls_middle_third: bool = setting(True)
     crack_width_mm: float = setting(0.3, "choice", unit="mm", choices=(0.2, 0.3, 0.4),
                                     why="the columns of EN 1992-1-1 Table 7.3N")
-    sections: str = setting("bespoke", choices=("bespoke", "catalogue", "rationalised"))
-    max_types: int = setting(6, ge=1, le=100)
+    sections: str = setting("rationalised", choices=("rationalised", "bespoke", "catalogue"))
+    #: "auto": the number of types of least total cost; a whole number caps it.
+    max_types: int | str = setting("auto", "int_or_auto", ge=1, le=100)
     dimension_step_m: float = setting(0.05, unit="m", ge=0.01, le=0.5)
     #: A section passes at utilization <= max_utilization in every check (a margin below 1).
     max_utilization: float = setting(1.0, gt=0.5, le=1.0)
@@ -210,6 +211,12 @@ class Takeoff:
     drainage_layer_thickness_m: float = setting(0.3, unit="m", ge=0, le=2)
     drain_pipe: bool = setting(True)  # perforated pipe at the heel along the run
     waterproofing: bool = setting(True)  # back face of the stem below the retained level
+    currency: str = setting("")  # shown beside every cost; empty: "cost units"
+
+    @property
+    def money(self) -> str:
+        """The unit of every cost: the currency given, else ``cost units``."""
+        return self.currency.strip() or "cost units"
 
 
 @dataclass(frozen=True)
