@@ -232,6 +232,8 @@ def panel_model(section: Section, cond: Conditions, ground: GroundModel) -> Slip
     ``cond.water_level_m`` are one panel's (floats or arrays of size 1).
     """
     s = section
+    if np.size(cond.z_found) != 1:
+        raise ValueError("panel_model: the conditions of one panel (one z_found) are needed")
     zf = float(np.asarray(cond.z_found, dtype=float).reshape(-1)[0])
     z_top, z_front = float(cond.z_top), float(cond.z_front)
     H = z_top - zf
@@ -444,6 +446,11 @@ class Slices:
     M_Q: np.ndarray
     R: np.ndarray
 
+    def take(self, idx) -> "Slices":
+        """The slices of the circles ``idx`` only."""
+        return Slices(*(getattr(self, k)[idx] for k in (
+            "b", "W", "Qk", "u", "cos_a", "sin_a", "upper", "M_W", "M_Q", "R")))
+
 
 def _upper_pieces(model: SlipModel, c: Circles):
     """The x-ranges, per circle, where the arc lies above z_split behind x_split (the
@@ -582,24 +589,14 @@ class Critical:
         return float(utilization(self.M_D, self.M_R))
 
 
-def _score(model, circ, case):
-    """Utilization (M_D / M_R) of every circle, -inf where it is not admissible."""
-    sl = slices(model, circ.take(np.nonzero(circ.ok)[0]))
-    F, M_D, M_R, ok = evaluate(model, sl, case)
-    util = np.full(circ.xc.shape, -np.inf)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        util[np.nonzero(circ.ok)[0]] = np.where(ok, M_D / M_R, -np.inf)
-    return util
-
-
 def search(model: SlipModel, cases: list[Case] | tuple[Case, ...]) -> list[Critical | None]:
     """The critical circle of every case: a grid of exit points x GRID[0], entry points x
     GRID[1] and depths x GRID[2] (all circles and slices in numpy arrays at once; the
     slices are shared by the cases), then ROUNDS of a pattern search from the STARTS best
-    distinct circles of each case (the 26 neighbours of each at the current step, all
-    starts at once; the step halves where no neighbour is better). The critical circle
-    has the largest utilization (least factor of safety).
-    None where no circle is admissible."""
+    distinct circles of each case (the 26 neighbours of each at its current step, every
+    start of every case in one batch; the step halves where no neighbour is better). The
+    critical circle has the largest utilization (least factor of safety). None where no
+    circle is admissible."""
     n1, n2, n3 = GRID
     g1 = (np.arange(n1) + 0.5) / n1
     g2 = (np.arange(n2) + 0.5) / n2
@@ -607,49 +604,66 @@ def search(model: SlipModel, cases: list[Case] | tuple[Case, ...]) -> list[Criti
     U1, U2, T = (a.ravel() for a in np.meshgrid(g1, g2, g3, indexing="ij"))
     circ = circles_unit(model, U1, U2, T)
     keep = np.nonzero(circ.ok)[0]
-    sl = slices(model, circ.take(keep)) if keep.size else None
-    out: list[Critical | None] = []
+    if keep.size == 0:
+        return [None] * len(cases)
+    sl = slices(model, circ.take(keep))
     steps0 = np.array([1.0 / n1, 1.0 / n2, 1.0 / n3])
-    off = np.array(np.meshgrid([-1.0, 0.0, 1.0], [-1.0, 0.0, 1.0], [-1.0, 0.0, 1.0],
-                               indexing="ij")).reshape(3, -1).T
-    off = off[np.any(off != 0, axis=1)]  # the 26 neighbours of a point
-    for case in cases:
-        if sl is None:
-            out.append(None)
-            continue
+    # the starts: the best distinct coarse circles of each case
+    P, U, owner = [], [], []
+    for ci, case in enumerate(cases):
         F, M_D, M_R, ok = evaluate(model, sl, case)
         with np.errstate(divide="ignore", invalid="ignore"):
             util = np.where(ok, M_D / M_R, -np.inf)
-        starts: list[np.ndarray] = []
-        best: list[float] = []
+        mine: list[np.ndarray] = []
         for i in np.argsort(-util):
-            if not np.isfinite(util[i]) or len(starts) == STARTS:
+            if not np.isfinite(util[i]) or len(mine) == STARTS:
                 break
             p = np.array([U1[keep[i]], U2[keep[i]], T[keep[i]]])
-            if all(np.max(np.abs(p - q) / steps0) > 1.5 for q in starts):
-                starts.append(p)
-                best.append(util[i])
-        if not starts:
+            if all(np.max(np.abs(p - q) / steps0) > 1.5 for q in mine):
+                mine.append(p)
+                P.append(p)
+                U.append(util[i])
+                owner.append(ci)
+    if not P:
+        return [None] * len(cases)
+    P, U, owner = np.array(P), np.array(U), np.array(owner)
+    K = len(P)
+    step = np.tile(steps0, (K, 1))
+    off = np.array(np.meshgrid([-1.0, 0.0, 1.0], [-1.0, 0.0, 1.0], [-1.0, 0.0, 1.0],
+                               indexing="ij")).reshape(3, -1).T
+    off = off[np.any(off != 0, axis=1)]  # the 26 neighbours of a point
+    rows = np.arange(K)
+    for _ in range(ROUNDS):
+        cand = np.clip(P[:, None, :] + off[None, :, :] * step[:, None, :], 0.0, 1.0)
+        flat = cand.reshape(-1, 3)
+        c = circles_unit(model, flat[:, 0], flat[:, 1], flat[:, 2])
+        util = np.full(len(flat), -np.inf)
+        good = np.nonzero(c.ok)[0]
+        if good.size:
+            sl_c = slices(model, c.take(good))
+            who = owner[good // len(off)]
+            for ci, case in enumerate(cases):
+                sel = np.nonzero(who == ci)[0]
+                if sel.size == 0:
+                    continue
+                F, M_D, M_R, ok = evaluate(model, sl_c.take(sel), case)
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    util[good[sel]] = np.where(ok, M_D / M_R, -np.inf)
+        util = util.reshape(K, -1)
+        j = np.argmax(util, axis=1)
+        uj = util[rows, j]
+        better = uj > U
+        P = np.where(better[:, None], cand[rows, j], P)
+        U = np.where(better, uj, U)
+        step = np.where(better[:, None], step, 0.5 * step)
+    out: list[Critical | None] = []
+    for ci, case in enumerate(cases):
+        mine = np.nonzero(owner == ci)[0]
+        if mine.size == 0:
             out.append(None)
             continue
-        # pattern search from every start at once: move to the best neighbour, or
-        # halve the step where none is better
-        P0 = np.array(starts)
-        U0 = np.array(best)
-        step = np.tile(steps0, (len(starts), 1))
-        for _ in range(ROUNDS):
-            cand = np.clip(P0[:, None, :] + off[None, :, :] * step[:, None, :], 0.0, 1.0)
-            flat = cand.reshape(-1, 3)
-            u = _score(model, circles_unit(model, flat[:, 0], flat[:, 1], flat[:, 2]), case)
-            u = u.reshape(len(starts), -1)
-            j = np.argmax(u, axis=1)
-            uj = u[np.arange(len(starts)), j]
-            better = uj > U0
-            P0 = np.where(better[:, None], cand[np.arange(len(starts)), j], P0)
-            U0 = np.where(better, uj, U0)
-            step = np.where(better[:, None], step, 0.5 * step)
-        k = int(np.argmax(U0))
-        c1 = circles_unit(model, P0[k:k + 1, 0], P0[k:k + 1, 1], P0[k:k + 1, 2])
+        k = mine[int(np.argmax(U[mine]))]
+        c1 = circles_unit(model, P[k:k + 1, 0], P[k:k + 1, 1], P[k:k + 1, 2])
         F1, D1, R1, ok1 = evaluate(model, slices(model, c1), case)
         out.append(Critical(float(c1.xc[0]), float(c1.zc[0]), float(c1.R[0]), float(c1.x1[0]),
                             float(c1.x2[0]), float(F1[0]), float(D1[0]), float(R1[0])))
@@ -694,11 +708,14 @@ def overall_check(section: Section, cond: Conditions, basis: Basis,
                   ground: GroundModel) -> list[OverallResult]:
     """Overall stability of one panel (EN 1997-1 11.5.1, design-basis section 9) for
     every combination of the approach (and case drained/undrained): the critical circle
-    by :func:`search` on the ground model of :func:`panel_model`. A case without an
-    admissible circle gets an infinite effect and zero resistance (it fails: never a
-    silent pass)."""
-    model = panel_model(section, cond, ground)
-    cases = cases_of(basis, cond)
+    by :func:`search` on the ground model of :func:`panel_model`."""
+    return check_model(panel_model(section, cond, ground), cases_of(basis, cond))
+
+
+def check_model(model: SlipModel, cases: list[Case]) -> list[OverallResult]:
+    """The ``overall`` results of a ground model for ``cases`` (:func:`search`). A case
+    without an admissible circle gets an infinite effect and zero resistance: it fails,
+    never a silent pass."""
     out = []
     for case, crit in zip(cases, search(model, cases)):
         if crit is None:

@@ -136,5 +136,5 @@ def bishop_factor(num, cos_a, sin_a, tan_phi, driving, R, F0=1.0, tol=1e-7,
     m = m_alpha(cos_a, sin_a, tan_phi, F[..., None])
     resisting = R * (num / np.maximum(m, 1e-3)).sum(axis=-1)
     m = np.where(converged[..., None], m, np.nan)
-    F = np.where(ok, F, np.inf)
+    F = np.where(ok, resisting / Dsafe, np.inf)  # one last step: F = M_R / M_D exactly
     return F, resisting, m
