@@ -35,8 +35,8 @@ Readings taken where the design basis is silent (also in ``docs/basis-readings.m
   integrals of the piecewise-linear columns and of the arc (no sampling of the
   stem); each slice base is the chord of the arc between its sides (inclination and
   length exact for that chord, so steep bases near the entry keep their true length);
-  the pore pressure is taken at the middle of the base. Every slice base lies in one soil (slices are cut where the arc crosses
-  z_found behind the wall).
+  the pore pressure is taken at the middle of the base. Every slice base lies in one
+  soil (slices are cut where the arc crosses z_found behind the wall).
 - The water level behind the wall (x >= B) is the wall's, capped at the ground
   surface; in front (x <= 0) the lower of it and the front ground; linear between
   x = 0 and x = B. No water given: no pore pressure.
@@ -52,8 +52,9 @@ Readings taken where the design basis is silent (also in ``docs/basis-readings.m
   the factor set: 1.0 in DA1 and DA3, 1.1 in DA2). Weights are at 1.0 in every
   combination (one source), as section 9 says.
 - A circle whose m_alpha falls below 0.2 at a slice base inclined against the movement
-  (alpha < 0, towards the exit) is left out (Whitman and Bailey 1967, common practice); one whose driving moment is not positive cannot slide
-  towards the front and is left out. A panel with no admissible circle gets an infinite
+  (alpha < 0, towards the exit) is left out (Whitman and Bailey 1967, common
+  practice); one whose driving moment is not positive cannot slide towards the front
+  and is left out. A panel with no admissible circle gets an infinite
   utilization (it is flagged, never passed).
 - Effective normal force on a slice base is not taken below zero (no tension).
 """
@@ -175,7 +176,8 @@ def _top_integrals(model: SlipModel, x):
     m = np.where(w > 0, (Tr - Tl) / np.where(w > 0, w, 1.0), 0.0)
     # whole intervals
     I0_int = Tl * w + 0.5 * m * w * w
-    I1_int = Tl * 0.5 * (xb ** 2 - xa ** 2) + m * ((xb ** 3 - xa ** 3) / 3.0 - xa * 0.5 * (xb ** 2 - xa ** 2))
+    sq = 0.5 * (xb ** 2 - xa ** 2)
+    I1_int = Tl * sq + m * ((xb ** 3 - xa ** 3) / 3.0 - xa * sq)
     C0 = np.concatenate([[0.0], np.cumsum(I0_int)])
     C1 = np.concatenate([[0.0], np.cumsum(I1_int)])
     x = np.clip(np.asarray(x, dtype=float), X[0], X[-1])
@@ -183,7 +185,8 @@ def _top_integrals(model: SlipModel, x):
     a, t, s = xa[j], Tl[j], m[j]
     d = x - a
     I0 = C0[j] + t * d + 0.5 * s * d * d
-    I1 = C1[j] + t * 0.5 * (x * x - a * a) + s * ((x ** 3 - a ** 3) / 3.0 - a * 0.5 * (x * x - a * a))
+    sq = 0.5 * (x * x - a * a)
+    I1 = C1[j] + t * sq + s * ((x ** 3 - a ** 3) / 3.0 - a * sq)
     return I0, I1
 
 
@@ -306,7 +309,8 @@ def panel_model(section: Section, cond: Conditions, ground: GroundModel) -> Slip
     return SlipModel(
         top_x=top_x, top_left=top_l, top_right=top_r, surface_x=sx_, surface_z=sz_,
         gamma_low=gf, gamma_up=gb, x_split=B, z_split=zf,
-        low=(float(fd.friction_angle_deg), float(fd.cohesion_kpa), float(fd.undrained_strength_kpa)),
+        low=(float(fd.friction_angle_deg), float(fd.cohesion_kpa),
+             float(fd.undrained_strength_kpa)),
         up=(float(bf.friction_angle_deg), 0.0, 0.0),
         water_x=water_x, water_z=water_z,
         surcharge_kpa=float(cond.surcharge_kpa), surcharge_from_x=x_bs,
@@ -556,7 +560,8 @@ def evaluate(model: SlipModel, sl: Slices, case: Case):
     where the mass does not drive towards the front), M_D the design driving moment
     (weights at 1.0, surcharge at gQ), M_R the design resisting moment R sum(num /
     m_alpha) / gamma_R;e (kNm/m), ok where the circle is admissible (converged, M_D > 0,
-    m_alpha >= 0.2 at every base inclined against the movement). Utilization M_D / M_R = gamma_R;e / F."""
+    m_alpha >= 0.2 at every base inclined against the movement). Utilization
+    M_D / M_R = gamma_R;e / F."""
     c, tan_phi, u = _strength(model, case, sl)
     num = bishop.slice_strength(c, tan_phi, sl.W + case.gQ * sl.Qk, u, sl.b)
     M_D = sl.M_W + case.gQ * sl.M_Q

@@ -84,10 +84,10 @@ def arc_moment(x0, x1, xc, zc, R):
 # --- Bishop's simplified method ----------------------------------------------------------
 
 def m_alpha(cos_a, sin_a, tan_phi, F):
-    """m_alpha = cos alpha + sin alpha tan phi / F (Bishop 1955, Eq. 13 in the notation
-    of e.g. Craig's Soil Mechanics, 8.4): the factor by which the base normal force of a
-    slice is divided when the interslice shear forces are neglected (simplified
-    method). Dimensionless."""
+    """m_alpha = cos alpha + sin alpha tan phi / F (Bishop 1955, the simplified method):
+    the factor by which a slice's strength term is divided once the interslice shear
+    forces are neglected and the slice is in vertical equilibrium. Dimensionless;
+    tan phi the design value at the base, F the factor of safety."""
     return cos_a + sin_a * tan_phi / F
 
 
