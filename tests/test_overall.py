@@ -287,3 +287,22 @@ def test_no_admissible_circle_fails_the_check():
     res = ov.check_model(model, ov.cases_of(DA1, cond))
     assert all(r.utilization == math.inf and r.resistance == 0 for r in res)
     assert all(e.utilization == math.inf for e in entries(ov.check_arrays(res), 0))
+    assert all(e.circle is None for e in ov.check_entries(res))
+    assert ov.failure_reason(res).startswith("overall stability fails (DA1-1 drained")
+    assert "no admissible slip circle" in ov.failure_reason(res)
+    assert ov.slip_surface(res[0])[0].size == 0
+
+
+def test_failure_reason_and_slip_surface():
+    sec, cond, gm = _panels()[2]  # a steep front slope: fails
+    res = ov.overall_check(sec, cond, DA1, gm)
+    why = ov.failure_reason(res)
+    assert why.startswith("overall stability fails (DA1-2 drained, utilization")
+    assert "outside the wall" in why
+    s0, c0, g0 = _panels()[0]  # level ground: passes
+    assert ov.failure_reason(ov.overall_check(s0, c0, DA1, g0)) == ""
+    x, z = ov.slip_surface(res[0], n=10)
+    assert len(x) == 11 and x[0] == res[0].exit_x_m and x[-1] == res[0].entry_x_m
+    c = res[0].circle
+    assert np.allclose(np.hypot(x - c.x_m, z - c.z_m), c.radius_m)
+    assert z.min() < cond.z_found  # beneath the wall

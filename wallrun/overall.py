@@ -67,7 +67,7 @@ import numpy as np
 
 from wallrun.codes import bishop, ec7
 from wallrun.conditions import Conditions
-from wallrun.results import CheckArray, CheckEntry, Circle
+from wallrun.results import CheckArray, CheckEntry, Circle, utilization
 from wallrun.section import Section, base_vertices, key_vertices, stem_vertices
 from wallrun.settings import Basis, GroundModel
 
@@ -90,7 +90,7 @@ SPREAD = 1.5
 
 # --- the ground model ----------------------------------------------------------------------
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class SlipModel:
     """The ground of one cross-section for circular slip surfaces (section 9).
 
@@ -350,7 +350,7 @@ def slope_model(surface_x, surface_z, unit_weight, friction_angle_deg, cohesion_
 
 # --- circles ---------------------------------------------------------------------------------
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Circles:
     """Many slip circles: centre (xc, zc), radius R, exit x1 and entry x2 on the ground
     surface, each an array (n,), m; ``ok`` where the circle is admissible (lower arc,
@@ -394,7 +394,8 @@ def circles_through(model: SlipModel, x1, x2, tau) -> Circles:
         below = dn > 1e-12
         tk = (a * a - (px * px + pz * pz)) / (2.0 * np.where(below, dn, 1.0))
         t_hi = np.where(below, np.minimum(t_hi, tk), t_hi)
-    # no beneath point: the shallowest circle has a sag of 2 % of the chord
+    # and never shallower than a sag of 2 % of the chord (the only limit on a plain
+    # slope without a wall)
     t_flat = (a * a - (0.02 * L) ** 2) / (2.0 * 0.02 * L)
     t_hi = np.minimum(t_hi, t_flat)
 
@@ -431,7 +432,7 @@ def circles_unit(model: SlipModel, u1, u2, tau) -> Circles:
 
 # --- slices -------------------------------------------------------------------------------------
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Slices:
     """The slices of n circles (arrays (n, s)): width b (m), total weight W (kN/m),
     characteristic surcharge load Qk (kN/m, behind the centre only), pore pressure u at
@@ -590,7 +591,6 @@ class Critical:
 
     @property
     def utilization(self) -> float:
-        from wallrun.results import utilization
         return float(utilization(self.M_D, self.M_R))
 
 
@@ -683,7 +683,8 @@ class OverallResult:
     driving moment (effect) and resisting moment (resistance) about the critical
     circle's centre, kNm/m, their ratio, Bishop's factor of safety with the design
     strengths, and the critical circle (centre x from the toe edge, level, radius, m),
-    with its exit and entry points on the ground (x from the toe edge, m)."""
+    with its exit and entry points on the ground (x from the toe edge, m); circle None
+    (and NaN points) where no circle is admissible."""
 
     combination: str
     case: str
@@ -691,7 +692,7 @@ class OverallResult:
     resistance: float
     utilization: float
     factor_of_safety: float
-    circle: Circle
+    circle: Circle | None
     exit_x_m: float
     entry_x_m: float
 
@@ -725,7 +726,7 @@ def check_model(model: SlipModel, cases: list[Case]) -> list[OverallResult]:
     for case, crit in zip(cases, search(model, cases)):
         if crit is None:
             out.append(OverallResult(case.combination, case.case, np.inf, 0.0, np.inf, 0.0,
-                                     Circle(np.nan, np.nan, np.nan), np.nan, np.nan))
+                                     None, np.nan, np.nan))
             continue
         out.append(OverallResult(case.combination, case.case, crit.M_D, crit.M_R,
                                  crit.utilization, crit.F, Circle(crit.xc, crit.zc, crit.R),
@@ -750,3 +751,33 @@ def check_entries(results: list[OverallResult]) -> list[CheckEntry]:
     return [CheckEntry(CHECK, r.combination, r.case, r.effect, r.resistance, UNIT,
                        r.utilization, CLAUSE, i in worst.values(), circle=r.circle)
             for i, r in enumerate(results)]
+
+
+def slip_surface(result: OverallResult, n: int = 64) -> tuple[np.ndarray, np.ndarray]:
+    """The critical slip surface of a result as a polyline for the drawings: n + 1
+    points of the lower arc from the exit point in front to the entry point behind,
+    (x from the toe edge, z level), m. Empty arrays where there is no circle."""
+    if result.circle is None:
+        return np.zeros(0), np.zeros(0)
+    c = result.circle
+    x = np.linspace(result.exit_x_m, result.entry_x_m, n + 1)
+    return x, bishop.arc_level(x, c.x_m, c.z_m, c.radius_m)
+
+
+def failure_reason(results: list[OverallResult], limit: float = 1.0) -> str:
+    """The plain reason to flag a panel whose overall stability fails (utilization above
+    ``limit``), naming the worst combination and its circle; "" when it passes. A wider
+    base or a deeper founding level may help, but the slip passes beneath the whole
+    wall: a slope problem may need measures outside the wall (issue 19)."""
+    bad = [r for r in results if not r.utilization <= limit]
+    if not bad:
+        return ""
+    w = max(bad, key=lambda r: r.utilization)
+    where = ("no admissible slip circle" if w.circle is None else
+             f"critical circle centre x {w.circle.x_m:.2f} m from the toe, level "
+             f"{w.circle.z_m:.2f} m, radius {w.circle.radius_m:.2f} m")
+    return (f"overall stability fails ({w.combination} {w.case}, utilization "
+            f"{w.utilization:.2f}; {where}): the wall and the ground slide together "
+            "beneath the base; a wider base or a deeper founding level may help, but the "
+            "slope may need measures outside the wall (flatter or lower slopes, drainage, "
+            "stronger ground)")
