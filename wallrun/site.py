@@ -211,8 +211,13 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
     if not ok:
         return None
     body = "\n".join([htext] + [t for _, t in data])
-    df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
-                     skipinitialspace=True, skip_blank_lines=False)
+    try:
+        df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
+                         skipinitialspace=True, skip_blank_lines=False)
+    except pd.errors.ParserError as e:  # e.g. a double quote left open across lines
+        pr.add(f"{label}: the rows cannot be read as CSV ({str(e).strip()}); look for an "
+               "unmatched double quote")
+        return None
     df.columns = header
     return df, [ln for ln, _ in data]
 
