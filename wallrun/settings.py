@@ -202,6 +202,23 @@ class Design:
 
 
 @dataclass(frozen=True)
+class GroundModel:
+    """``[ground]``: the ground around the wall for overall stability (design-basis
+    section 9; interfaces "Additions").
+
+    front_slope_deg: the front ground falls at this angle away from the toe, degrees
+    (0: horizontal). retained_crest_m: height above z_top at which the retained slope
+    (rising at the backfill's ``slope_deg``) flattens, m; None: it rises without limit.
+    overall_stability: check ``overall`` (EN 1997-1 11.5.1, Bishop's simplified
+    method); false: listed as not checked.
+    """
+
+    front_slope_deg: float = setting(0.0, unit="deg", ge=0, lt=90)
+    retained_crest_m: float | None = setting(None, "float_or_none", unit="m", ge=0, le=1000)
+    overall_stability: bool = setting(False)
+
+
+@dataclass(frozen=True)
 class Takeoff:
     """Quantity take-off settings (wallrun's own table ``[takeoff]``)."""
 
@@ -297,6 +314,7 @@ class Site:
     factors: dict[str, FactorSet] = field(default_factory=dict)
     takeoff: Takeoff = Takeoff()
     drawings: Drawings = Drawings()
+    ground_model: GroundModel = GroundModel()  # [ground] (``ground`` is the profile)
     catalogue: tuple[CatalogueSection, ...] | None = None
     rates: tuple[Rate, ...] | None = None  # None: the invented demo rates are used
     warnings: tuple[str, ...] = ()
