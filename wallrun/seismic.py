@@ -282,6 +282,7 @@ class SeismicActions:
         for c in ss.cases:
             bad |= (not c.ok) | (wet & (not c.ok_w))
         self.no_solution = bad
+        self._bad = bad | section_problems(sec)  # infinite effects
         # masses moving with the wall: wall and soil over the heel, heel load psi2 q
         self.W = g.W_c + g.W_s
         self.MW_x = g.M_c + g.W_s * g.x_s
@@ -355,7 +356,7 @@ class SeismicActions:
         for r, lab in enumerate(labels):
             out.append(CheckArray("eccentricity", COMBINATION, lab, "m", CLAUSE["eccentricity"],
                                   np.abs(self.e[r]), B3))
-        bad = self.no_solution | section_problems(self.sec)
+        bad = self._bad
         if bad.any():
             out = [replace(c, effect=np.where(bad, np.inf, c.effect)) for c in out]
         return out
@@ -388,7 +389,7 @@ class SeismicActions:
         on = self._on * self._fv * float(self.basis.loads.psi2)
         (M_heel, V_heel), (M_toe, V_toe) = base_member_actions(
             g, self.V, self.e, self._fv, self._fv, on, (self.Ev,), 1.0)
-        bad = self.no_solution | section_problems(self.sec)
+        bad = self._bad
         inf = lambda a: np.where(bad, np.inf, a)  # noqa: E731
         out = []
         for r, lab in enumerate(self.labels):
