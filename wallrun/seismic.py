@@ -75,8 +75,15 @@ from wallrun.members import MemberActions
 from wallrun.results import ActionRow, CheckArray
 from wallrun.section import Section, SectionArrays, area_centroid_cols, section_problems
 from wallrun.settings import Basis, Seismic
-from wallrun.stability import (GAMMA_C, GAMMA_W, Geometry, base_member_actions,
-                               eccentricity, passive_front, stress_integrals)
+from wallrun.stability import (
+    GAMMA_C,
+    GAMMA_W,
+    Geometry,
+    base_member_actions,
+    eccentricity,
+    passive_front,
+    stress_integrals,
+)
 
 COMBINATION = "SEIS"
 NO_SOLUTION = "backfill slope beta > phi'_d - theta: no Mononobe-Okabe solution"
@@ -412,7 +419,7 @@ class SeismicActions:
         (m1, _), (m2, _) = self._stem_at(y, hw)
         return np.maximum(m1, m2)
 
-    def subset(self, idx) -> "SeismicActions":
+    def subset(self, idx) -> SeismicActions:
         """The seismic actions of the candidates idx only (their own geometry)."""
         cond = self.cond
 
@@ -465,12 +472,15 @@ def seismic_action_table(section: Section, cond: Conditions, basis: Basis,
     g, ss = a.g, a.ss
     v = lambda x: float(np.asarray(x).reshape(-1)[0])  # noqa: E731
     out = {}
+    def action(name, kind, V, Hh, x, z):
+        V, Hh, x, z = v(V), v(Hh), v(x), v(z)
+        return ActionRow(name, kind, V, Hh, x, z, V * x - Hh * z)
+
     for k, c in enumerate(ss.cases):
         rows = []
 
-        def row(name, kind, V, Hh, x, z):
-            V, Hh, x, z = v(V), v(Hh), v(x), v(z)
-            rows.append(ActionRow(name, kind, V, Hh, x, z, V * x - Hh * z))
+        def row(*args, rows=rows):
+            rows.append(action(*args))
 
         parts = [("stem", g.W_stem, g.x_stem, g.z_stem), ("base", g.W_base, g.x_base, g.z_base)]
         if section.key_depth_m > 0:
@@ -480,7 +490,7 @@ def seismic_action_table(section: Section, cond: Conditions, basis: Basis,
             label = name if name == "soil over heel" else f"{name} self-weight"
             row(label, "permanent", W, 0.0, x, z)
             row(f"{name}: inertia kh W, -kv W", "seismic", -c.kv * W, ss.kh * W, x, z)
-        E0, M0, E, ME = a.E0[k], a.M0[k], a.E[k], a.ME[k]
+        E0, M0, E = a.E0[k], a.M0[k], a.E[k]
         z0 = np.where(E0 > 0, M0 / np.where(E0 > 0, E0, 1.0), 0.0)
         dE = E - E0
         row(f"earth thrust, static part (K0 = {ss.K0_back:.3f}, delta = {ss.delta_back:.1f})",
