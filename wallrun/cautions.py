@@ -33,10 +33,14 @@ def not_checked(site) -> tuple[str, ...]:
     """What wallrun does not check for ``site`` (a ``wallrun.settings.Site``): the fixed
     list, plus each optional check the site leaves off or wallrun does not make yet.
     Every output lists exactly this. Overall stability is checked where ``[ground]
-    overall_stability = true`` (design-basis section 9), and listed otherwise."""
-    overall_on = bool(getattr(getattr(site, "ground_model", None), "overall_stability", False))
-    optional = (() if overall_on else (OVERALL,)) + (SEISMIC, RESTRAINT, BENDS)
-    return optional + ALWAYS
+    overall_stability = true`` (design-basis section 9) and seismic actions where the
+    site gives ``[seismic]`` (design-basis section 10); each is listed otherwise."""
+    out = []
+    if not site.ground_model.overall_stability:
+        out.append(OVERALL)
+    if site.seismic is None:
+        out.append(SEISMIC)
+    return tuple(out) + (RESTRAINT, BENDS) + ALWAYS
 
 
 #: The list for a site with every optional check off (tests and documentation).

@@ -1,7 +1,9 @@
-"""Partial factor sets of EN 1997-1:2004 Annex A (recommended values).
+"""Partial factor sets of EN 1997-1:2004 Annex A (recommended values), and the set of
+the seismic design situation (EN 1998-5 3.1(3)).
 
-Design-basis section 4. A national annex may change any value; ``site.toml``
-``[factors.<set>]`` tables override them key by key.
+Design-basis sections 4 and 10. A national annex may change any value; ``site.toml``
+``[factors.<set>]`` tables override them key by key (``[factors.seismic]``: only the
+material factors g_phi, g_c, g_cu).
 """
 
 from __future__ import annotations
@@ -66,12 +68,27 @@ SETS_OF_APPROACH = {"DA1": ("EQU", "DA1-1", "DA1-2"), "DA2": ("EQU", "DA2"),
                     "DA3": ("EQU", "DA3")}
 
 
-def resolve(approach: str, overrides: dict[str, dict[str, float]] | None = None) -> dict[str, FactorSet]:
-    """Factor sets in use for ``approach``, with ``overrides`` applied key by key."""
+#: The seismic design situation, combination ``SEIS`` (design-basis 10): actions 1.0
+#: (EN 1990 6.4.3.4, Eq. 6.12b; psi2 on the variable actions is applied by the seismic
+#: module), materials by the recommended values of EN 1998-5 3.1(3) NOTE (gamma_phi' =
+#: gamma_c' = 1.25, gamma_cu = 1.4), resistances 1.0.
+SEISMIC = FactorSet("SEIS", 1.0, 1.0, 1.0, 1.25, 1.25, 1.40, 1.0, 1.0, 1.0)
+#: The ``[factors.<set>]`` table name of the seismic set, and the keys it may give.
+SEISMIC_TABLE = "seismic"
+SEISMIC_KEYS = ("g_phi", "g_c", "g_cu")
+
+
+def resolve(approach: str, overrides: dict[str, dict[str, float]] | None = None,
+            seismic: bool = False) -> dict[str, FactorSet]:
+    """Factor sets in use for ``approach``, with ``overrides`` applied key by key; with
+    ``seismic`` also the set ``SEIS`` (:data:`SEISMIC` with the overrides of
+    ``overrides["seismic"]``)."""
     overrides = overrides or {}
     out = {}
     for name in SETS_OF_APPROACH[approach]:
         out[name] = replace(RECOMMENDED[name], **overrides.get(name, {}))
+    if seismic:
+        out[SEISMIC.name] = replace(SEISMIC, **overrides.get(SEISMIC_TABLE, {}))
     return out
 
 

@@ -130,6 +130,10 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
             seconds += typed.seconds
     timings["sizing"] = seconds
     timings["panels"] = time.perf_counter() - t0 - seconds
+    if site.ground_model.overall_stability:
+        t0 = time.perf_counter()
+        laid = _with_overall(site, laid)
+        timings["overall"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
     result = _results(site, profiles, runs, laid, rational)
@@ -139,6 +143,40 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
                            "search": {"candidates": float(checked),
                                       "references": float(sum(s.references for s in stats)),
                                       "demands": float(sum(s.demands for s in stats))}})
+
+
+def _with_overall(site: Site, laid: list[RunLayout]) -> list[RunLayout]:
+    """Every designed panel with its overall-stability check (EN 1997-1 11.5.1, Bishop's
+    simplified method, design-basis section 9) at its final section and founding level;
+    a panel that fails it is flagged with the plain reason (``overall.failure_reason``:
+    a wider base or a deeper founding level may help, but the slope may need measures
+    outside the wall). Each distinct (section, conditions) is checked once a call."""
+    from wallrun import overall
+
+    done: dict = {}
+    out = []
+    limit = site.design.max_utilization
+    for lay in laid:
+        designs = []
+        for d, dem in zip(lay.designs, lay.demands):
+            if d.status != "ok":
+                designs.append(d)
+                continue
+            key = (d.section, dem)
+            if key not in done:
+                cond = _scalar(conditions_of([d.section.base_thickness_m], Rows.of([dem], [1]),
+                                             dem))
+                done[key] = overall.overall_check(d.section, cond, site.basis, site.ground_model)
+            res = done[key]
+            entries = tuple(overall.check_entries(res))
+            why = overall.failure_reason(res, limit)
+            u = max([d.utilization] + [e.utilization for e in entries])
+            d = replace(d, checks=d.checks + entries, utilization=u)
+            if why:
+                d = replace(d, status="flagged", reason=why)
+            designs.append(d)
+        out.append(replace(lay, designs=tuple(designs)))
+    return out
 
 
 def _rationalise(site: Site, laid: list[RunLayout], sizer: Sizer) -> rat_mod.Rationalised:

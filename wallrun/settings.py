@@ -219,6 +219,38 @@ class GroundModel:
 
 
 @dataclass(frozen=True)
+class Seismic:
+    """``[seismic]``: the seismic design situation (design-basis 10, EN 1998-5 7.3.2).
+
+    The table's presence turns the situation on (``Site.seismic`` is None without it).
+    ag_g: alpha = ag/g, the design ground acceleration on ground type A over g
+    (gamma_I agR / g, EN 1998-1 3.2.1); soil_factor: S of EN 1998-1 3.2.2.2 (Tables 3.2
+    and 3.3: 1.0 to 1.8); r: EN 1998-5 Table 7.1 (2 and 1.5 for a wall free to slide
+    300 alpha S mm and 200 alpha S mm, 1 for a wall that may not; 7.3.2.2(3): not above
+    1 for saturated cohesionless backfill susceptible to high pore pressure);
+    kv_ratio: kv / kh, 0.5 where avg/ag > 0.6 and 0.33 otherwise (7.3.2.2(2)).
+    """
+
+    ag_g: float = setting(0.0, unit="g", ge=0, le=1, required=True,
+                          why="ag/g of EN 1998-1 3.2.1")
+    soil_factor: float = setting(1.0, ge=1.0, le=2.0, required=True,
+                                 why="S of EN 1998-1 Tables 3.2 and 3.3")
+    r: float = setting(1.0, "choice", choices=(2.0, 1.5, 1.0), why="EN 1998-5 Table 7.1")
+    kv_ratio: float = setting(0.5, "choice", choices=(0.5, 0.33),
+                              why="EN 1998-5 7.3.2.2(2), Eqs. 7.2 and 7.3")
+
+    @property
+    def kh(self) -> float:
+        """kh = ag_g S / r (EN 1998-5 7.3.2.2(2), Eq. 7.1)."""
+        return self.ag_g * self.soil_factor / self.r
+
+    @property
+    def kv(self) -> float:
+        """|kv| = kv_ratio kh (EN 1998-5 7.3.2.2(2), Eqs. 7.2 and 7.3)."""
+        return self.kv_ratio * self.kh
+
+
+@dataclass(frozen=True)
 class Takeoff:
     """Quantity take-off settings (wallrun's own table ``[takeoff]``)."""
 
@@ -286,6 +318,7 @@ class Basis:
     loads: Loads = Loads()
     concrete: Concrete = Concrete()
     steel: Steel = Steel()
+    seismic: "Seismic | None" = None  # the seismic design situation (combination SEIS)
 
     @property
     def uls_sets(self) -> tuple[str, ...]:
@@ -318,11 +351,12 @@ class Site:
     catalogue: tuple[CatalogueSection, ...] | None = None
     rates: tuple[Rate, ...] | None = None  # None: the invented demo rates are used
     warnings: tuple[str, ...] = ()
+    seismic: Seismic | None = None  # [seismic]; None: no seismic design situation
 
     @property
     def basis(self) -> Basis:
         return Basis(factors=self.factors, design=self.design, loads=self.loads,
-                     concrete=self.concrete, steel=self.steel)
+                     concrete=self.concrete, steel=self.steel, seismic=self.seismic)
 
     def foundation_at(self, ch: float) -> Foundation:
         """Foundation soil in force at chainage ``ch`` (zones override the default)."""

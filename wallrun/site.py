@@ -46,8 +46,8 @@ from wallrun.rules import nearest as _nearest
 from wallrun.rules import show as _show
 from wallrun.settings import (AlignmentPoint, Backfill, CatalogueSection, Concrete, Design,
                               Drawings, Foundation, FoundationZone, GroundModel, Loads,
-                              ProfileData, ProfileFiles, Project, Rate, Site, Steel, Takeoff,
-                              Wall, Water)
+                              ProfileData, ProfileFiles, Project, Rate, Seismic, Site, Steel,
+                              Takeoff, Wall, Water)
 
 SITE_FILE = "site.toml"
 SECTIONS_FILE = "sections.csv"
@@ -64,7 +64,7 @@ PLAN_LENGTH_TOLERANCE = 0.01
 #: Columns of ``sections.csv`` (interfaces.md), in order.
 CATALOGUE_COLUMNS = tuple(f.name for f in fields(CatalogueSection))
 RATE_COLUMNS = ("item", "unit", "rate")
-FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
+FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", _factors.SEISMIC_TABLE)
 
 
 # --- the keys of each table: the rules declared beside each setting ------------------
@@ -74,7 +74,7 @@ FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
 CLASSES = {"project": Project, "profiles": ProfileFiles, "wall": Wall, "backfill": Backfill,
            "foundation": Foundation, "water": Water, "loads": Loads, "concrete": Concrete,
            "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings,
-           "ground": GroundModel}
+           "ground": GroundModel, "seismic": Seismic}
 #: Key rules per table, taken from those dataclasses.
 SPEC: dict[str, dict[str, Rule]] = {name: rules_of(cls) for name, cls in CLASSES.items()}
 #: Sub-tables allowed beside the keys of a table.
@@ -690,12 +690,20 @@ def load_site(path) -> Site:
             if not isinstance(t, dict):
                 pr.add(f"{SITE_FILE}: [factors.{setname}]: must be a table, got {_show(t)}")
                 continue
-            keys = _factors.OVERRIDE_KEYS if setname == "DA3" else tuple(
-                k for k in _factors.OVERRIDE_KEYS if k != "gG_unfav_ground")
+            if setname == _factors.SEISMIC_TABLE:
+                keys = _factors.SEISMIC_KEYS
+            elif setname == "DA3":
+                keys = _factors.OVERRIDE_KEYS
+            else:
+                keys = tuple(k for k in _factors.OVERRIDE_KEYS if k != "gG_unfav_ground")
             spec = {k: _factors.OVERRIDE_RULE for k in keys}
             fvals = _read_table(t, f"factors.{setname}", spec, pr)
             overrides[setname] = fvals
-            if setname not in _factors.SETS_OF_APPROACH[approach]:
+            if setname == _factors.SEISMIC_TABLE:
+                if "seismic" not in doc:
+                    warn.append(f"{SITE_FILE}: [factors.seismic] is not used: the site gives no "
+                                "[seismic] table")
+            elif setname not in _factors.SETS_OF_APPROACH[approach]:
                 warn.append(f"{SITE_FILE}: [factors.{setname}] is not used by approach {approach}")
 
     # profiles
@@ -766,7 +774,15 @@ def load_site(path) -> Site:
                 pr.key(label, "unit_weight_kn_m3",
                        f"must exceed the unit weight of water ({gw}) when [water] is given, "
                        f"got {_g(gam)}")
-    resolved = _factors.resolve(approach, overrides) if not pr.items else {}
+    seismic = None
+    if isinstance(doc.get("seismic"), dict) and not pr.items:
+        seismic = Seismic(**vals.get("seismic", {}))
+        if wat is not None and seismic.r > 1.0:
+            warn.append(f"{SITE_FILE}: [seismic] r = {_g(seismic.r)} with [water]: EN 1998-5 "
+                        "7.3.2.2(3) allows r above 1 only where the backfill is not a saturated "
+                        "cohesionless soil susceptible to high pore pressure")
+    resolved = (_factors.resolve(approach, overrides, seismic=seismic is not None)
+                if not pr.items else {})
     slope = b.get("slope_deg", Backfill.slope_deg)
     phik = b.get("friction_angle_deg", Backfill.friction_angle_deg)
     for name, fs in resolved.items():
@@ -802,4 +818,5 @@ def load_site(path) -> Site:
         catalogue=catalogue,
         rates=rates,
         warnings=tuple(warn),
+        seismic=seismic,
     )
