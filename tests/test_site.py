@@ -464,3 +464,14 @@ def test_seismic_bad_values(tmp_path, capsys):
     (tmp_path / "b").mkdir()
     bad(tmp_path / "b", capsys, "[seismic] ag_g: must be >= 0 and <= 1",
         toml=TOML + "[seismic]\nag_g = 1.5\nsoil_factor = 1.0\n")
+
+
+def test_catalogue_type_thinner_than_the_minimum_is_refused_with_its_name(tmp_path, capsys):
+    cols = ("section,stem_top_m,stem_base_m,base_width_m,toe_m,base_thickness_m,key_depth_m,"
+            "key_width_m,stem_bar_mm,stem_spacing_mm,heel_bar_mm,heel_spacing_mm,toe_bar_mm,"
+            "toe_spacing_mm,dist_bar_mm,dist_spacing_mm\n")
+    rows = ("THIN,0.20,0.30,2.0,0.5,0.30,0,0,12,200,12,200,12,200,10,200\n"
+            "FLAT,0.25,0.30,2.0,0.5,0.25,0,0,12,200,12,200,12,200,10,200\n")
+    bad(tmp_path, capsys, "type 'THIN' has a stem 0.2 m thick, thinner than [design] "
+        "min_stem_m = 0.25 m", "type 'FLAT' has a base 0.25 m thick",
+        toml=TOML + '\n[design]\nsections = "catalogue"\n', **{"sections.csv": cols + rows})

@@ -352,8 +352,11 @@ def _read_alignment(entries, pr: _Problems) -> tuple[AlignmentPoint, ...] | None
 
 # --- catalogue and rates -------------------------------------------------------------
 
-def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSection, ...] | None:
-    """``sections.csv``: one standard section type a row (dimensions m, bars mm)."""
+def read_catalogue(path: Path, steel: Steel, pr: _Problems,
+                   design: Design = Design()) -> tuple[CatalogueSection, ...] | None:
+    """``sections.csv``: one standard section type a row (dimensions m, bars mm). A type
+    thinner than ``[design] min_stem_m`` (stem top or base) or ``min_base_m`` is refused
+    with its name: the least sizes hold in every section mode."""
     label = SECTIONS_FILE
     rows = _read_lines(path, label, pr)
     if rows is None:
@@ -388,6 +391,14 @@ def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSe
                        "dimensions are in metres")
         if (r["key_depth_m"] > 0) != (r["key_width_m"] > 0):
             pr.add(f"{label}:{ln}: key_depth_m and key_width_m: give both > 0 for a key, or both 0")
+        for c in ("stem_top_m", "stem_base_m"):
+            if 0 < r[c] < design.min_stem_m - 1e-9:
+                pr.add(f"{label}:{ln}: {c}: type '{names[i]}' has a stem {_g(r[c])} m thick, "
+                       f"thinner than [design] min_stem_m = {_g(design.min_stem_m)} m")
+        if 0 < r["base_thickness_m"] < design.min_base_m - 1e-9:
+            pr.add(f"{label}:{ln}: base_thickness_m: type '{names[i]}' has a base "
+                   f"{_g(r['base_thickness_m'])} m thick, thinner than [design] min_base_m = "
+                   f"{_g(design.min_base_m)} m")
         if r["stem_top_m"] > r["stem_base_m"]:
             pr.add(f"{label}:{ln}: stem_top_m {_g(r['stem_top_m'])} exceeds stem_base_m "
                    f"{_g(r['stem_base_m'])}; the stem tapers towards its top")
@@ -755,7 +766,11 @@ def load_site(path) -> Site:
     catalogue = None
     cp = _fixed_file(root, SECTIONS_FILE, pr)
     if cp is not None:
-        catalogue = read_catalogue(cp, steel, pr)
+        try:
+            dsg = Design(**d)
+        except TypeError:
+            dsg = Design()
+        catalogue = read_catalogue(cp, steel, pr, dsg)
     elif d.get("sections") == "catalogue":
         pr.key("design", "sections", f"\"catalogue\" needs {SECTIONS_FILE} in the site folder")
     rates = None
