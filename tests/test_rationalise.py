@@ -117,8 +117,9 @@ def test_a_type_whose_stop_is_too_low_does_not_serve():
     assert "needs them to" in why
     types = rat.SectionSet(("S01",), (sec,), (low,))
     (opts,) = rat.designs_with(types, [d_hi], BASIS, Costing())
-    sd, ok = opts[0]
-    assert not ok and sd.status == "flagged" and "stop" in sd.reason
+    assert not opts[0].ok and rat.best_type(opts) is None
+    sd = rat.least_failing(opts)
+    assert sd.status == "flagged" and "stop" in sd.reason
 
 
 def test_nested_detects_a_prefix_break():
@@ -126,3 +127,11 @@ def test_nested_detects_a_prefix_break():
     assert not rat.nested(C, np.arange(3))
     assert rat.nested(C, np.array([0, 2, 1]))
     assert math.isinf(rat.choose(np.full((2, 2), np.inf), 1.0, "auto").total)
+
+
+def test_rows_no_type_serves_are_left_out_with_a_given_order():
+    C = np.array([[10.0, 20.0], [np.inf, np.inf], [12.0, 25.0], [np.inf, 30.0]])
+    ch = rat.choose(C, 5.0, "auto", order=np.array([0, 2, 1, 3]))
+    assert ch.assign[1] == -1 and ch.assign[3] == 1
+    ref, _ = rat.enumerate_sets(C[[0, 2, 3]], 5.0, 2)
+    assert ch.total == pytest.approx(ref)

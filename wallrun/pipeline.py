@@ -39,9 +39,10 @@ class Sizer:
     bespoke searches are split by retained height over its workers: every demand's
     design depends on that demand only, so the results are the same."""
 
-    def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None):
+    def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None,
+                 fallback=None):
         self.site, self.mode, self.types, self.tick = site, mode, types, tick
-        self.executor = executor
+        self.executor, self.fallback = executor, fallback
         self.basis, self.costing = site.basis, Costing.of(site)
         self.step = site.design.dimension_step_m
         self.designs: dict[Demand, SizedDesign] = {}
@@ -85,13 +86,21 @@ class Sizer:
 
     def _with_types(self, demands) -> list[SizedDesign]:
         """Each demand with the cheapest type of the set passing there (its cage, its
-        shared curtailment); none passing: flagged, unless the demand is one no search is
-        made for (then its own flagged design)."""
+        shared curtailment). A demand no type serves (a panel a joint cure changed) gets
+        its own bespoke design, which becomes one more type; a demand no search is made
+        for keeps its flagged design."""
         out = []
         opts = rat_mod.designs_with(self.types, list(demands), self.basis, self.costing)
+        own_needed = []
         for d, o in zip(demands, opts):
             own = search.not_designable(d, self.basis, self.costing, self.step)
-            out.append(own if own is not None else rat_mod.best_type(o))
+            sd = own if own is not None else rat_mod.best_type(o)
+            out.append(sd)
+            if sd is None:
+                own_needed.append(d)
+        if own_needed:
+            extra = dict(zip(own_needed, self.fallback(own_needed)))
+            out = [sd if sd is not None else extra[d] for d, sd in zip(demands, out)]
         return out
 
 
@@ -122,9 +131,11 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
     seconds, stats = sizer.seconds, list(sizer.stats)
     rational = None
     if mode == "rationalised":
+        t1 = time.perf_counter()
         rational = _rationalise(site, laid, sizer)
+        seconds += time.perf_counter() - t1
         if len(rational.types):  # else nothing could be designed: the flags stand
-            typed = Sizer(site, "types", types=rational.types, tick=tick)
+            typed = Sizer(site, "types", types=rational.types, tick=tick, fallback=sizer)
             laid = lay_out(profiles, runs, site, typed,
                            slots={lay.run.run: lay.slots for lay in laid})
             seconds += typed.seconds

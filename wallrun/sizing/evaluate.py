@@ -21,6 +21,7 @@ money units of the rate table, per metre run of wall.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -303,31 +304,38 @@ class Evaluation:
     def __len__(self) -> int:
         return len(self.sec)
 
+    @functools.cached_property
+    def _matrices(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Effect, resistance and utilization of every check (rows) x candidate, with
+        the conventions of ``results.utilization``."""
+        n = len(self.sec)
+        E = np.empty((len(self.checks), n))
+        R = np.empty((len(self.checks), n))
+        for k, c in enumerate(self.checks):
+            E[k], R[k] = _full(c.effect, n), _full(c.resistance, n)
+        return E, R, utilization(E, R)
+
     def entries(self, i: int) -> tuple[CheckEntry, ...]:
         """The checks of candidate i as ``design.json`` entries, ``governs`` on the worst
         entry of each (check, combination)."""
-        n = len(self.sec)
-        rows = []
-        for c in self.checks:
-            e = float(_full(c.effect, n)[i])
-            r = float(_full(c.resistance, n)[i])
-            rows.append((c, e, r, float(utilization(e, r))))
+        E, R, U = self._matrices
+        e, r, u = E[:, i].tolist(), R[:, i].tolist(), U[:, i].tolist()
         worst: dict[tuple[str, str], int] = {}
-        for k, (c, _, _, u) in enumerate(rows):
+        for k, c in enumerate(self.checks):
             key = (c.check, c.combination)
-            if key not in worst or u > rows[worst[key]][3]:
+            if key not in worst or u[k] > u[worst[key]]:
                 worst[key] = k
         gov = set(worst.values())
-        return tuple(CheckEntry(c.check, c.combination, c.case, e, r, c.unit, u, c.clause,
-                                k in gov) for k, (c, e, r, u) in enumerate(rows))
+        return tuple(CheckEntry(c.check, c.combination, c.case, e[k], r[k], c.unit, u[k],
+                                c.clause, k in gov) for k, c in enumerate(self.checks))
 
     def governing(self, i: int) -> tuple[str, str, float]:
         """(check, combination, utilization) of the worst check of candidate i."""
-        best = ("", "", 0.0)
-        for e in self.entries(i):
-            if e.utilization > best[2] or not best[0]:
-                best = (e.check, e.combination, e.utilization)
-        return best
+        if not len(self.checks):
+            return ("", "", 0.0)
+        U = self._matrices[2]
+        k = int(np.argmax(U[:, i]))
+        return (self.checks[k].check, self.checks[k].combination, float(U[k, i]))
 
 
 def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,

@@ -211,6 +211,9 @@ def choose(cost: np.ndarray, rate: float, max_types: int | str,
         return Choice((), tuple([-1] * n), math.inf, True, "none")
     if order is None:
         order = np.lexsort((np.min(sub, axis=1), -np.isfinite(sub).sum(axis=1)))
+    else:  # the given order of all rows, restricted to the rows some column serves
+        pos = np.cumsum(served) - 1
+        order = pos[[i for i in np.asarray(order) if served[i]]]
     method, exact = "dynamic programming", nested(sub, order)
     if exact:
         best, assignment = dp_by_count(sub, order, k_cap)
@@ -289,10 +292,42 @@ def curtail_check(ev: ev_.Evaluation, i: int, cage: Reinforcement) -> str:
     return ""
 
 
+@dataclass(frozen=True)
+class Option:
+    """A type at one demand: the evaluation with the type's cage, the row of the
+    demand in it, whether it passes (the shared curtailment included) and why not."""
+
+    name: str
+    cage: Reinforcement
+    ev: ev_.Evaluation
+    row: int
+    ok: bool
+    why: str
+
+    @property
+    def cost(self) -> float:
+        return float(self.ev.cost[self.row])
+
+    @property
+    def utilization(self) -> float:
+        return float(self.ev.utilization[self.row])
+
+    def design(self) -> SizedDesign:
+        """The panel's design with this type (flagged with the reason where it fails)."""
+        sd = ev_.sized(self.ev, self.row, section_type=self.name)
+        sd = replace(sd, reinforcement=replace(sd.reinforcement,
+                                               stem_curtail_m=self.cage.stem_curtail_m))
+        if not self.ok:
+            chk, comb, u = self.ev.governing(self.row)
+            reason = self.why or f"type {self.name} with its cage fails {chk} {comb} ({u:.2f})"
+            sd = replace(sd, status="flagged", reason=reason)
+        return sd
+
+
 def designs_with(types: SectionSet, demands: list[Demand], basis: Basis,
-                 costing: Costing) -> list[list[tuple[SizedDesign, bool]]]:
-    """Every type at every demand with its own cage: per demand, per type, (design,
-    passes) where passes includes the shared curtailment (:func:`curtail_check`)."""
+                 costing: Costing) -> list[list[Option]]:
+    """Every type at every demand with its own cage: per demand, per type, an
+    :class:`Option` whose ``ok`` includes the shared curtailment (:func:`curtail_check`)."""
     out = [[None] * len(types) for _ in demands]
     groups: dict[tuple, list[int]] = {}
     for k, d in enumerate(demands):
@@ -306,26 +341,23 @@ def designs_with(types: SectionSet, demands: list[Demand], basis: Basis,
                               given=cage, caps=caps)
             for j, k in enumerate(ks):
                 why = curtail_check(ev, j, cage)
-                ok = bool(ev.ok[j]) and not why
-                sd = ev_.sized(ev, j, section_type=name)
-                sd = replace(sd, reinforcement=replace(sd.reinforcement,
-                                                       stem_curtail_m=cage.stem_curtail_m))
-                if not ok:
-                    chk, comb, u = ev.governing(j)
-                    reason = why or f"type {name} with its cage fails {chk} {comb} ({u:.2f})"
-                    sd = replace(sd, status="flagged", reason=reason)
-                out[k][t] = (sd, ok)
+                out[k][t] = Option(name, cage, ev, j, bool(ev.ok[j]) and not why, why)
     return out
 
 
-def best_type(options: list[tuple[SizedDesign, bool]]) -> SizedDesign:
-    """The cheapest passing design among a demand's type options (ties: lower
-    utilization, then the smaller type), else the least utilised, flagged."""
-    ok = [(sd.cost_per_m, sd.utilization, t, sd) for t, (sd, good) in enumerate(options) if good]
-    if ok:
-        return min(ok, key=lambda r: r[:3])[3]
-    t = min(range(len(options)), key=lambda t: (options[t][0].utilization, t))
-    sd = options[t][0]
+def best_type(options: list[Option]) -> SizedDesign | None:
+    """The cheapest passing type among a demand's options (ties: lower utilization, then
+    the smaller type), or None when none passes."""
+    ok = [(o.cost, o.utilization, t) for t, o in enumerate(options) if o.ok]
+    if not ok:
+        return None
+    return options[min(ok)[2]].design()
+
+
+def least_failing(options: list[Option]) -> SizedDesign:
+    """The least utilised type of a demand no type serves, flagged with the reason."""
+    o = min(options, key=lambda o: o.utilization)
+    sd = o.design()
     return replace(sd, reason=f"no type of the set passes: {sd.reason}")
 
 
@@ -408,7 +440,7 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
         if own_of[d].status != "ok":
             designs[k] = own_of[d]
         else:
-            designs[k] = best_type(opts[k])
+            designs[k] = best_type(opts[k]) or least_failing(opts[k])
         total += designs[k].cost_per_m * L[k]
     return Rationalised(types, tuple(designs[idx[d]] for d in demands), total, type_rate,
                         ch.exact, ch.method, len(cands))
