@@ -135,3 +135,10 @@ def test_rows_no_type_serves_are_left_out_with_a_given_order():
     assert ch.assign[1] == -1 and ch.assign[3] == 1
     ref, _ = rat.enumerate_sets(C[[0, 2, 3]], 5.0, 2)
     assert ch.total == pytest.approx(ref)
+
+
+def test_practical_count_per_ground():
+    ds = [demand(h) for h in (1.0, 1.6, 2.9)] + [
+        demand(h, foundation=Foundation(friction_angle_deg=26.0)) for h in (2.0, 2.2)]
+    # ceil(1.9 / 0.5) = 4 on the first ground, 1 on the second
+    assert rat.practical_count(ds) == 5

@@ -8,8 +8,10 @@ Total cost = the panels' cost + the number of types x the rate of one type (item
    most severe of each ground always kept).
 2. Cost matrix: every candidate type at every demand, bars chosen for that demand, cost
    per metre x the demand's length; inf where it fails a check.
-3. The choice (:func:`choose`): the set of at most ``max_types`` columns (``"auto"``: any
-   number) that serves every row at least matrix cost + number x type rate. Exact for
+3. The choice (:func:`choose`): the set of at most ``max_types`` columns (``"auto"``: at
+   most one type per 0.5 m of each ground's range of retained heights,
+   :func:`practical_count`) that serves every row at least matrix cost + number x type
+   rate. Exact for
    the candidates considered: dynamic programming over contiguous groups of the rows
    ordered by severity when the types are nested (:func:`nested`, proof in
    :func:`dp_by_count`), else an integer program (``scipy.optimize.milp``) of the
@@ -376,6 +378,23 @@ class Rationalised:
     candidates: int
 
 
+#: Retained-height range per type of a practical set, m: ``max_types = "auto"`` uses at
+#: most one type per this much of each ground's range of retained heights.
+HEIGHT_PER_TYPE_M = 0.5
+
+
+def practical_count(demands: list[Demand]) -> int:
+    """The most types ``max_types = "auto"`` may use: per ground, one per
+    ``HEIGHT_PER_TYPE_M`` of its range of retained heights (at least one), summed. A set
+    a contractor can build stays small on a long wall, where each extra type would
+    still pay for itself (common practice: a handful of wall types per job)."""
+    by: dict[tuple, list[float]] = {}
+    for d in demands:
+        by.setdefault(d.ground_key, []).append(d.h)
+    return sum(max(1, math.ceil((max(hs) - min(hs)) / HEIGHT_PER_TYPE_M - 1e-9))
+               for hs in by.values())
+
+
 def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesign],
                 basis: Basis, costing: Costing, max_types: int | str,
                 type_rate: float) -> Rationalised:
@@ -419,7 +438,8 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
             for t in np.flatnonzero(okj):
                 bars[(r, int(t))] = ev.structure.reinforcement(j * len(cands) + int(t))
     order = np.argsort([own_of[d].cost_per_m for d in rows_d], kind="stable")
-    ch = choose(cost, type_rate, max_types, order=order)
+    cap = max_types if max_types != "auto" else practical_count(rows_d)
+    ch = choose(cost, type_rate, cap, order=order)
     # 4. one cage per type, named by size
     chosen = sorted(ch.columns, key=lambda t: size_key(cands[t]))
     names, sections, cages = [], [], []
