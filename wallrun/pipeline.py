@@ -79,7 +79,7 @@ LOCKSTEP_FROM = 200
 def first_pass_extents(profiles, run, site: Site) -> list:
     """The panels of a run before any joint is cured (design-basis section 1)."""
     bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
-    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, site.wall)
+    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, site.wall, profiles)
     return [pn.extent(profiles, run.run, run.side, a, b, site.wall)
             for a, b in zip(pts[:-1], pts[1:])]
 
@@ -93,7 +93,7 @@ def settle_run(profiles, run, site: Site, designer) -> tuple[list, list, list]:
     """
     wall = site.wall
     bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
-    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, wall)
+    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, wall, profiles)
     ext_cache: dict = {}
 
     def ext_of(a, b):
@@ -194,7 +194,8 @@ def design(site: Site, progress=None) -> DesignResult:
                 founding_m=float(d.z_found), wall_top_start_m=ext.wall_top_start,
                 wall_top_end_m=ext.wall_top_end, foundation=demand.foundation,
                 backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,
-                water_level_m=water_level_used(demand, d, site.backfill.slope_deg))
+                water_level_m=water_level_used(demand, d, site.backfill.slope_deg),
+                length_m=profiles.length_along(ext.ch_start, ext.ch_end))
             panel_rows.append((panel, d, demand,
                                pn.mean_front_level(profiles, run.side, ext.ch_start, ext.ch_end)))
             names.append(panel.panel)

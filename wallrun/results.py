@@ -139,7 +139,13 @@ class BarMark:
 
 @dataclass(frozen=True)
 class Panel:
-    """A panel's extent and levels (the level columns of ``panels.csv``), m."""
+    """A panel's extent and levels (the level columns of ``panels.csv``), m.
+
+    ``length_m``: the panel's length along the wall line
+    (``wallrun.profile.Profiles.length_along``); when not given, the chainage
+    difference. On a LandXML site with a curved alignment the two differ: the
+    chainages are the alignment's stations, the length is measured on the wall line.
+    """
 
     panel: str
     run: int
@@ -155,10 +161,11 @@ class Panel:
     backfill: Backfill
     surcharge_kpa: float
     water_level_m: float | None  # absolute, as used after capping at the backfill surface
+    length_m: float | None = None  # along the wall line; None: ch_end_m - ch_start_m
 
-    @property
-    def length_m(self) -> float:
-        return self.ch_end_m - self.ch_start_m
+    def __post_init__(self):
+        if self.length_m is None:
+            object.__setattr__(self, "length_m", self.ch_end_m - self.ch_start_m)
 
     @property
     def retained_height_m(self) -> float:
