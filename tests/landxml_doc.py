@@ -12,7 +12,8 @@ NS = "http://www.landxml.org/schema/LandXML-1.2"
 
 
 def E(tag, attrib=None, text=None, *children):
-    el = etree.Element(f"{{{NS}}}{tag}", {k: str(v) for k, v in (attrib or {}).items()})
+    el = etree.Element(f"{{{NS}}}{tag}", {k: str(v) for k, v in (attrib or {}).items()},
+                       nsmap={None: NS})
     if text is not None:
         el.text = text
     for c in children:
