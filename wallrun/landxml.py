@@ -611,3 +611,15 @@ def read_landxml(path, label: str, files: ProfileFiles) -> LandXMLProfiles:
                            for s, z, c in zip(vp.sta, vp.level, vp.curves))
     return LandXMLProfiles(ground=g, finished=finished, alignment=points, crs=crs,
                            warnings=tuple(r.warnings))
+
+
+def read_alignment(path, label: str, name: str) -> HorizontalAlignment:
+    """The horizontal alignment ``name`` of the LandXML file ``path`` (stations from its
+    ``staStart``). Raises InputError naming the file and the element."""
+    root, ns = _read_root(Path(path), label)
+    r = _Reader(label, root, ns)
+    try:
+        r.units()
+        return r.horizontal(r.alignment_element(name))
+    except _Bad as b:
+        raise InputError(str(b)) from None
