@@ -6,6 +6,7 @@ by the tests with lxml (tests/landxml_doc.py)."""
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import matplotlib.tri as mtri
 import numpy as np
@@ -20,6 +21,7 @@ from wallrun.landxml import read_alignment
 from wallrun.profile import build_profiles
 from wallrun.site import load_site
 
+SITES = Path(__file__).parent.parent / "sites"
 XS = np.arange(0.0, 101.0, 10.0)
 YS = np.arange(-20.0, 21.0, 10.0)
 
@@ -414,3 +416,19 @@ def test_common_header_spellings_with_a_note(tmp_path):
     assert ("g.csv:1: columns read as Station -> chainage_m, Elevation -> level_m, "
             "Easting -> x_m, Northing -> y_m") in site.warnings
     assert "f.csv:1: columns read as CHAINAGE -> chainage_m, level -> level_m" in site.warnings
+
+
+def test_demo_site_reads(capsys):
+    # sites/service-yard-bend: a straight, a clothoid, an 80 m arc, a clothoid and a
+    # straight from station 1000 to 1210; the wall 4.5 m right, outside the bend
+    site = load_site(SITES / "service-yard-bend")
+    assert site.warnings == () and site.crs == "EPSG:27700"
+    g = site.ground
+    assert g.chainage_m[0] == 1000.0 and g.chainage_m[-1] == pytest.approx(1210.0, abs=1e-6)
+    p = build_profiles(site)
+    # outside the arc (stations 1090 to 1140) the wall line is 84.5 / 80 times longer
+    assert p.length_along(1095.0, 1135.0) == pytest.approx(40.0 * 84.5 / 80.0, abs=1e-3)
+    # (the file gives coordinates to 0.1 mm: the straight is 60 m within that)
+    assert p.length_along(1000.0, 1060.0) == pytest.approx(60.0, abs=1e-4)
+    assert main(["check", str(SITES / "service-yard-bend")]) == 0
+    capsys.readouterr()

@@ -27,6 +27,15 @@ plane of its triangle (:class:`wallrun.tin.Tin`), so levels are exact along the
 sampled line and linear between its breakpoints. Plan positions (x east, y north)
 come with every point.
 
+Readings (also in ``docs/basis-readings.md``): the range designed is the
+alignment's, clipped to the ProfAlign's stations when the finished level is a
+profile, and the surfaces must cover the wall line over all of it (no silent
+clipping); a Spiral's start direction is Start to PI, else the end direction of the
+element before it; a Spiral's End, a Curve's ``length`` and the joins between elements
+must agree with the computed geometry within :data:`CLOSURE_TOLERANCE_M`; a ProfAlign
+of parabolic curves is returned exactly as alignment points, one with a circular
+curve sampled within :data:`CHORD_TOLERANCE_M`.
+
 Every problem found is raised together as :class:`wallrun.errors.InputError`, each
 naming the file, the line and the element.
 """
