@@ -15,6 +15,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import landxml_doc as D
+from refused import assert_refused
 from wallrun.cli import main
 from wallrun.errors import InputError
 from wallrun.landxml import read_alignment
@@ -265,18 +266,7 @@ def _bad(tmp_path, capsys, root_or_text, *fragments, toml=None):
     else:
         D.write(root_or_text, d / "survey.xml")
     (d / "site.toml").write_text(toml or site_toml(offset_m=3.0), encoding="utf-8")
-    before = {p.name: p.read_bytes() for p in d.iterdir()}
-    assert main(["check", str(d)]) == 2
-    err = capsys.readouterr().err
-    for f in fragments:
-        assert f in err, (f, err)
-    assert "Traceback" not in err
-    out = tmp_path / "out"
-    assert main(["design", str(d), "--out", str(out), "--quiet"]) == 2
-    capsys.readouterr()
-    assert not out.exists()
-    assert {p.name: p.read_bytes() for p in d.iterdir()} == before
-    return err
+    return assert_refused(d, tmp_path / "out", capsys, *fragments)
 
 
 def test_missing_surface_named_with_those_that_exist(tmp_path, capsys):
