@@ -202,7 +202,9 @@ def test_placements_on_the_wall_line(job, model):
         hx, hy = wall_xy(s)
         assert math.hypot(x - float(hx), y - float(hy)) <= 0.001
         assert z == pytest.approx(pset["Founding"], abs=1e-9)
-        assert pset["RetainedSide"] == "left"
+    (proj,) = model.by_type("IfcProject")
+    rule = ue.get_psets(proj)["Wallrun_Cautions"]["RetainedSide"]
+    assert rule == "fill runs retain on the left of increasing chainage"
     # every footing reaches from the toe, right of the wall line, to the heel on its
     # left: the offsets of its corners from the wall line by hand (on the straight
     # y - (100 - 3); on the arc 63 - the distance from the centre), within the 10 mm
@@ -215,7 +217,8 @@ def test_placements_on_the_wall_line(job, model):
         on_arc = x > CENTRE[0]
         left = np.where(on_arc, (R + OFF) - np.hypot(x - CENTRE[0], y - CENTRE[1]),
                         y - (P0[1] - OFF))
-        pset = ue.get_psets(f)["Wallrun_PanelDesign"]
+        pset = ue.get_psets(f)["Wallrun_SectionType"]  # of the footing's type
+        assert pset["SectionType"] == ue.get_psets(f)["Wallrun_PanelDesign"]["SectionType"]
         assert left.max() == pytest.approx(pset["BaseWidth"] - pset["Toe"], abs=0.011)
         assert left.min() == pytest.approx(-pset["Toe"], abs=0.011)
 

@@ -1,19 +1,26 @@
 """``model.ifc``: the wall as an IFC4 model, written with ifcopenshell.
 
-Content: an ``IfcProject`` (the project's name; the caution and the list of what is not
-checked in its description and in the property set ``Wallrun_Cautions``) and an
-``IfcSite`` holding, per panel, an ``IfcWall`` (the stem) and an ``IfcFooting`` (base
-and key, ``STRIP_FOOTING``), concrete of the site's strength class, each with
+Content: an ``IfcProject`` (the project's name; the caution in its description and,
+in the property set ``Wallrun_Cautions``, the caution, what is not checked, the
+placement and the retained-side rule) and an ``IfcSite`` holding, per panel, an
+``IfcWall`` (the stem) and an ``IfcFooting`` (base and key, ``STRIP_FOOTING``), of
+concrete of the site's strength class, each with
 
 - a ``Body`` made of ``IfcExtrudedAreaSolid``: the panel's cross-section (design-basis
   section 2) extruded along the wall line; a sloped wall top is an
   ``IfcBooleanClippingResult`` of the stem with a half space through the top line;
-- the property set ``Wallrun_PanelDesign``: panel, run, side, section type and
-  dimensions, chainages, length along the wall line, levels, utilizations, governing
-  check, status and reason;
-- ``IfcElementQuantity``: ``Qto_WallBaseQuantities`` / ``Qto_FootingBaseQuantities``
-  (length, width, height, volumes, side or cross-section area, from the take-off) and
-  ``Wallrun_PanelQuantities`` (formwork, waterproofing, blinding areas).
+- the property set ``Wallrun_PanelDesign`` (one for the panel's wall and footing):
+  panel, run, side, section type, chainages, length along the wall line, levels,
+  utilizations, governing check, status and reason;
+- an ``IfcElementQuantity``: ``Qto_WallBaseQuantities`` (length, width, height, side
+  areas, volumes) or ``Qto_FootingBaseQuantities`` (length, width, height,
+  cross-section area, volumes), from the take-off;
+- its type: an ``IfcWallType`` and an ``IfcFootingType`` per section type, named like
+  it, with the section's dimensions in the property set ``Wallrun_SectionType``.
+
+The project's frame is made through ``ifcopenshell.api``; the per-panel entities
+through ``ifcopenshell.file.create_entity`` (an api call's checks and look-ups cost
+many times the entity it makes, and a long wall has hundreds of panels).
 
 Placement (model coordinates, m): with plan positions, x east and y north less a round
 origin (``IfcMapConversion`` to an ``IfcProjectedCRS`` named by the survey, or "site
@@ -51,7 +58,6 @@ JOINT_GAP_M = 0.010
 #: A straight piece of a panel departs from the curved wall line by at most this, m.
 MODEL_CHORD_M = 0.010
 PSET = "Wallrun_PanelDesign"
-QTO_OWN = "Wallrun_PanelQuantities"
 _GUID_NS = uuid.UUID("5b0f6f0e-8a53-4c55-9c1e-3f0f6f2a4d71")  # wallrun's own namespace
 
 
@@ -144,6 +150,10 @@ class _Line:
 
 
 class _Model:
+    """The file being built: the project's frame through ``ifcopenshell.api``, the many
+    per-panel entities through ``ifcopenshell.file.create_entity`` (the api's checks and
+    look-ups per call cost more than the entity itself; hundreds of panels)."""
+
     def __init__(self, result):
         import ifcopenshell
         import ifcopenshell.api.aggregate
@@ -154,7 +164,6 @@ class _Model:
         import ifcopenshell.api.project
         import ifcopenshell.api.pset
         import ifcopenshell.api.root
-        import ifcopenshell.api.spatial
         import ifcopenshell.api.unit
         import ifcopenshell.guid
         self.ifc = ifcopenshell
@@ -162,6 +171,7 @@ class _Model:
         self.result = result
         self.f = ifcopenshell.api.project.create_file(version="IFC4")
         self.key = result.site.project.name + "/" + result.site.project.reference
+        self.up = self.f.createIfcDirection((0.0, 0.0, 1.0))
 
     def guid(self, what: str) -> str:
         """A GlobalId that stays the same for the same project and element."""
@@ -172,39 +182,57 @@ class _Model:
         e.GlobalId = self.guid(what)
         return e
 
+    def create(self, ifc_class: str, what: str, **attributes):
+        """A rooted entity (GlobalId from ``what``) with ``attributes``."""
+        return self.f.create_entity(ifc_class, GlobalId=self.guid(what), **attributes)
+
     # geometry items
-    def point(self, v):
-        return self.f.createIfcCartesianPoint(tuple(float(c) for c in v))
-
-    def direction(self, v):
-        return self.f.createIfcDirection(tuple(float(c) for c in v))
-
     def axes(self, origin, z, x):
-        return self.f.createIfcAxis2Placement3D(self.point(origin), self.direction(z),
-                                                self.direction(x))
+        f = self.f
+        return f.createIfcAxis2Placement3D(
+            f.createIfcCartesianPoint(tuple(float(c) for c in origin)),
+            f.createIfcDirection(tuple(float(c) for c in z)),
+            f.createIfcDirection(tuple(float(c) for c in x)))
 
-    def extrusion(self, outline, origin, along, across, depth):
-        """The closed outline (p, z) swept ``depth`` along the unit vector ``along`` from
+    def profile(self, outline):
+        """A closed profile through the points (p, z) of ``outline``."""
+        f = self.f
+        pts = f.createIfcCartesianPointList2D([(float(p), float(z)) for p, z in outline])
+        curve = f.createIfcIndexedPolyCurve(pts, None, False)
+        # the closing segment: the index list returns to the first point
+        idx = list(range(1, len(outline) + 1)) + [1]
+        curve.Segments = [f.createIfcLineIndex(idx)]
+        return f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+
+    def extrusion(self, profile, origin, along, across, depth):
+        """``profile`` (p, z) swept ``depth`` along the unit vector ``along`` from
         ``origin``, p running along ``across`` (horizontal unit vectors, element
         coordinates; the profile's y is up)."""
-        pts = [self.f.createIfcCartesianPoint((p, z)) for p, z in outline]
-        curve = self.f.createIfcPolyline(pts + [pts[0]])
-        prof = self.f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
         pos = self.axes(origin, (along[0], along[1], 0.0), (across[0], across[1], 0.0))
-        return self.f.createIfcExtrudedAreaSolid(prof, pos, self.direction((0.0, 0.0, 1.0)),
-                                                 float(depth))
+        return self.f.createIfcExtrudedAreaSolid(profile, pos, self.up, float(depth))
 
     def clip_above(self, solid, point, normal):
         """``solid`` less the half space above the plane through ``point`` with the
         upward ``normal`` (the sloped top of a stem)."""
         n = np.asarray(normal, dtype=float)
         n = n / np.linalg.norm(n)
-        ref = np.cross(n, (0.0, 0.0, 1.0))
-        if np.linalg.norm(ref) < 1e-12:
-            ref = np.array([1.0, 0.0, 0.0])
-        plane = self.f.createIfcPlane(self.axes(point, n, ref / np.linalg.norm(ref)))
+        ref = np.array([n[1], -n[0], 0.0])
+        ref = ref / np.linalg.norm(ref) if np.linalg.norm(ref) > 1e-12 else np.array([1.0, 0, 0])
+        plane = self.f.createIfcPlane(self.axes(point, n, ref))
         half = self.f.createIfcHalfSpaceSolid(plane, False)  # material below the plane
         return self.f.createIfcBooleanClippingResult("DIFFERENCE", solid, half)
+
+    def properties(self, values: dict) -> list:
+        """IfcPropertySingleValue of each (IFC type, value) that is not None."""
+        f = self.f
+        return [f.createIfcPropertySingleValue(name, None, f.create_entity(kind, v), None)
+                for name, (kind, v) in values.items() if v is not None]
+
+    def quantities(self, values: dict) -> list:
+        """IfcQuantityLength/Area/Volume of each (kind, value), finite ones only."""
+        f = self.f
+        return [f.create_entity(f"IfcQuantity{kind}", name, None, None, float(v), None)
+                for name, (kind, v) in values.items() if v is not None and math.isfinite(v)]
 
 
 def write_ifc(result, path) -> None:
@@ -240,10 +268,10 @@ def write_ifc(result, path) -> None:
                  "(IfcMapConversion)")
     else:
         where = "Model x: the chainage along a straight wall line (no plan positions given)"
-    sides = {r.side for r in result.runs}
+    sides = sorted({r.side for r in result.runs})
     side_rule = "; ".join(
         f"{s} runs retain on the {'left' if retained_left(site_s, s) else 'right'} of "
-        "increasing chainage" for s in sorted(sides))
+        "increasing chainage" for s in sides)
     if not (site_s.profile_files.landxml and site_s.profile_files.offset_m != 0):
         side_rule += " (assumed: the profiles do not say on which side the ground is retained)"
     cautions = api.pset.add_pset(f, product=proj, name="Wallrun_Cautions")
@@ -253,25 +281,69 @@ def write_ifc(result, path) -> None:
         "Placement": f.createIfcText(where),
         "RetainedSide": f.createIfcText(side_rule or "no wall"),
         "JointGap": f.createIfcPositiveLengthMeasure(JOINT_GAP_M)})
-
     concrete = api.material.add_material(f, name=f"Concrete {site_s.concrete.strength_class}",
                                          category="concrete")
+
+    types = _section_types(m, result)
     starts = {j.right for j in result.joints}
     ends = {j.left for j in result.joints}
+    site_placement = site.ObjectPlacement
     products = []
+    typed: dict[str, list] = {}
     for pr in result.panels:
-        products.extend(_panel(m, body, line, pr, pr.panel.panel in starts,
-                               pr.panel.panel in ends))
+        wall, footing = _panel(m, body, line, site_placement, pr, pr.panel.panel in starts,
+                               pr.panel.panel in ends)
+        products += [wall, footing]
+        typed.setdefault(pr.section_type, []).append((wall, footing))
+    for name, pairs in typed.items():
+        wt, ft = types[name]
+        m.create("IfcRelDefinesByType", f"type/{name}/stem",
+                 RelatedObjects=[w for w, _ in pairs], RelatingType=wt)
+        m.create("IfcRelDefinesByType", f"type/{name}/footing",
+                 RelatedObjects=[ft_ for _, ft_ in pairs], RelatingType=ft)
     if products:
-        api.spatial.assign_container(f, products=products, relating_structure=site)
-        api.material.assign_material(f, products=products, type="IfcMaterial",
-                                     material=concrete)
+        m.create("IfcRelContainedInSpatialStructure", "contained", RelatedElements=products,
+                 RelatingStructure=site)
+        m.create("IfcRelAssociatesMaterial", "material",
+                 RelatedObjects=products + [t for pair in types.values() for t in pair],
+                 RelatingMaterial=concrete)
     f.write(str(path))
 
 
-def _panel(m, body, line, pr, joint_at_start: bool, joint_at_end: bool):
+def _section_types(m, result) -> dict:
+    """An IfcWallType and an IfcFootingType per section type, with the section's
+    dimensions in the property set ``Wallrun_SectionType``."""
+    out = {}
+    for st in result.section_types:
+        s = st.section
+        pset = m.create("IfcPropertySet", f"type/{st.section_type}/pset",
+                        Name="Wallrun_SectionType", HasProperties=m.properties({
+                            "SectionType": ("IfcLabel", st.section_type),
+                            "StemTop": ("IfcPositiveLengthMeasure", float(s.stem_top_m)),
+                            "StemBase": ("IfcPositiveLengthMeasure", float(s.stem_base_m)),
+                            "BaseWidth": ("IfcPositiveLengthMeasure", float(s.base_width_m)),
+                            "Toe": ("IfcLengthMeasure", float(s.toe_m)),
+                            "Heel": ("IfcLengthMeasure", float(s.heel_m)),
+                            "BaseThickness": ("IfcPositiveLengthMeasure",
+                                              float(s.base_thickness_m)),
+                            "KeyDepth": ("IfcLengthMeasure", float(s.key_depth_m)),
+                            "KeyWidth": ("IfcLengthMeasure", float(s.key_width_m)),
+                            "Governing": ("IfcLabel", st.governing or "none"),
+                            "Utilization": ("IfcRatioMeasure", float(st.utilization)
+                                            if math.isfinite(st.utilization) else None)}))
+        wt = m.create("IfcWallType", f"type/{st.section_type}/stem", Name=st.section_type,
+                      Description="retaining wall stem", HasPropertySets=[pset],
+                      ElementType="retaining wall stem", PredefinedType="USERDEFINED")
+        ft = m.create("IfcFootingType", f"type/{st.section_type}/footing",
+                      Name=st.section_type, Description="retaining wall base and key",
+                      HasPropertySets=[pset], PredefinedType="STRIP_FOOTING")
+        out[st.section_type] = (wt, ft)
+    return out
+
+
+def _panel(m, body, line, site_placement, pr, joint_at_start: bool, joint_at_end: bool):
     """The IfcWall and IfcFooting of one panel result."""
-    f, api = m.f, m.api
+    f = m.f
     pn, sec = pr.panel, pr.section
     prof = line.p
     s0 = float(prof.developed(pn.ch_start_m))
@@ -281,126 +353,110 @@ def _panel(m, body, line, pr, joint_at_start: bool, joint_at_end: bool):
     left = retained_left(m.result.site, pn.side)
     tb, B = sec.base_thickness_m, sec.base_width_m
     z_b = pn.founding_m + tb
-    hs = pn.retained_top_m - z_b
     z_top = max(pn.wall_top_start_m, pn.wall_top_end_m)
-    stem = stem_outline(sec.toe_m, tb, sec.stem_base_m, sec.stem_top_m, hs, z_top - z_b)
     dk, wk = max(sec.key_depth_m, 0.0), max(sec.key_width_m, 0.0)
-    footing = footing_outline(sec.toe_m, B, tb, dk, wk)
+    stem = m.profile(stem_outline(sec.toe_m, tb, sec.stem_base_m, sec.stem_top_m,
+                                  pn.retained_top_m - z_b, z_top - z_b))
+    footing = m.profile(footing_outline(sec.toe_m, B, tb, dk, wk))
 
     cuts = line.pieces(a, b)
     pts = line.xy(cuts)
-    # the element's frame: at the panel's start on the wall line, x along its first piece
+    # the element's frame: at the start of its concrete on the wall line, at the
+    # founding level, x along the first piece
     o = pts[0]
     d0 = pts[1] - pts[0]
     ex = d0 / np.hypot(*d0)
     rot = np.array([[ex[0], -ex[1]], [ex[1], ex[0]]])  # element -> model (plan)
-
-    def local(v):
-        return rot.T @ (np.asarray(v, dtype=float) - o)
+    local = (pts - o) @ rot  # rows: rot.T @ (p - o)
+    placement = f.createIfcLocalPlacement(
+        site_placement, m.axes((o[0], o[1], pn.founding_m), (0.0, 0.0, 1.0),
+                               (ex[0], ex[1], 0.0)))
 
     def zw(s):  # wall top at a length s along the panel (linear, design-basis 1)
         return pn.wall_top_start_m + (pn.wall_top_end_m - pn.wall_top_start_m) * (s - s0) / L
 
-    stem_items, foot_items = [], []
+    stems, feet = [], []
     for k in range(len(cuts) - 1):
-        A, Bp = local(pts[k]), local(pts[k + 1])
+        A, Bp = local[k], local[k + 1]
         d = Bp - A
         c = float(np.hypot(*d))
         u = d / c
         nl = np.array([-u[1], u[0]])
         start, along, across = (A, u, nl) if left else (Bp, -u, -nl)
-        stem_items.append((start, along, across, c, zw(cuts[k]), zw(cuts[k + 1]), A, Bp, u))
-        foot_items.append(m.extrusion(footing, (start[0], start[1], 0.0), along, across, c))
-    solids = []
-    for start, along, across, c, za, zb_, A, Bp, u in stem_items:
-        solid = m.extrusion(stem, (start[0], start[1], 0.0), along, across, c)
+        origin = (start[0], start[1], 0.0)
+        solid = m.extrusion(stem, origin, along, across, c)
+        za, zb_ = zw(cuts[k]), zw(cuts[k + 1])
         if abs(za - zb_) > 1e-9:
             slope = (zb_ - za) / c
             solid = m.clip_above(solid, (A[0], A[1], za - pn.founding_m),
                                  (-slope * u[0], -slope * u[1], 1.0))
-        solids.append(solid)
+        stems.append(solid)
+        feet.append(m.extrusion(footing, origin, along, across, c))
 
-    matrix = np.eye(4)
-    matrix[:2, :2] = rot
-    matrix[:2, 3] = o
-    matrix[2, 3] = pn.founding_m
-    out = []
     q = pr.quantities
-    for ifc_class, items, what, kw in (
-            ("IfcWall", solids, "stem", {"predefined_type": "USERDEFINED"}),
-            ("IfcFooting", foot_items, "footing", {"predefined_type": "STRIP_FOOTING"})):
-        e = m.entity(ifc_class, f"{pn.panel} {what}", f"{pn.panel}/{what}", **kw)
-        if ifc_class == "IfcWall":
-            e.ObjectType = "retaining wall stem"
-        e.Description = (f"{pn.panel} ({pr.section_type}), run {pn.run}, {pn.side}, "
-                         f"ch {pn.ch_start_m:.3f} to {pn.ch_end_m:.3f}")
-        api.geometry.edit_object_placement(f, product=e, matrix=matrix)
-        kind = "Clipping" if any(i.is_a("IfcBooleanClippingResult") for i in items) else "SweptSolid"
+    y0, y1 = pn.wall_top_start_m - z_b, pn.wall_top_end_m - z_b
+    v_foot = q.get("concrete_base", 0.0) + q.get("concrete_key", 0.0)
+    desc = (f"{pn.panel} ({pr.section_type}), run {pn.run}, {pn.side}, "
+            f"ch {pn.ch_start_m:.3f} to {pn.ch_end_m:.3f}")
+    out = []
+    for ifc_class, items, what, qto, values in (
+            ("IfcWall", stems, "stem", "Qto_WallBaseQuantities", {
+                "Length": ("Length", L), "Width": ("Length", sec.stem_base_m),
+                "Height": ("Length", z_top - z_b),
+                "GrossSideArea": ("Area", 0.5 * (y0 + y1) * L),
+                "NetSideArea": ("Area", 0.5 * (y0 + y1) * L),
+                "GrossVolume": ("Volume", q.get("concrete_stem")),
+                "NetVolume": ("Volume", q.get("concrete_stem"))}),
+            ("IfcFooting", feet, "footing", "Qto_FootingBaseQuantities", {
+                "Length": ("Length", L), "Width": ("Length", B), "Height": ("Length", tb),
+                "CrossSectionArea": ("Area", B * tb + dk * wk),
+                "GrossVolume": ("Volume", v_foot), "NetVolume": ("Volume", v_foot)})):
+        kind = "Clipping" if any(i.is_a("IfcBooleanClippingResult") for i in items) \
+            else "SweptSolid"
         rep = f.createIfcShapeRepresentation(body, "Body", kind, items)
-        api.geometry.assign_representation(f, product=e, representation=rep)
-        _design_pset(m, e, pr, left)
-        if ifc_class == "IfcWall":
-            y0, y1 = pn.wall_top_start_m - z_b, pn.wall_top_end_m - z_b
-            _qto(m, e, "Qto_WallBaseQuantities", {
-                "Length": L, "Width": sec.stem_base_m, "Height": z_top - z_b,
-                "GrossSideArea": 0.5 * (y0 + y1) * L, "NetSideArea": 0.5 * (y0 + y1) * L,
-                "GrossVolume": q.get("concrete_stem"), "NetVolume": q.get("concrete_stem")})
-            _qto(m, e, QTO_OWN, {"FormworkArea": q.get("formwork_stem"),
-                                 "WaterproofingArea": q.get("waterproofing")})
-        else:
-            v = q.get("concrete_base", 0.0) + q.get("concrete_key", 0.0)
-            _qto(m, e, "Qto_FootingBaseQuantities", {
-                "Length": L, "Width": B, "Height": tb, "CrossSectionArea": B * tb + dk * wk,
-                "GrossVolume": v, "NetVolume": v})
-            _qto(m, e, QTO_OWN, {"FormworkArea": q.get("formwork_base"),
-                                 "BlindingArea": q.get("blinding")})
+        shape = f.createIfcProductDefinitionShape(None, None, [rep])
+        e = m.create(ifc_class, f"{pn.panel}/{what}", Name=f"{pn.panel} {what}",
+                     Description=desc, ObjectPlacement=placement, Representation=shape,
+                     Tag=pn.panel, **({"ObjectType": "retaining wall stem",
+                                      "PredefinedType": "USERDEFINED"}
+                                     if ifc_class == "IfcWall"
+                                     else {"PredefinedType": "STRIP_FOOTING"}))
+        eq = m.create("IfcElementQuantity", f"{pn.panel}/{what}/qto", Name=qto,
+                      MethodOfMeasurement="wallrun take-off (net, along the wall line)",
+                      Quantities=m.quantities(values))
+        m.create("IfcRelDefinesByProperties", f"{pn.panel}/{what}/qto/rel",
+                 RelatedObjects=[e], RelatingPropertyDefinition=eq)
         out.append(e)
+    _design_pset(m, out, pr)
     return out
 
 
-def _qto(m, e, name, values) -> None:
-    vals = {k: float(v) for k, v in values.items() if v is not None and math.isfinite(v)}
-    if vals:
-        qto = m.api.pset.add_qto(m.f, product=e, name=name)
-        m.api.pset.edit_qto(m.f, qto=qto, properties=vals)
-
-
-def _design_pset(m, e, pr, left: bool) -> None:
-    f = m.f
-    pn, sec = pr.panel, pr.section
-
-    def length(v):
-        return f.createIfcLengthMeasure(float(v))
+def _design_pset(m, elements, pr) -> None:
+    """The property set ``Wallrun_PanelDesign`` of a panel, shared by its wall and
+    footing."""
+    pn = pr.panel
 
     def ratio(v):
-        return f.createIfcRatioMeasure(float(v)) if math.isfinite(v) else None
+        return ("IfcRatioMeasure", float(v) if math.isfinite(v) else None)
 
-    props = {
-        "Panel": f.createIfcLabel(pn.panel), "Run": f.createIfcInteger(int(pn.run)),
-        "Side": f.createIfcLabel(pn.side),
-        "RetainedSide": f.createIfcLabel("left" if left else "right"),
-        "SectionType": f.createIfcLabel(pr.section_type),
+    def length(v):
+        return ("IfcLengthMeasure", float(v))
+
+    props = m.properties({
+        "Panel": ("IfcLabel", pn.panel), "Run": ("IfcInteger", int(pn.run)),
+        "Side": ("IfcLabel", pn.side), "SectionType": ("IfcLabel", pr.section_type),
         "ChainageStart": length(pn.ch_start_m), "ChainageEnd": length(pn.ch_end_m),
         "LengthAlongWallLine": length(pn.length_m),
         "RetainedTop": length(pn.retained_top_m), "FrontMin": length(pn.front_min_m),
         "Founding": length(pn.founding_m), "WallTopStart": length(pn.wall_top_start_m),
         "WallTopEnd": length(pn.wall_top_end_m),
-        "RetainedHeight": length(pn.retained_height_m),
-        "TotalHeight": length(pn.total_height_m),
-        "StemTop": length(sec.stem_top_m), "StemBase": length(sec.stem_base_m),
-        "BaseWidth": length(sec.base_width_m), "Toe": length(sec.toe_m),
-        "Heel": length(sec.heel_m), "BaseThickness": length(sec.base_thickness_m),
-        "KeyDepth": length(sec.key_depth_m), "KeyWidth": length(sec.key_width_m),
         "UtilOverturning": ratio(pr.util("overturning")),
         "UtilSliding": ratio(pr.util("sliding")),
         "UtilBearing": ratio(pr.util("bearing")),
         "UtilStructural": ratio(pr.util(*STRUCTURAL_CHECKS)),
-        "Governing": f.createIfcLabel(pr.governing or "none"),
-        "Status": f.createIfcLabel(pr.status),
-        "Reason": f.createIfcText(pr.reason) if pr.reason else None,
-        "ConcreteOfPanel": f.createIfcVolumeMeasure(float(pr.concrete_m3)),
-        "SteelOfPanel": f.createIfcMassMeasure(float(pr.steel_kg)),
-    }
-    pset = m.api.pset.add_pset(f, product=e, name=PSET)
-    m.api.pset.edit_pset(f, pset=pset, properties={k: v for k, v in props.items()
-                                                   if v is not None})
+        "Governing": ("IfcLabel", pr.governing or "none"),
+        "Status": ("IfcLabel", pr.status),
+        "Reason": ("IfcText", pr.reason or None)})
+    pset = m.create("IfcPropertySet", f"{pn.panel}/design", Name=PSET, HasProperties=props)
+    m.create("IfcRelDefinesByProperties", f"{pn.panel}/design/rel",
+             RelatedObjects=list(elements), RelatingPropertyDefinition=pset)
