@@ -153,6 +153,8 @@ class Profiles:
     def length_along(self, a: float, b: float) -> float:
         """Length along the wall line between chainages ``a`` and ``b`` (m): equal to
         b - a without plan positions."""
+        if self.plan_s is None:
+            return float(b) - float(a)
         d = self.developed(np.array([a, b], dtype=float))
         return float(d[1] - d[0])
 

@@ -141,10 +141,12 @@ class BarMark:
 class Panel:
     """A panel's extent and levels (the level columns of ``panels.csv``), m.
 
-    ``length_m``: the panel's length along the wall line
-    (``wallrun.profile.Profiles.length_along``); when not given, the chainage
-    difference. On a LandXML site with a curved alignment the two differ: the
+    ``length_m``: the panel's length along the wall line: ``length_along_m`` when the
+    panel is built with it (``wallrun.profile.Profiles.length_along``), else the
+    chainage difference. On a LandXML site with a curved alignment the two differ: the
     chainages are the alignment's stations, the length is measured on the wall line.
+    (``dataclasses.replace`` that moves the chainages of a panel built with
+    ``length_along_m`` must give the new length too.)
     """
 
     panel: str
@@ -161,11 +163,14 @@ class Panel:
     backfill: Backfill
     surcharge_kpa: float
     water_level_m: float | None  # absolute, as used after capping at the backfill surface
-    length_m: float | None = None  # along the wall line; None: ch_end_m - ch_start_m
+    length_along_m: float | None = None  # along the wall line; None: the chainages'
 
-    def __post_init__(self):
-        if self.length_m is None:
-            object.__setattr__(self, "length_m", self.ch_end_m - self.ch_start_m)
+    @property
+    def length_m(self) -> float:
+        """Length along the wall line, m."""
+        if self.length_along_m is None:
+            return self.ch_end_m - self.ch_start_m
+        return self.length_along_m
 
     @property
     def retained_height_m(self) -> float:
