@@ -171,7 +171,8 @@ class _Model:
         self.result = result
         self.f = ifcopenshell.api.project.create_file(version="IFC4")
         self.key = result.site.project.name + "/" + result.site.project.reference
-        self.up = self.f.createIfcDirection((0.0, 0.0, 1.0))
+        self.shared: dict = {}  # equal items made once and referenced (this file only)
+        self.up = self.direction((0.0, 0.0, 1.0))
 
     def guid(self, what: str) -> str:
         """A GlobalId that stays the same for the same project and element."""
@@ -186,23 +187,39 @@ class _Model:
         """A rooted entity (GlobalId from ``what``) with ``attributes``."""
         return self.f.create_entity(ifc_class, GlobalId=self.guid(what), **attributes)
 
+    def once(self, key, make):
+        """The item made by ``make()`` for ``key``, made once per file: equal directions,
+        placements, profiles, properties and quantities are one instance referenced
+        wherever they recur (IFC allows a property or quantity in many sets)."""
+        item = self.shared.get(key)
+        if item is None:
+            item = self.shared[key] = make()
+        return item
+
     # geometry items
+    def direction(self, v):
+        v = tuple(round(float(c), 12) + 0.0 for c in v)
+        return self.once(("dir", v), lambda: self.f.createIfcDirection(v))
+
     def axes(self, origin, z, x):
-        f = self.f
-        return f.createIfcAxis2Placement3D(
-            f.createIfcCartesianPoint(tuple(float(c) for c in origin)),
-            f.createIfcDirection(tuple(float(c) for c in z)),
-            f.createIfcDirection(tuple(float(c) for c in x)))
+        o = tuple(round(float(c), 9) + 0.0 for c in origin)
+        return self.once(("axes", o, tuple(np.round(z, 12)), tuple(np.round(x, 12))),
+                         lambda: self.f.createIfcAxis2Placement3D(
+                             self.f.createIfcCartesianPoint(o), self.direction(z),
+                             self.direction(x)))
 
     def profile(self, outline):
         """A closed profile through the points (p, z) of ``outline``."""
-        f = self.f
-        pts = f.createIfcCartesianPointList2D([(float(p), float(z)) for p, z in outline])
-        curve = f.createIfcIndexedPolyCurve(pts, None, False)
-        # the closing segment: the index list returns to the first point
-        idx = list(range(1, len(outline) + 1)) + [1]
-        curve.Segments = [f.createIfcLineIndex(idx)]
-        return f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+        pts = tuple((round(float(p), 9) + 0.0, round(float(z), 9) + 0.0) for p, z in outline)
+
+        def make():
+            f = self.f
+            curve = f.createIfcIndexedPolyCurve(f.createIfcCartesianPointList2D(pts), None,
+                                                False)
+            # the closing segment: the index list returns to the first point
+            curve.Segments = [f.createIfcLineIndex(list(range(1, len(pts) + 1)) + [1])]
+            return f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+        return self.once(("profile", pts), make)
 
     def extrusion(self, profile, origin, along, across, depth):
         """``profile`` (p, z) swept ``depth`` along the unit vector ``along`` from
@@ -225,13 +242,15 @@ class _Model:
     def properties(self, values: dict) -> list:
         """IfcPropertySingleValue of each (IFC type, value) that is not None."""
         f = self.f
-        return [f.createIfcPropertySingleValue(name, None, f.create_entity(kind, v), None)
+        return [self.once(("prop", name, kind, v), lambda: f.createIfcPropertySingleValue(
+                    name, None, f.create_entity(kind, v), None))
                 for name, (kind, v) in values.items() if v is not None]
 
     def quantities(self, values: dict) -> list:
         """IfcQuantityLength/Area/Volume of each (kind, value), finite ones only."""
         f = self.f
-        return [f.create_entity(f"IfcQuantity{kind}", name, None, None, float(v), None)
+        return [self.once(("qty", name, kind, float(v)), lambda: f.create_entity(
+                    f"IfcQuantity{kind}", name, None, None, float(v), None))
                 for name, (kind, v) in values.items() if v is not None and math.isfinite(v)]
 
 
