@@ -18,6 +18,7 @@ import ifcopenshell.geom
 import ifcopenshell.util.element as ue
 import ifcopenshell.util.placement as up
 import ifcopenshell.util.shape as us
+import ifcopenshell.validate
 import matplotlib.tri as mtri
 import numpy as np
 import pytest
@@ -155,6 +156,14 @@ def test_one_wall_and_one_footing_per_panel(job, model):
     assert model.schema == "IFC4"
     (mc,) = model.by_type("IfcMapConversion")
     assert mc.TargetCRS.Name == "EPSG:27700"
+
+
+def test_model_is_valid_ifc4(model):
+    """ifcopenshell's validator: the schema (types, attributes, inverses, unique ids)
+    and the EXPRESS where-rules of IFC4."""
+    log = ifcopenshell.validate.json_logger()
+    ifcopenshell.validate.validate(model, log, express_rules=True)
+    assert log.statements == []
 
 
 def _volume(element) -> float:

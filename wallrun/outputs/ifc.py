@@ -316,9 +316,9 @@ def write_ifc(result, path) -> None:
         typed.setdefault(pr.section_type, []).append((wall, footing))
     for name, pairs in typed.items():
         wt, ft = types[name]
-        m.create("IfcRelDefinesByType", f"type/{name}/stem",
+        m.create("IfcRelDefinesByType", f"type/{name}/stem/rel",
                  RelatedObjects=[w for w, _ in pairs], RelatingType=wt)
-        m.create("IfcRelDefinesByType", f"type/{name}/footing",
+        m.create("IfcRelDefinesByType", f"type/{name}/footing/rel",
                  RelatedObjects=[ft_ for _, ft_ in pairs], RelatingType=ft)
     if products:
         m.create("IfcRelContainedInSpatialStructure", "contained", RelatedElements=products,
