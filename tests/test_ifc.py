@@ -242,3 +242,35 @@ def test_outlines_by_hand():
     f = footing_outline(0.6, 2.4, 0.4, 0.5, 0.4)
     assert np.allclose(f, [(-0.6, 0.0), (0.0, 0.0), (0.0, -0.5), (0.4, -0.5), (0.4, 0.0),
                            (1.8, 0.0), (1.8, 0.4), (-0.6, 0.4)])
+
+
+def test_csv_site_without_plan_positions_lies_along_chainage(tmp_path):
+    """Without x_m, y_m the model's x is the chainage on a straight line (y = 0) and
+    there is no georeference; the heel lies on the left (+y), as the model states."""
+    import wallrun
+    from wallrun.outputs.ifc import write_ifc
+
+    d = tmp_path / "site"
+    d.mkdir()
+    (d / "site.toml").write_text('[project]\nname = "Plain yard wall"\n[profiles]\n'
+                                 'ground = "g.csv"\nfinished = "f.csv"\n', encoding="utf-8")
+    (d / "g.csv").write_text("chainage_m,level_m\n100,20.0\n130,20.0\n", encoding="utf-8")
+    (d / "f.csv").write_text("chainage_m,level_m\n100,21.2\n130,21.8\n", encoding="utf-8")
+    r = wallrun.design(wallrun.load_site(d))
+    write_ifc(r, tmp_path / "model.ifc")
+    m = ifcopenshell.open(str(tmp_path / "model.ifc"))
+    assert m.by_type("IfcMapConversion") == ()
+    joints = {j.right for j in r.joints}
+    for pr in r.panels:
+        (w,) = [e for e in m.by_type("IfcWall") if e.Tag == pr.panel.panel]
+        p = up.get_local_placement(w.ObjectPlacement)
+        shift = JOINT_GAP_M / 2 if pr.panel.panel in joints else 0.0
+        assert p[:3, 3] == pytest.approx([pr.panel.ch_start_m + shift, 0.0,
+                                          pr.panel.founding_m], abs=1e-9)
+        assert _volume(w) == pytest.approx(pr.quantities["concrete_stem"], rel=0.005)
+        s = ifcopenshell.geom.settings()
+        s.set("use-world-coords", True)
+        (f,) = [e for e in m.by_type("IfcFooting") if e.Tag == pr.panel.panel]
+        v = us.get_vertices(ifcopenshell.geom.create_shape(s, f).geometry)
+        assert v[:, 1].max() == pytest.approx(pr.section.base_width_m - pr.section.toe_m)
+        assert v[:, 1].min() == pytest.approx(-pr.section.toe_m)
