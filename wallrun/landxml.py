@@ -486,17 +486,16 @@ def _read_root(path: Path, label: str):
     return root, qn.namespace
 
 
-def wall_line(h: HorizontalAlignment, offset: float, lo: float, hi: float, step: float,
-              extra=()) -> np.ndarray:
+def wall_line(h: HorizontalAlignment, offset: float, lo: float, hi: float,
+              step: float) -> np.ndarray:
     """Stations at which the wall line is sampled before the edge crossings are added:
     every element end and the chord-tolerance spacing on curves
-    (:meth:`HorizontalAlignment.sample_stations`), every multiple of ``step`` (m) when
-    step > 0, and ``extra``, within [lo, hi]."""
+    (:meth:`HorizontalAlignment.sample_stations`) and every multiple of ``step`` (m)
+    when step > 0, within [lo, hi]."""
     parts = [h.sample_stations(offset, CHORD_TOLERANCE_M, lo, hi)]
     if step > 0:
         k0, k1 = math.ceil(lo / step - 1e-9), math.floor(hi / step + 1e-9)
         parts.append(np.arange(k0, k1 + 1) * step)
-    parts.append(np.asarray(extra, dtype=float))
     s = np.concatenate(parts)
     s = np.unique(s[(s >= lo) & (s <= hi)])
     return _merge_close(s)
@@ -506,6 +505,20 @@ def _merge_close(s: np.ndarray, tol: float = 1e-9) -> np.ndarray:
     if s.size < 2:
         return s
     return s[np.concatenate([[True], np.diff(s) > tol])]
+
+
+def _levels_along(tin: Tin, sta, base, bx, by):
+    """Levels of ``tin`` at the stations ``sta`` of the wall line (positions linear
+    between the ``base`` stations' points bx, by), and the first station where the line
+    is off the surface (None when it never is): a breakpoint off it, or the breakpoint
+    before a piece whose middle is off it (the piece crosses the surface's edge there:
+    every edge crossing is a breakpoint)."""
+    z = tin.level_at(np.interp(sta, base, bx), np.interp(sta, base, by))
+    mid = 0.5 * (sta[:-1] + sta[1:])
+    zm = tin.level_at(np.interp(mid, base, bx), np.interp(mid, base, by))
+    off = [sta[k[0]] for k in (np.flatnonzero(np.isnan(z)), np.flatnonzero(np.isnan(zm)))
+           if k.size]
+    return z, (float(min(off)) if off else None)
 
 
 def read_landxml(path, label: str, files: ProfileFiles) -> LandXMLProfiles:
@@ -560,14 +573,13 @@ def read_landxml(path, label: str, files: ProfileFiles) -> LandXMLProfiles:
         raise InputError(f"{r.at(al)}: {what}: the wall line folds back on itself at station "
                          f"{tight[1]:.3f}: the offset reaches the centre of the curve there")
     lo, hi = h.sta_start, h.sta_end
-    extra: list[float] = []
     if vp is not None:
         lo, hi = max(lo, float(vp.sta[0])), min(hi, float(vp.sta[-1]))
         if not lo < hi:
             raise InputError(f"{r.at(al)}: {what}: ProfAlign '{files.finished_profile}' "
                              f"(stations {vp.sta[0]:.3f} to {vp.sta[-1]:.3f}) does not overlap "
                              f"the alignment (stations {h.sta_start:.3f} to {h.sta_end:.3f})")
-    base = wall_line(h, o, lo, hi, files.station_step_m, extra)
+    base = wall_line(h, o, lo, hi, files.station_step_m)
     bx, by = h.offset_xy(base, o)
     tins = [("ground_surface", ground)] + (
         [("finished_surface", finished_tin)] if finished_tin is not None else [])
@@ -583,22 +595,13 @@ def read_landxml(path, label: str, files: ProfileFiles) -> LandXMLProfiles:
     x, y = np.interp(sta, base, bx), np.interp(sta, base, by)
     levels = {}
     for key, tin in tins:
-        z = tin.level_at(x, y)
-        mid = 0.5 * (sta[:-1] + sta[1:])
-        zm = tin.level_at(np.interp(mid, base, bx), np.interp(mid, base, by))
-        off = np.flatnonzero(np.isnan(z))
-        offm = np.flatnonzero(np.isnan(zm))
-        if off.size or offm.size:
-            first = min([sta[off[0]]] if off.size else [math.inf],
-                        [sta[offm[0]]] if offm.size else [math.inf])[0]
-            name = getattr(files, key)
-            if first <= sta[0]:
-                msg = f"starts off the surface at station {first:.3f}"
-            else:
-                msg = f"leaves the surface at station {first:.3f}"
-            raise InputError(f"{label}: Surface '{name}' ([profiles] {key}): the wall line "
-                             f"({what}) {msg}; the surface must cover the wall line from "
-                             f"station {lo:.3f} to {hi:.3f}")
+        z, leaves = _levels_along(tin, sta, base, bx, by)
+        if leaves is not None:
+            msg = (f"starts off the surface at station {leaves:.3f}" if np.isnan(z[0])
+                   else f"leaves the surface at station {leaves:.3f}")
+            raise InputError(f"{label}: Surface '{getattr(files, key)}' ([profiles] {key}): "
+                             f"the wall line ({what}) {msg}; the surface must cover the wall "
+                             f"line from station {lo:.3f} to {hi:.3f}")
         levels[key] = z
     src = f"{label} (Surface '{files.ground_surface}')"
     g = ProfileData(chainage_m=sta, level_m=levels["ground_surface"], x_m=x, y_m=y,
