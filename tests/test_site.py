@@ -383,3 +383,11 @@ def test_strength_class_c20_25_is_designed(tmp_path, capsys):
 def test_strength_class_below_annex_e_minimum_is_refused(tmp_path, capsys):
     bad(tmp_path, capsys, "[concrete] strength_class: must be one of",
         toml=TOML + '\n[concrete]\nstrength_class = "C16/20"\n')
+
+
+def test_unmatched_quote_in_profile_is_a_clear_problem(tmp_path):
+    # a double quote left open runs the CSV reader to the end of the file: an input
+    # problem naming the file, not an internal error (found by test_fuzz_profile_reader)
+    with pytest.raises(InputError) as e:
+        load_site(make_site(tmp_path, ground='chainage_m,level_m\n0,"10\n10,10\n20,10\n'))
+    assert any(p.startswith("ground.csv: the rows cannot be read as CSV") for p in e.value.problems)

@@ -32,8 +32,11 @@ ALWAYS = (
 def not_checked(site) -> tuple[str, ...]:
     """What wallrun does not check for ``site`` (a ``wallrun.settings.Site``): the fixed
     list, plus each optional check the site leaves off or wallrun does not make yet.
-    Every output lists exactly this."""
-    return (OVERALL, SEISMIC, RESTRAINT, BENDS) + ALWAYS
+    Every output lists exactly this. Overall stability is checked where ``[ground]
+    overall_stability = true`` (design-basis section 9), and listed otherwise."""
+    overall_on = bool(getattr(getattr(site, "ground_model", None), "overall_stability", False))
+    optional = (() if overall_on else (OVERALL,)) + (SEISMIC, RESTRAINT, BENDS)
+    return optional + ALWAYS
 
 
 #: The list for a site with every optional check off (tests and documentation).

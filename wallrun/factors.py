@@ -19,6 +19,8 @@ class FactorSet:
     gQ: variable actions, unfavourable (favourable variable actions take 0).
     g_phi, g_c, g_cu: soil parameters tan phi', c', cu (A.2, A.4).
     gR_bearing, gR_sliding, gR_passive: resistances (A.5, A.13).
+    gR_slope: earth resistance for slopes and overall stability, gamma_R;e (A.14),
+    dividing the resisting moment of the ``overall`` check (design-basis section 9).
     gG_unfav_ground: unfavourable permanent *ground* actions (soil weight, earth and
     water pressure); equal to gG_unfav except in DA3, where gG_unfav is the A1 factor
     on structural (concrete) actions and the ground actions take the A2 value.
@@ -35,6 +37,7 @@ class FactorSet:
     gR_sliding: float = 1.0
     gR_passive: float = 1.0
     gG_unfav_ground: float | None = None
+    gR_slope: float = 1.0
 
     @property
     def gG_ground(self) -> float:
@@ -42,19 +45,19 @@ class FactorSet:
         return self.gG_unfav if self.gG_unfav_ground is None else self.gG_unfav_ground
 
 
-#: EN 1997-1 Annex A recommended values (Tables A.2, A.3, A.4, A.5, A.13).
+#: EN 1997-1 Annex A recommended values (Tables A.2, A.3, A.4, A.5, A.13, A.14).
 RECOMMENDED: dict[str, FactorSet] = {
     "EQU": FactorSet("EQU", 1.10, 0.90, 1.50, 1.25, 1.25, 1.40),
     "DA1-1": FactorSet("DA1-1", 1.35, 1.00, 1.50, 1.00, 1.00, 1.00, 1.0, 1.0, 1.0),
     "DA1-2": FactorSet("DA1-2", 1.00, 1.00, 1.30, 1.25, 1.25, 1.40, 1.0, 1.0, 1.0),
-    "DA2": FactorSet("DA2", 1.35, 1.00, 1.50, 1.00, 1.00, 1.00, 1.4, 1.1, 1.4),
+    "DA2": FactorSet("DA2", 1.35, 1.00, 1.50, 1.00, 1.00, 1.00, 1.4, 1.1, 1.4, gR_slope=1.1),
     "DA3": FactorSet("DA3", 1.35, 1.00, 1.30, 1.25, 1.25, 1.40, 1.0, 1.0, 1.0,
                      gG_unfav_ground=1.00),
 }
 
 #: Keys a ``[factors.<set>]`` table may give.
 OVERRIDE_KEYS = ("gG_unfav", "gG_fav", "gQ", "g_phi", "g_c", "g_cu",
-                 "gR_bearing", "gR_sliding", "gR_passive", "gG_unfav_ground")
+                 "gR_bearing", "gR_sliding", "gR_passive", "gG_unfav_ground", "gR_slope")
 #: The rule every override value is checked against: a partial factor, > 0 and <= 10.
 OVERRIDE_RULE = Rule("float", lo=0.0, hi=10.0, lo_open=True)
 

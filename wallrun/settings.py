@@ -245,8 +245,9 @@ class Design:
     sls_middle_third: bool = setting(True)
     crack_width_mm: float = setting(0.3, "choice", unit="mm", choices=(0.2, 0.3, 0.4),
                                     why="the columns of EN 1992-1-1 Table 7.3N")
-    sections: str = setting("bespoke", choices=("bespoke", "catalogue", "rationalised"))
-    max_types: int = setting(6, ge=1, le=100)
+    sections: str = setting("rationalised", choices=("rationalised", "bespoke", "catalogue"))
+    #: "auto": the number of types of least total cost; a whole number caps it.
+    max_types: int | str = setting("auto", "int_or_auto", ge=1, le=100)
     dimension_step_m: float = setting(0.05, unit="m", ge=0.01, le=0.5)
     #: A section passes at utilization <= max_utilization in every check (a margin below 1).
     max_utilization: float = setting(1.0, gt=0.5, le=1.0)
@@ -254,6 +255,23 @@ class Design:
     min_stem_m: float = setting(0.25, unit="m", ge=0.15, le=1.0)
     #: Least base thickness (common practice).
     min_base_m: float = setting(0.30, unit="m", ge=0.15, le=1.5)
+
+
+@dataclass(frozen=True)
+class GroundModel:
+    """``[ground]``: the ground around the wall for overall stability (design-basis
+    section 9; interfaces "Additions").
+
+    front_slope_deg: the front ground falls at this angle away from the toe, degrees
+    (0: horizontal). retained_crest_m: height above z_top at which the retained slope
+    (rising at the backfill's ``slope_deg``) flattens, m; None: it rises without limit.
+    overall_stability: check ``overall`` (EN 1997-1 11.5.1, Bishop's simplified
+    method); false: listed as not checked.
+    """
+
+    front_slope_deg: float = setting(0.0, unit="deg", ge=0, lt=90)
+    retained_crest_m: float | None = setting(None, "float_or_none", unit="m", ge=0, le=1000)
+    overall_stability: bool = setting(False)
 
 
 @dataclass(frozen=True)
@@ -266,6 +284,12 @@ class Takeoff:
     drainage_layer_thickness_m: float = setting(0.3, unit="m", ge=0, le=2)
     drain_pipe: bool = setting(True)  # perforated pipe at the heel along the run
     waterproofing: bool = setting(True)  # back face of the stem below the retained level
+    currency: str = setting("")  # shown beside every cost; empty: "cost units"
+
+    @property
+    def money(self) -> str:
+        """The unit of every cost: the currency given, else ``cost units``."""
+        return self.currency.strip() or "cost units"
 
 
 @dataclass(frozen=True)
@@ -346,6 +370,7 @@ class Site:
     factors: dict[str, FactorSet] = field(default_factory=dict)
     takeoff: Takeoff = Takeoff()
     drawings: Drawings = Drawings()
+    ground_model: GroundModel = GroundModel()  # [ground] (``ground`` is the profile)
     catalogue: tuple[CatalogueSection, ...] | None = None
     rates: tuple[Rate, ...] | None = None  # None: the invented demo rates are used
     warnings: tuple[str, ...] = ()

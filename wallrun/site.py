@@ -48,8 +48,9 @@ from wallrun.rules import g as _g
 from wallrun.rules import nearest as _nearest
 from wallrun.rules import show as _show
 from wallrun.settings import (AlignmentPoint, Backfill, CatalogueSection, Concrete, Design,
-                              Drawings, Foundation, FoundationZone, Loads, ProfileData,
-                              ProfileFiles, Project, Rate, Site, Steel, Takeoff, Wall, Water)
+                              Drawings, Foundation, FoundationZone, GroundModel, Loads,
+                              ProfileData, ProfileFiles, Project, Rate, Site, Steel, Takeoff,
+                              Wall, Water)
 
 SITE_FILE = "site.toml"
 SECTIONS_FILE = "sections.csv"
@@ -75,7 +76,8 @@ FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
 #: key (``wallrun.rules.setting``) and its ``problems()`` the rules between keys.
 CLASSES = {"project": Project, "profiles": ProfileFiles, "wall": Wall, "backfill": Backfill,
            "foundation": Foundation, "water": Water, "loads": Loads, "concrete": Concrete,
-           "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings}
+           "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings,
+           "ground": GroundModel}
 #: Key rules per table, taken from those dataclasses.
 SPEC: dict[str, dict[str, Rule]] = {name: rules_of(cls) for name, cls in CLASSES.items()}
 #: Sub-tables allowed beside the keys of a table.
@@ -238,8 +240,13 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
     if not ok:
         return None
     body = "\n".join([htext] + [t for _, t in data])
-    df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
-                     skipinitialspace=True, skip_blank_lines=False)
+    try:
+        df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
+                         skipinitialspace=True, skip_blank_lines=False)
+    except pd.errors.ParserError as e:  # e.g. a double quote left open across lines
+        pr.add(f"{label}: the rows cannot be read as CSV ({str(e).strip()}); look for an "
+               "unmatched double quote")
+        return None
     df.columns = header
     mapped = [f"{r} -> {c}" for r, c in zip(raw, header) if r != c]
     if mapped:
@@ -847,6 +854,7 @@ def load_site(path) -> Site:
         factors=resolved,
         takeoff=Takeoff(**vals.get("takeoff", {})),
         drawings=Drawings(**vals.get("drawings", {})),
+        ground_model=GroundModel(**vals.get("ground", {})),
         catalogue=catalogue,
         rates=rates,
         warnings=tuple(warn),
