@@ -220,7 +220,7 @@ def test_placements_on_the_wall_line(job, model):
     # that a straight piece may depart from the curve
     s = ifcopenshell.geom.settings()
     s.set("use-world-coords", True)
-    for name, f in feet.items():
+    for f in feet.values():
         v = us.get_vertices(ifcopenshell.geom.create_shape(s, f).geometry)
         x, y = v[:, 0] + mc.Eastings, v[:, 1] + mc.Northings
         on_arc = x > CENTRE[0]

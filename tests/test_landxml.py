@@ -239,13 +239,13 @@ def test_millimetre_units_and_crs(tmp_path):
     (site_toml(ground="g.csv"), "[profiles] ground: give either the CSV profiles"),
     (site_toml(alignment=None), "[profiles] alignment: required with landxml"),
     (site_toml(finished_surface=None), "[profiles] finished_surface: required with landxml"),
-    (site_toml(finished_profile="P"), "[profiles] finished_profile: give either "
-                                      "finished_surface or finished_profile"),
-    (site_toml(finished_crossfall=0.02), "[profiles] finished_crossfall: applies to "
-                                         "finished_profile only"),
+    (site_toml(finished_profile="P"), ("[profiles] finished_profile: give either "
+                                       "finished_surface or finished_profile")),
+    (site_toml(finished_crossfall=0.02), ("[profiles] finished_crossfall: applies to "
+                                          "finished_profile only")),
     (site_toml(offset_m=2000.0), "[profiles] offset_m: must be >= -1000 and <= 1000"),
-    ("[project]\nname = \"x\"\n[profiles]\nground = \"g.csv\"\nfinished = \"f.csv\"\n"
-     "offset_m = 2.0\n", "[profiles] offset_m: applies to a LandXML source only"),
+    (("[project]\nname = \"x\"\n[profiles]\nground = \"g.csv\"\nfinished = \"f.csv\"\n"
+      "offset_m = 2.0\n"), "[profiles] offset_m: applies to a LandXML source only"),
     ("[project]\nname = \"x\"\n[profiles]\nfinished = \"f.csv\"\n",
      "[profiles] ground: required key is missing"),
 ])

@@ -46,6 +46,7 @@ Readings (also in ``docs/basis-readings.md``):
 
 from __future__ import annotations
 
+import itertools
 import math
 import uuid
 
@@ -137,7 +138,7 @@ class _Line:
             if not self.plan or n >= 256:
                 return s
             worst = 0.0
-            for s0, s1 in zip(s[:-1], s[1:]):
+            for s0, s1 in itertools.pairwise(s):
                 q = self.xy(np.linspace(s0, s1, 17))
                 d = q[-1] - q[0]
                 c = math.hypot(*d)
@@ -242,15 +243,17 @@ class _Model:
     def properties(self, values: dict) -> list:
         """IfcPropertySingleValue of each (IFC type, value) that is not None."""
         f = self.f
-        return [self.once(("prop", name, kind, v), lambda: f.createIfcPropertySingleValue(
-                    name, None, f.create_entity(kind, v), None))
+        return [self.once(("prop", name, kind, v),
+                          lambda n=name, k=kind, v=v: f.createIfcPropertySingleValue(
+                              n, None, f.create_entity(k, v), None))
                 for name, (kind, v) in values.items() if v is not None]
 
     def quantities(self, values: dict) -> list:
         """IfcQuantityLength/Area/Volume of each (kind, value), finite ones only."""
         f = self.f
-        return [self.once(("qty", name, kind, float(v)), lambda: f.create_entity(
-                    f"IfcQuantity{kind}", name, None, None, float(v), None))
+        return [self.once(("qty", name, kind, float(v)),
+                          lambda n=name, k=kind, v=v: f.create_entity(
+                              f"IfcQuantity{k}", n, None, None, float(v), None))
                 for name, (kind, v) in values.items() if v is not None and math.isfinite(v)]
 
 
