@@ -16,6 +16,8 @@ from wallrun.errors import InputError
 from wallrun.settings import Backfill, Design, Foundation, Steel, Wall
 from wallrun.site import _Problems, load_site, read_profile
 
+from refused import assert_refused, snapshot
+
 MALFORMED = Path(__file__).parent / "malformed"
 SITES = Path(__file__).parent.parent / "sites"
 
@@ -40,29 +42,11 @@ def make_site(tmp_path: Path, toml: str = TOML, ground: str = GROUND,
     return d
 
 
-def snapshot(folder: Path) -> dict:
-    return {str(p.relative_to(folder)): (p.stat().st_mtime_ns, p.read_bytes())
-            for p in sorted(folder.rglob("*")) if p.is_file()}
-
-
 def bad(tmp_path, capsys, *fragments, **site_files):
     """The site fails `check` and `design` with exit 2, every fragment appears in the
     messages, no traceback, and nothing is written or changed."""
-    d = make_site(tmp_path, **site_files)
-    before = snapshot(d)
-    assert main(["check", str(d)]) == 2
-    err = capsys.readouterr().err
-    for f in fragments:
-        assert f in err, (f, err)
-    assert "Traceback" not in err
-    out = tmp_path / "out"
-    assert main(["design", str(d), "--out", str(out), "--quiet"]) == 2
-    err2 = capsys.readouterr().err
-    for f in fragments:
-        assert f in err2
-    assert not out.exists()
-    assert snapshot(d) == before
-    return err
+    return assert_refused(make_site(tmp_path, **site_files), tmp_path / "out", capsys,
+                          *fragments)
 
 
 # --- the bad inputs of issue 2, one test each ------------------------------------------

@@ -100,11 +100,12 @@ def joint_state(ext_l: pn.Extent, d_l: SizedDesign, ext_r: pn.Extent, d_r: Sized
     return JointState(fig, tuple(pn.joint_problems(fig, wall)))
 
 
-def first_slots(run, site: Site) -> list[Slot]:
+def first_slots(run, site: Site, profiles=None) -> list[Slot]:
     """The panels of a run before any joint is cured: cut at every foundation-zone
-    boundary, each piece into equal panels of at most ``max_panel_length_m``."""
+    boundary, each piece into equal panels of at most ``max_panel_length_m`` (measured
+    along the wall line with ``profiles``: ``panels.cut_points``)."""
     bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
-    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, site.wall)
+    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, site.wall, profiles)
     return [Slot(run.run, run.side, a, b) for a, b in zip(pts[:-1], pts[1:])]
 
 
@@ -116,7 +117,7 @@ def lay_out(profiles, runs, site: Site, design_many, slots=None,
     (default the first cut). ``tick(done, total)``: progress by joints settled.
     """
     wall = site.wall
-    slots = {r.run: list(slots[r.run]) if slots else first_slots(r, site) for r in runs}
+    slots = {r.run: list(slots[r.run]) if slots else first_slots(r, site, profiles) for r in runs}
     ext_cache: dict[tuple, pn.Extent] = {}
     failed: set[tuple] = set()  # (run, a, b, cure) that left the panel without a section
 

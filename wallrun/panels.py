@@ -61,19 +61,31 @@ class Extent:
         return self.ch_end - self.ch_start
 
 
-def cut_points(ch_start: float, ch_end: float, zone_bounds, wall) -> list[float]:
+def cut_points(ch_start: float, ch_end: float, zone_bounds, wall, profiles=None) -> list[float]:
     """Panel ends of one run, m (design-basis section 1).
 
     The run is cut at every foundation-zone boundary strictly inside it; each piece of
     length L is cut into ``n = ceil(L / max_panel_length_m)`` equal panels (a piece
     shorter than ``min_panel_length_m`` is one panel, which ceil already gives).
+
+    With ``profiles`` (a ``wallrun.profile.Profiles``), L and the equal parts are
+    measured along the wall line (``Profiles.developed``), so that no panel is longer
+    than ``max_panel_length_m`` where the wall line is longer than its chainage (an
+    offset line outside a curve); the ends are returned as chainages. Without plan
+    positions the length is the chainage difference, cut as above.
     """
     inner = sorted({float(b) for b in zone_bounds if ch_start + _EPS < b < ch_end - _EPS})
     ends = [ch_start, *inner, ch_end]
     pts = [ch_start]
     for a, b in zip(ends[:-1], ends[1:]):
-        n = max(1, int(np.ceil((b - a) / wall.max_panel_length_m - _EPS)))
-        pts.extend(a + (b - a) * k / n for k in range(1, n + 1))
+        if profiles is None or profiles.plan_s is None:
+            n = max(1, int(np.ceil((b - a) / wall.max_panel_length_m - _EPS)))
+            pts.extend(a + (b - a) * k / n for k in range(1, n + 1))
+            continue
+        sa, sb = (float(v) for v in profiles.developed(np.array([a, b])))
+        n = max(1, int(np.ceil((sb - sa) / wall.max_panel_length_m - _EPS)))
+        inside = profiles.chainage_at(sa + (sb - sa) * np.arange(1, n) / n)
+        pts.extend([*(float(c) for c in np.atleast_1d(inside)), b])
     return pts
 
 

@@ -243,7 +243,8 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
                 founding_m=float(d.z_found), wall_top_start_m=ext.wall_top_start,
                 wall_top_end_m=ext.wall_top_end, foundation=dem.foundation,
                 backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,
-                water_level_m=water_level_used(dem, d, site.backfill.slope_deg))
+                water_level_m=water_level_used(dem, d, site.backfill.slope_deg),
+                length_along_m=profiles.length_along(ext.ch_start, ext.ch_end))
             rows.append((panel, d, dem, pn.mean_front_level(profiles, lay.run.side,
                                                              ext.ch_start, ext.ch_end)))
             names.append(panel.panel)

@@ -102,7 +102,14 @@ class Profiles:
     unique chainages within ``[ch_start, ch_end]`` of the survey points, the finished
     points (for an alignment: its intersection points without a curve, each curve's
     ends and its high or low point). ``plan_line``: the wall line in plan (from the
-    ground profile's ``x_m,y_m``, else the finished profile's) or None.
+    ground profile's ``x_m,y_m``, else the finished profile's) or None; ``plan_s``: the
+    length along it from its first point to each plan point (m).
+
+    Length along the wall line (:meth:`developed`, :meth:`length_along`): with plan
+    positions, the length of the plan polyline (positions linear in chainage between
+    the plan points, so the length is too); without them, the chainage difference.
+    On a LandXML site the chainage is the alignment's station and the wall line, at an
+    offset from a curved alignment, is longer or shorter than the station difference.
     """
 
     ground_ch: np.ndarray
@@ -117,6 +124,7 @@ class Profiles:
     plan_x: np.ndarray | None = None
     plan_y: np.ndarray | None = None
     plan_line: LineString | None = field(default=None)
+    plan_s: np.ndarray | None = None
 
     def ground(self, ch) -> np.ndarray:
         """Existing ground level G(ch), m: linear between survey points."""
@@ -132,6 +140,33 @@ class Profiles:
             return None
         ch = np.asarray(ch, dtype=float)
         return (np.interp(ch, self.plan_ch, self.plan_x), np.interp(ch, self.plan_ch, self.plan_y))
+
+    def developed(self, ch) -> np.ndarray:
+        """Length along the wall line from ``ch_start`` to ``ch`` (m, vectorised): the
+        plan polyline's length where the profiles carry x, y, else ch - ch_start."""
+        ch = np.asarray(ch, dtype=float)
+        if self.plan_s is None:
+            return ch - self.ch_start
+        s = np.interp(ch, self.plan_ch, self.plan_s)
+        return s - float(np.interp(self.ch_start, self.plan_ch, self.plan_s))
+
+    def length_along(self, a: float, b: float) -> float:
+        """Length along the wall line between chainages ``a`` and ``b`` (m): equal to
+        b - a without plan positions."""
+        if self.plan_s is None:
+            return float(b) - float(a)
+        d = self.developed(np.array([a, b], dtype=float))
+        return float(d[1] - d[0])
+
+    def chainage_at(self, s) -> np.ndarray:
+        """The chainage at a length ``s`` along the wall line from ``ch_start`` (m): the
+        inverse of :meth:`developed` (where the plan polyline has no zero-length piece;
+        otherwise, and without plan positions, ch_start + s)."""
+        s = np.asarray(s, dtype=float)
+        if self.plan_s is None or not np.all(np.diff(self.plan_s) > 0):
+            return self.ch_start + s
+        s0 = float(np.interp(self.ch_start, self.plan_ch, self.plan_s))
+        return np.interp(s + s0, self.plan_s, self.plan_ch)
 
     def curve_at(self, a: float, b: float) -> Curve | None:
         """The vertical curve holding the piece ``[a, b]`` between two breakpoints, if any."""
@@ -172,7 +207,7 @@ def build_profiles(site) -> Profiles:
     bp = bp[(bp >= lo) & (bp <= hi)]
     bp = _unique(bp)
 
-    plan_ch = plan_x = plan_y = None
+    plan_ch = plan_x = plan_y = plan_s = None
     line = None
     src = g if g.x_m is not None else (site.finished if site.finished is not None
                                        and site.finished.x_m is not None else None)
@@ -181,9 +216,12 @@ def build_profiles(site) -> Profiles:
         plan_x = np.asarray(src.x_m, dtype=float)
         plan_y = np.asarray(src.y_m, dtype=float)
         line = LineString(np.column_stack([plan_x, plan_y]))
+        plan_s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(plan_x),
+                                                           np.diff(plan_y)))])
     return Profiles(ground_ch=gch, ground_level=glv, finished_ch=fch, finished_level=flv,
                     curves=curves, ch_start=float(lo), ch_end=float(hi), breakpoints=bp,
-                    plan_ch=plan_ch, plan_x=plan_x, plan_y=plan_y, plan_line=line)
+                    plan_ch=plan_ch, plan_x=plan_x, plan_y=plan_y, plan_line=line,
+                    plan_s=plan_s)
 
 
 def _unique(a: np.ndarray) -> np.ndarray:

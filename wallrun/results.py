@@ -152,7 +152,15 @@ class BarMark:
 
 @dataclass(frozen=True)
 class Panel:
-    """A panel's extent and levels (the level columns of ``panels.csv``), m."""
+    """A panel's extent and levels (the level columns of ``panels.csv``), m.
+
+    ``length_m``: the panel's length along the wall line: ``length_along_m`` when the
+    panel is built with it (``wallrun.profile.Profiles.length_along``), else the
+    chainage difference. On a LandXML site with a curved alignment the two differ: the
+    chainages are the alignment's stations, the length is measured on the wall line.
+    (``dataclasses.replace`` that moves the chainages of a panel built with
+    ``length_along_m`` must give the new length too.)
+    """
 
     panel: str
     run: int
@@ -168,10 +176,14 @@ class Panel:
     backfill: Backfill
     surcharge_kpa: float
     water_level_m: float | None  # absolute, as used after capping at the backfill surface
+    length_along_m: float | None = None  # along the wall line; None: the chainages'
 
     @property
     def length_m(self) -> float:
-        return self.ch_end_m - self.ch_start_m
+        """Length along the wall line, m."""
+        if self.length_along_m is None:
+            return self.ch_end_m - self.ch_start_m
+        return self.length_along_m
 
     @property
     def retained_height_m(self) -> float:

@@ -26,19 +26,75 @@ class Project:
 
 @dataclass(frozen=True)
 class ProfileFiles:
-    """``[profiles]``: the files the two profiles are read from (inside the site folder)."""
+    """``[profiles]``: where the two profiles come from (files inside the site folder).
 
-    ground: str = setting("", required=True, nonempty=True)
+    Either the CSV profiles ``ground`` and ``finished`` (or ``[[profiles.
+    finished_alignment]]``), or a LandXML 1.2 file ``landxml``: the wall line is the
+    ``alignment`` at ``offset_m`` (m, + right of increasing station); the ground is the
+    TIN ``ground_surface`` sampled along it; the finished level is the TIN
+    ``finished_surface`` or the ``finished_profile`` (a ProfAlign of the alignment) plus
+    ``offset_m x finished_crossfall`` (m/m, + rising to the right); ``station_step_m`` >
+    0 adds a sample every step (m) to the edge crossings.
+    """
+
+    ground: str = setting("", nonempty=True)
     finished: str = setting("", nonempty=True)  # or [[profiles.finished_alignment]]
+    landxml: str = setting("", nonempty=True)
+    alignment: str = setting("", nonempty=True)
+    offset_m: float = setting(0.0, unit="m", ge=-1000, le=1000)
+    ground_surface: str = setting("", nonempty=True)
+    finished_surface: str = setting("", nonempty=True)
+    finished_profile: str = setting("", nonempty=True)
+    finished_crossfall: float = setting(0.0, unit="m/m", ge=-0.5, le=0.5)
+    station_step_m: float = setting(0.0, unit="m", ge=0, le=10000)
+
+    #: Keys that only a LandXML source reads.
+    LANDXML_KEYS = ("alignment", "ground_surface", "finished_surface", "finished_profile")
+
+    def problems(self) -> list[tuple[str, str]]:
+        """Rules between keys: (key, problem). CSV profiles or a LandXML file, never
+        both; with LandXML the alignment, the ground surface and exactly one of the
+        finished surface and the finished profile; without it none of the LandXML keys
+        (a non-zero ``offset_m``, ``finished_crossfall`` or ``station_step_m`` counts
+        as given)."""
+        out = []
+        if self.landxml:
+            for key in ("ground", "finished"):
+                if getattr(self, key):
+                    out.append((key, "give either the CSV profiles (ground, finished) or "
+                                     "landxml, not both"))
+            for key in ("alignment", "ground_surface"):
+                if not getattr(self, key):
+                    out.append((key, "required with landxml: the name of the LandXML "
+                                     + ("Alignment" if key == "alignment" else "Surface")))
+            if self.finished_surface and self.finished_profile:
+                out.append(("finished_profile", "give either finished_surface or "
+                                                "finished_profile, not both"))
+            elif not self.finished_surface and not self.finished_profile:
+                out.append(("finished_surface", "required with landxml: give "
+                                                "finished_surface (a Surface) or "
+                                                "finished_profile (a ProfAlign)"))
+            if self.finished_crossfall != 0 and not self.finished_profile:
+                out.append(("finished_crossfall", "applies to finished_profile only"))
+        else:
+            if not self.ground:
+                out.append(("ground", "required key is missing (or give landxml)"))
+            given = [k for k in self.LANDXML_KEYS if getattr(self, k)]
+            given += [k for k in ("offset_m", "finished_crossfall", "station_step_m")
+                      if getattr(self, k) != 0]
+            for key in given:
+                out.append((key, "applies to a LandXML source only: give landxml"))
+        return out
 
 
 @dataclass(frozen=True)
 class ProfileData:
-    """A levelled profile along the wall line, as read from a CSV file.
+    """A levelled profile along the wall line, as read from a CSV file or sampled from
+    a LandXML surface.
 
-    ``chainage_m`` strictly increasing; ``x_m``/``y_m`` plan position or None.
-    ``source`` is the file name (for messages); ``lines`` the CSV line number of
-    each point (1-based, header is line 1 or later).
+    ``chainage_m`` strictly increasing; ``x_m``/``y_m`` plan position (east, north) or
+    None. ``source`` names the file (for messages); ``lines`` the CSV line number of
+    each point (1-based, header is line 1 or later; empty for LandXML).
     """
 
     chainage_m: np.ndarray
@@ -352,6 +408,8 @@ class Site:
     rates: tuple[Rate, ...] | None = None  # None: the invented demo rates are used
     warnings: tuple[str, ...] = ()
     seismic: Seismic | None = None  # [seismic]; None: no seismic design situation
+    profile_files: ProfileFiles = ProfileFiles()  # [profiles] as read
+    crs: str = ""  # the coordinate reference system of x_m, y_m when the source names it
 
     @property
     def basis(self) -> Basis:

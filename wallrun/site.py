@@ -1,7 +1,9 @@
 """Read and validate a site folder into a frozen :class:`wallrun.settings.Site`.
 
 The site folder (``shared/interfaces.md``) holds ``site.toml`` (read with ``tomllib``),
-the two profile CSVs and the optional ``sections.csv`` and ``rates.csv`` (read with
+the two profile CSVs (columns ``chainage_m,level_m[,x_m,y_m]``, also the common
+spellings of :data:`PROFILE_ALIASES`, noted in the warnings) or a LandXML file (read by
+:mod:`wallrun.landxml`), and the optional ``sections.csv`` and ``rates.csv`` (read with
 pandas). Everything is validated: types, physical ranges, allowed words, unknown keys
 (with the nearest known one suggested), cross-checks between settings and between the
 two profiles. Every problem is collected and raised together as one
@@ -40,6 +42,7 @@ import pandas as pd
 
 from wallrun import factors as _factors
 from wallrun.errors import InputError
+from wallrun.landxml import read_landxml
 from wallrun.rules import Rule, check_value, rules_of
 from wallrun.rules import g as _g
 from wallrun.rules import nearest as _nearest
@@ -163,16 +166,37 @@ def _read_lines(path: Path, label: str, pr: _Problems) -> list[tuple[int, str]] 
             if t.strip() and not t.lstrip().startswith("#")]
 
 
+#: Other spellings of the profile columns, read case-insensitively (the canonical names
+#: too): what survey and road-design exports commonly write.
+PROFILE_ALIASES = {"chainage": "chainage_m", "station": "chainage_m", "level": "level_m",
+                   "elevation": "level_m", "easting": "x_m", "northing": "y_m"}
+
+
+def _canonical(header: list[str], known: tuple[str, ...], aliases: dict[str, str]
+               ) -> list[str]:
+    """Each header name as the column it gives: a known name in any case, or an alias
+    (case-insensitive); other names unchanged."""
+    if not aliases:
+        return list(header)
+    lower = {k.lower(): k for k in known} | {a.lower(): c for a, c in aliases.items()}
+    return [lower.get(h.lower(), h) for h in header]
+
+
 def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
-           required: tuple[str, ...], optional: tuple[str, ...]
+           required: tuple[str, ...], optional: tuple[str, ...],
+           aliases: dict[str, str] | None = None
            ) -> tuple[pd.DataFrame, list[int]] | None:
-    """Header check and field counts, then the data rows as a DataFrame of text."""
+    """Header check and field counts, then the data rows as a DataFrame of text.
+
+    With ``aliases`` the header names are read case-insensitively and the aliases
+    stand for their columns; a note of the mapping goes to the warnings."""
     if not rows:
         pr.add(f"{label}: no header row; expected columns {','.join(required)}")
         return None
     hline, htext = rows[0]
-    header = [h.strip() for h in next(csv.reader([htext]))]
+    raw = [h.strip() for h in next(csv.reader([htext]))]
     known = required + optional
+    header = _canonical(raw, known, aliases or {})
     if not any(h in known for h in header):
         if all(_looks_numeric(h) for h in header if h):
             pr.add(f"{label}:{hline}: no header row; the first line holds numbers, "
@@ -188,9 +212,14 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
             pr.add(f"{label}:{hline}: unknown column '{h}'"
                    + (f"; did you mean '{hint}'?" if hint else f"; known columns: {','.join(known)}"))
             bad = True
-    for h in set(header):
+    for h in sorted(set(header), key=header.index):
         if header.count(h) > 1:
-            pr.add(f"{label}:{hline}: column '{h}' appears more than once")
+            given = [r for r, c in zip(raw, header) if c == h]
+            if len(set(given)) > 1:
+                pr.add(f"{label}:{hline}: columns {', '.join(repr(g) for g in given)} all "
+                       f"give '{h}'; keep one")
+            else:
+                pr.add(f"{label}:{hline}: column '{h}' appears more than once")
             bad = True
     for c in required:
         if c not in header:
@@ -219,6 +248,9 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
                "unmatched double quote")
         return None
     df.columns = header
+    mapped = [f"{r} -> {c}" for r, c in zip(raw, header) if r != c]
+    if mapped:
+        pr.warnings.append(f"{label}:{hline}: columns read as {', '.join(mapped)}")
     return df, [ln for ln, _ in data]
 
 
@@ -263,7 +295,7 @@ def read_profile(path: Path, label: str, pr: _Problems) -> ProfileData | None:
     rows = _read_lines(path, label, pr)
     if rows is None:
         return None
-    got = _frame(rows, label, pr, ("chainage_m", "level_m"), ("x_m", "y_m"))
+    got = _frame(rows, label, pr, ("chainage_m", "level_m"), ("x_m", "y_m"), PROFILE_ALIASES)
     if got is None:
         return None
     df, lines = got
@@ -632,7 +664,8 @@ def load_site(path) -> Site:
         if name not in doc:
             pr.table(name, "required table is missing")
 
-    # rules between keys, declared with each table's dataclass
+    # rules between keys, declared with each table's dataclass (a key already refused
+    # for its value is not refused again)
     for name, cls in CLASSES.items():
         if name in vals and hasattr(cls, "problems"):
             try:
@@ -640,7 +673,9 @@ def load_site(path) -> Site:
             except TypeError:
                 continue
             for key, msg in obj.problems():
-                pr.key(name, key, msg)
+                refused = f"{SITE_FILE}: [{name}] {key}: "
+                if not any(p.startswith(refused) for p in pr.items):
+                    pr.key(name, key, msg)
                 vals[name].pop(key, None)
     w = vals.get("wall", {})
     b = vals.get("backfill", {})
@@ -723,21 +758,41 @@ def load_site(path) -> Site:
     ptab = doc.get("profiles", {}) if isinstance(doc.get("profiles"), dict) else {}
     ground = finished = None
     alignment = None
-    if "ground" in pv:
-        gp = _profile_file(root_r, pv["ground"], "ground", pr)
-        if gp is not None:
-            ground = read_profile(gp, pv["ground"], pr)
+    crs = ""
     has_f, has_a = "finished" in ptab, "finished_alignment" in ptab
-    if has_f and has_a:
-        pr.table("profiles", "give either finished or [[profiles.finished_alignment]], not both")
-    elif not has_f and not has_a and "profiles" in doc:
-        pr.table("profiles", "give finished (a CSV file) or [[profiles.finished_alignment]]")
-    elif has_f and "finished" in pv:
-        fp = _profile_file(root_r, pv["finished"], "finished", pr)
-        if fp is not None:
-            finished = read_profile(fp, pv["finished"], pr)
-    elif has_a:
-        alignment = _read_alignment(ptab["finished_alignment"], pr)
+    if "landxml" in ptab:
+        if has_a:
+            pr.table("profiles", "give either landxml or [[profiles.finished_alignment]], "
+                                 "not both")
+        elif "landxml" in pv and all(k in pv for k in ("alignment", "ground_surface")) and (
+                "finished_surface" in pv or "finished_profile" in pv) and not (
+                "ground" in ptab or has_f):
+            lp = _profile_file(root_r, pv["landxml"], "landxml", pr)
+            if lp is not None:
+                try:
+                    got = read_landxml(lp, pv["landxml"], ProfileFiles(**pv))
+                except InputError as e:
+                    pr.items.extend(e.problems)
+                else:
+                    ground, finished, alignment = got.ground, got.finished, got.alignment
+                    crs = got.crs
+                    warn.extend(got.warnings)
+    else:
+        if "ground" in pv:
+            gp = _profile_file(root_r, pv["ground"], "ground", pr)
+            if gp is not None:
+                ground = read_profile(gp, pv["ground"], pr)
+        if has_f and has_a:
+            pr.table("profiles", "give either finished or [[profiles.finished_alignment]], "
+                                 "not both")
+        elif not has_f and not has_a and "profiles" in doc:
+            pr.table("profiles", "give finished (a CSV file) or [[profiles.finished_alignment]]")
+        elif has_f and "finished" in pv:
+            fp = _profile_file(root_r, pv["finished"], "finished", pr)
+            if fp is not None:
+                finished = read_profile(fp, pv["finished"], pr)
+        elif has_a:
+            alignment = _read_alignment(ptab["finished_alignment"], pr)
 
     if ground is not None and (finished is not None or alignment is not None):
         if finished is not None:
@@ -755,7 +810,8 @@ def load_site(path) -> Site:
             if gap:
                 pr.add(gap)
             _coverage_warnings(ground, f0, f1, what, warn)
-            _plan_warnings(ground, finished, lo, hi, warn)
+            if "landxml" not in pv:  # one wall line: its stations are not its length
+                _plan_warnings(ground, finished, lo, hi, warn)
             for z in zones:
                 if z.to_m <= lo or z.from_m >= hi:
                     warn.append(f"foundation zone ch {_g(z.from_m)}-{_g(z.to_m)} lies outside the "
@@ -834,4 +890,6 @@ def load_site(path) -> Site:
         rates=rates,
         warnings=tuple(warn),
         seismic=seismic,
+        profile_files=ProfileFiles(**pv),
+        crs=crs,
     )

@@ -44,7 +44,8 @@ def _write_sections_and_preview(result: DesignResult, folder: Path) -> None:
 
 
 def _write_the_rest(result: DesignResult, folder: Path) -> None:
-    from wallrun.outputs import dxf_elevation, dxf_plan, previews, report, tables, workbook
+    from wallrun.outputs import (dxf_elevation, dxf_plan, ifc, previews, profiles_csv, report,
+                                 tables, workbook)
     for name, render in tables.TABLES.items():
         _write_text(folder / name, render(result))
     workbook.write_workbook(result, folder / "schedule.xlsx")
@@ -52,6 +53,8 @@ def _write_the_rest(result: DesignResult, folder: Path) -> None:
     dxf_plan.write_plan(result, folder / "plan.dxf")
     previews.render_elevation_png(folder / "elevation.dxf", folder / "elevation.png")
     report.write_report(result, folder / "report.html")
+    profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
+    ifc.write_ifc(result, folder / "model.ifc")
 
 
 def _child(result, folder, conn) -> None:
