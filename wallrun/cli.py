@@ -371,7 +371,10 @@ def print_design_summary(result, out_dir) -> None:
 
     site = result.site
     panels = result.panels
-    length = sum(r.length_m for r in result.runs)
+    # along the wall line (on a curved LandXML wall line longer or shorter than the
+    # stations say)
+    length = (sum(p.panel.length_m for p in panels) if panels
+              else sum(r.length_m for r in result.runs))
     money = site.takeoff.money
     print(f"Site: {site.project.name}")
     print(f"Wall: {length:.2f} m in {len(result.runs)} run{'s' if len(result.runs) != 1 else ''}, "
