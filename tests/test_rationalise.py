@@ -142,3 +142,13 @@ def test_practical_count_per_ground():
         demand(h, foundation=Foundation(friction_angle_deg=26.0)) for h in (2.0, 2.2)]
     # ceil(1.9 / 0.5) = 4 on the first ground, 1 on the second
     assert rat.practical_count(ds) == 5
+
+
+def test_dominated_columns_are_left_out_without_changing_the_least_total():
+    rng = np.random.default_rng(7)
+    C = rng.uniform(10, 50, (6, 4))
+    C = np.hstack([C, C[:, :1] + 5.0, C[:, 1:2]])  # a dearer copy, an equal copy
+    keep = rat.undominated(C)
+    assert not keep[4] and not keep[5] and keep[0] and keep[1]
+    ch = rat.choose(C, 10.0, "auto")
+    assert ch.total == pytest.approx(rat.enumerate_sets(C, 10.0, 6)[0])

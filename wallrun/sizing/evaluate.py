@@ -329,6 +329,14 @@ class Evaluation:
         return tuple(CheckEntry(c.check, c.combination, c.case, e[k], r[k], c.unit, u[k],
                                 c.clause, k in gov) for k, c in enumerate(self.checks))
 
+    def stem_stop(self, i: int) -> float | None:
+        """Height above the top of the base where half the stem main bars of candidate i
+        stop, m (None: every bar full height): ``structure``'s curtailment."""
+        c = self.structure.stem_curtail_m
+        if c is None or not np.isfinite(c[i]):
+            return None
+        return float(c[i])
+
     def governing(self, i: int) -> tuple[str, str, float]:
         """(check, combination, utilization) of the worst check of candidate i."""
         if not len(self.checks):

@@ -42,7 +42,10 @@ from .conditions import Demand, Rows
 from .evaluate import Costing, SizedDesign
 
 #: Largest number of candidate types in the cost matrix.
-MAX_CANDIDATES = 60
+MAX_CANDIDATES = 40
+#: Seconds the integer program may take before the choice falls back to the dynamic
+#: programme (then reported as not proven least).
+MILP_SECONDS = 30.0
 #: Largest matrix (rows x columns) given to the integer program.
 MILP_MAX_CELLS = 200_000
 
@@ -129,6 +132,25 @@ def dp_by_count(cost: np.ndarray, order: np.ndarray, k_max: int):
     return best[:, n], assignment
 
 
+def undominated(cost: np.ndarray) -> np.ndarray:
+    """Mask of the columns no other column dominates (serves every row it serves at no
+    more cost; of equal columns the first is kept): a dominated column is never needed
+    in a least set, so leaving it out keeps the least total."""
+    T = cost.shape[1]
+    fin = np.isfinite(cost)
+    keep = np.ones(T, dtype=bool)
+    for t in range(T):
+        for u in range(T):
+            if u == t or not keep[u]:
+                continue
+            if (np.all(fin[fin[:, t], u]) and np.all(cost[fin[:, t], u] <= cost[fin[:, t], t] + 1e-9)
+                    and (u < t or not np.array_equal(fin[:, u], fin[:, t])
+                         or np.any(cost[fin[:, t], u] < cost[fin[:, t], t] - 1e-9))):
+                keep[t] = False
+                break
+    return keep
+
+
 def _total(cost: np.ndarray, cols, rate: float) -> float:
     if not cols:
         return math.inf
@@ -186,7 +208,7 @@ def milp_sets(cost: np.ndarray, rate: float, max_types: int):
     A = coo_matrix((vals, (rows, cols)), shape=(n + m + 1, nv)).tocsr()
     integrality = np.concatenate([np.ones(T), np.zeros(m)])
     res = milp(c, constraints=LinearConstraint(A, lo, hi), integrality=integrality,
-               bounds=Bounds(0, 1), options={"time_limit": 60.0})
+               bounds=Bounds(0, 1), options={"time_limit": MILP_SECONDS})
     if res.status != 0 or res.x is None:
         return None
     chosen = tuple(int(t) for t in np.flatnonzero(res.x[:T] > 0.5))
@@ -226,9 +248,11 @@ def choose(cost: np.ndarray, rate: float, max_types: int | str,
         a = assignment(k)
         cols = tuple(sorted(set(int(x) for x in a if x >= 0)))
     else:
-        got = milp_sets(sub, rate, k_cap) if sub.size <= MILP_MAX_CELLS else None
+        live = undominated(sub)
+        got = milp_sets(sub[:, live], rate, k_cap) if sub.size <= MILP_MAX_CELLS else None
         if got is not None:
-            method, exact, cols = "integer program", True, got[1]
+            method, exact = "integer program", True
+            cols = tuple(int(np.flatnonzero(live)[c]) for c in got[1])
         else:
             method = "dynamic programming (types not nested: not proven least)"
             best, assignment = dp_by_count(sub, order, k_cap)
@@ -283,7 +307,7 @@ def curtail_check(ev: ev_.Evaluation, i: int, cage: Reinforcement) -> str:
     evaluation made with its cage, else the reason: a panel whose own least stop
     (``structure``'s curtailment of the same bars, EN 1992-1-1 9.2.1.3 shift rule and
     8.4 anchorage) is higher than the type's cannot share its cage."""
-    own = ev.structure.reinforcement(i).stem_curtail_m
+    own = ev.stem_stop(i)
     stop = cage.stem_curtail_m
     if stop is None:
         return ""  # the type runs every stem bar full height
@@ -418,7 +442,7 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
     # 2. the cost matrix, bars chosen per demand
     rows_d = [uniq[k] for k in ok_rows]
     cost = np.full((len(rows_d), len(cands)), math.inf)
-    bars: dict[tuple[int, int], Reinforcement] = {}
+    bars: dict[tuple[int, int], tuple] = {}  # (row, type) -> (evaluation, its row)
     groups: dict[tuple, list[int]] = {}
     for r, d in enumerate(rows_d):
         groups.setdefault(d.ground_key, []).append(r)
@@ -436,7 +460,7 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
             okj = ev.ok[sl]
             cost[r] = np.where(okj, ev.cost[sl] * L[ok_rows[r]], math.inf)
             for t in np.flatnonzero(okj):
-                bars[(r, int(t))] = ev.structure.reinforcement(j * len(cands) + int(t))
+                bars[(r, int(t))] = (ev, j * len(cands) + int(t))
     order = np.argsort([own_of[d].cost_per_m for d in rows_d], kind="stable")
     cap = max_types if max_types != "auto" else practical_count(rows_d)
     ch = choose(cost, type_rate, cap, order=order)
@@ -449,7 +473,8 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
             continue
         names.append(f"S{len(names) + 1:02d}")
         sections.append(cands[t])
-        cages.append(envelope_bars([bars[(r, t)] for r in served]))
+        cages.append(envelope_bars([bars[(r, t)][0].structure.reinforcement(bars[(r, t)][1])
+                                    for r in served]))
     types = SectionSet(tuple(names), tuple(sections), tuple(cages))
     types = with_stops(types, rows_d, [ch.assign[r] for r in range(len(rows_d))], chosen,
                        basis, costing)
@@ -482,7 +507,7 @@ def with_stops(types: SectionSet, rows_d: list[Demand], assign: list[int], chose
             ev = ev_.evaluate(SectionArrays.of([sec] * len(ds)), Rows.of(ds, [1] * len(ds)),
                               ds[0], basis, costing, given=cage,
                               caps=ev_.caps_of(ds, [1] * len(ds)))
-            stops += [ev.structure.reinforcement(i).stem_curtail_m for i in range(len(ds))]
+            stops += [ev.stem_stop(i) for i in range(len(ds))]
         stop = None if (not stops or any(s is None for s in stops)) else max(stops)
         cages[j] = replace(cage, stem_curtail_m=stop)
     return SectionSet(types.names, types.sections, tuple(cages))
