@@ -282,3 +282,35 @@ def test_design_platform_edge_end_to_end(tmp_path, capsys):
     assert (out / "panels.csv").is_file() and (out / "design.json").is_file()
     assert snapshot(SITES / "platform-edge") == before
     assert "Concrete " in capsys.readouterr().out
+
+
+def test_console_summary_of_a_thousand_panel_job_stays_short(capsys):
+    # 1,000 panels of 40 types, 30 of them flagged, and 12 warnings: at most about 25
+    # lines, every line readable (issue: wall types a contractor can build, item 4)
+    from wallrun.cli import print_design_summary
+    site = SimpleNamespace(project=SimpleNamespace(name="Long invented wall"),
+                           takeoff=SimpleNamespace(money="EUR"),
+                           design=SimpleNamespace(sections="rationalised"))
+    panels = []
+    for k in range(1000):
+        chk = SimpleNamespace(utilization=0.5 + (k % 97) / 200)
+        p = SimpleNamespace(panel=f"P{k + 1:04d}", ch_start_m=8.0 * k, ch_end_m=8.0 * (k + 1),
+                            length_m=8.0)
+        panels.append(SimpleNamespace(panel=p, section_type=f"S{k % 40 + 1:02d}",
+                                      checks=(chk,), status="flagged" if k % 33 == 0 else "ok",
+                                      reason="no section passes" if k % 33 == 0 else "",
+                                      governing="bearing DA1-2"))
+    res = SimpleNamespace(
+        site=site, runs=(SimpleNamespace(length_m=8000.0),), panels=tuple(panels), joints=(),
+        quantities=(SimpleNamespace(item="concrete_total", unit="m3", quantity=20000.0),
+                    SimpleNamespace(item="reinforcement_total", unit="kg", quantity=1.9e6)),
+        cost=SimpleNamespace(total=1.2e7, complete=True, demo_rates=True),
+        warnings=tuple(f"warning number {k}" for k in range(12)), ok=False)
+    print_design_summary(res, "out")
+    out = capsys.readouterr().out.splitlines()
+    assert len(out) <= 25, out
+    assert all(len(line) <= 200 for line in out)
+    assert any(line.startswith("Section 40 types: S01 x25, S02 x25") and "and 28 more" in line
+               for line in out)
+    assert any("EUR per metre" in line for line in out)
+    assert any("95 kg/m3" in line for line in out)

@@ -133,3 +133,22 @@ def test_rationalised_four_types_mends_its_joints(tmp_path):
     for j in r.joints:
         assert j.status == "ok" or "cannot split further" in j.reason
     assert r.ok
+
+
+@pytest.mark.parametrize("mode", ["rationalised", "bespoke"])
+def test_minimum_sizes_hold_in_every_mode(tmp_path, mode):
+    # [design] min_stem_m and min_base_m (design-basis section 6): no stem thinner than
+    # 0.30 m anywhere and no base thinner than 0.40 m, whatever the mode (the catalogue
+    # refuses a thinner type by name: tests/test_site.py)
+    from dataclasses import replace
+    site = make_site(tmp_path, [(0, 50.0), (30, 49.0)], [(0, 51.2), (30, 52.6)])
+    site = replace(site, design=replace(site.design, sections=mode, min_stem_m=0.30,
+                                        min_base_m=0.40))
+    r = wallrun.design(site)
+    assert r.panels and all(p.status == "ok" for p in r.panels)
+    for p in r.panels:
+        s = p.section
+        assert min(s.stem_top_m, s.stem_base_m) >= 0.30 - 1e-9
+        assert s.base_thickness_m >= 0.40 - 1e-9
+    if mode == "rationalised":
+        assert len(r.section_types) <= 5  # 1.2 to 3.6 m retained: ceil(2.4 / 0.5) at most
