@@ -70,31 +70,43 @@ def tabulated(d) -> bool:
     return int(round(float(d))) in TABLE_2 and float(d) == round(float(d))
 
 
-def _column(d, k: int, rule):
+def _rule(k: int, d):
+    """The rule of Table 2's column k for a size it does not list (module docstring)."""
+    r = np.where(d <= 16.0, 2.0, 3.5) * d
+    return (r, 2.0 * r, _ceil5(r + 6.0 * d))[k] if k < 3 else _ceil5(r + 11.0 * d)
+
+
+#: Table 2 by whole bar size 0..64 mm, one row per column (the rule where it lists none).
+_BY_SIZE = np.array([[TABLE_2[i][k] if i in TABLE_2 else float(_rule(k, float(i)))
+                      for i in range(65)] for k in range(4)])
+
+
+def _column(d, k: int):
     d = np.asarray(d, dtype=float)
-    sizes = np.array(sorted(TABLE_2), dtype=float)
-    vals = np.array([TABLE_2[int(s)][k] for s in sizes])
-    i = np.clip(np.searchsorted(sizes, d), 0, len(sizes) - 1)
-    return np.where(sizes[i] == d, vals[i], rule(d))
+    di = np.rint(d).astype(np.int64)
+    whole = (di == d) & (di >= 0) & (di < _BY_SIZE.shape[1])
+    if np.all(whole):
+        return _BY_SIZE[k][di]
+    return np.where(whole, _BY_SIZE[k][np.clip(di, 0, _BY_SIZE.shape[1] - 1)], _rule(k, d))
 
 
 def min_radius(d):
     """Minimum radius for scheduling r, mm (BS 8666:2005 Table 2; sizes it does not list:
     2 d up to 16 mm, 3.5 d above)."""
-    return _column(d, 0, lambda x: np.where(x <= 16.0, 2.0, 3.5) * x)
+    return _column(d, 0)
 
 
 def min_former(d):
     """Minimum diameter of the bending former M, mm (BS 8666:2005 Table 2; sizes it does
     not list: 2 r). For grade B500 it equals the minimum mandrel of EN 1992-1-1
     Table 8.1N (4 d up to 16 mm, 7 d above)."""
-    return _column(d, 1, lambda x: 2.0 * np.where(x <= 16.0, 2.0, 3.5) * x)
+    return _column(d, 1)
 
 
 def min_end_projection(d):
     """Minimum end projection P of a bend (general, at least 5 d straight), mm
     (BS 8666:2005 Table 2; sizes it does not list: r + 6 d rounded up to 5 mm)."""
-    return _column(d, 2, lambda x: _ceil5(np.where(x <= 16.0, 2.0, 3.5) * x + 6.0 * x))
+    return _column(d, 2)
 
 
 def min_leg(d, radius):

@@ -334,9 +334,19 @@ def restraint_need(phi, h_mm, basis: Basis):
     thickest, conservative, one bar spacing for the whole height); for the base its
     thickness. inf where the bar size is not allowed at any stress."""
     h = np.asarray(h_mm, dtype=float)
-    sig = ec2.restraint_stress(phi, basis.steel.fyk_mpa, basis.design.crack_width_mm)
+    sig = _per_size(lambda x: ec2.restraint_stress(x, basis.steel.fyk_mpa, basis.design.crack_width_mm), phi)
     return 0.5 * ec2.as_min_crack(1000.0 * h, sig, basis.concrete.fct_eff, ec2.k_restraint(h),
                                   KC_RESTRAINT)
+
+
+def _per_size(f, phi):
+    """f(phi) for bar sizes phi (mm): where every size is a whole number up to 64 mm, f of
+    the 65 whole sizes taken by index (the same numbers, one evaluation per size)."""
+    phi = np.asarray(phi, dtype=float)
+    di = np.rint(phi).astype(np.int64)
+    if phi.size > 64 and np.all((di == phi) & (di >= 0) & (di <= 64)):
+        return np.asarray(f(np.arange(65, dtype=float)), dtype=float)[di]
+    return f(phi)
 
 
 # --- bends (8.3) and starters ------------------------------------------------------------------
