@@ -14,8 +14,15 @@ Layout of the bars (per metre run of wall, b = 1000 mm strips):
   ``cover_mm``; it resists the positive heel moment and any reverse toe moment.
 - toe: bottom mat (full base width), cover ``cover_ground_mm``; it resists the positive
   toe moment and any reverse heel moment.
-- stem_horizontal: horizontal bars, each face, inside the verticals.
-- base_distribution: bars along the wall in each mat, inside the transverse bars.
+- stem_horizontal: horizontal bars, each face, inside the verticals; they carry the
+  restraint steel of 7.3.2 (``restraint_steel``, when ``design.restraint_steel``).
+- base_distribution: bars along the wall in each mat, inside the transverse bars; the
+  restraint steel of 7.3.2 likewise.
+- starter, starter_front: L-bars of the stem's vertical bars from the bottom mat of the
+  base to the kicker (``concrete.kicker_mm``) plus the lap l0 of 8.7.3 above it.
+- the heel bars are bent down at the heel end and the toe bars up at the toe end; the
+  other end of each only where it needs it. ``bar_bend`` checks every bend (8.3,
+  Table 8.1N and Eq. 8.1), see :func:`_bends`.
 
 Choices where the design basis is silent (also in the final report):
 
@@ -38,6 +45,11 @@ Choices where the design basis is silent (also in the final report):
   is chosen and the checks report the shortfall.
 - The heel top bars are taken in poor bond conditions (eta1 = 0.7, Fig. 8.2, base
   thicker than 250 mm is typical); every other bar in good bond.
+- Restraint steel: :func:`restraint_need` (per face, the stem at its base thickness);
+  it joins the minimum of the secondary bars in the bar choice, so the steel mass and
+  the cost the search minimises include it.
+- Bends: the readings of :func:`_bends` (force at the start of the bend, the room a
+  member gives a bend, the radius scheduled).
 """
 
 from __future__ import annotations
@@ -121,10 +133,11 @@ class StructureResult:
     """Reinforcement and EC2 checks of n candidates.
 
     checks: stem_bending, stem_shear, heel_bending, heel_shear, toe_bending, toe_shear
-    (one per (combination, case) of the actions), crack_spacing and min_steel
-    (combination ``SLS``, case the face). steel_kg_per_m: approximate steel mass per
-    metre run of wall, kg/m. stem_curtail_m: height above the top of the base where
-    half the stem main bars stop, m (nan: no curtailment).
+    (one per (combination, case) of the actions), crack_spacing, min_steel and
+    restraint_steel (combination ``SLS``, case the face), bar_bend (combination ``ULS``,
+    case the bend). steel_kg_per_m: approximate steel mass per metre run of wall, kg/m.
+    stem_curtail_m: height above the top of the base where half the stem main bars
+    stop, m (nan: no curtailment). starters: ``starter`` and ``starter_front``.
     """
 
     checks: list[CheckArray]
