@@ -3,22 +3,22 @@
     python benchmarks/run.py --km 10          # a table
     python benchmarks/run.py --km 1 10 100    # how the cost grows with length
     python benchmarks/run.py --km 10 --json   # one JSON object (a list for several km)
+    python benchmarks/run.py --km 1 --gap 4   # and the optimality gap of 4 panels
+    python benchmarks/run.py --km 10 --jobs 2 # the search on two worker processes
 
 The run is invented: a straight fill wall along a road on a gentle grade, a survey
 point every 0.5 m, and a retained height varying smoothly between 0.5 and 7 m (a sum
 of three sines of incommensurate wavelengths, rescaled), levels to the millimetre.
+It is designed in the default section mode of ``[design]``.
 
 Reported: the time of each stage (the pipeline's ``result.timings`` plus output
-writing), the candidate sections per second through every check they need inside the
-search and on one large batch, counted as candidates *decided*: stability is checked
-for every candidate and the structure only for those that pass it (a candidate failing
-stability fails anyway); the batch is also timed with every check on every candidate.
-The batch goes through the evaluator of the long runs (``lockstep.evaluate_search``)
-with half of it on the second core (``wallrun.workers``), as in the search; the figure
-for one process is printed beside it. Batch timings are the least of three runs. Also the speed-up of the vectorised checks
-over a plain per-candidate evaluation of the same checks (``plain.plain_stability_checks``
-and the structural design of one candidate at a time) on a sample of 200 candidates.
-The run tunes the allocator as the command line does (``wallrun.memory``).
+writing), the peak memory of the process, the candidates checked by the search and
+their rate; on one batch of 100,000 candidates in one process the candidates decided
+per second (stability for all, the structure for those that pass it) and with every
+check on every candidate, beside the plain per-candidate path (``tests/plain_reference``
+and the structural design of one candidate at a time) and the speed-up; with
+``--gap N``, the cost of N sampled panels against the exhaustive reference
+(``wallrun.sizing.cheapest_on_grid``). Batch timings are the least of three runs.
 """
 
 from __future__ import annotations
@@ -26,18 +26,23 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import sys
 import tempfile
 import time
 
 import numpy as np
 
-sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, ".."))
+sys.path.insert(0, os.path.join(HERE, "..", "tests"))  # the plain reference path
 
-from wallrun import memory, sizing  # noqa: E402
 from wallrun.factors import resolve  # noqa: E402
 from wallrun.section import Section, SectionArrays  # noqa: E402
 from wallrun.settings import Design, ProfileData, Project, Site  # noqa: E402
+from wallrun.sizing import Costing, Demand, cheapest_on_grid  # noqa: E402
+from wallrun.sizing import evaluate as ev_  # noqa: E402
+from wallrun.sizing.conditions import Rows, conditions_of  # noqa: E402
 
 
 def synthetic_site(km: float, spacing_m: float = 0.5) -> Site:
@@ -86,157 +91,160 @@ def _least(f, repeat: int = REPEAT) -> float:
 
 
 def throughput(site: Site, n_bulk: int = 100_000, n_plain: int = 200) -> dict:
-    """Candidates per second through every check on one batch, and the speed-up over a
-    plain per-candidate evaluation of the same checks."""
-    from wallrun import lockstep, plain, stability, structure, workers
+    """Candidates per second through every check on one batch in one process, and the
+    speed-up over a plain per-candidate evaluation of the same checks."""
+    from plain_reference import plain_stability_checks
 
-    basis = site.basis
-    d = sizing.Demand(z_top=63.5, z_front=60.0, backfill=site.backfill,
-                      foundation=site.foundation, surcharge_kpa=site.loads.surcharge_kpa,
-                      water=site.water, wall_top_m=63.5,
-                      min_founding_depth_m=site.wall.min_founding_depth_m,
-                      founding_step_m=site.wall.founding_step_m)
+    from wallrun import stability, structure
+
+    basis, costing = site.basis, Costing.of(site)
+    d = Demand(z_top=63.5, z_front=60.0, backfill=site.backfill, foundation=site.foundation,
+               surcharge_kpa=site.loads.surcharge_kpa, water=site.water, wall_top_m=63.5,
+               min_founding_depth_m=site.wall.min_founding_depth_m,
+               founding_step_m=site.wall.founding_step_m)
     bulk = _sample_candidates(n_bulk)
-    sizing.evaluate(bulk.subset(slice(0, 100)), d, basis, site.rates, curtail=False)  # warm
-    # as in the search: structure only for the candidates passing every stability check;
-    # a candidate is counted when it is decided (passed, or failed a check it needed)
-    # each batch timing is the least of REPEAT runs (the timeit convention: the others
-    # only add what the machine did meanwhile)
-    one = lambda: sizing.evaluate(bulk, d, basis, site.rates, curtail=False,  # noqa: E731
-                                  screen=True, complete_if_none=False)
-    t_one = _least(one)
-    structured = int(np.isfinite(one().steel_kg_per_m).sum())
-    # the long runs' evaluator (wallrun.lockstep), half the batch on the second core
-    lv = np.full(n_bulk, d.z_top), np.full(n_bulk, d.z_front), np.full(n_bulk, d.wall_top_m)
+    rows = Rows.of([d], [n_bulk])
     seg, no = np.zeros(n_bulk, dtype=np.int64), np.array([False])
-    with workers.twin():
-        t_bulk = _least(lambda: lockstep.evaluate_search(bulk, *lv, seg, no, d, basis,
-                                                         site.rates))
-    t_full = _least(lambda: sizing.evaluate(bulk, d, basis, site.rates, curtail=False))
+    ev_.screen(bulk.subset(slice(0, 100)), rows.take(slice(0, 100)), d, basis, costing,
+               seg[:100], no)  # warm
+    # as in the search: structure only for the candidates passing every stability check;
+    # a candidate is counted when it is decided (passed, or failed a check it needed);
+    # each timing is the least of REPEAT runs (the timeit convention)
+    t_one = _least(lambda: ev_.screen(bulk, rows, d, basis, costing, seg, no))
+    ok, cost, util = ev_.screen(bulk, rows, d, basis, costing, seg, no)
+    structured = int(np.isfinite(cost).sum())
+    t_full = _least(lambda: ev_.evaluate(bulk, rows, d, basis, costing))
     sample = _sample_candidates(n_plain, seed=2)
-    t_vec = _least(lambda: sizing.evaluate(sample, d, basis, site.rates, curtail=False))
     t0 = time.perf_counter()
     for i in range(n_plain):
         sec: Section = sample.take(i)
         one = SectionArrays.of([sec])
-        cond = sizing.conditions_for(d, sec.base_thickness_m)
-        plain.plain_stability_checks(sec, cond, basis)
+        cond = conditions_of(one.base_thickness_m, Rows.of([d], [1]), d)
+        cond1 = _scalar(cond)
+        plain_stability_checks(sec, cond1, basis)
         actions = stability.member_actions(one, cond, basis)
         qp = stability.member_moments_qp(one, cond, basis)
-        hc = cond.z_top - cond.z_found - sec.base_thickness_m
+        hc = cond1.z_top - cond1.z_found - sec.base_thickness_m
         structure.design_reinforcement(one, actions, qp, basis, stem_height_m=hc)
     t_plain = time.perf_counter() - t0
-    return {"bulk_candidates": n_bulk, "bulk_seconds": t_bulk,
-            "bulk_candidates_per_second": n_bulk / t_bulk,
-            "bulk_one_process_candidates_per_second": n_bulk / t_one,
-            "bulk_structured": structured,
+    return {"bulk_candidates": n_bulk, "bulk_seconds": t_one,
+            "bulk_candidates_per_second": n_bulk / t_one, "bulk_structured": structured,
             "bulk_unscreened_candidates_per_second": n_bulk / t_full,
             "plain_sample": n_plain, "plain_seconds": t_plain,
             "plain_candidates_per_second": n_plain / t_plain,
-            "speedup_vs_plain": (t_plain / n_plain) / (t_bulk / n_bulk),
-            "speedup_same_sample": t_plain / t_vec}
+            "speedup_vs_plain": (t_plain / n_plain) / (t_one / n_bulk)}
 
 
-def run_one(km: float, write: bool = True) -> dict:
+def _scalar(cond):
+    from dataclasses import replace
+    f = lambda v: None if v is None else float(np.asarray(v).reshape(-1)[0])  # noqa: E731
+    return replace(cond, z_top=f(cond.z_top), z_front=f(cond.z_front),
+                   z_found=f(cond.z_found), water_level_m=f(cond.water_level_m))
+
+
+def optimality_gap(site: Site, result, n: int, h_max: float = 4.5) -> list[dict]:
+    """The cost per metre of ``n`` panels (spread over the retained heights up to
+    ``h_max`` m, to bound the time of the exhaustive reference) against the cheapest
+    passing section of their grid (``cheapest_on_grid``): gap in per cent."""
+    from wallrun.layout import demand_of
+    from wallrun import panels as pn
+
+    cand = [p for p in result.panels if p.status == "ok"
+            and p.panel.retained_height_m <= h_max]
+    if not cand or n <= 0:
+        return []
+    cand.sort(key=lambda p: p.panel.retained_height_m)
+    picks = [cand[int(round(k))] for k in np.linspace(0, len(cand) - 1, n)]
+    out = []
+    for p in picks:
+        ext = pn.extent(result.profiles, p.panel.run, p.panel.side, p.panel.ch_start_m,
+                        p.panel.ch_end_m, site.wall)
+        extra = round(pn.founding_level(p.panel.front_min_m, p.section.base_thickness_m,
+                                        site.wall.min_founding_depth_m,
+                                        site.wall.founding_step_m) - p.panel.founding_m, 6)
+        d = demand_of(ext, site, extra_depth_m=max(float(extra), 0.0))
+        t0 = time.perf_counter()
+        ref, ref_cost = cheapest_on_grid(d, site.basis, Costing.of(site),
+                                         site.design.dimension_step_m)
+        length = p.panel.length_m
+        got = _cost_per_m(site, p, d)
+        out.append({"panel": p.panel.panel, "h_m": round(d.h, 3), "search": got,
+                    "exhaustive": ref_cost, "gap_percent": 100.0 * (got / ref_cost - 1.0),
+                    "seconds": time.perf_counter() - t0, "length_m": length})
+    return out
+
+
+def _cost_per_m(site: Site, p, d: Demand) -> float:
+    """The panel's section and bars priced per metre as the search prices them."""
+    ev = ev_.evaluate_at([p.section], d, site.basis, Costing.of(site))
+    return float(ev.cost[0])
+
+
+def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
     """Design the synthetic run of ``km`` km end to end; figures as a dict."""
+    from wallrun import pipeline
+
     site = synthetic_site(km)
-    sizing._DESIGNERS.clear()
     stages: dict[str, float] = {}
+    pool = None
+    if jobs > 1:
+        from wallrun.cli import worker_pool
+        pool = worker_pool(jobs)
     t_all = time.perf_counter()
+    t0 = time.perf_counter()
     try:
-        from wallrun import pipeline
-    except ImportError as e:  # the pipeline's modules are not all there yet
-        pipeline = None
-        stages["pipeline_missing"] = 0.0
-        print(f"note: pipeline not importable ({e}); timing demand building and sizing only",
-              file=sys.stderr)
-    n_panels = 0
-    if pipeline is not None:
-        t0 = time.perf_counter()
-        result = pipeline.design(site)
-        t_design = time.perf_counter() - t0
-        stages.update({k: float(v) for k, v in getattr(result, "timings", {}).items()})
-        stages["design_other"] = max(t_design - sum(stages.values()), 0.0)
-        n_panels = len(result.panels)
-        if write:
-            with tempfile.TemporaryDirectory() as tmp:
-                t0 = time.perf_counter()
-                try:
-                    from wallrun.outputs.write import write_outputs
-                    write_outputs(result, os.path.join(tmp, "out"))
-                    stages["write_outputs"] = time.perf_counter() - t0
-                except ImportError as e:  # an output module not written yet
-                    print(f"note: outputs not written ({e})", file=sys.stderr)
-        flagged = sum(p.status != "ok" for p in result.panels)
-    else:
-        from wallrun import panels as pn
-        from wallrun.profile import build_profiles, find_runs
-        t0 = time.perf_counter()
-        prof = build_profiles(site)
-        runs = find_runs(prof, site.wall)
-        demands = []
-        for run in runs:
-            pts = pn.cut_points(run.ch_start_m, run.ch_end_m, [], site.wall)
-            for a, b in zip(pts[:-1], pts[1:]):
-                e = pn.extent(prof, run.run, run.side, a, b, site.wall)
-                demands.append(sizing.Demand(
-                    z_top=round(e.z_top, 6), z_front=round(e.z_front, 6),
-                    backfill=site.backfill, foundation=site.foundation,
-                    surcharge_kpa=site.loads.surcharge_kpa, water=site.water,
-                    wall_top_m=round(max(e.wall_top_start, e.wall_top_end), 6),
-                    min_founding_depth_m=site.wall.min_founding_depth_m,
-                    founding_step_m=site.wall.founding_step_m))
-        stages["demands"] = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        des = sizing._designer_for(site.basis, site.rates, site.design.dimension_step_m)
-        designs = [des.bespoke(d) for d in demands]
-        stages["sizing"] = time.perf_counter() - t0
-        n_panels = len(demands)
-        flagged = sum(d.status != "ok" for d in designs)
+        result = pipeline.design(site, executor=pool)
+    finally:
+        if pool is not None:
+            pool.shutdown()
+    t_design = time.perf_counter() - t0
+    stages.update({k: float(v) for k, v in result.timings.items()})
+    stages["design_other"] = max(t_design - sum(stages.values()), 0.0)
+    if write:
+        from wallrun.outputs.write import write_outputs
+        with tempfile.TemporaryDirectory() as tmp:
+            t0 = time.perf_counter()
+            write_outputs(result, os.path.join(tmp, "out"))
+            stages["write_outputs"] = time.perf_counter() - t0
     total = time.perf_counter() - t_all
-    des = sizing._designer_for(site.basis, site.rates, site.design.dimension_step_m)
-    in_search = des.decided / des.seconds_in_evaluate if des.seconds_in_evaluate else 0.0
-    searched, structured, distinct = des.decided, des.structured, len(des.cache)
-    batch = getattr(result, "search", {}) if pipeline is not None else {}
-    if batch:  # a large job, sized many panels per call (wallrun.lockstep)
-        searched = int(batch["candidates"]) + des.decided
-        structured = None  # the batch search keeps no such count
-        seconds = stages.get("sizing", 0.0)
-        in_search = searched / seconds if seconds else 0.0  # whole sizing stage: conservative
-        distinct = len({(p.panel.retained_top_m, p.panel.front_min_m) for p in result.panels})
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    searched = int(result.search.get("candidates", 0))
+    sizing_s = stages.get("sizing", 0.0)
     tp = throughput(site)
-    return {"km": km, "panels": n_panels, "distinct_demands": distinct,
-            "flagged_panels": flagged, "seconds_total": total,
-            "seconds_by_stage": stages,
-            "candidates_evaluated": searched,
-            "candidates_structured_in_search": structured,
+    gaps = optimality_gap(site, result, gap)
+    return {"km": km, "mode": site.design.sections, "jobs": jobs,
+            "panels": len(result.panels),
+            "section_types": len(result.section_types),
+            "flagged_panels": sum(p.status != "ok" for p in result.panels),
+            "seconds_total": total, "seconds_by_stage": stages, "peak_memory_mb": peak_mb,
+            "candidates_checked": searched,
+            "references": int(result.search.get("references", 0)),
+            "candidates_per_second_in_search": searched / sizing_s if sizing_s else 0.0,
             "candidates_per_second": tp["bulk_candidates_per_second"],
-            "candidates_per_second_in_search": in_search,
-            "speedup_vs_plain": tp["speedup_vs_plain"],
-            "throughput": tp}
+            "speedup_vs_plain": tp["speedup_vs_plain"], "throughput": tp, "gap": gaps}
 
 
 def _table(r: dict) -> str:
-    lines = [f"run {r['km']:g} km: {r['panels']} panels ({r['distinct_demands']} distinct "
-             f"demands, {r['flagged_panels']} flagged), total {r['seconds_total']:.2f} s"]
+    lines = [f"run {r['km']:g} km ({r['mode']}, jobs {r['jobs']}): {r['panels']} panels, "
+             f"{r['section_types']} section types, {r['flagged_panels']} flagged, "
+             f"total {r['seconds_total']:.2f} s, peak memory {r['peak_memory_mb']:.0f} MB"]
     for k, v in r["seconds_by_stage"].items():
         lines.append(f"  {k:<20s} {v:9.3f} s")
     tp = r["throughput"]
-    st = r["candidates_structured_in_search"]
-    lines += [f"  candidates decided in the search     {r['candidates_evaluated']:,}"
-              + (f" ({st:,} passed stability and had their structure designed)"
-                 if st is not None else " (searched many panels per call)"),
-              f"  candidates/s in the search           {r['candidates_per_second_in_search']:,.0f}",
-              f"  candidates/s on one batch of {tp['bulk_candidates']:,}  "
-              f"{r['candidates_per_second']:,.0f} decided, two processes "
-              f"({tp['bulk_one_process_candidates_per_second']:,.0f} in one; "
-              f"{tp['bulk_structured']:,} passed stability and went through structure; "
-              f"every check on every candidate, one process: "
-              f"{tp['bulk_unscreened_candidates_per_second']:,.0f}/s)",
-              f"  plain per-candidate path             {tp['plain_candidates_per_second']:,.0f} /s",
-              f"  speed-up vs plain (per candidate)    {r['speedup_vs_plain']:,.0f} x"
-              f"  (same {tp['plain_sample']} sample in one batch: "
-              f"{tp['speedup_same_sample']:,.0f} x)"]
+    lines += [f"  candidates checked in the search     {r['candidates_checked']:,} "
+              f"({r['references']} reference demands)",
+              f"  candidates/s in the search           {r['candidates_per_second_in_search']:,.0f}"
+              " (the whole sizing stage)",
+              f"  one batch of {tp['bulk_candidates']:,}, one process       "
+              f"{r['candidates_per_second']:,.0f} decided/s ({tp['bulk_structured']:,} passed "
+              f"stability and went through structure); every check on every candidate: "
+              f"{tp['bulk_unscreened_candidates_per_second']:,.0f}/s",
+              f"  plain per-candidate path             {tp['plain_candidates_per_second']:,.0f}/s"
+              f"   speed-up {r['speedup_vs_plain']:,.0f} x"]
+    for g in r["gap"]:
+        lines.append(f"  gap {g['panel']} (h {g['h_m']:.2f} m): search {g['search']:.2f}, "
+                     f"exhaustive {g['exhaustive']:.2f} per m: {g['gap_percent']:+.3f} % "
+                     f"({g['seconds']:.0f} s)")
     return "\n".join(lines)
 
 
@@ -245,9 +253,12 @@ def main(argv=None) -> int:
     ap.add_argument("--km", type=float, nargs="+", default=[10.0])
     ap.add_argument("--json", action="store_true", help="print JSON instead of a table")
     ap.add_argument("--no-write", action="store_true", help="skip writing the outputs")
+    ap.add_argument("--gap", type=int, default=0, metavar="N",
+                    help="compare N sampled panels with the exhaustive reference")
+    ap.add_argument("--jobs", type=int, default=1, metavar="N",
+                    help="worker processes for the search, as the command line's --jobs")
     a = ap.parse_args(argv)
-    memory.tune_allocator()  # as the command line does
-    results = [run_one(km, write=not a.no_write) for km in a.km]
+    results = [run_one(km, write=not a.no_write, gap=a.gap, jobs=a.jobs) for km in a.km]
     if a.json:
         print(json.dumps(results[0] if len(results) == 1 else results, indent=2))
     else:

@@ -56,13 +56,34 @@ def test_short_level_run_worked_by_hand(tmp_path):
     assert r.ok
 
 
-def test_sharp_ground_drop_forces_extra_joints(tmp_path):
+def test_sharp_ground_drop_cured_by_a_lower_founding_level(tmp_path):
     # Finished level 54.0 throughout; ground 53.2 (h 0.8) up to ch 10, falling to 51.0
-    # (h 3.0) by ch 10.5. ceil(24/8) = 3 panels first; the founding step at the drop far
-    # exceeds 0.6 m, so the longer panel is halved until every joint passes or a half
-    # would be shorter than 2 m (then the joint is flagged with its reason).
+    # (h 3.0) by ch 10.5. ceil(24/8) = 3 panels; the second panel's envelope reaches the
+    # 3 m retained height, so its founding level is far below the first's. Design-basis
+    # section 1 (a): the higher-founded (first) panel is lowered in 0.15 m steps until
+    # the step holds and designed again there; no split is needed.
     site = make_site(tmp_path, [(0, 53.2), (10, 53.2), (10.5, 51.0), (24, 51.0)],
                      [(0, 54.0), (24, 54.0)])
+    r = wallrun.design(site)
+    assert len(r.panels) == 3
+    assert all(j.status == "ok" for j in r.joints), [j.reason for j in r.joints]
+    first = r.panels[0]
+    # its own rule: z_front 53.2 - max(0.6, t_base) rounded down to 0.15 m: >= 52.35
+    rule = math.floor((53.2 - max(0.6, first.section.base_thickness_m)) / 0.15 + 1e-9) * 0.15
+    assert first.panel.founding_m < rule - 0.1
+    assert abs(first.panel.founding_m - r.panels[1].panel.founding_m) <= 0.6 + 1e-9
+    # lowered by whole founding steps
+    assert abs((rule - first.panel.founding_m) / 0.15 - round((rule - first.panel.founding_m) / 0.15)) < 1e-6
+    assert first.status == "ok"
+
+
+def test_top_step_cured_by_splitting(tmp_path):
+    # a 1.4 m rise of the finished level over 0.5 m: the stepped tops of neighbouring
+    # panels differ by more than 0.6 m, which no founding or pressure cure mends; the
+    # longer panel is halved until every joint passes or a half would be shorter than
+    # 2 m (then the joint is flagged with its reason)
+    site = make_site(tmp_path, [(0, 50.0), (24, 50.0)], [(0, 51.0), (10, 51.0), (10.5, 52.4),
+                                                          (24, 52.4)])
     r = wallrun.design(site)
     assert len(r.panels) > 3
     lengths = [p.panel.length_m for p in r.panels]
@@ -73,7 +94,7 @@ def test_sharp_ground_drop_forces_extra_joints(tmp_path):
               and j.pressure_ratio <= 1.5 + 1e-9)
         assert ok == (j.status == "ok")
         if not ok:
-            assert "cannot split further" in j.reason
+            assert "cannot cure" in j.reason
 
 
 def test_stepped_top_follows_the_retained_level(tmp_path):

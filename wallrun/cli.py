@@ -36,6 +36,9 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("site", metavar="SITE_DIR")
     d.add_argument("--out", metavar="DIR", help="output folder (default SITE_DIR/out)")
     d.add_argument("--quiet", action="store_true", help="no progress bar")
+    d.add_argument("--jobs", type=_jobs, default=1, metavar="N",
+                   help="worker processes for the section search (default 1); the results "
+                        "are the same for every N")
     c = sub.add_parser("check", parents=[common],
                        help="validate the site folder and print the wall runs; writes nothing")
     c.add_argument("site", metavar="SITE_DIR")
@@ -43,6 +46,16 @@ def _parser() -> argparse.ArgumentParser:
     n = sub.add_parser("new", parents=[common], help="write a starter site folder to edit")
     n.add_argument("site", metavar="SITE_DIR")
     return p
+
+
+def _jobs(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a whole number, got {text!r}") from None
+    if not 1 <= n <= 64:
+        raise argparse.ArgumentTypeError(f"must be between 1 and 64, got {n}")
+    return n
 
 
 def main(argv=None) -> int:
@@ -58,7 +71,7 @@ def main(argv=None) -> int:
             return cmd_check(args.site, as_json=args.json)
         if args.command == "new":
             return cmd_new(args.site)
-        return cmd_design(args.site, out=args.out, quiet=args.quiet)
+        return cmd_design(args.site, out=args.out, quiet=args.quiet, jobs=args.jobs)
     except InputError as e:
         for line in e.problems:
             print(line, file=sys.stderr)
@@ -300,7 +313,20 @@ def check_out_is_safe(site_dir, out_dir, shown: str | None = None) -> None:
                          "empty folder, or a previous wallrun output folder")
 
 
-def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False) -> int:
+def worker_pool(jobs: int):
+    """A process pool of ``jobs`` workers started by ``forkserver`` (or ``spawn`` where
+    there is none), or None for one process. The command line owns it; the library only
+    hands it work (``pipeline.design(executor=...)``)."""
+    if jobs <= 1:
+        return None
+    import multiprocessing as mp
+    from concurrent.futures import ProcessPoolExecutor
+    method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
+    return ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context(method))
+
+
+def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
+               jobs: int = 1) -> int:
     from wallrun.site import load_site
     out_dir = Path(out) if out else Path(site_dir) / "out"
     site = load_site(site_dir)
@@ -309,10 +335,13 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False) -> in
     check_out_is_safe(site_dir, out_dir, shown=out or str(out_dir))
     write.check_writable(out_dir)
     cb = _Progress(enabled=(not quiet) and sys.stderr.isatty())
+    pool = worker_pool(jobs)
     try:
-        result = pipeline.design(site, progress=cb)
+        result = pipeline.design(site, progress=cb, executor=pool)
     finally:
         cb.close()
+        if pool is not None:
+            pool.shutdown()
     write.write_outputs(result, out_dir)
     print_design_summary(result, out_dir)
     return EXIT_OK if result.ok else EXIT_FLAGGED

@@ -1,152 +1,111 @@
 """The whole job: site -> profile -> panels -> designs -> quantities, as one pure function.
 
 ``design(site)`` returns a :class:`wallrun.results.DesignResult`; writing it to files is
-``wallrun.outputs.write``'s job.
+``wallrun.outputs.write``'s job. Nothing is kept between calls: every store of designs
+lives in the call, so the same site always gives the same result, whatever was designed
+before it or beside it in another thread.
 """
 
 from __future__ import annotations
 
-import math
 import time
-from dataclasses import dataclass, field
 
 from wallrun import bars as bars_mod
 from wallrun import panels as pn
-from wallrun import sizing, stability, takeoff, workers
+from wallrun import stability, takeoff
+from wallrun.layout import RunLayout, lay_out
 from wallrun.profile import build_profiles, find_runs
 from wallrun.results import (DesignResult, Joint, Panel, PanelResult, Quantity,
                              SectionType)
 from wallrun.settings import Site
+from wallrun.sizing import Costing, Demand, SizedDesign
+from wallrun.sizing import catalogue as cat_mod
+from wallrun.sizing import rationalise as rat_mod
+from wallrun.sizing import search
+from wallrun.sizing.conditions import Rows, conditions_of, water_level
 
 
-@dataclass
-class _Designer:
-    """Designs a demand in the site's sections mode, each distinct demand once."""
+#: Fewest new demands worth sending to worker processes, and the parts a batch is cut
+#: into for them.
+PARALLEL_FROM = 48
+PARTS = 8
 
-    site: Site
-    cache: dict = field(default_factory=dict)
-    seconds: float = 0.0
-    tick: object = None  # progress callback (stage, done, total)
-    expected: int = 0  # panels expected before any joint splitting
-    batch: object = None  # a lockstep.Lockstep for large jobs (bespoke search)
 
-    def __call__(self, demand: sizing.Demand) -> sizing.SizedDesign:
-        d = self.cache.get(demand)
-        if d is None:
+class Sizer:
+    """The designs of demands in one way (bespoke, catalogue, or a rationalised set),
+    each distinct demand designed once within one ``design`` call. With an
+    ``executor`` (a ``concurrent.futures`` pool the caller owns), large batches of
+    bespoke searches are split by retained height over its workers: every demand's
+    design depends on that demand only, so the results are the same."""
+
+    def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None):
+        self.site, self.mode, self.types, self.tick = site, mode, types, tick
+        self.executor = executor
+        self.basis, self.costing = site.basis, Costing.of(site)
+        self.step = site.design.dimension_step_m
+        self.designs: dict[Demand, SizedDesign] = {}
+        self.seconds = 0.0
+        self.stats: list = []
+
+    def __call__(self, demands) -> list[SizedDesign]:
+        new = [d for d in dict.fromkeys(demands) if d not in self.designs]
+        if new:
             t0 = time.perf_counter()
-            basis, rates = self.site.basis, self.site.rates
-            if self.site.design.sections == "catalogue":
-                d = sizing.catalogue_design(demand, basis, rates, self.site.catalogue)
-            elif self.batch is not None:  # large job: warm-started from the batch
-                d = self.batch(demand)
-            else:  # bespoke, and the first pass of rationalised
-                d = sizing.bespoke(demand, basis, rates, self.site.design.dimension_step_m)
+            if self.mode == "catalogue":
+                got = cat_mod.catalogue_designs(new, self.basis, self.costing,
+                                                self.site.catalogue, self.step)
+            elif self.mode == "types":
+                got = self._with_types(new)
+            else:
+                got = self._bespoke(new)
+            self.designs.update(zip(new, got))
             self.seconds += time.perf_counter() - t0
-            self.cache[demand] = d
             if self.tick is not None:
-                n = len(self.cache)
-                self.tick("sizing", n, max(n, self.expected))
-        return d
+                self.tick("sizing", len(self.designs), len(self.designs))
+        return [self.designs[d] for d in demands]
+
+    def _bespoke(self, new: list[Demand]) -> list[SizedDesign]:
+        args = (self.basis, self.costing, self.step)
+        if self.executor is None or len(new) < PARALLEL_FROM:
+            return search.bespoke(new, *args, stats=self.stats)
+        # contiguous ranges of retained height share most of their reference demands
+        order = sorted(range(len(new)), key=lambda k: (new[k].h, k))
+        size = -(-len(order) // PARTS)
+        parts = [order[i:i + size] for i in range(0, len(order), size)]
+        futures = [self.executor.submit(_bespoke_part, [new[k] for k in p], *args)
+                   for p in parts]
+        got: list[SizedDesign | None] = [None] * len(new)
+        for p, f in zip(parts, futures):
+            designs, st = f.result()
+            self.stats.append(st)
+            for k, sd in zip(p, designs):
+                got[k] = sd
+        return got
+
+    def _with_types(self, demands) -> list[SizedDesign]:
+        """Each demand with the cheapest type of the set passing there (its cage, its
+        shared curtailment); none passing: flagged, unless the demand is one no search is
+        made for (then its own flagged design)."""
+        out = []
+        opts = rat_mod.designs_with(self.types, list(demands), self.basis, self.costing)
+        for d, o in zip(demands, opts):
+            own = search.not_designable(d, self.basis, self.costing, self.step)
+            out.append(own if own is not None else rat_mod.best_type(o))
+        return out
 
 
-def demand_of(ext: pn.Extent, site: Site) -> sizing.Demand:
-    """The section-independent conditions of a panel (design-basis section 1)."""
-    mid = 0.5 * (ext.ch_start + ext.ch_end)
-    # levels snapped outwards to 1e-6 m (z_top up, z_front down): conservative, and
-    # equal conditions computed with float noise share one design
-    return sizing.Demand(
-        z_top=math.ceil(ext.z_top * 1e6 - 1e-3) / 1e6,
-        z_front=math.floor(ext.z_front * 1e6 + 1e-3) / 1e6, backfill=site.backfill,
-        foundation=site.foundation_at(mid), surcharge_kpa=site.loads.surcharge_kpa,
-        water=site.water, wall_top_m=round(max(ext.wall_top_start, ext.wall_top_end), 6),
-        min_founding_depth_m=site.wall.min_founding_depth_m,
-        founding_step_m=site.wall.founding_step_m)
+def _bespoke_part(demands, basis, costing, step):
+    """One worker's share of a bespoke batch: (designs, search stats)."""
+    stats: list = []
+    return search.bespoke(demands, basis, costing, step, stats=stats), stats[0]
 
 
-def _joint(ext_l, d_l, ext_r, d_r, wall):
-    fig = pn.joint_figures(d_l.z_found, d_r.z_found, ext_l.wall_top_end, ext_r.wall_top_start,
-                           d_l.edge_pressure_sls_kpa, d_r.edge_pressure_sls_kpa)
-    return fig, pn.joint_problems(fig, wall)
+def design(site: Site, progress=None, executor=None) -> DesignResult:
+    """Design the whole wall of ``site`` (design-basis sections 1 to 7).
 
-
-#: From this many first-pass panels on, the bespoke designs are searched many panels
-#: per call (``wallrun.lockstep``) before the joints are settled; smaller jobs use the
-#: one-panel-at-a-time search of ``wallrun.sizing``. Both return sections that pass
-#: every check; their costs agree within 0.1 % for most panels (see lockstep).
-LOCKSTEP_FROM = 200
-
-
-def first_pass_extents(profiles, run, site: Site) -> list:
-    """The panels of a run before any joint is cured (design-basis section 1)."""
-    bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
-    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, site.wall)
-    return [pn.extent(profiles, run.run, run.side, a, b, site.wall)
-            for a, b in zip(pts[:-1], pts[1:])]
-
-
-def settle_run(profiles, run, site: Site, designer) -> tuple[list, list, list]:
-    """Panels of one run with every curable joint cured (design-basis section 1).
-
-    Returns the extents, their designs and, per joint, (figures, problems). A failing
-    joint halves the longer of its two panels (the later when equal); a joint whose
-    half would be shorter than ``min_panel_length_m`` stays failing (flagged).
-    """
-    wall = site.wall
-    bounds = [b for z in site.zones for b in (z.from_m, z.to_m)]
-    pts = pn.cut_points(run.ch_start_m, run.ch_end_m, bounds, wall)
-    ext_cache: dict = {}
-
-    def ext_of(a, b):
-        key = (a, b)
-        if key not in ext_cache:
-            ext_cache[key] = pn.extent(profiles, run.run, run.side, a, b, wall)
-        return ext_cache[key]
-
-    while True:
-        exts = [ext_of(a, b) for a, b in zip(pts[:-1], pts[1:])]
-        designs = [designer(demand_of(e, site)) for e in exts]
-        joints = [_joint(exts[i], designs[i], exts[i + 1], designs[i + 1], wall)
-                  for i in range(len(exts) - 1)]
-        split = None
-        for i, (_, problems) in enumerate(joints):
-            if not problems:
-                continue
-            k = i + pn.halve_target(exts[i].length, exts[i + 1].length)
-            if exts[k].length / 2 >= wall.min_panel_length_m - 1e-9:
-                split = k
-                break
-        if split is None:
-            return exts, designs, joints
-        a, b = pts[split], pts[split + 1]
-        pts.insert(split + 1, 0.5 * (a + b))
-
-
-def water_level_used(demand: sizing.Demand, d: sizing.SizedDesign, beta_deg: float):
-    """Absolute water level behind the wall as used, after capping, m (design-basis 3).
-
-    The level (``level_m``, or the underside of the base plus ``height_above_base_m``)
-    is capped at the backfill surface at the virtual back x = B, which rises at beta
-    from the back face of the stem at z_top. None for a drained wall.
-    """
-    level = sizing.water_level(demand.water, d.z_found)
-    if level is None:
-        return None
-    s = d.section
-    surface = demand.z_top + (s.base_width_m - s.toe_m - s.stem_top_m) * math.tan(
-        math.radians(beta_deg))
-    return float(min(level, surface))
-
-
-def _type_key(d: sizing.SizedDesign):
-    r = d.reinforcement
-    bars = tuple((b.bar_mm, b.spacing_mm) if b is not None else None
-                 for b in (r.stem, r.heel, r.toe, r.stem_horizontal, r.base_distribution,
-                           r.stem_front))
-    return (d.section, bars, r.stem_curtail_m, getattr(d, "section_type", ""))
-
-
-def design(site: Site, progress=None) -> DesignResult:
-    """Design the whole wall of ``site`` (design-basis sections 1 to 7)."""
+    ``executor``: a ``concurrent.futures`` executor of worker processes the caller owns
+    (the command line's ``--jobs``) for the bespoke searches; None designs in this
+    process. The result is the same either way."""
     tick = progress or (lambda stage, done, total: None)
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
@@ -155,99 +114,139 @@ def design(site: Site, progress=None) -> DesignResult:
     timings["profile"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
-    designer = _Designer(site, tick=tick, expected=sum(
-        math.ceil(r.length_m / site.wall.max_panel_length_m) for r in runs))
-    if site.design.sections == "bespoke" and designer.expected >= LOCKSTEP_FROM:
-        from wallrun import lockstep
-        t1 = time.perf_counter()
-        demands = [demand_of(e, site) for r in runs for e in first_pass_extents(profiles, r, site)]
-        designer.batch = lockstep.Lockstep(site.basis, site.rates, site.design.dimension_step_m)
-        with workers.twin():  # half of each batch's checks on the second core
-            designed = designer.batch.design_many(demands)
-        for dem, d in zip(demands, designed):
-            designer.cache[dem] = d
-        designer.seconds += time.perf_counter() - t1
-        tick("sizing", len(designer.cache), designer.expected)
-    laid = []  # (run, extents, designs, joints)
-    for run in runs:
-        laid.append((run, *settle_run(profiles, run, site, designer)))
-    timings["panels"] = time.perf_counter() - t0 - designer.seconds
-    timings["sizing"] = designer.seconds
-
-    if site.design.sections == "rationalised":
-        t0 = time.perf_counter()
-        laid = _rationalise(site, laid)
-        timings["sizing"] += time.perf_counter() - t0
+    mode = site.design.sections
+    sizer = Sizer(site, "catalogue" if mode == "catalogue" else "bespoke", tick=tick,
+                  executor=executor)
+    laid = lay_out(profiles, runs, site, sizer)
+    seconds, stats = sizer.seconds, list(sizer.stats)
+    rational = None
+    if mode == "rationalised":
+        rational = _rationalise(site, laid, sizer)
+        typed = Sizer(site, "types", types=rational.types, tick=tick)
+        laid = lay_out(profiles, runs, site, typed, slots={lay.run.run: lay.slots for lay in laid})
+        seconds += typed.seconds
+    timings["sizing"] = seconds
+    timings["panels"] = time.perf_counter() - t0 - seconds
 
     t0 = time.perf_counter()
-    panel_rows = []  # (panel, design, demand)
+    result = _results(site, profiles, runs, laid, rational)
+    timings["reinforcement"] = time.perf_counter() - t0
+    checked = sum(s.checked for s in stats)
+    return DesignResult(**{**result, "timings": timings,
+                           "search": {"candidates": float(checked),
+                                      "references": float(sum(s.references for s in stats)),
+                                      "demands": float(sum(s.demands for s in stats))}})
+
+
+def _rationalise(site: Site, laid: list[RunLayout], sizer: Sizer) -> rat_mod.Rationalised:
+    demands, lengths, own = [], [], []
+    for lay in laid:
+        for s, d, sd in zip(lay.slots, lay.demands, lay.designs):
+            demands.append(d)
+            lengths.append(s.length)
+            own.append(sd)
+    return rat_mod.rationalise(demands, lengths, own, site.basis, Costing.of(site),
+                               site.design.max_types,
+                               takeoff.section_type_rate(site.rates))
+
+
+def water_level_used(demand: Demand, d: SizedDesign, beta_deg: float):
+    """Absolute water level behind the wall as used, after capping, m (design-basis 3).
+
+    The level (``level_m``, or the underside of the base plus ``height_above_base_m``)
+    is capped at the backfill surface at the virtual back x = B, which rises at beta
+    from the back face of the stem at z_top. None for a drained wall."""
+    import math
+
+    level = water_level(demand.water, d.z_found)
+    if level is None:
+        return None
+    s = d.section
+    surface = demand.z_top + (s.base_width_m - s.toe_m - s.stem_top_m) * math.tan(
+        math.radians(beta_deg))
+    return float(min(level, surface))
+
+
+def _type_key(d: SizedDesign):
+    r = d.reinforcement
+    bars = tuple((b.bar_mm, b.spacing_mm) if b is not None else None
+                 for b in (r.stem, r.heel, r.toe, r.stem_horizontal, r.base_distribution,
+                           r.stem_front))
+    return (d.section, bars, r.stem_curtail_m, d.section_type)
+
+
+def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dict:
+    """The result objects of the laid-out panels: panels, joints, section types, bar
+    schedule, quantities and cost."""
+    rows = []  # (panel, design, demand, mean front level)
     joints: list[Joint] = []
     n = 0
-    for run, exts, designs, jfigs in laid:
+    for lay in laid:
         names = []
-        for ext, d in zip(exts, designs):
+        for ext, d, dem in zip(lay.extents, lay.designs, lay.demands):
             n += 1
-            demand = demand_of(ext, site)
             panel = Panel(
-                panel=f"P{n:03d}", run=run.run, side=run.side, ch_start_m=ext.ch_start,
-                ch_end_m=ext.ch_end, retained_top_m=demand.z_top, front_min_m=demand.z_front,
+                panel=f"P{n:03d}", run=lay.run.run, side=lay.run.side, ch_start_m=ext.ch_start,
+                ch_end_m=ext.ch_end, retained_top_m=dem.z_top, front_min_m=dem.z_front,
                 founding_m=float(d.z_found), wall_top_start_m=ext.wall_top_start,
-                wall_top_end_m=ext.wall_top_end, foundation=demand.foundation,
+                wall_top_end_m=ext.wall_top_end, foundation=dem.foundation,
                 backfill=site.backfill, surcharge_kpa=site.loads.surcharge_kpa,
-                water_level_m=water_level_used(demand, d, site.backfill.slope_deg))
-            panel_rows.append((panel, d, demand,
-                               pn.mean_front_level(profiles, run.side, ext.ch_start, ext.ch_end)))
+                water_level_m=water_level_used(dem, d, site.backfill.slope_deg))
+            rows.append((panel, d, dem, pn.mean_front_level(profiles, lay.run.side,
+                                                             ext.ch_start, ext.ch_end)))
             names.append(panel.panel)
-        for i, (fig, problems) in enumerate(jfigs):
+        for i, js in enumerate(lay.joints):
+            fig = js.figures
             joints.append(Joint(
-                joint=f"J{len(joints) + 1:03d}", ch_m=exts[i].ch_end, left=names[i],
+                joint=f"J{len(joints) + 1:03d}", ch_m=lay.extents[i].ch_end, left=names[i],
                 right=names[i + 1], founding_step_m=fig.founding_step_m,
                 top_step_m=fig.top_step_m, pressure_ratio=fig.pressure_ratio,
-                status="flagged" if problems else "ok",
-                reason=("cannot split further: " + "; ".join(problems)) if problems else ""))
+                status="flagged" if js.problems else "ok", reason=js.reason))
 
-    # section types in chainage order of first use
+    # section types: given names (catalogue, rationalised set), else named by size
     type_names: dict = {}
-    for _, d, _, _ in panel_rows:
-        key = _type_key(d)
-        if key not in type_names:
-            given = getattr(d, "section_type", "")
-            type_names[key] = given or f"S{len(type_names) + 1:02d}"
+    keys = list(dict.fromkeys(_type_key(d) for _, d, _, _ in rows))
+    unnamed = sorted((k for k in keys if not k[3]), key=lambda k: rat_mod.size_key(k[0]))
+    for k, key in enumerate(unnamed):
+        type_names[key] = f"S{k + 1:02d}"
+    for key in keys:
+        if key[3]:
+            type_names[key] = key[3]
 
-    results = []
-    all_bars = []
-    per_panel_bars = []
-    for panel, d, _, _ in panel_rows:
-        name = type_names[_type_key(d)]
-        rows = bars_mod.panel_bars(name, d.section, d.reinforcement, panel, site.basis)
-        per_panel_bars.append(rows)
-        all_bars.extend(rows)
+    per_panel_bars, all_bars = [], []
+    for panel, d, _, _ in rows:
+        b = bars_mod.panel_bars(type_names[_type_key(d)], d.section, d.reinforcement, panel,
+                                site.basis)
+        per_panel_bars.append(b)
+        all_bars.extend(b)
     schedule = bars_mod.schedule(all_bars)
-    timings["reinforcement"] = time.perf_counter() - t0
 
-    t0 = time.perf_counter()
-    per_panel_q = []
-    for k, ((panel, d, _, front_mean), rows) in enumerate(zip(panel_rows, per_panel_bars)):
-        q = takeoff.panel_quantities(panel, d.section, rows, site.takeoff,
-                                     front_level_m=front_mean, **_end_kwargs(panel_rows, k))
+    results, per_panel_q = [], []
+    for k, ((panel, d, _, front_mean), b) in enumerate(zip(rows, per_panel_bars)):
+        nxt = rows[k + 1][0] if k + 1 < len(rows) else None
+        sealed = 1 if (nxt is not None and nxt.run == panel.run) else 0
+        q = takeoff.panel_quantities(panel, d.section, b, site.takeoff, front_level_m=front_mean,
+                                     stop_ends=2, joint_seals=sealed)
         per_panel_q.append(q)
         pq = tuple(Quantity(item, takeoff.UNITS.get(item, ""), v) for item, v in q.items())
-        pcost = takeoff.cost(pq, site.rates)
         results.append(PanelResult(
             panel=panel, section_type=type_names[_type_key(d)], section=d.section,
             reinforcement=d.reinforcement, checks=d.checks, status=d.status, reason=d.reason,
             quantities=q, concrete_m3=q.get("concrete_total", 0.0),
-            steel_kg=q.get("reinforcement_total", 0.0), cost=pcost.total))
+            steel_kg=q.get("reinforcement_total", 0.0),
+            cost=takeoff.cost(pq, site.rates).total))
     quantities = takeoff.totals(per_panel_q)
+    if rational is not None:
+        used = {r.section_type for r in results if r.status == "ok"}
+        quantities = quantities + (Quantity("section_type", "nr", float(len(used))),)
     cost = takeoff.cost(quantities, site.rates)
-    timings["takeoff"] = time.perf_counter() - t0
 
-    section_types = []
-    actions = {}
+    section_types, actions = [], {}
     by_type: dict[str, list] = {}
-    for r, (_, d, dem, _) in zip(results, panel_rows):
+    for r, (_, d, dem, _) in zip(results, rows):
         by_type.setdefault(r.section_type, []).append((r, d, dem))
-    for key, name in type_names.items():
+    for key in sorted(type_names, key=lambda k: type_names[k]):
+        name = type_names[key]
         members = by_type[name]
         worst_r, worst_d, worst_dem = max(
             members, key=lambda m: max((c.utilization for c in m[0].checks), default=0.0))
@@ -257,116 +256,23 @@ def design(site: Site, progress=None) -> DesignResult:
             utilization=max((c.utilization for c in worst_r.checks), default=0.0),
             panels=tuple(m[0].panel.panel for m in members)))
         if worst_d.checks:
-            cond = sizing.conditions_for(worst_dem, worst_d.section.base_thickness_m)
-            actions[name] = stability.action_table(worst_d.section, cond, site.basis)
-        else:  # a flagged panel that could not be designed at all has no actions
+            cond = conditions_of([worst_d.section.base_thickness_m],
+                                 Rows.of([worst_dem], [1]), worst_dem)
+            actions[name] = stability.action_table(worst_d.section, _scalar(cond), site.basis)
+        else:  # a panel that could not be designed at all has no actions
             actions[name] = ()
-
-    warnings = tuple(site.warnings)
-    return DesignResult(site=site, profiles=profiles, runs=tuple(runs), panels=tuple(results),
-                        joints=tuple(joints), section_types=tuple(section_types),
-                        actions=actions, bar_schedule=tuple(schedule),
-                        quantities=tuple(quantities), cost=cost, warnings=warnings,
-                        timings=timings, search=_search_stats(designer))
+    return dict(site=site, profiles=profiles, runs=tuple(runs), panels=tuple(results),
+                joints=tuple(joints), section_types=tuple(section_types), actions=actions,
+                bar_schedule=tuple(schedule), quantities=tuple(quantities), cost=cost,
+                warnings=tuple(site.warnings))
 
 
-def _search_stats(designer: _Designer) -> dict:
-    """Candidates evaluated by the bespoke search, for the benchmark (empty when the
-    one-panel search of ``sizing`` ran: it keeps its own counters)."""
-    b = designer.batch
-    if b is None:
-        return {}
-    return {"candidates": float(b.evaluated), "calls": float(b.calls)}
-
-
-def _end_kwargs(panel_rows, k: int) -> dict:
-    """Joint facts at the ends of panel k for the take-off: a sealed joint at its end
-    when the next panel is on the same run (one seal per joint)."""
-    panel = panel_rows[k][0]
-    nxt = panel_rows[k + 1][0] if k + 1 < len(panel_rows) else None
-    sealed = 1 if (nxt is not None and nxt.run == panel.run) else 0
-    return {"stop_ends": 2, "joint_seals": sealed}
-
-
-def _rationalise(site: Site, laid):
-    """Replace the bespoke designs by at most ``max_types`` sections (design-basis 6),
-    then re-check the joints with the assigned sections (no further splitting)."""
-    demands, lengths, where = [], [], []
-    for r, (run, exts, designs, jfigs) in enumerate(laid):
-        for i, e in enumerate(exts):
-            demands.append(demand_of(e, site))
-            lengths.append(e.length)
-            where.append((r, i))
-    assigned = sizing.rationalise(demands, lengths, site.basis, site.rates,
-                                  site.design.max_types)
-    out = []
-    k = 0
-    for run, exts, designs, _ in laid:
-        new = list(assigned[k:k + len(exts)])
-        k += len(exts)
-        _mend_joints(site, exts, new)
-        jfigs = [_joint(exts[i], new[i], exts[i + 1], new[i + 1], site.wall)
-                 for i in range(len(exts) - 1)]
-        out.append((run, exts, new, jfigs))
-    return out
-
-
-def _with_type(site: Site, ext, d_type: sizing.SizedDesign):
-    """The panel of ``ext`` built with the section and bars of another panel's type, or
-    None where that fails a check at this panel, or where this panel would need its
-    stem bars to run higher than the type's common curtailment stop."""
+def _scalar(cond):
+    """Conditions of one candidate with its levels as floats (for the report's table)."""
     from dataclasses import replace
 
-    from wallrun.section import SectionArrays
-    demand = demand_of(ext, site)
-    ev = sizing.evaluate(SectionArrays.of([d_type.section]), demand, site.basis, site.rates,
-                         given=d_type.reinforcement)
-    if not bool(ev.ok[0]):
-        return None
-    own_stop = ev.structure.reinforcement(0).stem_curtail_m
-    type_stop = d_type.reinforcement.stem_curtail_m
-    if type_stop is not None and (own_stop is None or own_stop > type_stop + 1e-9):
-        return None
-    d = sizing._sized(ev, 0, demand, site.basis, section_type=d_type.section_type)
-    return replace(d, reinforcement=replace(d.reinforcement, stem_curtail_m=type_stop))
+    import numpy as np
 
-
-def _mend_joints(site: Site, exts, designs, passes: int = 3) -> None:
-    """Cure joints that the rationalised set breaks, without new types: at a failing
-    joint, build one of its two panels with another type of the run when that passes
-    every check there and cures the joint (the cheaper such move first; a move may pass the
-    problem on to the next joint along the run, never back to the previous one). In
-    place, joints in chainage order, a few passes; joints no move cures stay failing
-    (flagged)."""
-    wall = site.wall
-    types = {d.section_type: d for d in designs if d.status == "ok"}  # one design per type
-
-    def fails(i):
-        return 0 <= i < len(exts) - 1 and bool(
-            _joint(exts[i], designs[i], exts[i + 1], designs[i + 1], wall)[1])
-
-    for _ in range(passes):
-        moved = False
-        for i in range(len(exts) - 1):
-            if not fails(i):
-                continue
-            moves = []
-            for k in (i, i + 1):
-                for t in types.values():
-                    if t.section_type == designs[k].section_type:
-                        continue
-                    cand = _with_type(site, exts[k], t)
-                    if cand is not None:
-                        moves.append((cand.cost_per_m * exts[k].length, k, cand))
-            for _, k, cand in sorted(moves, key=lambda m: m[0]):
-                old = designs[k]
-                designs[k] = cand
-                # moving the left panel must not break the joint before it (already
-                # settled); moving the right one may pass the problem on to the next
-                # joint, which this pass comes to next
-                if not fails(i) and (k == i + 1 or not fails(i - 1)):
-                    moved = True
-                    break
-                designs[k] = old
-        if not moved:
-            return
+    f = lambda v: None if v is None else float(np.asarray(v).reshape(-1)[0])  # noqa: E731
+    return replace(cond, z_top=f(cond.z_top), z_front=f(cond.z_front),
+                   z_found=f(cond.z_found), water_level_m=f(cond.water_level_m))

@@ -218,6 +218,12 @@ class Design:
     sections: str = setting("bespoke", choices=("bespoke", "catalogue", "rationalised"))
     max_types: int = setting(6, ge=1, le=100)
     dimension_step_m: float = setting(0.05, unit="m", ge=0.01, le=0.5)
+    #: A section passes at utilization <= max_utilization in every check (a margin below 1).
+    max_utilization: float = setting(1.0, gt=0.5, le=1.0)
+    #: Least stem thickness anywhere: two mats of bars and room to compact (common practice).
+    min_stem_m: float = setting(0.25, unit="m", ge=0.15, le=1.0)
+    #: Least base thickness (common practice).
+    min_base_m: float = setting(0.30, unit="m", ge=0.15, le=1.5)
     # EN 1992-1-1 7.3.2 minimum steel for restraint cracking (stem horizontal and base
     # longitudinal bars); false lists 7.3.2 as not checked
     restraint_steel: bool = setting(True)

@@ -325,12 +325,13 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
     return idx
 
 
-def _choose_secondary(opt: _Options, h, as_need, basis: Basis):
+def _choose_secondary(opt: _Options, h, as_need, basis: Basis, limit: float = 1.0):
     """Cheapest option meeting an area, the restraint steel of 7.3.2 for its bar size
-    (when ``design.restraint_steel``) and the secondary spacing limit."""
+    (when ``design.restraint_steel``; over ``limit``, so that its utilization stays
+    within it) and the secondary spacing limit."""
     need = np.broadcast_to(as_need[:, None], (len(h), len(opt.sizes)))
     if basis.design.restraint_steel:
-        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis))
+        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis) / limit)
     return _cheapest_per_size(opt, need, ec2.max_spacing_secondary(h), h)[0]
 
 
@@ -534,7 +535,8 @@ def _qp(qp: dict, n: int):
 # --- public -------------------------------------------------------------------------------
 
 def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: dict[str, np.ndarray],
-                         basis: Basis, stem_moment_at=None, stem_height_m=None) -> StructureResult:
+                         basis: Basis, stem_moment_at=None, stem_height_m=None,
+                         limit: float = 1.0) -> StructureResult:
     """Choose the cheapest bars per candidate and check them (design-basis section 5).
 
     sec: n candidates; actions: ULS MemberActions (kNm/m, kN/m); qp: quasi-permanent
@@ -542,7 +544,8 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     stem moment at depth y (m, array (n,)) below the top of the checked stem, kNm/m, for
     curtailment; stem_height_m: height of the checked stem from the top of the base to
     z_top, m, float or (n,) (estimated from stem_moment_at, or from M/V, when omitted:
-    it only enters the steel mass and the curtailment).
+    it only enters the steel mass and the curtailment); limit: the bars are chosen for
+    the actions (and the restraint steel) over it, ``design.max_utilization``.
     """
     n = len(sec)
     fck = basis.concrete.fck_mpa
@@ -552,14 +555,21 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     t_base = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
     pos, neg = _envelopes(actions, n)
     q = _qp(qp, n)
+    env = (pos, neg)
+    if limit < 1.0:  # the bars are chosen for the actions over the limit
+        pos = {m: v / limit for m, v in pos.items()}
+        neg = {m: v / limit for m, v in neg.items()}
+        q_choice = {m: v / limit for m, v in q.items()}
+    else:
+        q_choice = q
     zero = np.zeros(n)
     false = np.zeros(n, dtype=bool)
     true = ~false
 
     top_M = np.maximum(pos["heel"], neg["toe"])
     bot_M = np.maximum(pos["toe"], neg["heel"])
-    top_qp = np.maximum(np.maximum(q["heel"], -q["toe"]), 0)
-    bot_qp = np.maximum(np.maximum(q["toe"], -q["heel"]), 0)
+    top_qp = np.maximum(np.maximum(q_choice["heel"], -q_choice["toe"]), 0)
+    bot_qp = np.maximum(np.maximum(q_choice["toe"], -q_choice["heel"]), 0)
     # the four main faces in one call (rows stacked face by face; every row is chosen
     # on its own, so the result is that of four separate calls)
     cat = np.concatenate
@@ -567,15 +577,16 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
         opt, cat([t_stem, t_stem, t_base, t_base]),
         cat([np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cg))]),
         cat([pos["stem"], neg["stem"], top_M, bot_M]),
-        cat([np.maximum(q["stem"], 0), np.maximum(-q["stem"], 0), top_qp, bot_qp]),
+        cat([np.maximum(q_choice["stem"], 0), np.maximum(-q_choice["stem"], 0), top_qp, bot_qp]),
         cat([zero, 0.001 * 1000 * t_stem, zero, zero]),
         cat([true, neg["stem"] > 0, true, true]), fck, basis), 4)
     need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
-    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis), 2)
+    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis,
+                                               limit), 2)
     chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
               zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
-    return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, (pos, neg))
+    return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env)
 
 
 def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: dict[str, np.ndarray],

@@ -54,6 +54,7 @@ ITEMS: tuple[tuple[str, str], ...] = (
     ("joint_seal", "m"),
     ("waterproofing", "m2"),
     ("reinforcement_total", "kg"),
+    ("section_type", "nr"),
 )
 _UNITS = dict(ITEMS)
 
@@ -90,7 +91,7 @@ DEMO_RATES_NOTE = ("Demo rates: invented example figures in unnamed money units,
 
 
 def unit_of(item: str) -> str:
-    """Unit of a take-off item: m3, m2, m or kg (``reinforcement_<mm>`` is kg)."""
+    """Unit of a take-off item: m3, m2, m, kg (``reinforcement_<mm>`` is kg) or nr."""
     if item in _UNITS:
         return _UNITS[item]
     if _bar_mm(item) is not None:
@@ -334,6 +335,7 @@ DEMO_RATES: tuple[Rate, ...] = (
     Rate("joint_seal", "m", 31.0),
     Rate("waterproofing", "m2", 16.5),
     Rate("reinforcement_total", "kg", 1.45),
+    Rate("section_type", "nr", 2400.0),
 ) + tuple(Rate(f"reinforcement_{mm}", "kg", r) for mm, r in
           ((6, 1.70), (8, 1.62), (10, 1.55), (12, 1.50), (16, 1.45), (20, 1.42),
            (25, 1.40), (32, 1.40), (40, 1.43)))
@@ -394,6 +396,13 @@ def cost(quantities: Iterable[Quantity], rates: Iterable[Rate] | None) -> Cost:
     total = math.fsum(r.amount for r in rows if r.amount is not None)
     complete = all(r.rate is not None for r in rows)
     return Cost(rows=tuple(rows), total=total, complete=complete, demo_rates=demo)
+
+
+def section_type_rate(rates: Iterable[Rate] | None) -> float:
+    """Rate of one section type (item ``section_type``, unit nr: the detailing, formwork
+    set and cage jig each extra type costs), for the choice of a rationalised set: the
+    table's, else the demo rate (design-basis section 6)."""
+    return _search_rate(_rate_table(DEMO_RATES if rates is None else rates), "section_type")
 
 
 def _search_rate(table: Mapping[str, float], item: str) -> float:

@@ -1,0 +1,379 @@
+"""Every check of many candidate sections, each at its own demand, in one call.
+
+The candidates of one call share a ground (``Demand.ground_key``) and a basis; their
+levels are per candidate (``conditions.Rows``), so the searches of many panels are
+checked together. Each candidate's answer depends on its own row only: a call may be
+cut or joined anywhere and gives the same numbers.
+
+- :func:`screen` (the search): stability for every candidate, the structure designed
+  only for those that pass stability (a candidate failing stability fails anyway);
+  ok, cost per metre and utilization.
+- :func:`evaluate` (a chosen section): every check in full, with the stem bars
+  curtailed where the moment allows, as an :class:`Evaluation` from which
+  :func:`sized` makes the :class:`SizedDesign` of a panel.
+- :func:`lower_bound` of the cost (no steel): the search never checks a candidate that
+  cannot beat the best one found.
+
+A candidate passes when every check's utilization is at most
+``design.max_utilization`` and its dimensions close. Units: m, kN, kPa; cost in the
+money units of the rate table, per metre run of wall.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from wallrun import stability, structure, takeoff
+from wallrun.members import MemberActions
+from wallrun.results import CheckArray, CheckEntry, Reinforcement, utilization
+from wallrun.section import Section, SectionArrays
+from wallrun.settings import Basis, Rate, Takeoff
+
+from .conditions import Demand, Rows, conditions_of
+
+#: Utilization tolerance: a candidate passes at max utilization <= limit + TOL.
+TOL = 1e-9
+
+#: Depths at which the stem moment is tabulated for the curtailment (see
+#: :func:`_stem_moment_at`).
+CURTAIL_DEPTHS = 41
+
+JOINT_PRESSURE_CLAUSE = ("design-basis section 1 (b): edge pressure ratio at a joint "
+                         "(differential settlement, common practice)")
+
+
+@dataclass(frozen=True)
+class Costing:
+    """How a section is priced per metre run (``takeoff.cost_per_metre``): the rate table
+    (None: the invented demo rates) and the take-off settings (drain pipe,
+    waterproofing, working space ...)."""
+
+    rates: tuple[Rate, ...] | None = None
+    takeoff: Takeoff = Takeoff()
+
+    @classmethod
+    def of(cls, site) -> "Costing":
+        return cls(None if site.rates is None else tuple(site.rates), site.takeoff)
+
+    def per_metre(self, sec: SectionArrays, stem_height_m, founding_depth_m,
+                  steel_kg_per_m) -> np.ndarray:
+        """``takeoff.cost_per_metre`` of n candidates, money per metre run, (n,)."""
+        return np.asarray(takeoff.cost_per_metre(sec, stem_height_m, founding_depth_m,
+                                                 steel_kg_per_m, self.rates, self.takeoff),
+                          dtype=float)
+
+
+#: Detailing rules: limits in their own right, met at utilization 1.0 whatever the margin
+#: asked for (``design.max_utilization`` applies to the checks of actions against
+#: resistances: a margin on a minimum area or a bar spacing has no meaning).
+DETAILING = frozenset({"min_steel", "crack_spacing", "restraint_steel"})
+
+
+def limit(basis: Basis) -> float:
+    """The utilization a candidate may reach in the checks of actions against
+    resistances (``design.max_utilization``); detailing rules (:data:`DETAILING`) are
+    met at 1.0."""
+    return float(basis.design.max_utilization)
+
+
+# --- geometry of the drawn wall ------------------------------------------------------------
+
+def stem_heights(sec: SectionArrays, cond, rows: Rows):
+    """Drawn stem height (top of base to the wall top) and founding depth D, m, (n,)."""
+    zf = np.asarray(cond.z_found, dtype=float)
+    hs = rows.wall_top - zf - np.asarray(sec.base_thickness_m, dtype=float)
+    return hs, rows.z_front - zf
+
+
+def lower_bound(sec: SectionArrays, rows: Rows, ground: Demand, costing: Costing) -> np.ndarray:
+    """Cost per metre without the steel, (n,): a lower bound of the full cost (every
+    rate is >= 0), money per metre run."""
+    cond = conditions_of(sec.base_thickness_m, rows, ground)
+    hs, D = stem_heights(sec, cond, rows)
+    return costing.per_metre(sec, hs, D, 0.0)
+
+
+# --- utilization ---------------------------------------------------------------------------
+
+def max_util(checks, n: int, lim: float = 1.0) -> np.ndarray:
+    """Largest utilization of every candidate over ``checks`` (n,), with the conventions
+    of ``results.utilization`` (E / R where R > 0, else inf where E > 0 and 0 where
+    not); nan propagates. 0 for no checks. With ``lim`` < 1, each check of actions
+    against a resistance counts as its utilization / lim (the candidate passes at <= 1),
+    the detailing rules as they are."""
+    best = np.full(n, -np.inf)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for c in checks:
+            e, r = c.effect, c.resistance
+            u = np.divide(e, r)
+            pos = np.greater(r, 0.0)
+            if not np.all(pos):
+                u = np.where(pos, u, np.where(np.greater(e, 0.0), np.inf, 0.0))
+            if lim != 1.0 and c.check not in DETAILING:
+                u = u / lim
+            np.maximum(best, u, out=best)
+    if not checks:
+        best[:] = 0.0
+    return best
+
+
+def _joint_pressure(allx, rows_cap: np.ndarray | None) -> list[CheckArray]:
+    """``joint_pressure`` (SLS): the largest characteristic edge pressure against the
+    cap a joint cure puts on it (design-basis section 1 (b)), kPa; none without caps."""
+    if rows_cap is None or not np.isfinite(rows_cap).any():
+        return []
+    edge = np.asarray(allx.edge_pressure(), dtype=float)
+    cap = np.where(np.isfinite(rows_cap), rows_cap, np.inf)
+    # no cap: effect 0 against an infinite resistance (utilization 0)
+    eff = np.where(np.isfinite(rows_cap), edge, 0.0)
+    return [CheckArray("joint_pressure", "SLS", "characteristic, worse heel-load case",
+                       "kPa", JOINT_PRESSURE_CLAUSE, eff, cap)]
+
+
+def _full(x, n: int) -> np.ndarray:
+    return np.broadcast_to(np.asarray(x, dtype=float), (n,))
+
+
+def _structure_of(allx, sec: SectionArrays, h_c: np.ndarray, basis: Basis, idx,
+                  given: Reinforcement | None = None, stem_moment_at=None):
+    # the bars of a design are chosen for the margin asked for (design.max_utilization)
+    """The structural design (or check of ``given`` bars) of the candidates ``idx``
+    (None: all). The member actions of a few survivors come from their own geometry
+    (the same values as the rows idx of all, computed for fewer)."""
+    n = len(sec)
+    if idx is None:
+        s_sec, s_hc, s_act, s_qp = sec, h_c, allx.member_actions(), allx.qp()
+    else:
+        s_sec, s_hc = sec.subset(idx), h_c[idx]
+        if n >= 64 and 2 * len(idx) < n:
+            src = allx.subset(idx)
+            s_act, s_qp = src.member_actions(), src.qp()
+        else:
+            s_act = [MemberActions(a.member, a.combination, a.case, _full(a.M_Ed, n)[idx],
+                                   _full(a.V_Ed, n)[idx]) for a in allx.member_actions()]
+            s_qp = {k: _full(v, n)[idx] for k, v in allx.qp().items()}
+    if given is None:
+        return structure.design_reinforcement(s_sec, s_act, s_qp, basis,
+                                              stem_moment_at=stem_moment_at,
+                                              stem_height_m=s_hc, limit=limit(basis))
+    return structure.check_reinforcement(s_sec, s_act, s_qp, basis, given,
+                                         stem_moment_at=stem_moment_at, stem_height_m=s_hc)
+
+
+def _stem_moment_at(allx, sec: SectionArrays, cond):
+    """``stem_moment_at(y)`` for the curtailment: the ULS stem moment envelope tabulated
+    at ``CURTAIL_DEPTHS`` depths 0..h_c of every candidate, linear between (kNm/m, y in
+    m below z_top). Conservative: the stem moment is convex in the depth (its second
+    derivative is the pressure on the stem, >= 0), so a chord lies on or above it and
+    the interpolated moment is never below the true one (bars only ever stop later)."""
+    n, k = len(sec), CURTAIL_DEPTHS
+    zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
+    hc = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
+    frac = np.linspace(0.0, 1.0, k)
+    M = np.asarray(allx.stem_moment(frac[:, None] * hc[None, :]), dtype=float)
+    cols = np.arange(n)
+
+    def at(y):
+        y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
+        i = np.minimum(np.floor(t).astype(int), k - 2)
+        a = t - i
+        return (1.0 - a) * M[i, cols] + a * M[i + 1, cols]
+
+    return at
+
+
+# --- the search's evaluation -----------------------------------------------------------------
+
+def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
+           seg: np.ndarray, complete: np.ndarray, caps: np.ndarray | None = None):
+    """(ok, cost, utilization) of candidates, (n,) each, for the search; the
+    utilization relative to what the candidate may reach (:func:`max_util` with the
+    margin of :func:`limit`: it passes at <= 1).
+
+    Stability is checked for every candidate and the structure designed for those that
+    pass it (every stem bar full height: the search ranks by that steel, which only
+    overstates the mass; the chosen sections are evaluated again with curtailment).
+    A candidate failing stability has its stability utilization and cost nan. ``seg``
+    (n,) numbers the batch (demand) of each row; ``complete`` (per batch) asks, when no
+    candidate of that batch passes, for the structure of all its candidates too (the
+    descent then follows complete utilizations). ``caps`` (n,): an edge-pressure cap per
+    row (``joint_pressure``), inf for none.
+    """
+    n = len(sec)
+    lim, one = limit(basis), 1.0 + TOL
+    cond = conditions_of(sec.base_thickness_m, rows, ground)
+    allx = stability.evaluate_all(sec, cond, basis)
+    bad = allx.ctx.bad()
+    h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m,
+                                                                            dtype=float)
+    stab = list(allx.checks) + _joint_pressure(allx, caps)
+    util = max_util(stab, n, lim)  # scaled: passes at <= 1
+    steel = np.full(n, np.nan)
+    idx = np.flatnonzero((util <= one) & ~bad)
+    if len(idx):
+        part = _structure_of(allx, sec, h_c, basis, None if len(idx) == n else idx)
+        util[idx] = np.maximum(util[idx], max_util(part.checks, len(idx), lim))
+        steel[idx] = part.steel_kg_per_m
+    ok = (util <= one) & ~bad
+    if np.any(complete):
+        passing = np.bincount(seg, weights=ok.astype(float), minlength=len(complete)) > 0
+        need = np.asarray(complete, dtype=bool) & ~passing
+        rest = np.flatnonzero(need[seg] & np.isnan(steel))
+        if len(rest):
+            part = _structure_of(allx, sec, h_c, basis, rest)
+            util[rest] = np.maximum(util[rest], max_util(part.checks, len(rest), lim))
+            steel[rest] = part.steel_kg_per_m
+            ok = (util <= one) & ~bad
+    hs, D = stem_heights(sec, cond, rows)
+    return ok, costing.per_metre(sec, hs, D, steel), util
+
+
+# --- a chosen section in full --------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Evaluation:
+    """Every check of n candidates, each at its own demand (see :func:`evaluate`).
+
+    checks: stability then structural checks (and ``joint_pressure`` where capped),
+    each for the n candidates; utilization: the largest of each candidate; ok: it
+    passes every check at ``design.max_utilization`` and its dimensions close; cost:
+    cost per metre with curtailed steel; edge: the largest characteristic edge pressure
+    (joint pressure ratio), kPa; z_found: underside of base, m.
+    """
+
+    sec: SectionArrays
+    checks: tuple[CheckArray, ...]
+    structure: object  # structure.StructureResult
+    utilization: np.ndarray
+    ok: np.ndarray
+    cost: np.ndarray
+    steel_kg_per_m: np.ndarray
+    edge: np.ndarray
+    z_found: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.sec)
+
+    def entries(self, i: int) -> tuple[CheckEntry, ...]:
+        """The checks of candidate i as ``design.json`` entries, ``governs`` on the worst
+        entry of each (check, combination)."""
+        n = len(self.sec)
+        rows = []
+        for c in self.checks:
+            e = float(_full(c.effect, n)[i])
+            r = float(_full(c.resistance, n)[i])
+            rows.append((c, e, r, float(utilization(e, r))))
+        worst: dict[tuple[str, str], int] = {}
+        for k, (c, _, _, u) in enumerate(rows):
+            key = (c.check, c.combination)
+            if key not in worst or u > rows[worst[key]][3]:
+                worst[key] = k
+        gov = set(worst.values())
+        return tuple(CheckEntry(c.check, c.combination, c.case, e, r, c.unit, u, c.clause,
+                                k in gov) for k, (c, e, r, u) in enumerate(rows))
+
+    def governing(self, i: int) -> tuple[str, str, float]:
+        """(check, combination, utilization) of the worst check of candidate i."""
+        best = ("", "", 0.0)
+        for e in self.entries(i):
+            if e.utilization > best[2] or not best[0]:
+                best = (e.check, e.combination, e.utilization)
+        return best
+
+
+def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
+             given: Reinforcement | None = None, caps: np.ndarray | None = None) -> Evaluation:
+    """Every stability and structural check of n candidates at their own levels, in full.
+
+    Stability: ``stability.evaluate_all`` (design-basis section 4). Structure:
+    ``structure.design_reinforcement`` chooses the bars of each candidate, or
+    ``structure.check_reinforcement`` checks ``given`` bars (design-basis section 5),
+    with the stem bars curtailed where the moment allows. Cost:
+    ``takeoff.cost_per_metre`` with the resulting steel. ``caps``: edge-pressure caps
+    per row (``joint_pressure``), inf or None for none.
+    """
+    n = len(sec)
+    cond = conditions_of(sec.base_thickness_m, rows, ground)
+    allx = stability.evaluate_all(sec, cond, basis)
+    bad = allx.ctx.bad()
+    zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
+    h_c = cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float)
+    sr = _structure_of(allx, sec, h_c, basis, None, given=given,
+                       stem_moment_at=_stem_moment_at(allx, sec, cond))
+    checks = tuple(allx.checks) + tuple(_joint_pressure(allx, caps)) + tuple(sr.checks)
+    util = max_util(checks, n)
+    ok = (max_util(checks, n, limit(basis)) <= 1.0 + TOL) & ~bad
+    steel = _full(sr.steel_kg_per_m, n)
+    hs, D = stem_heights(sec, cond, rows)
+    cost = costing.per_metre(sec, hs, D, steel)
+    return Evaluation(sec=sec, checks=checks, structure=sr, utilization=util, ok=ok,
+                      cost=cost, steel_kg_per_m=np.array(steel),
+                      edge=np.asarray(allx.edge_pressure(), dtype=float).reshape(n),
+                      z_found=np.array(zf))
+
+
+# --- a panel's design ------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class SizedDesign:
+    """A section with its bars and its checks at one demand.
+
+    checks: every check (``Evaluation.entries``); cost_per_m: ``takeoff.cost_per_metre``
+    with the stem drawn up to the demand's wall top, money per metre run; z_found:
+    underside of base, m; edge_pressure_sls_kpa: largest characteristic edge pressure
+    (joint pressure ratio), kPa; status ``ok`` or ``flagged`` (with ``reason``);
+    utilization: largest of all checks; governing: that check as ``check combination``;
+    section_type: a name when the section comes from the catalogue or a rationalised
+    set, else "".
+    """
+
+    section: Section
+    reinforcement: Reinforcement | None
+    checks: tuple[CheckEntry, ...]
+    cost_per_m: float
+    z_found: float
+    edge_pressure_sls_kpa: float
+    status: str
+    reason: str
+    utilization: float
+    governing: str
+    section_type: str = ""
+
+
+def sized(ev: Evaluation, i: int, status: str | None = None, reason: str = "",
+          section_type: str = "") -> SizedDesign:
+    """The :class:`SizedDesign` of candidate ``i`` of an evaluation; flagged with its
+    governing check when it does not pass (unless a status is given)."""
+    chk, comb, u = ev.governing(i)
+    if status is None:
+        status = "ok" if bool(ev.ok[i]) else "flagged"
+        if status == "flagged" and not reason:
+            reason = f"fails {chk} {comb} ({u:.2f})"
+    return SizedDesign(section=ev.sec.take(i), reinforcement=ev.structure.reinforcement(i),
+                       checks=ev.entries(i), cost_per_m=float(ev.cost[i]),
+                       z_found=float(ev.z_found[i]), edge_pressure_sls_kpa=float(ev.edge[i]),
+                       status=status, reason=reason, utilization=float(ev.utilization[i]),
+                       governing=f"{chk} {comb}".strip(), section_type=section_type)
+
+
+def evaluate_at(sections: list[Section], demand: Demand, basis: Basis, costing: Costing,
+                given: Reinforcement | None = None) -> Evaluation:
+    """:func:`evaluate` of a few sections at one demand (its edge-pressure cap too)."""
+    sec = SectionArrays.of(list(sections))
+    rows = Rows.of([demand], [len(sec)])
+    return evaluate(sec, rows, demand, basis, costing, given=given,
+                    caps=caps_of([demand], [len(sec)]))
+
+
+def caps_of(demands, counts) -> np.ndarray | None:
+    """Edge-pressure caps (``Demand.max_edge_pressure_kpa``) of the rows of ``counts[k]``
+    candidates at ``demands[k]``, or None when no demand has one."""
+    if all(d.max_edge_pressure_kpa is None for d in demands):
+        return None
+    return np.repeat(np.array([np.inf if d.max_edge_pressure_kpa is None
+                               else d.max_edge_pressure_kpa for d in demands], dtype=float),
+                     counts)

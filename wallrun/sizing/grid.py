@@ -1,0 +1,216 @@
+"""The grid of candidate sections of one demand, in construction increments.
+
+A candidate is an integer vector (:data:`NDIM` entries): base width B, toe, base
+thickness, stem base thickness and stem top thickness in multiples of the dimension
+step, then the key depth index (0: no key, k: the k-th depth of ``key_depths``) and
+the key width index. :class:`Grid` holds the bounds of each entry and the rules a
+section must keep (design-basis sections 2 and 6); :func:`grid_for` gives the bounds of
+a demand and the reason each is safe. Units: m.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from wallrun.section import Section, SectionArrays
+from wallrun.settings import Design
+
+from .conditions import Demand
+
+NDIM = 7
+B, TOE, TB, TS, TT, KD, KW = range(NDIM)
+
+#: Bits of each entry in a candidate's code (:func:`codes`): 63 in all.
+_BITS = (12, 12, 10, 10, 9, 5, 5)
+
+
+@dataclass(frozen=True)
+class Grid:
+    """Bounds of the candidates of one demand, integers in steps of ``step`` (m).
+
+    b: base width; tb: base thickness; ts: stem base thickness; tt: stem top thickness
+    (never thicker than the stem base); toe from 0 to ``toe_half`` ? B/2 : B - ts - 1
+    (a heel of at least one step); key: none, or a depth of ``key_depths`` with a width
+    of ``key_widths`` (m). The base is never thinner than the stem base it anchors.
+    """
+
+    step: float
+    b: tuple[int, int]
+    tb: tuple[int, int]
+    ts: tuple[int, int]
+    tt: tuple[int, int]
+    toe_half: bool
+    key_depths: tuple[float, ...]
+    key_widths: tuple[float, ...]
+
+    # --- the candidates -------------------------------------------------------------------
+    def valid(self, v: np.ndarray) -> np.ndarray:
+        """Mask of integer candidates (m, NDIM) inside the bounds whose sections close."""
+        v = np.asarray(v, dtype=np.int64)
+        b, toe, tb, ts, tt, kd, kw = v.T
+        ok = (b >= self.b[0]) & (b <= self.b[1]) & (tb >= self.tb[0]) & (tb <= self.tb[1])
+        ok &= (ts >= self.ts[0]) & (ts <= self.ts[1]) & (tt >= self.tt[0]) & (tt <= self.tt[1])
+        ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)
+        ok &= (2 * toe <= b) if self.toe_half else np.ones(len(v), dtype=bool)
+        ok &= b - toe - ts >= 1  # a heel of at least one step
+        ok &= (kd >= 0) & (kd <= len(self.key_depths)) & (kw >= 0)
+        ok &= np.where(kd > 0, kw < max(len(self.key_widths), 1), kw == 0)
+        if self.key_widths:
+            w = np.asarray(self.key_widths)[np.clip(kw, 0, len(self.key_widths) - 1)]
+            ok &= (kd == 0) | (toe * self.step + w <= b * self.step + 1e-9)
+        return ok
+
+    def sections(self, v: np.ndarray) -> SectionArrays:
+        """The sections of integer candidates (m, NDIM), m."""
+        s = self.step
+        v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+        depths = np.concatenate([[0.0], np.asarray(self.key_depths, dtype=float)])
+        widths = np.asarray(self.key_widths, dtype=float) if self.key_widths else np.zeros(1)
+        kd = np.clip(v[:, KD], 0, len(depths) - 1)
+        w = np.where(kd > 0, widths[np.clip(v[:, KW], 0, len(widths) - 1)], 0.0)
+        m = lambda k: np.round(v[:, k] * s, 6)  # noqa: E731
+        return SectionArrays(stem_top_m=m(TT), stem_base_m=m(TS), base_width_m=m(B),
+                             toe_m=m(TOE), base_thickness_m=m(TB), key_depth_m=depths[kd],
+                             key_width_m=w)
+
+    def vector_of(self, s: Section) -> np.ndarray | None:
+        """The integer vector of a section on this grid's step (None: a key or a
+        dimension off the grid)."""
+        st = self.step
+        dims = (s.base_width_m, s.toe_m, s.base_thickness_m, s.stem_base_m, s.stem_top_m)
+        ints = [round(x / st) for x in dims]
+        if any(abs(i * st - x) > 1e-6 for i, x in zip(ints, dims)):
+            return None
+        kd = kw = 0
+        if s.key_depth_m > 0:
+            dd = np.abs(np.asarray(self.key_depths) - s.key_depth_m)
+            ww = np.abs(np.asarray(self.key_widths) - s.key_width_m)
+            if not len(dd) or dd.min() > 1e-6 or ww.min() > 1e-6:
+                return None
+            kd, kw = int(dd.argmin()) + 1, int(ww.argmin())
+        return np.array(ints + [kd, kw], dtype=np.int64)
+
+    def axes(self) -> list[np.ndarray]:
+        """The values of each entry (the toe axis up to its largest over B)."""
+        toe_hi = self.b[1] // 2 if self.toe_half else self.b[1] - self.ts[0] - 1
+        return [np.arange(self.b[0], self.b[1] + 1), np.arange(0, max(toe_hi, 0) + 1),
+                np.arange(self.tb[0], self.tb[1] + 1), np.arange(self.ts[0], self.ts[1] + 1),
+                np.arange(self.tt[0], self.tt[1] + 1),
+                np.arange(0, len(self.key_depths) + 1),
+                np.arange(0, max(len(self.key_widths), 1))]
+
+    def every(self, stride: int | tuple[int, ...] = 1) -> np.ndarray:
+        """Every valid candidate, taking each ``stride``-th value of the five dimension
+        entries (one stride, or one per entry; the last value of each always included),
+        (m, NDIM)."""
+        strides = (stride,) * KD if isinstance(stride, int) else tuple(stride)
+        axes = []
+        for k, a in enumerate(self.axes()):
+            if k >= KD or strides[k] <= 1:
+                axes.append(a)
+            else:
+                sel = a[::strides[k]]
+                if sel[-1] != a[-1]:
+                    sel = np.append(sel, a[-1])
+                axes.append(sel)
+        mesh = np.stack(np.meshgrid(*axes, indexing="ij", copy=False), axis=-1).reshape(-1, NDIM)
+        return mesh[self.valid(mesh)]
+
+    def coarse_strides(self, values: tuple[int, ...]) -> tuple[int, ...]:
+        """Strides giving about ``values[k]`` values on each of the five dimension
+        entries (a cold start's coarse grid)."""
+        return tuple(max(1, int(math.ceil(len(a) / n)))
+                     for a, n in zip(self.axes()[:KD], values))
+
+    # --- bounds that bind ----------------------------------------------------------------
+    def binding(self, v: np.ndarray) -> tuple[str, ...]:
+        """The bounds a candidate sits on that a wider grid could move: names of
+        ``b_lo``, ``b_hi``, ``tb_hi``, ``ts_hi``, ``tt_hi``, ``toe_hi``. Lower bounds
+        that are settings (least base and stem thickness, no toe) and the key's
+        constructional limits never bind."""
+        out = []
+        if v[B] <= self.b[0] and self.b[0] > self.ts[0] + 1:
+            out.append("b_lo")
+        if v[B] >= self.b[1]:
+            out.append("b_hi")
+        if v[TB] >= self.tb[1]:
+            out.append("tb_hi")
+        if v[TS] >= self.ts[1]:
+            out.append("ts_hi")
+        if v[TT] >= self.tt[1] and self.tt[1] < self.ts[1]:
+            out.append("tt_hi")
+        if self.toe_half and 2 * v[TOE] >= v[B] - 1:
+            out.append("toe_hi")
+        return tuple(out)
+
+    def widened(self, names) -> "Grid":
+        """This grid with the named bounds moved out (half as much again, at least two
+        steps; the base-width lower bound down to the least that closes)."""
+        g = self
+        grow = lambda lo, hi: max(hi + 2, int(math.ceil(hi * 1.5)))  # noqa: E731
+        order = ("b_lo", "b_hi", "tb_hi", "ts_hi", "tt_hi", "toe_hi")
+        for n in sorted(names, key=order.index):
+            if n == "b_lo":
+                g = replace(g, b=(g.ts[0] + 1, g.b[1]))
+            elif n == "b_hi":
+                g = replace(g, b=(g.b[0], grow(*g.b)))
+            elif n == "tb_hi":
+                g = replace(g, tb=(g.tb[0], grow(*g.tb)))
+            elif n == "ts_hi":
+                g = replace(g, ts=(g.ts[0], grow(*g.ts)))
+            elif n == "tt_hi":
+                g = replace(g, tt=(g.tt[0], g.ts[1]))
+            elif n == "toe_hi":
+                g = replace(g, toe_half=False)
+        return g
+
+
+def codes(v: np.ndarray) -> np.ndarray:
+    """One int64 code per integer candidate (for set membership), entries packed in
+    :data:`_BITS` bits each (entries are never negative on a valid grid)."""
+    v = np.asarray(v, dtype=np.int64)
+    code = np.zeros(len(v), dtype=np.int64)
+    for k, bits in enumerate(_BITS):
+        code = (code << bits) | np.clip(v[:, k], 0, (1 << bits) - 1)
+    return code
+
+
+def grid_for(demand: Demand, step: float, design: Design = Design()) -> Grid:
+    """The grid of ``demand`` (design-basis section 6), H = h + the least founding depth.
+
+    Lower bounds are settings or the section's own closure: stem thickness anywhere at
+    least ``design.min_stem_m`` and base thickness at least ``design.min_base_m`` (two
+    mats of bars, room to compact; common practice), toe from 0 (an L-shaped wall).
+    Upper bounds are generous proportions, and the search moves any that its best
+    section reaches (:meth:`Grid.widened`), so none excludes a cheaper section that a
+    wider grid would give:
+
+    - base width 0.3 H to 1.5 H (at least 1.0 m): common practice puts the optimum near
+      0.5 to 0.7 H; the lower bound moves down to the least that closes when reached.
+    - toe 0 to B/2 (a toe beyond half the base puts the stem ahead of the base centre
+      and the soil block's weight behind it, never an economy; moved when reached).
+    - stem base to max(0.35, 0.15 H + 0.10) m, stem top to max(0.30, min stem + 0.05) m
+      and never thicker than the stem base (the top carries no moment).
+    - base thickness to max(0.45, 0.15 H + 0.25) m, and never thinner than the stem base.
+    - key: none, or depth 0.30 to 0.60 m and width 0.30 to 0.50 m in steps of two
+      dimension steps: constructional limits, not search bounds (a key shallower than
+      0.3 m mobilises little passive resistance, one deeper than 0.6 m is hard to dig
+      and cast against the ground; common practice).
+    """
+    h = max(demand.h, 0.0)
+    H = h + max(demand.min_founding_depth_m, 0.3)
+    up = lambda x: int(math.ceil(x / step - 1e-9))  # noqa: E731
+    ts_lo = up(design.min_stem_m)
+    tb_lo = max(up(design.min_base_m), ts_lo)
+    ts_hi = max(up(max(0.35, 0.15 * H + 0.10)), ts_lo)
+    tt_hi = min(max(up(max(0.30, design.min_stem_m + 0.05)), ts_lo), ts_hi)
+    tb_hi = max(up(max(0.45, 0.15 * H + 0.25)), tb_lo, ts_hi)
+    b_lo = max(up(max(0.3 * H, 0.6)), ts_lo + 1)
+    b_hi = max(up(max(1.5 * H, 1.0)), b_lo)
+    kd = tuple(np.round(np.arange(up(0.30) * step, 0.60 + 1e-9, 2 * step), 6))
+    kw = tuple(np.round(np.arange(up(0.30) * step, 0.50 + 1e-9, 2 * step), 6))
+    return Grid(step=float(step), b=(b_lo, b_hi), tb=(tb_lo, tb_hi), ts=(ts_lo, ts_hi),
+                tt=(ts_lo, tt_hi), toe_half=True, key_depths=kd, key_widths=kw)

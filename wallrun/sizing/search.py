@@ -1,0 +1,624 @@
+"""The bespoke search: the cheapest passing section of every demand, many demands at once.
+
+Design-basis section 6. For each demand, the grid of :func:`grid.grid_for` is searched
+for the section of least cost per metre that passes every check. The search of one
+demand is a sequence of moves (batches of candidates to check) that depends only on
+that demand: the searches of all the demands of one ground advance together, and every
+step checks all their batches in one joined call (``evaluate.screen``), so a long run
+of distinct panels costs a few hundred numpy calls, not a few hundred per panel.
+
+The moves of one demand:
+
+1. Seeds from reference demands. A demand's reference demands are the same ground at
+   retained heights on a lattice of ``REF_STEP_M`` (the lattice heights just above and
+   below its own), at a fixed front level, with the wall top at the retained level and
+   the water level taken relative to the front level (rounded to the lattice): a pure
+   function of the demand. Each reference is searched cold (below); its best section
+   seeds the demands next to it. References are shared by the demands of a call, but a
+   demand's references, and so its result, never depend on which other demands were
+   designed, before or beside it.
+2. A cold search (a reference, or a demand whose seeds find nothing passing): the grid
+   at every ``STRIDE``-th value of each dimension, checked in increasing lower bound of
+   the cost until its ``SEEDS`` cheapest passing candidates are known
+   (:func:`best_first`), then a descent from each.
+3. The descent (:func:`descent`) from the taller reference's section (a section that
+   passes at a taller wall nearly always passes here, and a descent that starts from a
+   passing section keeps to passing ones), the lower reference's section tried too.
+4. Widening: where the best section sits on a bound that a wider grid could move
+   (:meth:`Grid.binding`), the bound is moved and the descent resumes.
+5. The ``FINALISTS`` cheapest passing candidates are checked in full with curtailed
+   stem bars (``evaluate.evaluate``), and the cheapest passing is the design (ties: the
+   lower utilization).
+
+Candidates whose cost without steel (``evaluate.lower_bound``) cannot beat the best
+found are never checked. The search is a heuristic, not a proof: its results are
+compared with :func:`cheapest_on_grid`, which checks every candidate of the grid (in
+increasing lower bound, stopping only where no unchecked candidate can be cheaper), in
+the tests and the benchmark.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from wallrun.results import BarSet, Reinforcement
+from wallrun.section import Section, SectionArrays
+from wallrun.settings import Basis, Water
+
+from . import evaluate as ev_
+from .conditions import Demand, Rows, beyond_reason, founding_level, steep_reason
+from .evaluate import Costing, SizedDesign
+from .grid import NDIM, Grid, codes, grid_for
+
+#: Retained-height lattice of the reference demands, m.
+REF_STEP_M = 0.25
+#: About this many values of base width, toe, base thickness, stem base and stem top in
+#: a cold start's coarse grid.
+COARSE = (12, 8, 5, 5, 2)
+#: Cheapest coarse passes a cold start descends from.
+SEEDS = 3
+#: Cheapest screened passes checked in full at the end.
+FINALISTS = 4
+#: Bound moves a search may make.
+MAX_WIDEN = 4
+#: Largest number of candidates checked in one call (memory: every check is an array of
+#: this length, several hundred of them live at once).
+CHUNK = 60_000
+#: Candidates per batch of :func:`best_first`.
+BEST_FIRST_BATCH = 8192
+
+
+# --- the candidates of one demand ---------------------------------------------------------
+
+class Store:
+    """The checked candidates of one demand: integer vectors, ok, cost, utilization.
+
+    A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones.
+    """
+
+    def __init__(self, grid: Grid):
+        self.grid = grid
+        self.codes = np.zeros(0, dtype=np.int64)
+        self.V = np.zeros((0, NDIM), dtype=np.int64)
+        self.ok = np.zeros(0, dtype=bool)
+        self.cost = np.zeros(0)
+        self.util = np.zeros(0)
+        self._best, self._best_n = None, -1
+
+    @property
+    def checked(self) -> int:
+        return len(self.ok)
+
+    def best(self) -> int | None:
+        """Index of the cheapest passing candidate (ties: lower utilization, then the
+        first checked), None when none passes."""
+        if self._best_n != len(self.ok):
+            b = None
+            if self.ok.any():
+                idx = np.flatnonzero(self.ok)
+                b = int(idx[np.lexsort((self.util[idx], self.cost[idx]))[0]])
+            self._best, self._best_n = b, len(self.ok)
+        return self._best
+
+    def best_cost(self) -> float:
+        b = self.best()
+        return math.inf if b is None else float(self.cost[b])
+
+    def fresh(self, v) -> tuple[np.ndarray, np.ndarray]:
+        """The valid candidates of ``v`` not checked yet, once each (in code order), and
+        their codes."""
+        v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+        if not len(v):
+            return v, np.zeros(0, dtype=np.int64)
+        v = v[self.grid.valid(v)]
+        c, first = np.unique(codes(v), return_index=True)
+        v = v[first]
+        if len(self.codes):
+            new = ~np.isin(c, self.codes, assume_unique=True)
+            v, c = v[new], c[new]
+        return v, c
+
+    def commit(self, v, c, ok, cost, util) -> None:
+        """Remember checked candidates ``v`` with their codes and results."""
+        self.V = np.vstack([self.V, v])
+        self.codes = np.concatenate([self.codes, c])
+        self.ok = np.concatenate([self.ok, ok])
+        self.cost = np.concatenate([self.cost, cost])
+        self.util = np.concatenate([self.util, util])
+
+    def nth_passing_cost(self, m: int) -> float:
+        """Cost of the m-th cheapest passing candidate (inf: fewer pass)."""
+        c = self.cost[self.ok]
+        if len(c) < m:
+            return math.inf
+        return float(np.partition(c, m - 1)[m - 1])
+
+    def ranked(self, m: int) -> np.ndarray:
+        """Indices of the m cheapest passing candidates (ties: lower utilization), else
+        of the m least utilised."""
+        if self.ok.any():
+            idx = np.flatnonzero(self.ok)
+            return idx[np.lexsort((self.util[idx], self.cost[idx]))[:m]]
+        return np.argsort(self.util, kind="stable")[:m]
+
+
+# --- the moves ---------------------------------------------------------------------------
+
+def best_first(store: Store, v: np.ndarray, lb: np.ndarray, m: int,
+               batch: int = BEST_FIRST_BATCH):
+    """Batches of the candidates ``v`` in increasing lower bound ``lb`` of their cost; the
+    caller checks each batch into ``store`` before resuming. Stops once the m-th
+    cheapest passing cost is below the lower bound of every candidate left: none of them
+    can be among the m cheapest passing, so these are those of checking all of ``v``."""
+    order = np.argsort(lb, kind="stable")
+    v, lb = v[order], np.asarray(lb, dtype=float)[order]
+    a = 0
+    while a < len(v):
+        b = min(a + batch, len(v))
+        yield v[a:b]
+        a = b
+        if a < len(v) and store.nth_passing_cost(m) < lb[a] - 1e-9:
+            return
+
+
+def _offsets(dims: int, radius: int = 1) -> np.ndarray:
+    return np.array(list(itertools.product(range(-radius, radius + 1), repeat=dims)),
+                    dtype=np.int64)
+
+
+_SMALL = np.zeros((3 ** 4, NDIM), dtype=np.int64)
+_SMALL[:, :4] = _offsets(4)
+_FULL = _offsets(NDIM)
+
+
+def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True):
+    """The moves of the local search from ``start``, as neighbourhoods to check.
+
+    A step checks a neighbourhood and moves to the cheapest passing candidate (while
+    nothing passes, the least utilised). Neighbourhoods: the small one, every
+    combination of -1..1 steps in base width, toe, base thickness and stem base, with
+    (feasibility in the toe length is not convex) the whole toe range at the same base
+    width and one step narrower; once that settles, the full one, -1..1 in all seven
+    entries, then the small one again; until nothing improves. ``extra`` candidates are
+    checked with the first neighbourhood. ``polish=False`` (a start near a known
+    optimum) takes the full neighbourhood first.
+    """
+    cur = np.asarray(start, dtype=np.int64)
+    use_full = not polish
+    for _ in range(max_iter):
+        if use_full:
+            cand = cur[None, :] + _FULL
+        else:
+            toes = np.arange(0, cur[0] + 1)
+            line = np.repeat(cur[None, :], 2 * len(toes), axis=0)
+            line[len(toes):, 0] -= 1
+            line[:, 1] = np.tile(toes, 2)
+            cand = np.vstack([cur[None, :] + _SMALL, line])
+        if extra is not None:
+            cand, extra = np.vstack([np.asarray(extra, dtype=np.int64).reshape(-1, NDIM),
+                                     cand]), None
+        yield cand
+        b = store.best()
+        if b is not None:
+            nxt = store.V[b]
+        elif store.checked:
+            nxt = store.V[int(np.argmin(store.util))]
+        else:
+            return
+        if np.array_equal(nxt, cur):
+            if use_full or not polish:
+                if use_full and not polish:
+                    polish, use_full = True, False  # then the small one until it settles
+                    continue
+                return
+            use_full = True
+        else:
+            use_full = False
+            cur = nxt
+
+
+@dataclass
+class Request:
+    """A batch of fresh candidates (and their codes) for the driver to check; ``prune``:
+    drop those whose lower bound cannot beat the store's best first."""
+
+    v: np.ndarray
+    c: np.ndarray
+    prune: bool = True
+
+
+def _ask(store: Store, v, prune: bool = True):
+    v, c = store.fresh(v)
+    if len(v):
+        yield Request(v, c, prune)
+
+
+def cold_moves(store: Store, lower_bound):
+    """A cold start: the coarse grid best-first, then a descent from each of its
+    ``SEEDS`` cheapest passing (or least utilised) candidates."""
+    v, _ = store.fresh(store.grid.every(store.grid.coarse_strides(COARSE)))
+    if len(v):
+        for part in best_first(store, v, lower_bound(v), SEEDS):
+            yield from _ask(store, part, prune=False)
+    for i in store.ranked(SEEDS):
+        for cand in descent(store, store.V[i].copy()):
+            yield from _ask(store, cand)
+
+
+def widen_moves(store: Store):
+    """Move the bounds the best candidate sits on and descend again, a few times."""
+    for _ in range(MAX_WIDEN):
+        b = store.best()
+        if b is None:
+            return
+        names = store.grid.binding(store.V[b])
+        if not names:
+            return
+        store.grid = store.grid.widened(names)
+        for cand in descent(store, store.V[b].copy()):
+            yield from _ask(store, cand)
+
+
+def search_moves(store: Store, lower_bound, starts=()):
+    """Every move of one demand's search: a descent from the first of ``starts`` (the
+    others checked with its first neighbourhood), a cold start when that finds nothing
+    passing (or there are no starts), then the widening."""
+    starts = [np.asarray(s, dtype=np.int64) for s in starts]
+    if starts:
+        for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
+            yield from _ask(store, cand)
+    if store.best() is None:
+        yield from cold_moves(store, lower_bound)
+    yield from widen_moves(store)
+
+
+# --- the driver: many searches in lockstep -------------------------------------------------
+
+@dataclass
+class _Task:
+    demand: Demand
+    store: Store
+    gen: object = None
+    req: Request | None = None
+
+    def advance(self) -> None:
+        try:
+            self.req = next(self.gen)
+        except StopIteration:
+            self.req = None
+
+
+def _joined(tasks, vs) -> SectionArrays:
+    parts = [t.store.grid.sections(v) for t, v in zip(tasks, vs)]
+    if len(parts) == 1:
+        return parts[0]
+    return SectionArrays(**{k: np.concatenate([np.asarray(getattr(p, k), dtype=float)
+                                               for p in parts])
+                            for k in ("stem_top_m", "stem_base_m", "base_width_m", "toe_m",
+                                      "base_thickness_m", "key_depth_m", "key_width_m")})
+
+
+def _chunks(counts: list[int], chunk: int):
+    """(start, stop) ranges of consecutive batches of at most ``chunk`` candidates (a
+    larger batch alone in its range)."""
+    out, a, tot = [], 0, 0
+    for k, c in enumerate(counts):
+        if k > a and tot + c > chunk:
+            out.append((a, k))
+            a, tot = k, 0
+        tot += c
+    if a < len(counts):
+        out.append((a, len(counts)))
+    return out
+
+
+def _lower_bounds(tasks, vs, ground: Demand, costing: Costing) -> np.ndarray:
+    sec = _joined(tasks, vs)
+    rows = Rows.of([t.demand for t in tasks], [len(v) for v in vs])
+    return ev_.lower_bound(sec, rows, ground, costing)
+
+
+def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK) -> int:
+    """Advance the searches of ``tasks`` (one ground) together until every one is done;
+    returns the number of candidates checked."""
+    if not tasks:
+        return 0
+    ground = tasks[0].demand
+    checked = 0
+    for t in tasks:
+        t.advance()
+    while True:
+        act = [t for t in tasks if t.req is not None]
+        if not act:
+            return checked
+        # lower-bound pruning against each search's best
+        lbt = [t for t in act if t.req.prune and np.isfinite(t.store.best_cost())]
+        counts = [len(t.req.v) for t in lbt]
+        for c0, c1 in _chunks(counts, chunk):
+            part = lbt[c0:c1]
+            lb = _lower_bounds(part, [t.req.v for t in part], ground, costing)
+            pos = 0
+            for t in part:
+                m = len(t.req.v)
+                keep = lb[pos:pos + m] < t.store.best_cost() - 1e-9
+                pos += m
+                t.req = Request(t.req.v[keep], t.req.c[keep], t.req.prune)
+        # check the batches, cut in pieces of at most a chunk and joined up to a chunk
+        res = {id(t): (np.zeros(len(t.req.v), dtype=bool), np.zeros(len(t.req.v)),
+                       np.zeros(len(t.req.v))) for t in act}
+        pieces = [(t, a, min(a + chunk, len(t.req.v))) for t in act
+                  for a in range(0, len(t.req.v), chunk)]
+        for c0, c1 in _chunks([b - a for _, a, b in pieces], chunk):
+            part = pieces[c0:c1]
+            cnt = [b - a for _, a, b in part]
+            sec = _joined([t for t, _, _ in part], [t.req.v[a:b] for t, a, b in part])
+            dems = [t.demand for t, _, _ in part]
+            rows = Rows.of(dems, cnt)
+            seg = np.repeat(np.arange(len(part)), cnt)
+            complete = np.array([not t.store.ok.any() for t, _, _ in part])
+            ok, cost, util = ev_.screen(sec, rows, ground, basis, costing, seg, complete,
+                                        caps=ev_.caps_of(dems, cnt))
+            checked += len(sec)
+            pos = 0
+            for (t, a, b), m in zip(part, cnt):
+                r = res[id(t)]
+                sl = slice(pos, pos + m)
+                r[0][a:b], r[1][a:b], r[2][a:b] = ok[sl], cost[sl], util[sl]
+                pos += m
+        for t in act:
+            if len(t.req.v):
+                t.store.commit(t.req.v, t.req.c, *res[id(t)])
+            t.advance()
+
+
+# --- reference demands ------------------------------------------------------------------------
+
+def reference(demand: Demand, h_ref: float) -> Demand:
+    """The reference demand of ``demand`` at retained height ``h_ref`` (m): the same
+    ground and founding rules, front level 0.0, wall top at the retained level, an
+    absolute water level taken relative to the front level and rounded to
+    ``REF_STEP_M``, no edge-pressure cap (a pure function of the demand)."""
+    water = demand.water
+    if water is not None and water.level_m is not None:
+        rel = round((water.level_m - demand.z_front) / REF_STEP_M) * REF_STEP_M
+        water = Water(level_m=float(rel))
+    return replace(demand, z_top=float(h_ref), z_front=0.0, wall_top_m=float(h_ref),
+                   water=water, max_edge_pressure_kpa=None)
+
+
+def reference_heights(h: float) -> tuple[float, ...]:
+    """The lattice heights next to ``h`` (m): the one at or above it first (its section
+    nearly always passes at h), then the one below (none at 0)."""
+    k = math.floor(h / REF_STEP_M + 1e-9)
+    lo = round(k * REF_STEP_M, 6)
+    hi = lo if abs(lo - h) < 1e-9 else round((k + 1) * REF_STEP_M, 6)
+    out = [hi]
+    if lo > 0 and lo != hi:
+        out.append(lo)
+    return tuple(out)
+
+
+# --- flagged designs ---------------------------------------------------------------------------
+
+def nominal_bars(basis: Basis, section: Section) -> Reinforcement:
+    """A minimal nominal set (smallest listed bar at the widest listed spacing on every
+    face) for a section that is not designed: drawn and measured, never checked."""
+    phi = int(min(basis.steel.bar_sizes_mm))
+    sp = int(max(basis.steel.spacings_mm))
+    cov, covg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    ts, tb = section.stem_base_m * 1000.0, section.base_thickness_m * 1000.0
+    bs = lambda d: BarSet(phi, sp, math.pi / 4 * phi ** 2 * 1000.0 / sp, 0.0, float(d))  # noqa: E731
+    return Reinforcement(stem=bs(ts - cov - phi / 2), heel=bs(tb - cov - phi / 2),
+                         toe=bs(tb - covg - phi / 2), stem_horizontal=bs(ts - cov - 1.5 * phi),
+                         base_distribution=bs(tb - cov - 1.5 * phi),
+                         stem_front=bs(ts - cov - phi / 2))
+
+
+def nominal_section(demand: Demand, step: float, basis: Basis) -> Section:
+    """A section in proportion to the wall (H/10 stem and base, base 0.7 H, toe a quarter
+    of it), shown for a demand that is not designed."""
+    H = max(demand.h, 0.0) + demand.min_founding_depth_m
+    r = lambda x: max(round(x / step) * step, step)  # noqa: E731
+    t = max(r(max(basis.design.min_stem_m, H / 10)), r(basis.design.min_base_m))
+    B = max(r(0.7 * H), round(t + 2 * step, 6))
+    return Section(stem_top_m=r(basis.design.min_stem_m), stem_base_m=t, base_width_m=B,
+                   toe_m=min(r(0.25 * B), round(B - t - step, 6)), base_thickness_m=t)
+
+
+def flagged(demand: Demand, basis: Basis, costing: Costing, step: float, reason: str,
+            section: Section | None = None, bars: Reinforcement | None = None,
+            section_type: str = "", checked: bool = True) -> SizedDesign:
+    """A flagged design that was not searched: the section given (or a nominal one),
+    checked in full with its bars (``checked``) or, where no limit state exists (a
+    backfill too steep), not checked at all: nominal bars, no checks, edge pressure and
+    utilization nan, cost per metre without steel."""
+    section = section or nominal_section(demand, step, basis)
+    if checked:
+        ev = ev_.evaluate_at([section], demand, basis, costing, given=bars)
+        return ev_.sized(ev, 0, status="flagged", reason=reason, section_type=section_type)
+    one = SectionArrays.of([section])
+    rows = Rows.of([demand], [1])
+    z_found = float(founding_level(demand, section.base_thickness_m))
+    hs = rows.wall_top - z_found - section.base_thickness_m
+    cost = float(costing.per_metre(one, hs, demand.z_front - z_found, 0.0)[0])
+    return SizedDesign(section=section, reinforcement=bars or nominal_bars(basis, section),
+                       checks=(), cost_per_m=cost, z_found=z_found,
+                       edge_pressure_sls_kpa=float("nan"), status="flagged", reason=reason,
+                       utilization=float("nan"), governing="", section_type=section_type)
+
+
+def not_designable(demand: Demand, basis: Basis, costing: Costing,
+                   step: float) -> SizedDesign | None:
+    """The flagged design of a demand no search is made for (a backfill too steep for an
+    active limit state, a retained height outside the supported range), else None."""
+    why = steep_reason(demand, basis)
+    if why is not None:
+        return flagged(demand, basis, costing, step, why, checked=False)
+    why = beyond_reason(demand)
+    if why is not None:
+        return flagged(demand, basis, costing, step, why)
+    return None
+
+
+# --- the bespoke designs ----------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class SearchStats:
+    """What a search did: candidates checked, demands searched, references searched."""
+
+    checked: int = 0
+    demands: int = 0
+    references: int = 0
+    checked_references: int = 0
+
+
+def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | None = None,
+            stats: list | None = None) -> list[SizedDesign]:
+    """The bespoke design of each of ``demands`` (in their order), each distinct demand
+    searched once (see the module docstring). ``stats``: a list to which a
+    :class:`SearchStats` is appended."""
+    step = float(step if step is not None else basis.design.dimension_step_m)
+    uniq = list(dict.fromkeys(demands))
+    out: dict[Demand, SizedDesign] = {}
+    todo = []
+    for d in uniq:
+        f = not_designable(d, basis, costing, step)
+        if f is not None:
+            out[d] = f
+        else:
+            todo.append(d)
+
+    def lb_of(d: Demand, g: Grid):
+        rows1 = lambda n: Rows.of([d], [n])  # noqa: E731
+        return lambda v: ev_.lower_bound(g.sections(v), rows1(len(v)), d, costing)
+
+    # 1. the references, searched cold
+    refs = list(dict.fromkeys(reference(d, h) for d in todo for h in reference_heights(d.h)))
+    ref_tasks = {}
+    for r in refs:
+        s = Store(grid_for(r, step, basis.design))
+        ref_tasks[r] = _Task(r, s, cold_moves(s, lb_of(r, s.grid)))
+    checked_refs = _run_by_ground(list(ref_tasks.values()), basis, costing)
+
+    # 2. the demands, from their references' best sections
+    tasks = []
+    for d in todo:
+        s = Store(grid_for(d, step, basis.design))
+        starts = []
+        for h in reference_heights(d.h):
+            rs = ref_tasks[reference(d, h)].store
+            b = rs.best()
+            if b is not None:
+                starts.append(rs.V[b].copy())
+        tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
+    checked = checked_refs + _run_by_ground(tasks, basis, costing)
+
+    # 3. the finalists of each, in full with curtailment
+    for d, sd in zip(todo, finish(tasks, basis, costing)):
+        out[d] = sd
+    if stats is not None:
+        stats.append(SearchStats(checked=checked, demands=len(todo), references=len(refs),
+                                 checked_references=checked_refs))
+    return [out[d] for d in demands]
+
+
+def _run_by_ground(tasks: list[_Task], basis: Basis, costing: Costing) -> int:
+    groups: dict[tuple, list[_Task]] = {}
+    for t in tasks:
+        groups.setdefault(t.demand.ground_key, []).append(t)
+    return sum(_run(g, basis, costing) for g in groups.values())
+
+
+def finish(tasks: list[_Task], basis: Basis, costing: Costing) -> list[SizedDesign]:
+    """The design of each task: its ``FINALISTS`` cheapest passing candidates (else its
+    least utilised) checked in full with curtailment, the cheapest passing chosen (ties:
+    lower utilization, then the better screened rank); none passing: the least
+    utilised, flagged with its governing check."""
+    out: list[SizedDesign | None] = [None] * len(tasks)
+    groups: dict[tuple, list[int]] = {}
+    for k, t in enumerate(tasks):
+        groups.setdefault(t.demand.ground_key, []).append(k)
+    for ks in groups.values():
+        picks = []
+        for k in ks:
+            st = tasks[k].store
+            idx = st.ranked(FINALISTS if st.ok.any() else 1)
+            picks.append(st.V[idx])
+        counts = [len(p) for p in picks]
+        for c0, c1 in _chunks(counts, CHUNK):
+            sub = [tasks[k] for k in ks[c0:c1]]
+            sec = _joined(sub, picks[c0:c1])
+            dems = [t.demand for t in sub]
+            rows = Rows.of(dems, counts[c0:c1])
+            ev = ev_.evaluate(sec, rows, dems[0], basis, costing,
+                              caps=ev_.caps_of(dems, counts[c0:c1]))
+            pos = 0
+            for k, m in zip(ks[c0:c1], counts[c0:c1]):
+                idx = np.arange(pos, pos + m)
+                pos += m
+                okk = idx[ev.ok[idx]]
+                if len(okk):
+                    i = int(okk[np.lexsort((okk, ev.utilization[okk], ev.cost[okk]))[0]])
+                    out[k] = ev_.sized(ev, i)
+                else:
+                    i = int(idx[np.argmin(ev.utilization[idx])])
+                    chk, comb, u = ev.governing(i)
+                    out[k] = ev_.sized(ev, i, status="flagged",
+                                       reason=f"no section within the search bounds passes: "
+                                              f"best fails {chk} {comb} ({u:.2f})")
+    return out
+
+
+# --- the exhaustive reference --------------------------------------------------------------------
+
+def cheapest_on_grid(demand: Demand, basis: Basis, costing: Costing = Costing(),
+                     step: float | None = None, grid: Grid | None = None,
+                     chunk: int = 20_000, every: bool = False,
+                     widen: bool = True) -> tuple[Section | None, float]:
+    """The cheapest passing section of the whole grid of ``demand`` and its cost per
+    metre (money/m), by checking every candidate in full (with curtailed stem bars: the
+    costing of the designs). Candidates are checked in increasing lower bound of the
+    cost (``evaluate.lower_bound``, the cost without steel), stopping once the lower
+    bound of every unchecked candidate is at or above the best cost found: none of them
+    can be cheaper, so the answer is that of checking all (``every=True`` checks all,
+    to show it). Where the cheapest sits on a bound a wider grid could move, the bound
+    is moved as the search moves it (:meth:`Grid.widened`) and the grid checked again
+    (``widen``). (None, inf) when nothing passes. For the tests and the benchmark.
+    """
+    step = float(step if step is not None else basis.design.dimension_step_m)
+    grid = grid or grid_for(demand, step, basis.design)
+    for _ in range(MAX_WIDEN + 1):
+        best, cost = _cheapest(demand, basis, costing, grid, chunk, every)
+        names = () if best is None or not widen else grid.binding(grid.vector_of(best))
+        if not names:
+            return best, cost
+        grid = grid.widened(names)
+    return best, cost
+
+
+def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk: int,
+              every: bool) -> tuple[Section | None, float]:
+    v = grid.every()
+    sec_all = grid.sections(v)
+    lb = ev_.lower_bound(sec_all, Rows.of([demand], [len(v)]), demand, costing)
+    order = np.argsort(lb, kind="stable")
+    v, lb = v[order], lb[order]
+    best, best_cost, best_u = None, math.inf, math.inf
+    for a in range(0, len(v), chunk):
+        if not every and lb[a] >= best_cost - 1e-9:
+            break
+        part = v[a:a + chunk]
+        sec = grid.sections(part)
+        ev = ev_.evaluate(sec, Rows.of([demand], [len(part)]), demand, basis, costing,
+                          caps=ev_.caps_of([demand], [len(part)]))
+        if ev.ok.any():
+            idx = np.flatnonzero(ev.ok)
+            i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
+            c, u = float(ev.cost[i]), float(ev.utilization[i])
+            if c < best_cost - 1e-9 or (abs(c - best_cost) <= 1e-9 and u < best_u):
+                best, best_cost, best_u = sec.take(i), c, u
+    return best, best_cost
