@@ -325,13 +325,13 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
     return idx
 
 
-def _choose_secondary(opt: _Options, h, as_need, basis: Basis, limit: float = 1.0):
+def _choose_secondary(opt: _Options, h, as_need, basis: Basis):
     """Cheapest option meeting an area, the restraint steel of 7.3.2 for its bar size
-    (when ``design.restraint_steel``; over ``limit``, so that its utilization stays
-    within it) and the secondary spacing limit."""
+    (when ``design.restraint_steel``; a detailing minimum, met at utilization 1.0
+    whatever ``design.max_utilization``) and the secondary spacing limit."""
     need = np.broadcast_to(as_need[:, None], (len(h), len(opt.sizes)))
     if basis.design.restraint_steel:
-        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis) / limit)
+        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis))
     return _cheapest_per_size(opt, need, ec2.max_spacing_secondary(h), h)[0]
 
 
@@ -545,7 +545,8 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     curtailment; stem_height_m: height of the checked stem from the top of the base to
     z_top, m, float or (n,) (estimated from stem_moment_at, or from M/V, when omitted:
     it only enters the steel mass and the curtailment); limit: the bars are chosen for
-    the actions (and the restraint steel) over it, ``design.max_utilization``.
+    the actions over it, ``design.max_utilization`` (the minima, the restraint steel
+    among them, at 1.0).
     """
     n = len(sec)
     fck = basis.concrete.fck_mpa
@@ -582,8 +583,7 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
         cat([true, neg["stem"] > 0, true, true]), fck, basis), 4)
     need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
-    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis,
-                                               limit), 2)
+    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis), 2)
     chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
               zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
     return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env)
