@@ -194,6 +194,7 @@ def _fake_result(site, ok=True):
         site=site, runs=(SimpleNamespace(length_m=40.0),), panels=(pr,), joints=(),
         quantities=(SimpleNamespace(item="concrete_total", unit="m3", quantity=12.34),
                     SimpleNamespace(item="reinforcement_total", unit="kg", quantity=987.0)),
+        cost=SimpleNamespace(total=5000.0, complete=True, demo_rates=False),
         warnings=(), ok=ok)
 
 
@@ -204,7 +205,7 @@ def fake_engine(monkeypatch):
     write = types.ModuleType("wallrun.outputs.write")
     from wallrun.errors import InputError
 
-    def design(site, progress=None):
+    def design(site, progress=None, executor=None):
         calls.append("design")
         progress("panels", 1, 2)
         progress("panels", 2, 2)
@@ -239,7 +240,8 @@ def test_design_order_summary_and_exit(fake_engine, tmp_path, capsys):
     assert main(["design", str(SITES / "platform-edge"), "--out", str(out), "--quiet"]) == 0
     assert calls == [("check_writable", str(out)), "design", ("write", str(out))]
     s = capsys.readouterr().out
-    assert "12.3 m3" in s and "987 kg" in s and "0.910 at P003" in s and "sliding DA1-2" in s
+    assert "12.3 m3" in s and "987 kg" in s and "sliding DA1-2 at 0.910" in s and "P003" in s
+    assert "5,000 cost units, 125 cost units per metre" in s
     state["ok"] = False
     calls.clear()
     assert main(["design", str(SITES / "platform-edge"), "--out", str(tmp_path / "o2"), "--quiet"]) == 3
@@ -279,4 +281,4 @@ def test_design_platform_edge_end_to_end(tmp_path, capsys):
     assert rc in (0, 3), capsys.readouterr().err
     assert (out / "panels.csv").is_file() and (out / "design.json").is_file()
     assert snapshot(SITES / "platform-edge") == before
-    assert "Concrete:" in capsys.readouterr().out
+    assert "Concrete " in capsys.readouterr().out

@@ -61,3 +61,45 @@ def test_two_runs_byte_identical(runs, name):
     # nothing of the run's own place (folders, seed) leaks into the data files
     for n, blob in a.items():
         assert b"result-1" not in blob and str(out1.parent).encode() not in blob, n
+
+
+def test_jobs_2_same_files_as_jobs_1(tmp_path, monkeypatch):
+    # --jobs 2 hands the bespoke searches to a process pool (forkserver or spawn): every
+    # demand's design depends on that demand only, so the files are the same byte for
+    # byte (the pool is used from the first batch here: PARALLEL_FROM lowered to 1)
+    from wallrun import pipeline
+    from wallrun.cli import main
+    monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
+    site = tmp_path / "site"
+    shutil.copytree(ROOT / "sites" / "hillside-cut", site)
+    outs = []
+    for jobs in (1, 2):
+        out = tmp_path / f"out{jobs}"
+        assert main(["design", str(site), "--out", str(out), "--quiet", "--jobs", str(jobs)]) in (0, 3)
+        outs.append(out)
+    a, b = data(outs[0]), data(outs[1])
+    assert a and a == b
+
+
+def test_two_threads_design_and_write_as_one_after_the_other(tmp_path):
+    # library calls keep no state between calls and fork nothing: two sites designed and
+    # written in two threads at once give the files of one after the other
+    import threading
+
+    import wallrun
+    sites = [wallrun.load_site(ROOT / "sites" / n) for n in ("hillside-cut", "platform-edge")]
+    seq = []
+    for k, s in enumerate(sites):
+        wallrun.write_outputs(wallrun.design(s), tmp_path / f"seq{k}")
+        seq.append(data(tmp_path / f"seq{k}"))
+
+    def run(k, s):
+        wallrun.write_outputs(wallrun.design(s), tmp_path / f"par{k}")
+
+    ts = [threading.Thread(target=run, args=(k, s)) for k, s in enumerate(sites)]
+    for t in ts:
+        t.start()
+    for t in ts:
+        t.join()
+    for k in range(2):
+        assert data(tmp_path / f"par{k}") == seq[k]

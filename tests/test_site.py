@@ -399,3 +399,79 @@ def test_strength_class_c20_25_is_designed(tmp_path, capsys):
 def test_strength_class_below_annex_e_minimum_is_refused(tmp_path, capsys):
     bad(tmp_path, capsys, "[concrete] strength_class: must be one of",
         toml=TOML + '\n[concrete]\nstrength_class = "C16/20"\n')
+
+
+def test_unmatched_quote_in_profile_is_a_clear_problem(tmp_path):
+    # a double quote left open runs the CSV reader to the end of the file: an input
+    # problem naming the file, not an internal error (found by test_fuzz_profile_reader)
+    with pytest.raises(InputError) as e:
+        load_site(make_site(tmp_path, ground='chainage_m,level_m\n0,"10\n10,10\n20,10\n'))
+    assert any(p.startswith("ground.csv: the rows cannot be read as CSV") for p in e.value.problems)
+# --- the seismic design situation (design-basis 10) ----------------------------------
+
+def test_seismic_read_with_factors(tmp_path):
+    from wallrun.cautions import SEISMIC, not_checked
+    toml = TOML + """
+[seismic]
+ag_g = 0.16
+soil_factor = 1.15
+r = 1.5
+kv_ratio = 0.33
+[factors.seismic]
+g_phi = 1.1
+"""
+    s = load_site(make_site(tmp_path, toml=toml))
+    assert (s.seismic.ag_g, s.seismic.soil_factor, s.seismic.r, s.seismic.kv_ratio) == (
+        0.16, 1.15, 1.5, 0.33)
+    # kh = 0.16 x 1.15 / 1.5 (EN 1998-5 Eq. 7.1), kv = 0.33 kh (Eq. 7.3)
+    assert s.seismic.kh == pytest.approx(0.122667, rel=1e-5)
+    assert s.seismic.kv == pytest.approx(0.33 * 0.122667, rel=1e-5)
+    # set SEIS: actions and resistances 1.0, materials EN 1998-5 3.1(3) with the override
+    f = s.factors["SEIS"]
+    assert (f.gG_unfav, f.gG_fav, f.gQ, f.gR_bearing, f.gR_sliding) == (1.0, 1.0, 1.0, 1.0, 1.0)
+    assert (f.g_phi, f.g_c, f.g_cu) == (1.1, 1.25, 1.4)
+    assert set(s.factors) == {"EQU", "DA1-1", "DA1-2", "SEIS"}
+    assert SEISMIC not in not_checked(s)
+    assert s.warnings == ()
+
+
+def test_seismic_absent_or_defaults(tmp_path):
+    from wallrun.cautions import SEISMIC, not_checked
+    s = load_site(make_site(tmp_path))
+    assert s.seismic is None and "SEIS" not in s.factors and SEISMIC in not_checked(s)
+    (tmp_path / "b").mkdir()
+    s = load_site(make_site(tmp_path / "b", toml=TOML + "[seismic]\nag_g = 0.1\nsoil_factor = 1.2\n"))
+    assert (s.seismic.r, s.seismic.kv_ratio) == (1.0, 0.5)
+    assert s.factors["SEIS"].g_phi == 1.25 and s.factors["SEIS"].g_cu == 1.4
+
+
+def test_seismic_warnings(tmp_path):
+    s = load_site(make_site(tmp_path, toml=TOML + "[factors.seismic]\ng_c = 1.3\n"))
+    assert any("[factors.seismic] is not used" in w for w in s.warnings) and s.seismic is None
+    (tmp_path / "b").mkdir()
+    s = load_site(make_site(tmp_path / "b", toml=TOML + "[seismic]\nag_g = 0.1\nsoil_factor = 1.2\n"
+                            "r = 2\n[water]\nlevel_m = 10.5\n"))
+    assert any("7.3.2.2(3)" in w for w in s.warnings)
+
+
+def test_seismic_bad_values(tmp_path, capsys):
+    bad(tmp_path, capsys,
+        "[seismic] ag_g: must be >= 0 and <= 1", "[seismic] r: must be one of 2.0, 1.5, 1.0",
+        "[seismic] kv_ratio: must be one of 0.5, 0.33", "[seismic] soil_factor: required key is missing",
+        "[factors.seismic] gQ: unknown key", "[factors.seismic] g_phi: must be",
+        toml=TOML + "[seismic]\nag_g = -0.1\nr = 1.2\nkv_ratio = 0.25\n"
+                    "[factors.seismic]\ngQ = 1.0\ng_phi = 0\n")
+    (tmp_path / "b").mkdir()
+    bad(tmp_path / "b", capsys, "[seismic] ag_g: must be >= 0 and <= 1",
+        toml=TOML + "[seismic]\nag_g = 1.5\nsoil_factor = 1.0\n")
+
+
+def test_catalogue_type_thinner_than_the_minimum_is_refused_with_its_name(tmp_path, capsys):
+    cols = ("section,stem_top_m,stem_base_m,base_width_m,toe_m,base_thickness_m,key_depth_m,"
+            "key_width_m,stem_bar_mm,stem_spacing_mm,heel_bar_mm,heel_spacing_mm,toe_bar_mm,"
+            "toe_spacing_mm,dist_bar_mm,dist_spacing_mm\n")
+    rows = ("THIN,0.20,0.30,2.0,0.5,0.30,0,0,12,200,12,200,12,200,10,200\n"
+            "FLAT,0.25,0.30,2.0,0.5,0.25,0,0,12,200,12,200,12,200,10,200\n")
+    bad(tmp_path, capsys, "type 'THIN' has a stem 0.2 m thick, thinner than [design] "
+        "min_stem_m = 0.25 m", "type 'FLAT' has a base 0.25 m thick",
+        toml=TOML + '\n[design]\nsections = "catalogue"\n', **{"sections.csv": cols + rows})

@@ -111,10 +111,10 @@ def test_member_actions_shape_and_equilibrium():
     assert len(acts) == 2 * 4 * 3  # DA1-1, DA1-2 x 4 sub-cases x (stem, heel, toe)
     assert {a.member for a in acts} == {"stem", "heel", "toe"}
     # contact pressure integrates to V (any e), as a statics check of the member model
-    g = stab._Geom(sec, COND)
+    g = stab.Geometry(sec, COND)
     for V, e in ((200.0, 0.1), (200.0, 0.7), (200.0, -0.6)):
-        c0, c1, s0, s1 = stab._contact(np.full(2, V), np.full(2, e), g.B)
-        F, M = stab._lin_integral(c0, c1, s0, s1, 0.0, g.B, 0.0)
+        c0, c1, s0, s1 = stab.contact_pressure(np.full(2, V), np.full(2, e), g.B)
+        F, M = stab.linear_integral(c0, c1, s0, s1, 0.0, g.B, 0.0)
         assert F == pytest.approx(V)
         assert M / F == pytest.approx(g.B / 2 - e)  # resultant at B/2 - e
     qp = stab.member_moments_qp(sec, COND, BASIS)
@@ -253,7 +253,7 @@ def test_more_surcharge_never_lowers_utilization(s, h, q, dq, water, approach):
 def _heel_side(sec, cond, basis):
     """{(combination, case): resultant behind the base centreline (signed e < 0)}."""
     from wallrun.factors import SLS
-    g = stab._Geom(sec, cond)
+    g = stab.Geometry(sec, cond)
     out = {}
     for name in basis.uls_sets:
         a = stab._SetActions(g, basis.factors[name], cond, basis)

@@ -32,13 +32,20 @@ ALWAYS = (
 def not_checked(site) -> tuple[str, ...]:
     """What wallrun does not check for ``site`` (a ``wallrun.settings.Site``): the fixed
     list, plus each optional check the site leaves off or wallrun does not make yet.
-    Every output lists exactly this. The 7.3.2 restraint steel is checked where
-    ``design.restraint_steel`` is on (the default); the bends of 8.3 (Table 8.1N and
-    Eq. 8.1, check ``bar_bend``) are always checked, so BENDS is never listed."""
-    optional = [OVERALL, SEISMIC]
+    Every output lists exactly this. Overall stability is checked where ``[ground]
+    overall_stability = true`` (design-basis section 9), seismic actions where the site
+    gives ``[seismic]`` (design-basis section 10) and the 7.3.2 restraint steel where
+    ``design.restraint_steel`` is on (the default); each is listed otherwise. The bends
+    of 8.3 (Table 8.1N and Eq. 8.1, check ``bar_bend``) are always checked, so BENDS is
+    never listed."""
+    out = []
+    if not site.ground_model.overall_stability:
+        out.append(OVERALL)
+    if site.seismic is None:
+        out.append(SEISMIC)
     if not site.design.restraint_steel:
-        optional.append(RESTRAINT)
-    return tuple(optional) + ALWAYS
+        out.append(RESTRAINT)
+    return tuple(out) + ALWAYS
 
 
 #: The list for a site with every optional check off (tests and documentation).

@@ -347,43 +347,71 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
     return EXIT_OK if result.ok else EXIT_FLAGGED
 
 
-def print_design_summary(result, out_dir) -> None:
-    site = result.site
-    panels = result.panels
-    length = sum(r.length_m for r in result.runs)
-    print(f"Site: {site.project.name}")
-    print(f"Wall: {length:.2f} m in {len(result.runs)} run{'s' if len(result.runs) != 1 else ''}, "
-          f"{len(panels)} panels")
+#: Flagged panels and joints listed by name on the console; the rest are counted.
+SHOWN_FLAGS = 6
+
+
+def _types_line(panels) -> str:
+    """``n types: S01 x12, S02 x7, ...`` (at most 12 named, the rest counted)."""
     types: dict[str, int] = {}
     for p in panels:
         types[p.section_type] = types.get(p.section_type, 0) + 1
-    if types:
-        print("Section types: " + ", ".join(f"{t} ({n} panels)" for t, n in types.items()))
+    names = sorted(types)
+    shown = ", ".join(f"{t} x{types[t]}" for t in names[:12])
+    more = f", and {len(names) - 12} more" if len(names) > 12 else ""
+    return f"{len(names)} type{'s' if len(names) != 1 else ''}: {shown}{more}"
+
+
+def print_design_summary(result, out_dir) -> None:
+    """What a practitioner reads first, in at most about 25 lines whatever the job: the
+    runs, panels, types with their panel counts, concrete, steel (and kg per m3), cost
+    and cost per metre in the site's currency, the governing panel, what is flagged."""
+    from wallrun.cautions import CAUTION
+    from wallrun.takeoff import DEMO_RATES_NOTE
+
+    site = result.site
+    panels = result.panels
+    length = sum(r.length_m for r in result.runs)
+    money = site.takeoff.money
+    print(f"Site: {site.project.name}")
+    print(f"Wall: {length:.2f} m in {len(result.runs)} run{'s' if len(result.runs) != 1 else ''}, "
+          f"{len(panels)} panels, {site.design.sections} sections")
+    if panels:
+        print("Section " + _types_line(panels))
     conc, cu = _quantity(result, "concrete_total")
     steel, su = _quantity(result, "reinforcement_total")
-    print(f"Concrete: {conc:.1f} {cu}" if conc is not None else "Concrete: not reported")
-    print(f"Reinforcement: {steel:.0f} {su}" if steel is not None else "Reinforcement: not reported")
-    worst = None
-    for p in panels:
-        u = max((c.utilization for c in p.checks), default=0.0)
-        if worst is None or u > worst[0]:
-            worst = (u, p)
-    if worst is not None:
-        u, p = worst
-        print(f"Worst utilization: {u:.3f} at {p.panel.panel} (ch {p.panel.ch_start_m:.2f} to "
-              f"{p.panel.ch_end_m:.2f}), {p.governing}")
+    if conc is not None and steel is not None and conc > 0:
+        print(f"Concrete {conc:.1f} {cu}, reinforcement {steel:,.0f} {su} "
+              f"({steel / conc:.0f} kg/m3)")
+    cost = result.cost
+    if length > 0:
+        note = "" if cost.complete else " (incomplete: some items have no rate)"
+        print(f"Cost {cost.total:,.0f} {money}, {cost.total / length:,.0f} {money} per metre{note}")
+    if cost.demo_rates:
+        print(DEMO_RATES_NOTE)
+    designed = [p for p in panels if p.checks and p.status == "ok"]
+    if designed:
+        u, p = max(((max(c.utilization for c in p.checks), p) for p in designed),
+                   key=lambda t: t[0])
+        print(f"Governing: {p.panel.panel} (ch {p.panel.ch_start_m:.2f} to "
+              f"{p.panel.ch_end_m:.2f}), {p.governing} at {u:.3f}")
     flagged = [p for p in panels if p.status != "ok"]
     fj = [j for j in result.joints if j.status != "ok"]
     if flagged or fj:
         print(f"Flagged: {len(flagged)} panel{'s' if len(flagged) != 1 else ''}, "
-              f"{len(fj)} joint{'s' if len(fj) != 1 else ''}")
-        for p in flagged:
-            print(f"  {p.panel.panel}: {p.reason}")
-        for j in fj:
-            print(f"  {j.joint} at ch {j.ch_m:.2f}: {j.reason}")
+              f"{len(fj)} joint{'s' if len(fj) != 1 else ''} (reasons in panels.csv and "
+              "joints.csv)")
+        lines = [f"  {p.panel.panel}: {p.reason}" for p in flagged]
+        lines += [f"  {j.joint} at ch {j.ch_m:.2f}: {j.reason}" for j in fj]
+        for line in lines[:SHOWN_FLAGS]:
+            print(line[:160])
+        if len(lines) > SHOWN_FLAGS:
+            print(f"  ... and {len(lines) - SHOWN_FLAGS} more")
     else:
         print("Every panel and joint passes.")
-    for m in result.warnings:
-        print(f"warning: {m}")
+    for m in result.warnings[:3]:
+        print(f"warning: {m}"[:200])
+    if len(result.warnings) > 3:
+        print(f"  ... and {len(result.warnings) - 3} more warnings (see report.html)")
     print(f"Outputs in {out_dir}")
-    print("Preliminary design aid: check and sign under the local codes and national annex.")
+    print(CAUTION)

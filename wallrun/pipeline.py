@@ -9,6 +9,7 @@ before it or beside it in another thread.
 from __future__ import annotations
 
 import time
+from dataclasses import replace
 
 from wallrun import bars as bars_mod
 from wallrun import panels as pn
@@ -122,11 +123,17 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
     rational = None
     if mode == "rationalised":
         rational = _rationalise(site, laid, sizer)
-        typed = Sizer(site, "types", types=rational.types, tick=tick)
-        laid = lay_out(profiles, runs, site, typed, slots={lay.run.run: lay.slots for lay in laid})
-        seconds += typed.seconds
+        if len(rational.types):  # else nothing could be designed: the flags stand
+            typed = Sizer(site, "types", types=rational.types, tick=tick)
+            laid = lay_out(profiles, runs, site, typed,
+                           slots={lay.run.run: lay.slots for lay in laid})
+            seconds += typed.seconds
     timings["sizing"] = seconds
     timings["panels"] = time.perf_counter() - t0 - seconds
+    if site.ground_model.overall_stability:
+        t0 = time.perf_counter()
+        laid = _with_overall(site, laid)
+        timings["overall"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
     result = _results(site, profiles, runs, laid, rational)
@@ -136,6 +143,40 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
                            "search": {"candidates": float(checked),
                                       "references": float(sum(s.references for s in stats)),
                                       "demands": float(sum(s.demands for s in stats))}})
+
+
+def _with_overall(site: Site, laid: list[RunLayout]) -> list[RunLayout]:
+    """Every designed panel with its overall-stability check (EN 1997-1 11.5.1, Bishop's
+    simplified method, design-basis section 9) at its final section and founding level;
+    a panel that fails it is flagged with the plain reason (``overall.failure_reason``:
+    a wider base or a deeper founding level may help, but the slope may need measures
+    outside the wall). Each distinct (section, conditions) is checked once a call."""
+    from wallrun import overall
+
+    done: dict = {}
+    out = []
+    limit = site.design.max_utilization
+    for lay in laid:
+        designs = []
+        for d, dem in zip(lay.designs, lay.demands):
+            if d.status != "ok":
+                designs.append(d)
+                continue
+            key = (d.section, dem)
+            if key not in done:
+                cond = _scalar(conditions_of([d.section.base_thickness_m], Rows.of([dem], [1]),
+                                             dem))
+                done[key] = overall.overall_check(d.section, cond, site.basis, site.ground_model)
+            res = done[key]
+            entries = tuple(overall.check_entries(res))
+            why = overall.failure_reason(res, limit)
+            u = max([d.utilization] + [e.utilization for e in entries])
+            d = replace(d, checks=d.checks + entries, utilization=u)
+            if why:
+                d = replace(d, status="flagged", reason=why)
+            designs.append(d)
+        out.append(replace(lay, designs=tuple(designs)))
+    return out
 
 
 def _rationalise(site: Site, laid: list[RunLayout], sizer: Sizer) -> rat_mod.Rationalised:
@@ -203,15 +244,32 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
                 top_step_m=fig.top_step_m, pressure_ratio=fig.pressure_ratio,
                 status="flagged" if js.problems else "ok", reason=js.reason))
 
+    # a named type (catalogue, rationalised set) is one cage: its stem bars stop at the
+    # highest stop its panels need (every panel's own stop is then met), or run full
+    # height where any panel needs that
+    stops: dict[str, list] = {}
+    for _, d, _, _ in rows:
+        if d.section_type:
+            stops.setdefault(d.section_type, []).append(d.reinforcement.stem_curtail_m)
+    common = {t: (None if any(v is None for v in vs) else max(vs)) for t, vs in stops.items()}
+    rows = [(p, d if not d.section_type else replace(d, reinforcement=replace(
+        d.reinforcement, stem_curtail_m=common[d.section_type])), dem, f)
+        for p, d, dem, f in rows]
+
     # section types: given names (catalogue, rationalised set), else named by size
     type_names: dict = {}
     keys = list(dict.fromkeys(_type_key(d) for _, d, _, _ in rows))
-    unnamed = sorted((k for k in keys if not k[3]), key=lambda k: rat_mod.size_key(k[0]))
-    for k, key in enumerate(unnamed):
-        type_names[key] = f"S{k + 1:02d}"
     for key in keys:
         if key[3]:
             type_names[key] = key[3]
+    taken = set(type_names.values())
+    unnamed = sorted((k for k in keys if not k[3]), key=lambda k: rat_mod.size_key(k[0]))
+    k = 0
+    for key in unnamed:  # by size, after any name already given
+        k += 1
+        while f"S{k:02d}" in taken:
+            k += 1
+        type_names[key] = f"S{k:02d}"
 
     per_panel_bars, all_bars = [], []
     for panel, d, _, _ in rows:
@@ -269,8 +327,6 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
 
 def _scalar(cond):
     """Conditions of one candidate with its levels as floats (for the report's table)."""
-    from dataclasses import replace
-
     import numpy as np
 
     f = lambda v: None if v is None else float(np.asarray(v).reshape(-1)[0])  # noqa: E731

@@ -48,8 +48,20 @@ def utilization(effect, resistance) -> np.ndarray:
 
 
 @dataclass(frozen=True)
+class Circle:
+    """A slip circle (``design.json`` ``"circle"`` of an ``overall`` entry): centre x
+    from the toe edge of the section (design-basis section 2), centre level z, and
+    radius, m."""
+
+    x_m: float
+    z_m: float
+    radius_m: float
+
+
+@dataclass(frozen=True)
 class CheckEntry:
-    """One entry of ``design.json`` ``panels[].checks``."""
+    """One entry of ``design.json`` ``panels[].checks``; ``circle`` only on ``overall``
+    entries (the critical circle of that combination and case)."""
 
     check: str
     combination: str
@@ -60,6 +72,7 @@ class CheckEntry:
     utilization: float
     clause: str
     governs: bool = False
+    circle: Circle | None = None
 
 
 def max_utilization(checks: list[CheckArray] | tuple[CheckArray, ...]) -> np.ndarray:

@@ -215,8 +215,9 @@ class Design:
     sls_middle_third: bool = setting(True)
     crack_width_mm: float = setting(0.3, "choice", unit="mm", choices=(0.2, 0.3, 0.4),
                                     why="the columns of EN 1992-1-1 Table 7.3N")
-    sections: str = setting("bespoke", choices=("bespoke", "catalogue", "rationalised"))
-    max_types: int = setting(6, ge=1, le=100)
+    sections: str = setting("rationalised", choices=("rationalised", "bespoke", "catalogue"))
+    #: "auto": the number of types of least total cost; a whole number caps it.
+    max_types: int | str = setting("auto", "int_or_auto", ge=1, le=100)
     dimension_step_m: float = setting(0.05, unit="m", ge=0.01, le=0.5)
     #: A section passes at utilization <= max_utilization in every check (a margin below 1).
     max_utilization: float = setting(1.0, gt=0.5, le=1.0)
@@ -230,6 +231,55 @@ class Design:
 
 
 @dataclass(frozen=True)
+class GroundModel:
+    """``[ground]``: the ground around the wall for overall stability (design-basis
+    section 9; interfaces "Additions").
+
+    front_slope_deg: the front ground falls at this angle away from the toe, degrees
+    (0: horizontal). retained_crest_m: height above z_top at which the retained slope
+    (rising at the backfill's ``slope_deg``) flattens, m; None: it rises without limit.
+    overall_stability: check ``overall`` (EN 1997-1 11.5.1, Bishop's simplified
+    method); false: listed as not checked.
+    """
+
+    front_slope_deg: float = setting(0.0, unit="deg", ge=0, lt=90)
+    retained_crest_m: float | None = setting(None, "float_or_none", unit="m", ge=0, le=1000)
+    overall_stability: bool = setting(False)
+
+
+@dataclass(frozen=True)
+class Seismic:
+    """``[seismic]``: the seismic design situation (design-basis 10, EN 1998-5 7.3.2).
+
+    The table's presence turns the situation on (``Site.seismic`` is None without it).
+    ag_g: alpha = ag/g, the design ground acceleration on ground type A over g
+    (gamma_I agR / g, EN 1998-1 3.2.1); soil_factor: S of EN 1998-1 3.2.2.2 (Tables 3.2
+    and 3.3: 1.0 to 1.8); r: EN 1998-5 Table 7.1 (2 and 1.5 for a wall free to slide
+    300 alpha S mm and 200 alpha S mm, 1 for a wall that may not; 7.3.2.2(3): not above
+    1 for saturated cohesionless backfill susceptible to high pore pressure);
+    kv_ratio: kv / kh, 0.5 where avg/ag > 0.6 and 0.33 otherwise (7.3.2.2(2)).
+    """
+
+    ag_g: float = setting(0.0, unit="g", ge=0, le=1, required=True,
+                          why="ag/g of EN 1998-1 3.2.1")
+    soil_factor: float = setting(1.0, ge=1.0, le=2.0, required=True,
+                                 why="S of EN 1998-1 Tables 3.2 and 3.3")
+    r: float = setting(1.0, "choice", choices=(2.0, 1.5, 1.0), why="EN 1998-5 Table 7.1")
+    kv_ratio: float = setting(0.5, "choice", choices=(0.5, 0.33),
+                              why="EN 1998-5 7.3.2.2(2), Eqs. 7.2 and 7.3")
+
+    @property
+    def kh(self) -> float:
+        """kh = ag_g S / r (EN 1998-5 7.3.2.2(2), Eq. 7.1)."""
+        return self.ag_g * self.soil_factor / self.r
+
+    @property
+    def kv(self) -> float:
+        """|kv| = kv_ratio kh (EN 1998-5 7.3.2.2(2), Eqs. 7.2 and 7.3)."""
+        return self.kv_ratio * self.kh
+
+
+@dataclass(frozen=True)
 class Takeoff:
     """Quantity take-off settings (wallrun's own table ``[takeoff]``)."""
 
@@ -239,6 +289,12 @@ class Takeoff:
     drainage_layer_thickness_m: float = setting(0.3, unit="m", ge=0, le=2)
     drain_pipe: bool = setting(True)  # perforated pipe at the heel along the run
     waterproofing: bool = setting(True)  # back face of the stem below the retained level
+    currency: str = setting("")  # shown beside every cost; empty: "cost units"
+
+    @property
+    def money(self) -> str:
+        """The unit of every cost: the currency given, else ``cost units``."""
+        return self.currency.strip() or "cost units"
 
 
 @dataclass(frozen=True)
@@ -291,6 +347,7 @@ class Basis:
     loads: Loads = Loads()
     concrete: Concrete = Concrete()
     steel: Steel = Steel()
+    seismic: "Seismic | None" = None  # the seismic design situation (combination SEIS)
 
     @property
     def uls_sets(self) -> tuple[str, ...]:
@@ -319,14 +376,16 @@ class Site:
     factors: dict[str, FactorSet] = field(default_factory=dict)
     takeoff: Takeoff = Takeoff()
     drawings: Drawings = Drawings()
+    ground_model: GroundModel = GroundModel()  # [ground] (``ground`` is the profile)
     catalogue: tuple[CatalogueSection, ...] | None = None
     rates: tuple[Rate, ...] | None = None  # None: the invented demo rates are used
     warnings: tuple[str, ...] = ()
+    seismic: Seismic | None = None  # [seismic]; None: no seismic design situation
 
     @property
     def basis(self) -> Basis:
         return Basis(factors=self.factors, design=self.design, loads=self.loads,
-                     concrete=self.concrete, steel=self.steel)
+                     concrete=self.concrete, steel=self.steel, seismic=self.seismic)
 
     def foundation_at(self, ch: float) -> Foundation:
         """Foundation soil in force at chainage ``ch`` (zones override the default)."""

@@ -45,8 +45,9 @@ from wallrun.rules import g as _g
 from wallrun.rules import nearest as _nearest
 from wallrun.rules import show as _show
 from wallrun.settings import (AlignmentPoint, Backfill, CatalogueSection, Concrete, Design,
-                              Drawings, Foundation, FoundationZone, Loads, ProfileData,
-                              ProfileFiles, Project, Rate, Site, Steel, Takeoff, Wall, Water)
+                              Drawings, Foundation, FoundationZone, GroundModel, Loads,
+                              ProfileData, ProfileFiles, Project, Rate, Seismic, Site, Steel,
+                              Takeoff, Wall, Water)
 
 SITE_FILE = "site.toml"
 SECTIONS_FILE = "sections.csv"
@@ -63,7 +64,7 @@ PLAN_LENGTH_TOLERANCE = 0.01
 #: Columns of ``sections.csv`` (interfaces.md), in order.
 CATALOGUE_COLUMNS = tuple(f.name for f in fields(CatalogueSection))
 RATE_COLUMNS = ("item", "unit", "rate")
-FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
+FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", _factors.SEISMIC_TABLE)
 
 
 # --- the keys of each table: the rules declared beside each setting ------------------
@@ -72,7 +73,8 @@ FACTOR_SETS = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3")
 #: key (``wallrun.rules.setting``) and its ``problems()`` the rules between keys.
 CLASSES = {"project": Project, "profiles": ProfileFiles, "wall": Wall, "backfill": Backfill,
            "foundation": Foundation, "water": Water, "loads": Loads, "concrete": Concrete,
-           "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings}
+           "steel": Steel, "design": Design, "takeoff": Takeoff, "drawings": Drawings,
+           "ground": GroundModel, "seismic": Seismic}
 #: Key rules per table, taken from those dataclasses.
 SPEC: dict[str, dict[str, Rule]] = {name: rules_of(cls) for name, cls in CLASSES.items()}
 #: Sub-tables allowed beside the keys of a table.
@@ -209,8 +211,13 @@ def _frame(rows: list[tuple[int, str]], label: str, pr: _Problems,
     if not ok:
         return None
     body = "\n".join([htext] + [t for _, t in data])
-    df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
-                     skipinitialspace=True, skip_blank_lines=False)
+    try:
+        df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
+                         skipinitialspace=True, skip_blank_lines=False)
+    except pd.errors.ParserError as e:  # e.g. a double quote left open across lines
+        pr.add(f"{label}: the rows cannot be read as CSV ({str(e).strip()}); look for an "
+               "unmatched double quote")
+        return None
     df.columns = header
     return df, [ln for ln, _ in data]
 
@@ -345,8 +352,11 @@ def _read_alignment(entries, pr: _Problems) -> tuple[AlignmentPoint, ...] | None
 
 # --- catalogue and rates -------------------------------------------------------------
 
-def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSection, ...] | None:
-    """``sections.csv``: one standard section type a row (dimensions m, bars mm)."""
+def read_catalogue(path: Path, steel: Steel, pr: _Problems,
+                   design: Design = Design()) -> tuple[CatalogueSection, ...] | None:
+    """``sections.csv``: one standard section type a row (dimensions m, bars mm). A type
+    thinner than ``[design] min_stem_m`` (stem top or base) or ``min_base_m`` is refused
+    with its name: the least sizes hold in every section mode."""
     label = SECTIONS_FILE
     rows = _read_lines(path, label, pr)
     if rows is None:
@@ -381,6 +391,14 @@ def read_catalogue(path: Path, steel: Steel, pr: _Problems) -> tuple[CatalogueSe
                        "dimensions are in metres")
         if (r["key_depth_m"] > 0) != (r["key_width_m"] > 0):
             pr.add(f"{label}:{ln}: key_depth_m and key_width_m: give both > 0 for a key, or both 0")
+        for c in ("stem_top_m", "stem_base_m"):
+            if 0 < r[c] < design.min_stem_m - 1e-9:
+                pr.add(f"{label}:{ln}: {c}: type '{names[i]}' has a stem {_g(r[c])} m thick, "
+                       f"thinner than [design] min_stem_m = {_g(design.min_stem_m)} m")
+        if 0 < r["base_thickness_m"] < design.min_base_m - 1e-9:
+            pr.add(f"{label}:{ln}: base_thickness_m: type '{names[i]}' has a base "
+                   f"{_g(r['base_thickness_m'])} m thick, thinner than [design] min_base_m = "
+                   f"{_g(design.min_base_m)} m")
         if r["stem_top_m"] > r["stem_base_m"]:
             pr.add(f"{label}:{ln}: stem_top_m {_g(r['stem_top_m'])} exceeds stem_base_m "
                    f"{_g(r['stem_base_m'])}; the stem tapers towards its top")
@@ -683,12 +701,20 @@ def load_site(path) -> Site:
             if not isinstance(t, dict):
                 pr.add(f"{SITE_FILE}: [factors.{setname}]: must be a table, got {_show(t)}")
                 continue
-            keys = _factors.OVERRIDE_KEYS if setname == "DA3" else tuple(
-                k for k in _factors.OVERRIDE_KEYS if k != "gG_unfav_ground")
+            if setname == _factors.SEISMIC_TABLE:
+                keys = _factors.SEISMIC_KEYS
+            elif setname == "DA3":
+                keys = _factors.OVERRIDE_KEYS
+            else:
+                keys = tuple(k for k in _factors.OVERRIDE_KEYS if k != "gG_unfav_ground")
             spec = {k: _factors.OVERRIDE_RULE for k in keys}
             fvals = _read_table(t, f"factors.{setname}", spec, pr)
             overrides[setname] = fvals
-            if setname not in _factors.SETS_OF_APPROACH[approach]:
+            if setname == _factors.SEISMIC_TABLE:
+                if "seismic" not in doc:
+                    warn.append(f"{SITE_FILE}: [factors.seismic] is not used: the site gives no "
+                                "[seismic] table")
+            elif setname not in _factors.SETS_OF_APPROACH[approach]:
                 warn.append(f"{SITE_FILE}: [factors.{setname}] is not used by approach {approach}")
 
     # profiles
@@ -740,7 +766,11 @@ def load_site(path) -> Site:
     catalogue = None
     cp = _fixed_file(root, SECTIONS_FILE, pr)
     if cp is not None:
-        catalogue = read_catalogue(cp, steel, pr)
+        try:
+            dsg = Design(**d)
+        except TypeError:
+            dsg = Design()
+        catalogue = read_catalogue(cp, steel, pr, dsg)
     elif d.get("sections") == "catalogue":
         pr.key("design", "sections", f"\"catalogue\" needs {SECTIONS_FILE} in the site folder")
     rates = None
@@ -759,7 +789,15 @@ def load_site(path) -> Site:
                 pr.key(label, "unit_weight_kn_m3",
                        f"must exceed the unit weight of water ({gw}) when [water] is given, "
                        f"got {_g(gam)}")
-    resolved = _factors.resolve(approach, overrides) if not pr.items else {}
+    seismic = None
+    if isinstance(doc.get("seismic"), dict) and not pr.items:
+        seismic = Seismic(**vals.get("seismic", {}))
+        if wat is not None and seismic.r > 1.0:
+            warn.append(f"{SITE_FILE}: [seismic] r = {_g(seismic.r)} with [water]: EN 1998-5 "
+                        "7.3.2.2(3) allows r above 1 only where the backfill is not a saturated "
+                        "cohesionless soil susceptible to high pore pressure")
+    resolved = (_factors.resolve(approach, overrides, seismic=seismic is not None)
+                if not pr.items else {})
     slope = b.get("slope_deg", Backfill.slope_deg)
     phik = b.get("friction_angle_deg", Backfill.friction_angle_deg)
     for name, fs in resolved.items():
@@ -791,7 +829,9 @@ def load_site(path) -> Site:
         factors=resolved,
         takeoff=Takeoff(**vals.get("takeoff", {})),
         drawings=Drawings(**vals.get("drawings", {})),
+        ground_model=GroundModel(**vals.get("ground", {})),
         catalogue=catalogue,
         rates=rates,
         warnings=tuple(warn),
+        seismic=seismic,
     )

@@ -11,6 +11,11 @@ pressure and stem moment from them (the sizing search); the separate entry point
 give the same numbers. Section coordinates: x from the toe edge towards the
 retained side, z from the underside of the base; units m, kN/m, kNm/m, kPa.
 
+Public building blocks shared with the seismic situation (``wallrun.seismic``):
+:class:`Geometry`, :func:`stress_integrals`, :func:`eccentricity`,
+:func:`contact_pressure`, :func:`linear_integral`, :func:`base_member_actions`,
+:func:`passive_front`.
+
 Readings taken where the design basis is silent (also listed in the module report):
 
 - The heel's critical section carries only the soil with x >= the stem back face at
@@ -82,8 +87,22 @@ def steep_backfill(cond: Conditions, basis: Basis) -> tuple[str, float, str] | N
 
 # --- characteristic geometry ------------------------------------------------------------------
 
-class _Geom:
-    """Characteristic, factor-free quantities of n candidates (design-basis 2 and 3)."""
+class Geometry:
+    """Characteristic, factor-free quantities of n candidates (design-basis 2 and 3),
+    arrays (n,); x from the toe edge, z from the underside of the base, m.
+
+    Public attributes (kN/m, kNm/m, m): B, toe, t (base), tsb, tst (stem), dk, wk
+    (key), H (total height), hc (checked stem height), Hv (virtual back height), beta
+    (deg), q (surcharge, kPa), gb, gf (backfill and foundation unit weights);
+    W_stem, W_base, W_key, W_c (concrete), M_c (its moment about the toe), W_s (soil
+    over the heel) with centroids x_stem, z_stem, x_base, z_base, x_key, z_key, x_s,
+    z_s; x_h (heel critical section), W_s_heel, x_s_heel (soil beyond it); water:
+    hw, hw_k (on the virtual back, above the underside and above the key bottom),
+    hw_stem (on the stem above the top of the base), w_stem_rel (the water level on
+    the stem, relative to the underside), Pw, Pw_k, Mw (hydrostatic thrust and its
+    moment), U, xU, MU (uplift); Q, xQ (heel load q per unit); D, q_over,
+    g_eff_found (bearing); S, Sm, S_k (soil thrust per unit Ka and its moment).
+    """
 
     def __init__(self, sec: SectionArrays, cond: Conditions):
         f = lambda a: np.asarray(a, dtype=float)
@@ -111,10 +130,10 @@ class _Geom:
         # concrete: stem to z_top, base, key (shoelace over the vertex columns of
         # section.stem_vertices, base_vertices, key_vertices, in their order)
         x_fs, x_bs, ztr = toe + tsb, toe + tst, t + hc
-        As, xs, _ = area_centroid_cols((toe, x_fs, x_bs, x_bs, toe), (t, t, ztr, ztr, ztr))
-        Ab, xb, _ = area_centroid_cols((z0, B, B, z0), (z0, z0, t, t))
+        As, xs, self.z_stem = area_centroid_cols((toe, x_fs, x_bs, x_bs, toe), (t, t, ztr, ztr, ztr))
+        Ab, xb, self.z_base = area_centroid_cols((z0, B, B, z0), (z0, z0, t, t))
         xkw = toe + self.wk
-        Ak, xk, _ = area_centroid_cols((toe, xkw, xkw, toe), (-self.dk, -self.dk, z0, z0))
+        Ak, xk, self.z_key = area_centroid_cols((toe, xkw, xkw, toe), (-self.dk, -self.dk, z0, z0))
         self.W_stem, self.x_stem = GAMMA_C * As, xs
         self.W_base, self.x_base = GAMMA_C * Ab, xb
         self.W_key, self.x_key = GAMMA_C * Ak, xk
@@ -123,7 +142,7 @@ class _Geom:
         # soil over the heel (total unit weight above and below water), the vertex
         # columns of section.soil_vertices
         zs_B = ztr + (B - x_bs) * np.tan(np.radians(self.beta))
-        Asl, xsl, _ = area_centroid_cols((x_fs, B, B, x_bs), (t, t, zs_B, ztr))
+        Asl, xsl, self.z_s = area_centroid_cols((x_fs, B, B, x_bs), (t, t, zs_B, ztr))
         self.W_s, self.x_s = g * Asl, xsl
         # the part of it beyond the heel's critical section x_h = toe + t_stem_base
         self.x_h = toe + self.tsb
@@ -143,7 +162,7 @@ class _Geom:
         self.hw = np.clip(wc, 0.0, self.Hv)  # on the virtual back, above the underside
         self.hw_k = np.clip(wc + self.dk, 0.0, self.Hv + self.dk)  # above the key bottom
         self.hw_stem = np.clip(np.minimum(w, self.H) - t, 0.0, self.hc)
-        self._w_stem_rel = np.minimum(w, self.H)  # absolute water on the stem, rel. underside
+        self.w_stem_rel = np.minimum(w, self.H)  # absolute water on the stem, rel. underside
         # soil thrust per unit Ka on the virtual back: S (kN/m) and moment about its bottom
         self.S, self.Sm = self._thrust_per_ka(g, self.Hv, self.hw)
         self.S_k, _ = self._thrust_per_ka(g, self.Hv + self.dk, self.hw_k)
@@ -165,20 +184,29 @@ class _Geom:
         """Integral of the effective vertical stress down a vertical plane of height Hb
         with water hw above its bottom (effective weight g - gamma_w below the water):
         (S, moment of S about the bottom), per unit Ka (design-basis 3)."""
-        d1 = Hb - hw
-        ge = g - GAMMA_W
-        t1, t2, t3 = 0.5 * g * d1 ** 2, g * d1 * hw, 0.5 * ge * hw ** 2
-        return t1 + t2 + t3, t1 * (hw + d1 / 3.0) + t2 * hw / 2.0 + t3 * hw / 3.0
+        (t1, t2, t3), (m1, m2, m3) = stress_integrals(g, Hb, hw)
+        return t1 + t2 + t3, m1 + m2 + m3
+
+
+def stress_integrals(g, h, hw):
+    """The integral of the effective vertical stress down a vertical plane of height h
+    (m) with water hw (m) above its bottom, in three parts (kN/m per unit coefficient),
+    with their moments about the bottom (kNm/m): t1 the dry part above the water
+    (0.5 g d1^2, d1 = h - hw), t2 the dry overburden carried below the water
+    (g d1 hw), t3 the submerged part (0.5 (g - gamma_w) hw^2); g the unit weight,
+    kN/m3 (design-basis 3). Returns ((t1, t2, t3), (m1, m2, m3))."""
+    d1 = h - hw
+    ge = g - GAMMA_W
+    t1, t2, t3 = 0.5 * g * d1 ** 2, g * d1 * hw, 0.5 * ge * hw ** 2
+    return (t1, t2, t3), (t1 * (hw + d1 / 3.0), t2 * hw / 2.0, t3 * hw / 3.0)
 
 
 def _stem_pressure_per_k(g, h, hw, q):
     """Forces and moments at the bottom of a stem length h (m) with water hw above that
     bottom: (S, Sm) soil per unit K, (Sq, Sqm) surcharge per unit K, (Pw, Mw) water."""
-    d1 = h - hw
-    ge = g - GAMMA_W
-    t1, t2, t3 = 0.5 * g * d1 ** 2, g * d1 * hw, 0.5 * ge * hw ** 2
+    (t1, t2, t3), (m1, m2, m3) = stress_integrals(g, h, hw)
     S = t1 + t2 + t3
-    Sm = t1 * (hw + d1 / 3.0) + t2 * hw / 2.0 + t3 * hw / 3.0
+    Sm = m1 + m2 + m3
     Pw = 0.5 * GAMMA_W * hw ** 2
     return S, Sm, q * h, 0.5 * q * h ** 2, Pw, Pw * hw / 3.0
 
@@ -188,7 +216,7 @@ def _stem_pressure_per_k(g, h, hw, q):
 class _SetActions:
     """Design values of one factor set: Ka, thrust components and their moments."""
 
-    def __init__(self, g: _Geom, fs: FactorSet, cond: Conditions, basis: Basis):
+    def __init__(self, g: Geometry, fs: FactorSet, cond: Conditions, basis: Basis):
         self.fs = fs
         bf, fd = cond.backfill, cond.foundation
         self.phi_b = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
@@ -204,7 +232,7 @@ class _SetActions:
         self._sub: dict = {}
         self._stem: dict = {}
 
-    def subcase(self, g: _Geom, unfav: bool, heel_on: bool):
+    def subcase(self, g: Geometry, unfav: bool, heel_on: bool):
         """V (net of uplift), H, M about the toe (restoring positive) and e of a bearing
         sub-case (design-basis 4): permanent vertical actions at gG unfav or fav, heel
         load at gQ or off; thrusts (and both components of Pq) unfavourable. Computed
@@ -215,7 +243,7 @@ class _SetActions:
             r = self._sub[(unfav, heel_on)]
         return r
 
-    def _all_subcases(self, g: _Geom) -> None:
+    def _all_subcases(self, g: Geometry) -> None:
         """The four sub-cases of :data:`SUBCASES` in one pass: the formulas of
         :meth:`_subcase` on arrays (4, n), one row per sub-case."""
         fs = self.fs
@@ -230,11 +258,11 @@ class _SetActions:
         H = gh * (self.Pa_h + g.Pw) + gQ * self.Pq_h
         M = (gc * g.M_c + gg * (g.W_s * g.x_s + self.Pa_v * g.B - g.MU) + gQ * self.Pq_v * g.B
              + on * g.Q * g.xQ - gh * (self.Ma_h + g.Mw) - gQ * self.Mq_h)
-        e = _ecc(V, M, g.B)
+        e = eccentricity(V, M, g.B)
         for k, key in enumerate(cases):
             self._sub[key] = (V[k], H, M[k], e[k], gcs[k], ggs[k])
 
-    def stem_base(self, g: _Geom, K_stem: float):
+    def stem_base(self, g: Geometry, K_stem: float):
         """(M, V) at the stem's critical section for a horizontal coefficient K_stem
         (the same for every sub-case of the set; computed once)."""
         r = self._stem.get(K_stem)
@@ -247,7 +275,7 @@ class _SetActions:
             r = self._stem[K_stem] = (M_stem, V_stem)
         return r
 
-    def _subcase(self, g: _Geom, unfav: bool, heel_on: bool):
+    def _subcase(self, g: Geometry, unfav: bool, heel_on: bool):
         fs = self.fs
         gc = fs.gG_unfav if unfav else fs.gG_fav
         gg = fs.gG_ground if unfav else fs.gG_fav
@@ -257,10 +285,10 @@ class _SetActions:
         H = gh * (self.Pa_h + g.Pw) + gQ * self.Pq_h
         M = (gc * g.M_c + gg * (g.W_s * g.x_s + self.Pa_v * g.B - g.MU) + gQ * self.Pq_v * g.B
              + on * g.Q * g.xQ - gh * (self.Ma_h + g.Mw) - gQ * self.Mq_h)
-        return V, H, M, _ecc(V, M, g.B), gc, gg
+        return V, H, M, eccentricity(V, M, g.B), gc, gg
 
 
-def _ecc(V, M, B):
+def eccentricity(V, M, B):
     """e = B/2 - M/V about the base centreline (positive towards the toe), m; inf where
     V <= 0."""
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -281,7 +309,7 @@ class _Actions:
 
     def __init__(self, sec: SectionArrays, cond: Conditions, basis: Basis):
         self.sec, self.cond, self.basis = sec, cond, basis
-        self.g = _Geom(sec, cond)
+        self.g = Geometry(sec, cond)
         self._sets: dict = {}
         self._sls = None
         self._bad = None
@@ -350,7 +378,7 @@ def _stability_checks(ctx: _Actions) -> list[CheckArray]:
             Vu = gf * (g.W_c + g.W_s + a.Pa_v) - gh * g.U
             Mu = (gf * (g.M_c + g.W_s * g.x_s + a.Pa_v * g.B) - gh * (g.MU + a.Ma_h + g.Mw)
                   - fs.gQ * a.Mq_h)
-            eu = _ecc(Vu, Mu, g.B)
+            eu = eccentricity(Vu, Mu, g.B)
             Ac = np.where(np.isfinite(eu), ec7.compressed_width(g.B, np.where(np.isfinite(eu), eu, 0)), 0.0)
             Ru = ec7.sliding_resistance_undrained(Ac, a.cu_d, V_d0, fs.gR_sliding,
                                                   basis.design.undrained_interface_open)
@@ -389,14 +417,23 @@ def _stability_checks(ctx: _Actions) -> list[CheckArray]:
     return out
 
 
-def _passive(g: _Geom, a: _SetActions, cond: Conditions, basis: Basis, z_p: float):
+def _passive(g: Geometry, a: _SetActions, cond: Conditions, basis: Basis, z_p: float):
     """Passive resistance in front (design-basis 3), kN/m: Rankine Kp from the
     foundation's phi'_d, below the front level lowered by delta_a; ``key``: front face of
     the key below the underside; ``full``: also the front edge of the base."""
+    if basis.design.passive == "none":
+        return np.zeros(g.n)
+    return passive_front(g, float(ec7.kp_rankine(a.phi_f)), basis, z_p)
+
+
+def passive_front(g: Geometry, Kp, basis: Basis, z_p):
+    """Passive thrust in front of the wall for a coefficient Kp (kN/m): below the front
+    level z_p (lowered by delta_a), on the front face of the key below the underside
+    (``design.passive = "key"``), and also the front edge of the base (``"full"``); the
+    foundation's total unit weight (design-basis 3). Zero for ``"none"``."""
     mode = basis.design.passive
     if mode == "none":
         return np.zeros(g.n)
-    Kp = float(ec7.kp_rankine(a.phi_f))
     low = g.z_found - g.dk
     high = g.z_found + (g.t if mode == "full" else 0.0)
     P, _ = ec7.passive_force(Kp, g.gf, z_p, low, high)
@@ -454,7 +491,7 @@ def action_table(section: Section, cond: Conditions, basis: Basis) -> tuple[Acti
     """Characteristic actions on one section (phi'_k, factors 1.0) with their points of
     application and moments about the toe edge at the underside (restoring positive),
     for the report. Vertical downward positive, horizontal towards the front positive."""
-    g = _Geom(SectionArrays.of([section]), cond)
+    g = Geometry(SectionArrays.of([section]), cond)
     a = _SetActions(g, SLS, cond, basis)
     v = lambda x: float(np.asarray(x)[0])
     rows = []
@@ -494,7 +531,7 @@ def _stem_K(cond: Conditions, basis: Basis, fs: FactorSet) -> float:
     return float(ec7.ka_rankine(phi, bf.slope_deg)) * np.cos(np.radians(bf.slope_deg))
 
 
-def _lin_integral(c0, c1, s0, s1, a, b, p):
+def linear_integral(c0, c1, s0, s1, a, b, p):
     """Integral of sigma = c0 + c1 x over [a, b] within its support [s0, s1]: (force,
     moment about x = p with arm x - p)."""
     lo = np.maximum(a, s0)
@@ -504,7 +541,7 @@ def _lin_integral(c0, c1, s0, s1, a, b, p):
     return F, Mx - p * F
 
 
-def _contact(V, e, B):
+def contact_pressure(V, e, B):
     """Linear, no-tension contact pressure under the base as sigma = c0 + c1 x on the
     support [s0, s1] (x from the toe edge), kPa; zero where V <= 0."""
     ok = np.isfinite(e) & (V > 0)
@@ -524,7 +561,7 @@ def _contact(V, e, B):
     return np.where(full, c0_f, c0_t), np.where(full, c1_f, c1_t), s0, s1
 
 
-def _members_for(g: _Geom, a: _SetActions, K_stem: float, unfav: bool, on: bool):
+def _members_for(g: Geometry, a: _SetActions, K_stem: float, unfav: bool, on: bool):
     """(M, V) of stem, heel and toe for one factor set and sub-case (one row of
     :func:`_members_rows`)."""
     stem, (M_heel, V_heel), (M_toe, V_toe) = _members_rows(g, [("", "", a, K_stem, unfav, on)])
@@ -555,7 +592,7 @@ def _member_actions(ctx: _Actions) -> list[MemberActions]:
     return out
 
 
-def _members_rows(g: _Geom, rows):
+def _members_rows(g: Geometry, rows):
     """ (M, V) of stem, heel and toe for many (set, sub-case) rows at once, on
     arrays (rows, n). Heel about the back face of the stem: down its own weight, the
     soil and heel load beyond it and the vertical thrust components at x = B; up the
@@ -574,26 +611,44 @@ def _members_rows(g: _Geom, rows):
     onf = col([a.fs.gQ if on else 0.0 for _, _, a, _, _, on in rows])
     Pa_v = np.vstack([a.Pa_v for _, _, a, _, _, _ in rows])
     Pq_v = np.vstack([a.Pq_v for _, _, a, _, _, _ in rows])
-    c0, c1, s0, s1 = _contact(V, e, g.B)
+    heel, toe = base_member_actions(g, V, e, gc, gg, onf, (gg * Pa_v, gQ * Pq_v), gg)
+    return stem, heel, toe
+
+
+def base_member_actions(g: Geometry, V, e, f_concrete, f_soil, f_heel_load, down_at_B, f_uplift):
+    """(M, V) of the heel and the toe at their critical sections (design-basis 5), arrays
+    (rows, n) for rows of actions. V (kN/m, net of uplift) and e (m) give the linear,
+    no-tension contact pressure. Heel, about the back face of the stem x_h: down its
+    own weight x f_concrete, the soil beyond x_h x f_soil, the heel load q x
+    f_heel_load, and the vertical forces ``down_at_B`` (a tuple of terms, kN/m) at
+    x = B; up the contact pressure and the uplift x f_uplift. Toe, about the front face
+    of the stem: up the contact pressure and the uplift, down its own weight x
+    f_concrete. Factors are arrays (rows, 1) or floats. Returns ((M_heel, V_heel),
+    (M_toe, V_toe)), M kNm/m (positive: heel top / toe bottom in tension), V kN/m."""
+    c0, c1, s0, s1 = contact_pressure(V, e, g.B)
     B, xh, toe = g.B, g.x_h, g.toe
     # heel, about the back face of the stem x_h
     Lh = B - xh
-    down_F = (gc * GAMMA_C * g.t * Lh + gg * g.W_s_heel + onf * g.q * Lh + gg * Pa_v
-              + gQ * Pq_v)
-    down_M = (gc * GAMMA_C * g.t * Lh ** 2 / 2 + gg * g.W_s_heel * (g.x_s_heel - xh)
-              + onf * g.q * Lh ** 2 / 2 + (gg * Pa_v + gQ * Pq_v) * Lh)
-    cF, cM = _lin_integral(c0, c1, s0, s1, xh, B, xh)
-    uc1 = gg * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
-    uF, uM = _lin_integral(0.0, uc1, 0.0, B, xh, B, xh)
+    down_F = f_concrete * GAMMA_C * g.t * Lh + f_soil * g.W_s_heel + f_heel_load * g.q * Lh
+    P_B = down_at_B[0]
+    for p in down_at_B:
+        down_F = down_F + p
+    for p in down_at_B[1:]:
+        P_B = P_B + p
+    down_M = (f_concrete * GAMMA_C * g.t * Lh ** 2 / 2 + f_soil * g.W_s_heel * (g.x_s_heel - xh)
+              + f_heel_load * g.q * Lh ** 2 / 2 + P_B * Lh)
+    cF, cM = linear_integral(c0, c1, s0, s1, xh, B, xh)
+    uc1 = f_uplift * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
+    uF, uM = linear_integral(0.0, uc1, 0.0, B, xh, B, xh)
     M_heel = down_M - cM - uM
     V_heel = np.abs(down_F - cF - uF)
     # toe, about the front face of the stem x = toe (arm toe - x)
-    cF2, cM2 = _lin_integral(c0, c1, s0, s1, 0.0, toe, toe)
-    uF2, uM2 = _lin_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
-    wF = gc * GAMMA_C * g.t * toe
+    cF2, cM2 = linear_integral(c0, c1, s0, s1, 0.0, toe, toe)
+    uF2, uM2 = linear_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
+    wF = f_concrete * GAMMA_C * g.t * toe
     M_toe = -(cM2 + uM2) - wF * toe / 2.0
     V_toe = np.abs(cF2 + uF2 - wF)
-    return stem, (M_heel, V_heel), (M_toe, V_toe)
+    return (M_heel, V_heel), (M_toe, V_toe)
 
 
 def member_moments_qp(sec: SectionArrays, cond: Conditions, basis: Basis) -> dict[str, np.ndarray]:
@@ -626,7 +681,7 @@ def _stem_moment(ctx: _Actions, y) -> np.ndarray:
         y = np.broadcast_to(y, (g.n,))
     y = np.clip(y, 0.0, g.hc)
     # water on the stem above the section at depth y: level above the section
-    hw = np.clip(g._w_stem_rel - (g.H - y), 0.0, y)
+    hw = np.clip(g.w_stem_rel - (g.H - y), 0.0, y)
     S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, y, hw, g.q)
     best = np.full(y.shape, -np.inf)
     for name, fs in _sets(basis):

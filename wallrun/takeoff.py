@@ -54,9 +54,11 @@ ITEMS: tuple[tuple[str, str], ...] = (
     ("joint_seal", "m"),
     ("waterproofing", "m2"),
     ("reinforcement_total", "kg"),
-    ("section_type", "nr"),
 )
-_UNITS = dict(ITEMS)
+#: The job-wide item of a rationalised set, after the steel: the number of section types
+#: (each costs its detailing, formwork set and cage jig, design-basis section 6).
+SECTION_TYPE = ("section_type", "nr")
+_UNITS = dict(ITEMS + (SECTION_TYPE,))
 
 
 class _Units(dict):
@@ -114,7 +116,9 @@ def item_order(item: str) -> tuple[int, float, str]:
     mm = _bar_mm(item)
     if mm is not None:
         return (len(ITEMS), float(mm), item)
-    return (len(ITEMS) + 1, 0.0, item)
+    if item == SECTION_TYPE[0]:
+        return (len(ITEMS) + 1, 0.0, item)
+    return (len(ITEMS) + 2, 0.0, item)
 
 
 # --- stem geometry, exact along the panel ----------------------------------------------

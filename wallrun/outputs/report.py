@@ -106,6 +106,7 @@ FACTOR_WORDS = {
     "gR_sliding": "gamma_R;h sliding",
     "gR_passive": "gamma_R;e passive resistance",
     "gG_unfav_ground": "gamma_G, unfavourable ground actions (DA3)",
+    "gR_slope": "gamma_R;e slopes and overall stability",
 }
 
 MEMBER_WORDS = {

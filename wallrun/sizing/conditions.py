@@ -142,6 +142,20 @@ def steep_reason(demand: Demand, basis: Basis) -> str | None:
     return None
 
 
+def seismic_reason(demand: Demand, basis: Basis) -> str | None:
+    """Why no section can be designed for the seismic situation, or None: a backfill
+    slope beta > phi'_d - theta has no Mononobe-Okabe solution (EN 1998-5 Annex E;
+    ``seismic.mononobe_okabe_problem``). Checked at the least base thickness (the water
+    level against the underside of the base decides the theta of a wet backfill)."""
+    if basis.seismic is None:
+        return None
+    from wallrun import seismic
+
+    t = np.array([basis.design.min_base_m])
+    cond = conditions_of(t, Rows.of([demand], [1]), demand)
+    return seismic.mononobe_okabe_problem(cond, basis, basis.seismic)
+
+
 def beyond_reason(demand: Demand) -> str | None:
     """Why the retained height is outside what the sizing is offered for, or None."""
     if demand.h > MAX_RETAINED_M:

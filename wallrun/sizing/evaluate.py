@@ -136,6 +136,51 @@ def _full(x, n: int) -> np.ndarray:
     return np.broadcast_to(np.asarray(x, dtype=float), (n,))
 
 
+class Situations:
+    """The actions of n candidates in every design situation the basis asks for: the
+    persistent one (``stability.evaluate_all``, design-basis section 4) and, where the
+    site gives ``[seismic]``, the seismic one (``seismic.evaluate_seismic``, combination
+    ``SEIS``, design-basis section 10), sharing one geometry."""
+
+    def __init__(self, sec: SectionArrays, cond, basis: Basis, allx=None, sx=None):
+        if allx is not None:  # a subset of both situations, made by :meth:`subset`
+            self.allx, self.sx = allx, sx
+            return
+        self.allx = stability.evaluate_all(sec, cond, basis)
+        if basis.seismic is not None:
+            from wallrun import seismic
+            sx = seismic.evaluate_seismic(sec, cond, basis, basis.seismic,
+                                          geometry=self.allx.ctx.g)
+        self.sx = sx
+
+    @property
+    def checks(self) -> list[CheckArray]:
+        out = list(self.allx.checks)
+        return out + list(self.sx.checks) if self.sx is not None else out
+
+    def bad(self) -> np.ndarray:
+        return self.allx.ctx.bad()
+
+    def member_actions(self) -> list[MemberActions]:
+        out = list(self.allx.member_actions())
+        return out + list(self.sx.member_actions()) if self.sx is not None else out
+
+    def qp(self) -> dict:
+        return self.allx.qp()
+
+    def edge_pressure(self) -> np.ndarray:
+        return self.allx.edge_pressure()
+
+    def stem_moment(self, y) -> np.ndarray:
+        m = self.allx.stem_moment(y)
+        return np.maximum(m, self.sx.stem_moment(y)) if self.sx is not None else m
+
+    def subset(self, idx) -> "Situations":
+        a = self.allx.subset(idx)
+        return Situations(None, None, None, allx=a,
+                          sx=self.sx.subset(idx) if self.sx is not None else None)
+
+
 def _structure_of(allx, sec: SectionArrays, h_c: np.ndarray, basis: Basis, idx,
                   given: Reinforcement | None = None, stem_moment_at=None):
     # the bars of a design are chosen for the margin asked for (design.max_utilization)
@@ -206,8 +251,8 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     n = len(sec)
     lim, one = limit(basis), 1.0 + TOL
     cond = conditions_of(sec.base_thickness_m, rows, ground)
-    allx = stability.evaluate_all(sec, cond, basis)
-    bad = allx.ctx.bad()
+    allx = Situations(sec, cond, basis)
+    bad = allx.bad()
     h_c = cond.z_top - np.asarray(cond.z_found, dtype=float) - np.asarray(sec.base_thickness_m,
                                                                             dtype=float)
     stab = list(allx.checks) + _joint_pressure(allx, caps)
@@ -298,8 +343,8 @@ def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costi
     """
     n = len(sec)
     cond = conditions_of(sec.base_thickness_m, rows, ground)
-    allx = stability.evaluate_all(sec, cond, basis)
-    bad = allx.ctx.bad()
+    allx = Situations(sec, cond, basis)
+    bad = allx.bad()
     zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
     h_c = cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float)
     sr = _structure_of(allx, sec, h_c, basis, None, given=given,

@@ -50,7 +50,8 @@ from wallrun.section import Section, SectionArrays
 from wallrun.settings import Basis, Water
 
 from . import evaluate as ev_
-from .conditions import Demand, Rows, beyond_reason, founding_level, steep_reason
+from .conditions import (Demand, Rows, beyond_reason, founding_level, seismic_reason,
+                         steep_reason)
 from .evaluate import Costing, SizedDesign
 from .grid import NDIM, Grid, codes, grid_for
 
@@ -454,8 +455,9 @@ def flagged(demand: Demand, basis: Basis, costing: Costing, step: float, reason:
 def not_designable(demand: Demand, basis: Basis, costing: Costing,
                    step: float) -> SizedDesign | None:
     """The flagged design of a demand no search is made for (a backfill too steep for an
-    active limit state, a retained height outside the supported range), else None."""
-    why = steep_reason(demand, basis)
+    active limit state or, in the seismic situation, for a Mononobe-Okabe solution; a
+    retained height outside the supported range), else None."""
+    why = steep_reason(demand, basis) or seismic_reason(demand, basis)
     if why is not None:
         return flagged(demand, basis, costing, step, why, checked=False)
     why = beyond_reason(demand)

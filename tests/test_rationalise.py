@@ -1,0 +1,128 @@
+"""Tests of wallrun.sizing.rationalise: the choice of a few section types at least total
+cost (design-basis section 6), against enumeration of every set on small cases, and the
+shared cage of each type checked at every panel it serves. All data invented."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from wallrun.factors import resolve
+from wallrun.settings import Backfill, Basis, Foundation
+from wallrun.sizing import Costing, Demand, bespoke
+from wallrun.sizing import evaluate as ev_
+from wallrun.sizing import rationalise as rat
+
+BASIS = Basis(factors=resolve("DA1"))
+
+
+def nested_matrix(rng, n, T):
+    """Nested types: type t serves demands up to its capacity, dearer with capacity."""
+    sev = np.sort(rng.uniform(0, 1, n))
+    cap = np.sort(rng.uniform(0.2, 1.0, T))
+    cap[-1] = 1.0
+    L = rng.uniform(2, 8, n)
+    base = np.cumsum(rng.uniform(1, 3, T))
+    C = np.where(sev[:, None] <= cap[None, :], (base[None, :] + sev[:, None]) * L[:, None],
+                 np.inf)
+    perm = rng.permutation(n)
+    return C[perm], perm
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_nested_choice_equals_enumeration(seed):
+    rng = np.random.default_rng(seed)
+    n, T = int(rng.integers(3, 10)), int(rng.integers(2, 8))
+    C, perm = nested_matrix(rng, n, T)
+    rate = float(rng.uniform(0, 40))
+    for cap in (1, 2, 3, "auto"):
+        ch = rat.choose(C, rate, cap)
+        ref, _ = rat.enumerate_sets(C, rate, T if cap == "auto" else cap)
+        assert ch.exact and ch.method == "dynamic programming"
+        assert ch.total == pytest.approx(ref, rel=1e-9)
+        assert cap == "auto" or len(ch.columns) <= cap
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_any_small_matrix_choice_equals_enumeration(seed):
+    # not nested: the integer program (scipy.optimize.milp) finds the least total
+    rng = np.random.default_rng(100 + seed)
+    n, T = int(rng.integers(3, 9)), int(rng.integers(3, 7))
+    C = rng.uniform(10, 100, (n, T))
+    C[rng.random((n, T)) < 0.3] = np.inf
+    C[:, int(rng.integers(T))] = rng.uniform(50, 150, n)  # one column serves all
+    rate = float(rng.uniform(0, 60))
+    for cap in (2, "auto"):
+        ch = rat.choose(C, rate, cap)
+        ref, _ = rat.enumerate_sets(C, rate, T if cap == "auto" else cap)
+        assert ch.exact
+        assert ch.total == pytest.approx(ref, rel=1e-7)
+
+
+def test_auto_count_balances_type_rate_against_panel_cost():
+    # two panel groups: a cheap type for the small ones saves 10 x 3 = 30 per panel group;
+    # worth it when one type costs less than that
+    C = np.array([[10.0, 40.0], [10.0, 40.0], [10.0, 40.0], [np.inf, 50.0]])
+    assert rat.choose(C, 20.0, "auto").columns == (0, 1)  # 30 + 50 + 2 x 20 = 120 < 170
+    assert rat.choose(C, 100.0, "auto").columns == (1,)  # 170 + 100 < 30 + 50 + 200
+    assert rat.choose(C, 20.0, 1).columns == (1,)
+
+
+def demand(h, z_front=40.0, foundation=Foundation()):
+    return Demand(z_top=z_front + h, z_front=z_front, backfill=Backfill(),
+                  foundation=foundation, surcharge_kpa=10.0, water=None,
+                  wall_top_m=z_front + h)
+
+
+def test_types_share_one_cage_that_passes_at_every_panel():
+    hs = [0.9, 1.3, 1.7, 2.1, 2.6, 3.0, 1.5, 2.4]
+    grounds = [Foundation()] * 6 + [Foundation(friction_angle_deg=26.0)] * 2
+    ds = [demand(h, foundation=f) for h, f in zip(hs, grounds)]
+    own = bespoke(ds, BASIS, Costing(), 0.1)
+    r = rat.rationalise(ds, [7.5] * len(ds), own, BASIS, Costing(), "auto", 2400.0)
+    assert 1 <= len(r.types) < len(set(o.section for o in own))
+    # named in order of size, S01 the smallest
+    assert list(r.types.names) == [f"S{k + 1:02d}" for k in range(len(r.types))]
+    keys = [rat.size_key(s) for s in r.types.sections]
+    assert keys == sorted(keys)
+    for d, sd in zip(ds, r.designs):
+        assert sd.status == "ok", sd.reason
+        t = r.types.names.index(sd.section_type)
+        cage = r.types.cages[t]
+        assert sd.section == r.types.sections[t]
+        # independent recheck with the type's own cage: every check, and its curtailment
+        ev = ev_.evaluate_at([sd.section], d, BASIS, Costing(), given=cage)
+        assert bool(ev.ok[0])
+        assert rat.curtail_check(ev, 0, cage) == ""
+        assert sd.reinforcement.stem_curtail_m == cage.stem_curtail_m
+    # the total is the panels' cost with their type plus the types
+    tot = sum(sd.cost_per_m * 7.5 for sd in r.designs) + 2400.0 * len(r.types)
+    assert r.total_cost == pytest.approx(tot, rel=1e-9)
+
+
+def test_a_type_whose_stop_is_too_low_does_not_serve():
+    # the shared curtailment is checked at each panel: a cage whose stem bars stop too
+    # low for a taller panel is refused there with the reason
+    d_lo, d_hi = demand(1.8), demand(3.2)
+    own = bespoke([d_lo, d_hi], BASIS, Costing(), 0.1)
+    sec = own[1].section
+    ev_hi = ev_.evaluate_at([sec], d_hi, BASIS, Costing(), given=own[1].reinforcement)
+    need = ev_hi.structure.reinforcement(0).stem_curtail_m
+    assert need is not None and need > 0.2
+    from dataclasses import replace
+    low = replace(own[1].reinforcement, stem_curtail_m=round(need - 0.2, 3))
+    why = rat.curtail_check(ev_hi, 0, low)
+    assert "needs them to" in why
+    types = rat.SectionSet(("S01",), (sec,), (low,))
+    (opts,) = rat.designs_with(types, [d_hi], BASIS, Costing())
+    sd, ok = opts[0]
+    assert not ok and sd.status == "flagged" and "stop" in sd.reason
+
+
+def test_nested_detects_a_prefix_break():
+    C = np.array([[1.0, 2.0], [np.inf, 3.0], [1.5, 3.5]])
+    assert not rat.nested(C, np.arange(3))
+    assert rat.nested(C, np.array([0, 2, 1]))
+    assert math.isinf(rat.choose(np.full((2, 2), np.inf), 1.0, "auto").total)
