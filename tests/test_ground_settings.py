@@ -44,7 +44,8 @@ def test_values_read_and_not_checked_list(tmp_path):
     assert s.ground_model == GroundModel(12.0, 2.5, True)
     listed = cautions.not_checked(s)
     assert cautions.OVERALL not in listed
-    assert set(listed) == set(cautions.NOT_CHECKED) - {cautions.OVERALL}
+    # the 7.3.2 restraint steel is checked by default (design.restraint_steel)
+    assert set(listed) == set(cautions.NOT_CHECKED) - {cautions.OVERALL, cautions.RESTRAINT}
 
 
 @pytest.mark.parametrize("text,fragment", [

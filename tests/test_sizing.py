@@ -28,7 +28,7 @@ from wallrun.sizing.grid import NDIM, codes, grid_for
 BASIS = Basis(factors=resolve("DA1"))
 COARSE = Basis(factors=resolve("DA1"), design=Design(dimension_step_m=0.1))
 STRUCTURAL = {"stem_bending", "stem_shear", "heel_bending", "heel_shear", "toe_bending",
-              "toe_shear", "crack_spacing", "min_steel"}
+              "toe_shear", "crack_spacing", "min_steel", "restraint_steel", "bar_bend"}
 
 
 def demand(h, z_front=40.0, water=None, foundation=Foundation(), surcharge=10.0,
@@ -259,8 +259,10 @@ def cat(name, bars, dims, dist=(12, 200)):
 def test_catalogue_type_failing_only_structurally_is_not_chosen():
     # "LIGHT" has a generous base (stability passes) but light bars; "HEAVY" the same
     # outline with heavier bars and a thicker stem and base (dearer).
-    light = cat("LIGHT", (12, 250), (0.25, 0.30, 2.6, 0.7, 0.30))
-    heavy = cat("HEAVY", (20, 150), (0.25, 0.40, 2.7, 0.7, 0.40))
+    # distribution bars carrying the 7.3.2 restraint steel of each thickness (H16@100 for
+    # 300 mm, H20@100 for 400 mm), so that only the main bars differ
+    light = cat("LIGHT", (12, 250), (0.25, 0.30, 2.6, 0.7, 0.30), dist=(16, 100))
+    heavy = cat("HEAVY", (20, 150), (0.25, 0.40, 2.7, 0.7, 0.40), dist=(20, 100))
     d = demand(2.8)
     ev = ev_.evaluate_at([cat_mod.catalogue_section(light)], d, BASIS, Costing(),
                          given=cat_mod.catalogue_bars(light, BASIS))

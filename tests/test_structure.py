@@ -5,6 +5,9 @@ stem 0.35 m at the base, 0.25 m at the top, checked stem height 3.0 m; base 2.6 
 0.40 m thick, toe 0.70 m (heel 1.55 m); C32/40, covers 50 / 75 mm, fyk 500.
 """
 
+import math
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
@@ -55,8 +58,15 @@ def _check(res, name, combination=None, case=None):
     return out
 
 
+NO_RESTRAINT = replace(BASIS, design=replace(BASIS.design, restraint_steel=False))
+
+
 def test_hand_design():
-    res = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), BASIS, stem_height_m=3.0)
+    # the bending, shear, crack and minimum-steel design, without the 7.3.2 restraint
+    # steel (design.restraint_steel = false)
+    res = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), NO_RESTRAINT,
+                                         stem_height_m=3.0)
+    assert not [c for c in res.checks if c.check == "restraint_steel"]
     r = res.reinforcement(0)
     # Stem, hand: phi 10: d = 350 - 50 - 5 = 295; K = 56.2e6/(1000 x 295^2 x 32) = 0.0202 -> z = 0.95 d
     #   = 280.25; As,req = 56.2e6 / (434.78 x 280.25) = 461.2; As,min = 0.26 x 3.0238/500 x 295000 =
@@ -98,6 +108,134 @@ def test_hand_design():
     assert ms["toe"].effect[0] == pytest.approx(503.2, abs=0.2)
     assert max_utilization(res.checks)[0] <= 1.0
     assert res.steel_kg_per_m[0] > 0
+
+
+def test_restraint_steel_hand():
+    # EN 1992-1-1 7.3.2 Eq. 7.1 per face (design basis 5): As = 0.5 kc k fctm Act / sigma_s,
+    # kc = 1, fctm(C32/40) = 3.0238 MPa, sigma_s of Table 7.2N for the bar (wk 0.3).
+    # Stem 350 mm: k = 0.965, 0.5 x 0.965 x 3.0238 x 350000 = 510 645 N per face:
+    #   H16 (240 MPa) 2127.7 > H16@100 2010.6; H20 (222.2 MPa) 2297.9 -> H20@125 (2513.3);
+    #   H25 (200) 2553.2 -> H25@175 (2805); H32 (160) 3191.5 -> H32@250 (3217): H20@125 least
+    # Base 400 mm: k = 0.93, 562 427 N per face: H16 2343.4 (no spacing >= 100 gives it);
+    #   H20 2530.9 -> H20@100 (3141.6); H25 2812.1 -> H25@150 (3272.5): H20@100 least
+    res = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), BASIS, stem_height_m=3.0)
+    r = res.reinforcement(0)
+    assert (r.stem_horizontal.bar_mm, r.stem_horizontal.spacing_mm) == (20, 125)
+    assert (r.base_distribution.bar_mm, r.base_distribution.spacing_mm) == (20, 100)
+    rs = {c.case: c for c in _check(res, "restraint_steel", "SLS")}
+    assert set(rs) == {"stem_horizontal", "base_distribution"}
+    assert rs["stem_horizontal"].effect[0] == pytest.approx(2297.9, abs=0.1)
+    assert rs["stem_horizontal"].resistance[0] == pytest.approx(2513.3, abs=0.1)
+    assert rs["base_distribution"].effect[0] == pytest.approx(2530.9, abs=0.1)
+    assert r.stem_horizontal.as_req_mm2_per_m == pytest.approx(2297.9, abs=0.1)
+    # the restraint steel enters the steel mass (and so the cost the search minimises)
+    off = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), NO_RESTRAINT,
+                                         stem_height_m=3.0)
+    assert res.steel_kg_per_m[0] > off.steel_kg_per_m[0] + 100
+    # an early-age fct,eff (here 1.8 MPa) scales the need: 2297.9 x 1.8 / 3.0238 = 1367.9
+    early = replace(BASIS, concrete=replace(BASIS.concrete, fct_eff_mpa=1.8))
+    assert float(structure.restraint_need(20, 350.0, early)) == pytest.approx(1367.9, abs=0.1)
+    # given bars short of it fail the check
+    weak = replace(r, stem_horizontal=BarSet(16, 150, 0, 0, 0))
+    w = structure.check_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), BASIS, weak, stem_height_m=3.0)
+    assert {c.case: c for c in _check(w, "restraint_steel")}["stem_horizontal"].utilization[0] > 1.0
+
+
+def test_bends_and_starters_hand():
+    res = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), BASIS, stem_height_m=3.0)
+    r = res.reinforcement(0)
+    bb = {c.case: c for c in _check(res, "bar_bend", "ULS")}
+    assert set(bb) == {case for case, _, _ in structure.BENDS}
+    # starters (back face, stem 10@150): sigma_sd = fyd M_Ed / M_Rd = 434.78 x 56.2 / 63.80
+    #   = 383.0 MPa, F = 78.54 x 383.0 = 30.08 kN; embedment 400 - 75 - 10 - 20 = 295;
+    #   fbd = 2.25 x 0.7 x 3.0238 / 1.5 = 3.175 MPa; a_b = min(75, 50 + 5) = 55;
+    #   kb = (1/55 + 1/20) / 18.133 = 0.0037601. The straight leg above a bend of M takes
+    #   pi 10 x 3.175 (295 - M/2 - 10): F_bt = 1652 + 49.87 M, M = kb F_bt -> 7.65 mm,
+    #   below Table 8.1N (4 phi = 40): 40 mm required, 2 (295 - 10) = 570 available
+    assert bb["starter, back face"].effect[0] == pytest.approx(40.0)
+    assert bb["starter, back face"].resistance[0] == pytest.approx(570.0)
+    assert float(structure.mandrel_anchored(30_080.0, 295.0, 10.0, 3.1750, 0.0037601)) == pytest.approx(7.65, abs=0.05)
+    # toe bars (10@150, d 320) at the toe end: M_Rd = 69.21 kNm/m, sigma = 434.78 x 40/69.21
+    #   = 251.3 MPa, F = 19.73 kN; the shifted force at the bend (a_l = d = 320, toe 700):
+    #   F (50 + 10 + 320 + M/2)/700; alpha = kb F / L = 0.10600; M = 0.106 x 380 / (1 -
+    #   0.053) = 42.54 mm > 40: radius 42.54/2 -> 25 mm (BS 8666 r = 20 is too small)
+    assert bb["toe bars, toe end"].effect[0] == pytest.approx(42.54, abs=0.02)
+    assert r.toe.bend_r_mm == 25.0
+    # heel bars (12@125, d 344) at the heel end: sigma = 434.78 x 118.7/128.56 = 401.4,
+    #   F = 45.40 kN, a_b = 56, kb = 0.0032826, alpha = kb F / 1550 = 0.09615,
+    #   M = 0.09615 x 406 / 0.95192 = 41.0 < 48 (4 phi): Table 8.1N governs, r = 24;
+    #   room: leg 400 - 50 - 75 = 275, 2 (275 - 6 x 12) = 406
+    assert bb["heel bars, heel end"].effect[0] == pytest.approx(48.0)
+    assert bb["heel bars, heel end"].resistance[0] == pytest.approx(406.0)
+    assert float(structure.mandrel_free_end(45_400.0, 1550.0, 406.0, 0.0032826)) == pytest.approx(41.0, abs=0.05)
+    assert r.heel.bend_r_mm == 24.0
+    # heel bars beyond the stem: lbd = 12/4 x 401.4 / (0.7 x 3.175) = 541.8 <= 700 + 350 - 50:
+    # straight, no demand; the toe bars' heel end carries the reverse heel moment: bent
+    assert bb["heel bars, toe end"].effect[0] == 0.0 and r.heel.far_bend_r_mm is None
+    assert bb["toe bars, heel end"].effect[0] == pytest.approx(40.0) and r.toe.far_bend_r_mm == 20.0
+    # starters: lap l0 (8.7.3, alpha6 1.5) above the 75 mm kicker; foot max(lbd - 295, 12 phi, P)
+    st = r.starter
+    assert (st.bar_mm, st.spacing_mm) == (10, 150)
+    assert st.lap_mm == pytest.approx(float(ec2.lap_length(10, 32)), abs=0.1)
+    assert st.kicker_mm == 75.0 and st.embedment_mm == 295.0 and st.foot_mm == 120.0
+    assert st.projection_mm == pytest.approx(75.0 + st.lap_mm)
+    assert r.starter_front.bar_mm == r.stem_front.bar_mm
+    # the kicker setting moves the lap up
+    high = replace(BASIS, concrete=replace(BASIS.concrete, kicker_mm=150.0))
+    r2 = structure.design_reinforcement(SectionArrays.of([SEC]), _actions(), _qp(), high,
+                                        stem_height_m=3.0).reinforcement(0)
+    assert r2.starter.projection_mm == pytest.approx(st.projection_mm + 75.0)
+
+
+def test_bend_too_big_for_the_base_fails():
+    # a 250 mm base has legs of 250 - 50 - 75 = 125 mm: an H20 bend needs P = 190 mm:
+    # no room (0), the check fails
+    thin = Section(0.25, 0.35, 2.6, 0.7, 0.25)
+    acts = [MemberActions("heel", "DA1-1", "c", np.array([150.0]), np.array([100.0]))]
+    given = Reinforcement(stem=BarSet(12, 150, 0, 0, 0), heel=BarSet(20, 150, 0, 0, 0),
+                          toe=BarSet(12, 150, 0, 0, 0), stem_horizontal=BarSet(16, 100, 0, 0, 0),
+                          base_distribution=BarSet(16, 100, 0, 0, 0))
+    res = structure.check_reinforcement(SectionArrays.of([thin]), acts, {}, BASIS, given, stem_height_m=3.0)
+    bb = {c.case: c for c in _check(res, "bar_bend")}
+    assert bb["heel bars, heel end"].resistance[0] == 0.0
+    assert bb["heel bars, heel end"].utilization[0] == np.inf
+
+
+@settings(max_examples=50, deadline=None)
+@given(F=st.floats(0.0, 3e5), l_av=st.floats(50.0, 2000.0), phi=st.sampled_from([10.0, 12.0, 16.0, 20.0, 25.0, 32.0]),
+       fbd=st.floats(1.5, 4.5), ab=st.floats(40.0, 150.0))
+def test_mandrel_anchored_is_the_least_fixed_point(F, l_av, phi, fbd, ab):
+    # Eq. 8.1 with F_bt the force left at the start of the bend after bond along the
+    # straight length l_av - M/2 - phi (8.4.2): the mandrel returned satisfies Eq. 8.1 with
+    # equality where it is > 0, and a slightly smaller one does not
+    fcd = 18.133
+    kb = (1 / ab + 1 / (2 * phi)) / fcd
+
+    def f_bt(M):
+        return min(max(F - math.pi * phi * fbd * (l_av - M / 2 - phi), 0.0), F)
+
+    M = float(structure.mandrel_anchored(F, l_av, phi, fbd, kb))
+    assert M >= float(ec2.mandrel_min_bearing(f_bt(M), ab, phi, fcd)) * (1 - 1e-9) - 1e-9
+    if M > 1e-6:
+        M2 = M * (1 - 1e-6)
+        assert M2 < float(ec2.mandrel_min_bearing(f_bt(M2), ab, phi, fcd))
+
+
+@settings(max_examples=50, deadline=None)
+@given(F=st.floats(0.0, 3e5), L=st.floats(100.0, 4000.0), d=st.floats(150.0, 900.0),
+       phi=st.sampled_from([10.0, 16.0, 25.0]), ab=st.floats(40.0, 150.0))
+def test_mandrel_free_end_is_the_least_fixed_point(F, L, d, phi, ab):
+    # the shifted force at the start of the bend (9.2.1.3(2), a_l = d, moment linear to
+    # the free end): F min((cover + phi + M/2 + d)/L, 1), cover 50
+    fcd = 18.133
+    kb = (1 / ab + 1 / (2 * phi)) / fcd
+    e0 = 50 + phi + d
+
+    def f_bt(M):
+        return F * min((e0 + M / 2) / L, 1.0)
+
+    M = float(structure.mandrel_free_end(F, L, e0, kb))
+    assert M == pytest.approx(float(ec2.mandrel_min_bearing(f_bt(M), ab, phi, fcd)), rel=1e-9, abs=1e-9)
 
 
 def test_check_reinforcement_matches_design_and_catches_weak_bars():
@@ -152,6 +290,16 @@ def test_chosen_bars_meet_requirements(seed):
         # wherever a valid option exists the chosen bars meet As,req and As,min
         assert np.all(b.as_prov[ok] >= b.as_req[ok] * (1 - 1e-9))
         assert np.all(b.as_prov[ok] >= as_min[ok] * (1 - 1e-9))
+    # the secondary bars meet the restraint steel of 7.3.2 for their own bar size
+    for face, h in (("stem_horizontal", np.asarray(sec.stem_base_m) * 1000),
+                    ("base_distribution", np.asarray(sec.base_thickness_m) * 1000)):
+        b = res.bars[face]
+        need = structure.restraint_need(b.bar_mm, h, BASIS)
+        ok = np.isfinite(need) & (b.spacing_mm > 0)
+        feasible = [c for c in res.checks if c.check == "restraint_steel" and c.case == face][0]
+        fine = feasible.utilization <= 1.0
+        assert np.all(b.as_prov[fine] >= need[fine] * (1 - 1e-9))
+        assert fine[ok].mean() > 0.5
     # the fast per-size search picks the same option as testing every option
     opt = structure._options(BASIS)
     t = np.asarray(sec.stem_base_m) * 1000

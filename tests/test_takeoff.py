@@ -277,3 +277,37 @@ def test_straight_panel_concrete_and_stop_end_from_the_outline():
     from shapely.geometry import LineString
     faces = LineString([(0.6, 0.4), (0.6, 3.4)]).length + LineString([(1.05, 0.4), (0.85, 3.4)]).length
     assert q["formwork_stem"] == pytest.approx(faces * STRAIGHT.length_m, rel=1e-12)
+
+
+def test_steel_total_equals_the_bar_schedule_mass():
+    # the take-off's steel is the sum of the panels' bar rows, and the BS 8666 schedule
+    # merges the same rows: its mass is the same total (two panels of one type, one of
+    # another, with starters, bent base bars and restraint-sized distribution bars)
+    from wallrun import bars
+    from wallrun.factors import resolve
+    from wallrun.results import BarSet, Reinforcement
+    from wallrun.settings import Basis
+
+    basis = Basis(factors=resolve("DA1"))
+    b = lambda p, s, **kw: BarSet(p, s, 0.0, 0.0, 0.0, **kw)  # noqa: E731
+    r = Reinforcement(stem=b(16, 150), heel=b(12, 150, bend_r_mm=30.0, far_bend_r_mm=24.0),
+                      toe=b(12, 200), stem_horizontal=b(20, 125), base_distribution=b(20, 100),
+                      stem_front=b(10, 200))
+    panels = [make_panel("P001", 0.0, 6.0), make_panel("P002", 6.0, 12.0),
+              make_panel("P003", 12.0, 16.5)]
+    rows = [bars.panel_bars("S01" if k < 2 else "S02", STRAIGHT_SEC, r, p, basis)
+            for k, p in enumerate(panels)]
+    per_panel = [panel_quantities(p, STRAIGHT_SEC, rs, TK) for p, rs in zip(panels, rows)]
+    total = {q.item: q.quantity for q in totals(per_panel)}
+    sched = bars.schedule([x for rs in rows for x in rs])
+    assert math.fsum(x.mass_kg for x in sched) == pytest.approx(total["reinforcement_total"], rel=1e-12)
+    for mm in {x.bar_mm for x in sched}:
+        assert math.fsum(x.mass_kg for x in sched if x.bar_mm == mm) == pytest.approx(
+            total[f"reinforcement_{mm}"], rel=1e-12)
+    # by hand for one mark: the heel U-bars (shape 21, r 30): legs 400 - 50 - 75 = 275,
+    # width 2500 - 100 = 2400: 275 + 2400 + 275 - 30 - 24 = 2896 -> 2900 mm; 6.0 m panels
+    # floor(5900/150) + 1 = 40 bars each, 4.5 m: 30; 0.888 kg/m (BS 8666 Table 1, H12)
+    heel = [x for x in sched if x.part == "heel"]
+    assert {(x.section, x.length_mm, x.no_of_members, x.no_in_each) for x in heel} == {
+        ("S01", 2900, 2, 40), ("S02", 2900, 1, 30)}
+    assert sum(x.mass_kg for x in heel) == pytest.approx(0.888 * 2.9 * 110, rel=1e-3)

@@ -101,8 +101,8 @@ def test_workbook_round_trip(tmp_path):
     q = wb["quantities"]
     got = {r[0].value: r[2].value for r in q.iter_rows(min_row=2)}
     assert got == pytest.approx({x.item: x.quantity for x in res.quantities})
-    assert [c.value for c in wb["bar schedule"][1]][:4] == ["section", "member", "bar_mark",
-                                                             "bar (mm)"]
+    assert [c.value for c in wb["bar schedule"][1]][:4] == ["member", "bar_mark", "type_size",
+                                                             "no_of_members"]
 
 
 def test_cost_sheet_marks_demo_and_incomplete(tmp_path):

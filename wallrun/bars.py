@@ -1,34 +1,45 @@
-"""Bar schedule of a panel: bar marks with BS 8666 / ISO 4066 shape codes.
+"""Bar schedule of a panel and of the job: bar marks with BS 8666:2005 shape codes.
 
-Detailing rules (wallrun's, common practice; every length in mm):
+Detailing rules (wallrun's, common practice unless a clause or table is named; every
+length in mm; shapes, radii, end projections and length formulae in
+:mod:`wallrun.shapes`, from BS 8666:2005 Tables 2 and 3):
 
-- Shape codes and cutting lengths by the BS 8666 formulae (from memory):
-  00 straight, L = A; 11 one 90 degree bend, L = A + B - 0.5 r - d;
-  21 U-bar, L = A + B + C - r - 2 d; r the standard bend radius, 2 d for d <= 16 and
-  3.5 d above (minimum former 4 d / 7 d). Dimensions are outside dimensions. Cutting
-  lengths are rounded up to the next 25 mm; stem bars cut to a sloped top are grouped
-  into lengths rounded up to 50 mm.
+- Cutting lengths by the BS 8666 formula of the shape code from the outside dimensions,
+  rounded up to the next 25 mm; stem bars cut to a sloped top are grouped into lengths
+  rounded up to 50 mm.
 - Bars are at most 12 m long (stock length); longer runs are made of equal pieces
   lapped by l0 of EN 1992-1-1 8.7.3 (alpha6 = 1.5).
-- Stem starters (shape 11): a vertical leg from the top of the base down to rest on the
-  bottom mat (toe bars and distribution bars), a foot so that leg + foot >= lbd
-  (8.4.4, alpha factors 1.0) and >= 12 d, and a projection of l0 above the top of the
-  base (lapped with the stem bars). Back-face starters carry the stem main bar; the
-  front face has its own starters of the stem_front bar.
-- Stem bars (shape 00) from the top of the base to the top of the wall less the cover,
-  along the tapered back face; with ``stem_curtail_m`` every second back bar stops at
-  that height (omitted when the starter projection already reaches it).
+- Starters (part ``starter`` for the back face with the stem main bar, ``starter_front``
+  for the front face with the stem_front bar), an L (shape 11, or 12 where EN 1992-1-1
+  Eq. 8.1 needs a radius above BS 8666's r): a vertical leg from the bottom mat (resting
+  on the toe bars and the distribution bars) up through the kicker to the kicker plus
+  the lap l0 of 8.7.3 above the top of the base, and a foot so that embedment + foot >=
+  lbd (8.4.4, alpha factors 1.0), >= 12 d, and >= the end projection of the bend
+  (BS 8666 Table 2 P, or R + 6 d). Their geometry comes from the design
+  (``reinforcement.starter``); a reinforcement without starters gets them by the same
+  rules with the standard radius.
+- Stem bars (shape 00) from the top of the kicker to the top of the wall less the cover,
+  along the tapered back face, lapping the starters; with ``stem_curtail_m`` every
+  second back bar stops at that height (omitted when the starters already reach it).
 - Stem horizontal bars, each face, rows from the cover above the top of the base at the
   stem_horizontal spacing, along the panel length less the end covers (for a sloped
   top each row only where the stem stands higher than the row plus the cover).
-- Base transverse bars straight (shape 00) across the full base width less the side
-  covers: the top mat of the heel bar, the bottom mat of the toe bar.
+- Base transverse bars across the full base width less the side covers: the top mat
+  (the heel bar, part ``heel``) bent down at the heel end, the bottom mat (the toe bar,
+  part ``toe``) bent up at the toe end, each with a leg from the top cover to the
+  bottom cover (shape 11 or 12); where the design bends the other end too
+  (``far_bend_r_mm``) a U (shape 21, the larger radius at both bends).
 - Base distribution bars, each mat, along the panel length less the end covers.
 - Shear key (when the section has one): U-bars (shape 21) of the toe bar at the toe
   spacing, legs from the key bottom up to the top mat, and two longitudinal bars of the
   distribution bar in the bends.
 - Number along the panel = floor((L - 2 cover) / spacing) + 1, end covers
   ``concrete.cover_mm`` at both joints.
+
+The schedule (:func:`schedule`) gives one bar mark to each distinct bar (part, size,
+shape, dimensions, radius) of a section type, and one row to each group of its panels
+that hold the same number of that bar: ``no_of_members`` the panels of the row,
+``no_in_each`` the bars in each, the member naming the type, the part and the panels.
 
 The bars of a row of equal spacing (stem bars, horizontal rows) are computed as arrays;
 the array forms give exactly the numbers of the per-value formulas above.
@@ -37,22 +48,27 @@ the array forms give exactly the numbers of the per-value formulas above.
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
 
+from wallrun import shapes
 from wallrun.codes import ec2
-from wallrun.results import BarMark, Panel, Reinforcement
+from wallrun.results import BarMark, BarSet, Panel, Reinforcement, Starter
 from wallrun.section import Section
 from wallrun.structure import STOCK_LENGTH_MM, starter_embedment_mm, starter_foot_mm
 
-MEMBER_ORDER = ("stem", "stem_front", "stem_horizontal", "heel", "toe", "base_distribution", "key")
+#: Parts of the cage in the order of the schedule (the names of ``reinforcement``).
+PART_ORDER = ("starter", "stem", "starter_front", "stem_front", "stem_horizontal", "heel", "toe",
+              "base_distribution", "key")
+MEMBER_ORDER = PART_ORDER  # the former name
 
 
 def bend_radius(phi: float) -> float:
-    """Standard bend radius r, mm: 2 phi for phi <= 16, 3.5 phi above (BS 8666, from memory)."""
-    return 2.0 * phi if phi <= 16 else 3.5 * phi
+    """Standard (minimum) scheduling radius r, mm (BS 8666:2005 Table 2, :mod:`wallrun.shapes`)."""
+    return float(shapes.min_radius(phi))
 
 
 def round_up(x: float, step: float = 25.0) -> int:
@@ -93,18 +109,10 @@ def round_up_many(x, step: float = 25.0, numpy_scalar=None) -> np.ndarray:
     return (np.ceil(r) * step).astype(np.int64)
 
 
-def cutting_length(shape_code: str, phi: float, dims: dict[str, float]) -> int:
-    """Cutting length by the BS 8666 formula of the shape code, rounded up to 25 mm."""
-    r = bend_radius(phi)
-    if shape_code == "00":
-        L = dims["A"]
-    elif shape_code == "11":
-        L = dims["A"] + dims["B"] - 0.5 * r - phi
-    elif shape_code == "21":
-        L = dims["A"] + dims["B"] + dims["C"] - r - 2.0 * phi
-    else:
-        raise ValueError(f"shape code {shape_code} not used by wallrun")
-    return round_up(L)
+def cutting_length(shape_code: str, phi: float, dims: dict[str, float], r: float | None = None) -> int:
+    """Cutting length by the BS 8666 formula of the shape code (BS 8666:2005 Table 3),
+    rounded up to 25 mm; r the bend radius (default the standard r of Table 2)."""
+    return shapes.round_length(float(shapes.shape_length(shape_code, phi, dims, r)))
 
 
 @lru_cache(maxsize=None)
@@ -129,12 +137,19 @@ def _l0(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
     return float(ec2.lap_length(phi, fck, fyk, good_bond))
 
 
-def _mark(section: str, member: str, phi: float, shape: str, dims: dict[str, float], number: int) -> BarMark:
-    d = {k: int(math.ceil(v)) for k, v in dims.items()}
-    L = cutting_length(shape, phi, d)
-    return BarMark(section=section, member=member, bar_mark="", bar_mm=int(phi), shape_code=shape,
+def _mark(section: str, part: str, phi: float, shape: str, dims: dict[str, float], number: int,
+          r: float | None = None, steel_type: str = "H") -> BarMark:
+    """One bar row of a panel (bar_mark and panels left to the caller): the dimensions
+    rounded up to whole mm, the cutting length by the shape's formula with radius r
+    (the standard r of BS 8666 Table 2 when None; straight bars have none)."""
+    d = {k: int(math.ceil(round(v, 6))) for k, v in dims.items()}
+    rr = None if shape == "00" else (float(shapes.min_radius(phi)) if r is None else float(r))
+    L = cutting_length(shape, phi, d, rr)
+    return BarMark(section=section, member=part, bar_mark="", bar_mm=int(phi), shape_code=shape,
                    length_mm=L, number=int(number), total_length_m=L * number / 1000.0,
-                   mass_kg=mass_kg(phi, L, number), dims_mm=d)
+                   mass_kg=mass_kg(phi, L, number), dims_mm=d,
+                   r_mm=None if rr is None else int(math.ceil(round(rr, 6))), part=part,
+                   no_in_each=int(number), steel_type=steel_type)
 
 
 def n_along(length_mm: float, cover_mm: float, spacing_mm: float) -> int:
@@ -150,17 +165,46 @@ def split_run(run_mm: float, lap_mm: float) -> tuple[int, float]:
     return k, (run_mm + (k - 1) * lap_mm) / k
 
 
-def _straight_runs(section, member, phi, run_mm, lap_mm, count) -> list[BarMark]:
+def _straight_runs(section, member, phi, run_mm, lap_mm, count, steel_type="H") -> list[BarMark]:
     pieces, piece = split_run(run_mm, lap_mm)
-    return [_mark(section, member, phi, "00", {"A": piece}, count * pieces)] if count > 0 else []
+    return ([_mark(section, member, phi, "00", {"A": piece}, count * pieces, steel_type=steel_type)]
+            if count > 0 else [])
+
+
+def steel_type(basis) -> str:
+    """BS 8666:2005 type letter of the bars: H for grade B500 (fyk = 500 MPa), else X
+    (a steel whose properties the design states)."""
+    return "H" if abs(float(basis.steel.fyk_mpa) - 500.0) < 1e-9 else "X"
+
+
+def _starter_of(bs: BarSet, r: Reinforcement, section: Section, basis) -> Starter:
+    """The starter of bars ``bs`` by the rules of the module docstring (standard radius),
+    for a reinforcement the design gave no starters."""
+    c = basis.concrete
+    fck, fyk = c.fck_mpa, basis.steel.fyk_mpa
+    phi = float(bs.bar_mm)
+    embed = float(starter_embedment_mm(section.base_thickness_m * 1000.0, c.cover_ground_mm,
+                                       r.toe.bar_mm, r.base_distribution.bar_mm))
+    rad = float(shapes.min_radius(phi))
+    foot = max(float(starter_foot_mm(phi, _lbd(phi, fck, fyk, True), embed)), float(shapes.min_leg(phi, rad)))
+    return Starter(**{**bs.__dict__, "bend_r_mm": rad}, lap_mm=_l0(phi, fck, fyk, True),
+                   kicker_mm=float(c.kicker_mm), embedment_mm=embed, foot_mm=foot)
+
+
+def _bent_shape(phi: float, radius: float) -> str:
+    """11 for the standard radius of BS 8666 Table 2, 12 for a larger one."""
+    return "11" if bool(shapes.standard_radius(phi, radius)) else "12"
 
 
 def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement, panel: Panel,
                basis) -> list[BarMark]:
-    """Bars of one panel (bar_mark left ""), see the module docstring for the rules."""
+    """Bars of one panel (bar_mark left ""; ``panels`` the panel), see the module
+    docstring for the rules."""
     fck = basis.concrete.fck_mpa
     fyk = basis.steel.fyk_mpa
     cv, cg = float(basis.concrete.cover_mm), float(basis.concrete.cover_ground_mm)
+    kicker = float(basis.concrete.kicker_mm)
+    grade = steel_type(basis)
     r = reinforcement
     L = panel.length_m * 1000.0
     B = section.base_width_m * 1000.0
@@ -173,46 +217,49 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     front = r.stem_front if r.stem_front is not None else r.stem_horizontal
     out: list[BarMark] = []
 
+    def mark(part, phi, shape, dims, number, rad=None):
+        return _mark(section_type, part, phi, shape, dims, number, rad, grade)
+
     dt = t_bot - t_top
 
-    def stem_lengths(hloc, step):  # along the tapered back face up to the top less cover
+    def stem_lengths(hloc, step):  # along the tapered back face from the kicker to the top less cover
         m = np.minimum(hs_checked, hloc)
         uniq, inv = np.unique(m, return_inverse=True)  # few distinct: one hypot each
         hyp = np.array([math.hypot(v, dt) for v in uniq.tolist()])[inv.reshape(-1)]
-        # the per-bar sum is a Python float only where both max() and min() give their
-        # Python-float argument: a stem lower than the cover and not lower than hs
-        as_float = (hloc - cv < 0.0) & ~(hloc < hs_checked)
-        return round_up_many(np.maximum(hloc - cv, 0.0) + (hyp - m), step, ~as_float)
+        return round_up_many(np.maximum(hloc - cv - kicker, 0.0) + (hyp - m), step, True)
 
     def heights(spacing):  # local drawn stem height at each bar position along the panel
         n = n_along(L, cv, spacing)
         x = cv + np.arange(n) * spacing
         return h0 + (h1 - h0) * np.clip(x / L if L > 0 else 0.0, 0, 1)
 
-    embed = starter_embedment_mm(tb, cg, r.toe.bar_mm, r.base_distribution.bar_mm)
-    for member, bs, curtail in (("stem", r.stem, r.stem_curtail_m), ("stem_front", front, None)):
+    for part, st_part, bs, curtail in (("stem", "starter", r.stem, r.stem_curtail_m),
+                                       ("stem_front", "starter_front", front, None)):
+        st = getattr(r, st_part)
+        if st is None or st.bar_mm != bs.bar_mm or st.spacing_mm != bs.spacing_mm:
+            st = _starter_of(bs, r, section, basis)
         phi, s = float(bs.bar_mm), float(bs.spacing_mm)
-        lbd = _lbd(phi, fck, fyk, True)
-        l0 = _l0(phi, fck, fyk, True)
-        foot = float(starter_foot_mm(phi, lbd, embed))
         hloc = heights(s)
         n = len(hloc)
-        proj = min(l0, max(float(hloc.min()) - cv, 0.0))
-        out.append(_mark(section_type, member, phi, "11", {"A": embed + proj, "B": foot}, n))
+        proj = min(st.projection_mm, max(float(hloc.min()) - cv, 0.0))
+        rad = float(st.bend_r_mm) if st.bend_r_mm is not None else float(shapes.min_radius(phi))
+        out.append(mark(st_part, phi, _bent_shape(phi, rad),
+                        {"A": st.embedment_mm + proj, "B": st.foot_mm}, n, rad))
         lengths = stem_lengths(hloc, 25.0 if h0 == h1 else 50.0)
-        keep = lengths > proj  # bars only where the stem rises above the starters
+        keep = lengths > proj - kicker  # bars only where the stem rises above the starters
         if curtail is not None:
             stop = curtail * 1000.0
-            short = (np.arange(n) % 2 == 1) & keep & (lengths > stop)
+            short = (np.arange(n) % 2 == 1) & keep & (lengths > stop - kicker)
             if stop > proj:
                 k = int(short.sum())
                 if k:
-                    out.append(_mark(section_type, member, phi, "00", {"A": round_up(stop)}, k))
+                    out.append(mark(part, phi, "00", {"A": round_up(stop - kicker)}, k))
             keep = keep & ~short
         kept, counts = np.unique(lengths[keep], return_counts=True)  # sorted lengths
+        l0 = _l0(phi, fck, fyk, True)
         for Lb, cnt in zip(kept.tolist(), counts.tolist()):
             pieces, piece = split_run(Lb, l0)
-            out.append(_mark(section_type, member, phi, "00", {"A": piece}, cnt * pieces))
+            out.append(mark(part, phi, "00", {"A": piece}, cnt * pieces))
 
     # stem horizontal bars, each face
     hb = r.stem_horizontal
@@ -227,66 +274,114 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     else:  # the part of the panel where the stem top stands above z + cover
         lo_h, hi_h = min(h0, h1), max(h0, h1)
         frac = np.clip((hi_h - cv - row_z) / (hi_h - lo_h), 0.0, 1.0)
-        part = round_up_many(np.maximum(frac * L - cv, 0.0), 50.0).tolist()
-        exts = [full if f >= 1.0 else e for f, e in zip(frac.tolist(), part)]
+        part_l = round_up_many(np.maximum(frac * L - cv, 0.0), 50.0).tolist()
+        exts = [full if f >= 1.0 else e for f, e in zip(frac.tolist(), part_l)]
     run = {}
     for ext in exts:
         if ext > 0:
             run[ext] = run.get(ext, 0) + 2
     for ext, cnt in sorted(run.items()):
-        out += _straight_runs(section_type, "stem_horizontal", phi, ext, l0, cnt)
+        out += _straight_runs(section_type, "stem_horizontal", phi, ext, l0, cnt, grade)
 
-    # base mats across the full width
-    for member, bs in (("heel", r.heel), ("toe", r.toe)):
-        out.append(_mark(section_type, member, float(bs.bar_mm), "00", {"A": B - 2 * cv},
-                         n_along(L, cv, bs.spacing_mm)))
+    # base mats across the full width, bent at their anchoring ends
+    leg = tb - cv - cg
+    for part, bs in (("heel", r.heel), ("toe", r.toe)):
+        phi = float(bs.bar_mm)
+        r_std = float(shapes.min_radius(phi))
+        rad = r_std if bs.bend_r_mm is None else float(bs.bend_r_mm)
+        count = n_along(L, cv, bs.spacing_mm)
+        if bs.far_bend_r_mm is None:
+            out.append(mark(part, phi, _bent_shape(phi, rad), {"A": B - 2 * cv, "B": leg}, count, rad))
+        else:
+            rad = max(rad, float(bs.far_bend_r_mm))
+            out.append(mark(part, phi, "21", {"A": leg, "B": B - 2 * cv, "C": leg}, count, rad))
     db = r.base_distribution
     phi = float(db.bar_mm)
     l0 = _l0(phi, fck, fyk, False)  # top mat in poor bond: used for both mats
     out += _straight_runs(section_type, "base_distribution", phi, L - 2 * cv, l0,
-                          2 * n_along(B, cv, db.spacing_mm))
+                          2 * n_along(B, cv, db.spacing_mm), grade)
 
     # shear key
     if section.key_depth_m > 0 and section.key_width_m > 0:
         kd, kw = section.key_depth_m * 1000.0, section.key_width_m * 1000.0
         phi = float(r.toe.bar_mm)
-        leg = kd + tb - cg - cv - r.heel.bar_mm
+        kleg = kd + tb - cg - cv - r.heel.bar_mm
         width = max(kw - 2 * cg, 2 * bend_radius(phi) + 2 * phi)
-        out.append(_mark(section_type, "key", phi, "21", {"A": leg, "B": width, "C": leg},
-                         n_along(L, cv, r.toe.spacing_mm)))
+        out.append(mark("key", phi, "21", {"A": kleg, "B": width, "C": kleg},
+                        n_along(L, cv, r.toe.spacing_mm)))
         phi_d = float(db.bar_mm)
         out += _straight_runs(section_type, "key", phi_d, L - 2 * cv,
-                              _l0(phi_d, fck, fyk, True), 2)
-    return out
+                              _l0(phi_d, fck, fyk, True), 2, grade)
+    return [replace(b, panels=(panel.panel,), member=f"{section_type} {b.part} {panel.panel}")
+            for b in out]
+
+
+def _natural(name: str):
+    """Sort key reading the digits of a name as a number (P9 before P10)."""
+    return [int(t) if t.isdigit() else t for t in re.split(r"(\d+)", name)]
+
+
+def panel_ranges(panels, order: dict[str, int]) -> str:
+    """Panels as text, runs of consecutive panels (in ``order``) as ``first-last``."""
+    ps = sorted(panels, key=lambda p: order[p])
+    out, k = [], 0
+    while k < len(ps):
+        j = k
+        while j + 1 < len(ps) and order[ps[j + 1]] == order[ps[j]] + 1:
+            j += 1
+        out.append(ps[k] if j == k else f"{ps[k]}-{ps[j]}")
+        k = j + 1
+    return " ".join(out)
 
 
 def _key(b: BarMark):
-    return (b.section, b.member, b.bar_mm, b.shape_code, b.length_mm, tuple(sorted(b.dims_mm.items())))
+    return (b.section, b.part or b.member, b.bar_mm, b.shape_code, b.length_mm,
+            tuple(sorted(b.dims_mm.items())), b.r_mm)
 
 
 def schedule(rows: list[BarMark]) -> tuple[BarMark, ...]:
-    """Merge equal bars (same section, member, bar, shape, length and dimensions) across
-    the panels of a section type, number them ``{section}-{nn:02d}`` in the order
-    section, member (stem, stem_front, stem_horizontal, heel, toe, base_distribution,
-    key), shape code, bar size, length; numbers summed, and lengths and masses summed
-    exactly (``math.fsum`` of the parts, unrounded) so that the schedule's mass equals
-    the take-off's reinforcement total; the files round for display only."""
-    merged: dict[tuple, int] = {}
+    """The job's bar schedule from the panels' bar rows (:func:`panel_bars`).
+
+    One bar mark per distinct bar of a section type (part, size, shape, dimensions,
+    length, radius), numbered ``{section}-{nn:02d}`` in the order part (starter, stem,
+    starter_front, stem_front, stem_horizontal, heel, toe, base_distribution, key),
+    shape code, bar size, length. One row per bar mark and group of panels holding the
+    same number of it: ``no_of_members`` = the panels of the group (all the panels of
+    the type where they are alike), ``no_in_each`` = the bars in each, ``number`` the
+    total. Lengths and masses are summed exactly (``math.fsum`` of the parts,
+    unrounded) so that the schedule's mass equals the take-off's reinforcement total;
+    the files round for display only. Independent of the order of ``rows``."""
+    rank = {m: i for i, m in enumerate(PART_ORDER)}
+    panels_all: set[str] = set()
+    count: dict[tuple, dict[str, int]] = {}
+    parts: dict[tuple, dict[str, list[BarMark]]] = {}
     first: dict[tuple, BarMark] = {}
-    parts: dict[tuple, list[BarMark]] = {}
     for b in rows:
         k = _key(b)
-        merged[k] = merged.get(k, 0) + int(b.number)
+        pans = b.panels or ("",)
+        p = pans[0]
+        panels_all.update(pans)
+        count.setdefault(k, {})
+        count[k][p] = count[k].get(p, 0) + int(b.number)
+        parts.setdefault(k, {}).setdefault(p, []).append(b)
         first.setdefault(k, b)
-        parts.setdefault(k, []).append(b)
-    rank = {m: i for i, m in enumerate(MEMBER_ORDER)}
-    order = sorted(merged, key=lambda k: (k[0], rank.get(k[1], len(rank)), k[1], k[3], k[2], k[4], k[5]))
+    order = {p: i for i, p in enumerate(sorted(panels_all, key=_natural))}
+    keys = sorted(count, key=lambda k: (k[0], rank.get(k[1], len(rank)), k[1], k[3], k[2], k[4], k[5],
+                                        -1 if k[6] is None else k[6]))
     out, counter = [], {}
-    for k in order:
+    for k in keys:
         b = first[k]
         counter[b.section] = counter.get(b.section, 0) + 1
-        num = merged[k]
-        out.append(replace(b, bar_mark=f"{b.section}-{counter[b.section]:02d}", number=num,
-                           total_length_m=math.fsum(p.total_length_m for p in parts[k]),
-                           mass_kg=math.fsum(p.mass_kg for p in parts[k])))
+        mark = f"{b.section}-{counter[b.section]:02d}"
+        groups: dict[int, list[str]] = {}
+        for p in sorted(count[k], key=lambda p: order[p]):
+            groups.setdefault(count[k][p], []).append(p)
+        for each, pans in sorted(groups.items(), key=lambda g: order[g[1][0]]):
+            bits = [x for p in pans for x in parts[k][p]]
+            real = tuple(p for p in pans if p)
+            member = f"{b.section} {b.part or b.member}" + (f" {panel_ranges(real, order)}" if real else "")
+            out.append(replace(b, bar_mark=mark, member=member, number=each * len(pans),
+                               total_length_m=math.fsum(x.total_length_m for x in bits),
+                               mass_kg=math.fsum(x.mass_kg for x in bits), panels=real,
+                               no_of_members=len(pans), no_in_each=each))
     return tuple(out)

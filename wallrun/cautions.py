@@ -15,7 +15,7 @@ OVERALL = "overall (deep-seated) stability of the slope and wall together (EN 19
 SEISMIC = "seismic actions (EN 1998-5)"
 RESTRAINT = ("minimum reinforcement for crack control of restrained early-age and shrinkage "
              "strains (EN 1992-1-1 7.3.2)")
-BENDS = "bearing stress inside bar bends (EN 1992-1-1 8.3)"
+BENDS = "bearing stress inside bar bends (EN 1992-1-1 8.3)"  # checked: never listed
 
 #: Never checked by wallrun, whatever the site says (design-basis section 8).
 ALWAYS = (
@@ -33,15 +33,20 @@ def not_checked(site) -> tuple[str, ...]:
     """What wallrun does not check for ``site`` (a ``wallrun.settings.Site``): the fixed
     list, plus each optional check the site leaves off or wallrun does not make yet.
     Every output lists exactly this. Overall stability is checked where ``[ground]
-    overall_stability = true`` (design-basis section 9) and seismic actions where the
-    site gives ``[seismic]`` (design-basis section 10); each is listed otherwise."""
+    overall_stability = true`` (design-basis section 9), seismic actions where the site
+    gives ``[seismic]`` (design-basis section 10) and the 7.3.2 restraint steel where
+    ``design.restraint_steel`` is on (the default); each is listed otherwise. The bends
+    of 8.3 (Table 8.1N and Eq. 8.1, check ``bar_bend``) are always checked, so BENDS is
+    never listed."""
     out = []
     if not site.ground_model.overall_stability:
         out.append(OVERALL)
     if site.seismic is None:
         out.append(SEISMIC)
-    return tuple(out) + (RESTRAINT, BENDS) + ALWAYS
+    if not site.design.restraint_steel:
+        out.append(RESTRAINT)
+    return tuple(out) + ALWAYS
 
 
 #: The list for a site with every optional check off (tests and documentation).
-NOT_CHECKED = (OVERALL, SEISMIC, RESTRAINT, BENDS) + ALWAYS
+NOT_CHECKED = (OVERALL, SEISMIC, RESTRAINT) + ALWAYS

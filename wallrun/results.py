@@ -103,13 +103,44 @@ def entries(checks, i: int) -> tuple[CheckEntry, ...]:
 
 @dataclass(frozen=True)
 class BarSet:
-    """Bars of one member: diameter mm, spacing mm, areas mm2/m, effective depth mm."""
+    """Bars of one member: diameter mm, spacing mm, areas mm2/m, effective depth mm.
+
+    bend_r_mm: the scheduling radius of the bar's anchoring bend, mm (BS 8666 r of
+    Table 2, or a larger R where EN 1992-1-1 Eq. 8.1 needs a larger mandrel): for the
+    heel (top) bars the bend down at the heel end, for the toe (bottom) bars the bend up
+    at the toe end, for starters the bend into the foot; None where the bars are
+    straight or the design has not set it. far_bend_r_mm: heel and toe bars only, the
+    bend at the other end of the base (beyond the stem), None where that end is
+    straight.
+    """
 
     bar_mm: int
     spacing_mm: int
     as_prov_mm2_per_m: float
     as_req_mm2_per_m: float
     d_mm: float
+    bend_r_mm: float | None = None
+    far_bend_r_mm: float | None = None
+
+
+@dataclass(frozen=True)
+class Starter(BarSet):
+    """Starter bars from the base into the stem (``design.json``
+    ``panels[].reinforcement.starter``): the bar and spacing of the stem bars they lap,
+    an L with its foot on the bottom mat of the base. lap_mm: l0 of EN 1992-1-1 8.7.3
+    above the kicker; kicker_mm: the kicker height; embedment_mm: the vertical leg from
+    the top of the base to the underside of the foot; foot_mm: the foot (outside
+    dimension). bend_r_mm: the radius of the bend into the foot."""
+
+    lap_mm: float = 0.0
+    kicker_mm: float = 0.0
+    embedment_mm: float = 0.0
+    foot_mm: float = 0.0
+
+    @property
+    def projection_mm(self) -> float:
+        """Height of the starter above the top of the base: kicker + lap, mm."""
+        return self.kicker_mm + self.lap_mm
 
 
 @dataclass(frozen=True)
@@ -119,7 +150,10 @@ class Reinforcement:
     stem: vertical main bars at the back (retained) face; heel: top mat of the base;
     toe: bottom mat of the base; stem_horizontal: horizontal bars, each face;
     base_distribution: transverse (along the wall) bars of the base, each mat.
-    stem_front: vertical bars of the front face (minimum steel).
+    stem_front: vertical bars of the front face (minimum steel). stem_horizontal and
+    base_distribution carry the restraint steel of EN 1992-1-1 7.3.2 when it is designed
+    (areas per face). starter, starter_front: the starter bars lapped above the kicker
+    (None where the design has not made them, e.g. a nominal section).
     """
 
     stem: BarSet
@@ -130,11 +164,25 @@ class Reinforcement:
     stem_front: BarSet | None = None
     stem_curtail_m: float | None = None  # height above the top of the base where half
     # the stem main bars stop (None: all bars run full height)
+    starter: Starter | None = None  # back-face starters (the stem main bars' lap)
+    starter_front: Starter | None = None  # front-face starters (the stem_front bars' lap)
 
 
 @dataclass(frozen=True)
 class BarMark:
-    """One row of ``bar_schedule.csv`` (BS 8666 / ISO 4066 shape codes)."""
+    """One row of ``bar_schedule.csv`` (BS 8666:2005 schedule, shape codes of its Table 3).
+
+    section: the section type; member: the BS 8666 member, the section type, the part
+    and the panels of the row (e.g. ``"S03 starter P004 P007-P009"``); bar_mark: the
+    mark, one per distinct bar of a section type (``S03-01``); bar_mm: size d; number:
+    the total number (``total_no`` = no_of_members x no_in_each); total_length_m and
+    mass_kg of all of them; dims_mm: the shape's dimensions A to E; r_mm: the bend
+    radius of a bent bar (None for a straight one); part: which bars (stem, starter,
+    stem_front, starter_front, stem_horizontal, heel, toe, base_distribution, key; the
+    names of ``reinforcement``); panels: the panels of the row; no_of_members: their
+    number; no_in_each: the bars in each panel (0: ``number``, one member);
+    steel_type: the BS 8666 type letter.
+    """
 
     section: str
     member: str
@@ -146,6 +194,49 @@ class BarMark:
     total_length_m: float
     mass_kg: float
     dims_mm: dict[str, int] = field(default_factory=dict)  # shape dimensions A, B, ...
+    r_mm: int | None = None
+    part: str = ""
+    panels: tuple[str, ...] = ()
+    no_of_members: int = 1
+    no_in_each: int = 0
+    steel_type: str = "H"
+
+    @property
+    def type_size(self) -> str:
+        """Type and size as BS 8666:2005 writes them, e.g. ``H16``: the type letter of its
+        Table 1 (H: grade B500A, B500B or B500C to BS 4449; X: a steel the design
+        specifies otherwise) and the size d in mm."""
+        return f"{self.steel_type}{self.bar_mm}"
+
+    @property
+    def total_no(self) -> int:
+        return int(self.number)
+
+    @property
+    def each(self) -> int:
+        """Bars in each member (``no_in_each``)."""
+        return int(self.no_in_each or self.number)
+
+    # shape dimensions A to E of the schedule, mm (None where the shape has none)
+    @property
+    def a_mm(self) -> int | None:
+        return self.dims_mm.get("A")
+
+    @property
+    def b_mm(self) -> int | None:
+        return self.dims_mm.get("B")
+
+    @property
+    def c_mm(self) -> int | None:
+        return self.dims_mm.get("C")
+
+    @property
+    def d_mm(self) -> int | None:
+        return self.dims_mm.get("D")
+
+    @property
+    def e_mm(self) -> int | None:
+        return self.dims_mm.get("E")
 
 
 # --- run, panels and joints -------------------------------------------------------------

@@ -220,11 +220,37 @@ class Concrete:
     cover_mm: float = setting(50.0, unit="mm", ge=15, le=150)
     cover_ground_mm: float = setting(75.0, unit="mm", ge=15, le=150)
     alpha_cc: float = setting(0.85, ge=0.8, le=1.0, why="EN 1992-1-1 3.1.6(1) Note")
+    # tensile strength when restraint cracks first form (EN 1992-1-1 7.3.2(2)); None: fctm
+    fct_eff_mpa: float | None = setting(None, "float_or_none", unit="MPa", gt=0, le=5,
+                                        why="EN 1992-1-1 7.3.2(2): fctm or an early-age value")
+    # height of the kicker cast with the base; the stem bars lap the starters above it
+    kicker_mm: float = setting(75.0, unit="mm", ge=0, le=300)
 
     @property
     def fck_mpa(self) -> float:
         """Characteristic cylinder strength of the class, MPa (EN 1992-1-1 Table 3.1)."""
         return STRENGTH_CLASSES[self.strength_class]
+
+    @property
+    def fctm_mpa(self) -> float:
+        """Mean axial tensile strength of the class fctm = 0.30 fck^(2/3), MPa
+        (EN 1992-1-1 Table 3.1)."""
+        return 0.30 * self.fck_mpa ** (2.0 / 3.0)
+
+    @property
+    def fct_eff(self) -> float:
+        """fct,eff of EN 1992-1-1 Eq. (7.1), MPa: ``fct_eff_mpa``, or fctm of the class
+        (7.3.2(2)) when it is not given."""
+        return self.fctm_mpa if self.fct_eff_mpa is None else float(self.fct_eff_mpa)
+
+    def problems(self) -> list[tuple[str, str]]:
+        """Rules between keys: (key, problem). fct,eff is fctm or lower, fctm(t) when the
+        cracks form before 28 days (EN 1992-1-1 7.3.2(2))."""
+        if self.fct_eff_mpa is not None and self.fct_eff_mpa > self.fctm_mpa + 1e-9:
+            return [("fct_eff_mpa",
+                     f"must not exceed fctm of {self.strength_class} ({g(round(self.fctm_mpa, 3))} MPa,"
+                     f" EN 1992-1-1 7.3.2(2)), got {g(self.fct_eff_mpa)}")]
+        return []
 
 
 @dataclass(frozen=True)
@@ -255,6 +281,9 @@ class Design:
     min_stem_m: float = setting(0.25, unit="m", ge=0.15, le=1.0)
     #: Least base thickness (common practice).
     min_base_m: float = setting(0.30, unit="m", ge=0.15, le=1.5)
+    # EN 1992-1-1 7.3.2 minimum steel for restraint cracking (stem horizontal and base
+    # longitudinal bars); false lists 7.3.2 as not checked
+    restraint_steel: bool = setting(True)
 
 
 @dataclass(frozen=True)

@@ -14,8 +14,15 @@ Layout of the bars (per metre run of wall, b = 1000 mm strips):
   ``cover_mm``; it resists the positive heel moment and any reverse toe moment.
 - toe: bottom mat (full base width), cover ``cover_ground_mm``; it resists the positive
   toe moment and any reverse heel moment.
-- stem_horizontal: horizontal bars, each face, inside the verticals.
-- base_distribution: bars along the wall in each mat, inside the transverse bars.
+- stem_horizontal: horizontal bars, each face, inside the verticals; they carry the
+  restraint steel of 7.3.2 (``restraint_steel``, when ``design.restraint_steel``).
+- base_distribution: bars along the wall in each mat, inside the transverse bars; the
+  restraint steel of 7.3.2 likewise.
+- starter, starter_front: L-bars of the stem's vertical bars from the bottom mat of the
+  base to the kicker (``concrete.kicker_mm``) plus the lap l0 of 8.7.3 above it.
+- the heel bars are bent down at the heel end and the toe bars up at the toe end; the
+  other end of each only where it needs it. ``bar_bend`` checks every bend (8.3,
+  Table 8.1N and Eq. 8.1), see :func:`_bends`.
 
 Choices where the design basis is silent (also in the final report):
 
@@ -38,6 +45,11 @@ Choices where the design basis is silent (also in the final report):
   is chosen and the checks report the shortfall.
 - The heel top bars are taken in poor bond conditions (eta1 = 0.7, Fig. 8.2, base
   thicker than 250 mm is typical); every other bar in good bond.
+- Restraint steel: :func:`restraint_need` (per face, the stem at its base thickness);
+  it joins the minimum of the secondary bars in the bar choice, so the steel mass and
+  the cost the search minimises include it.
+- Bends: the readings of :func:`_bends` (force at the start of the bend, the room a
+  member gives a bend, the radius scheduled).
 """
 
 from __future__ import annotations
@@ -49,7 +61,8 @@ import numpy as np
 
 from wallrun.codes import ec2
 from wallrun.members import MemberActions
-from wallrun.results import BarSet, CheckArray, Reinforcement
+from wallrun import shapes
+from wallrun.results import BarSet, CheckArray, Reinforcement, Starter
 from wallrun.section import SectionArrays
 from wallrun.settings import Basis
 
@@ -59,25 +72,60 @@ CL_CRACK = "EN 1992-1-1 7.3.3, 9.3.1.1(3)"
 CL_MIN = "EN 1992-1-1 9.2.1.1"
 CL_MIN_WALL = "EN 1992-1-1 9.6.2, 9.6.3"
 CL_MIN_DIST = "EN 1992-1-1 9.3.1.1(2)"
+CL_RESTRAINT = "EN 1992-1-1 7.3.2 Eq. (7.1), Table 7.2N"
+CL_BEND = "EN 1992-1-1 8.3 Table 8.1N, Eq. (8.1)"
+KC_RESTRAINT = 1.0  # 7.3.2(2): pure tension over the whole thickness (design basis 5)
 STOCK_LENGTH_MM = 12000.0  # longest bar supplied, common practice
 
 FACES = ("stem", "stem_front", "heel", "toe", "stem_horizontal", "base_distribution")
 
 
+def _opt(a, i: int) -> float | None:
+    """a[i] as a float, None where a is None or a[i] is nan."""
+    if a is None:
+        return None
+    v = float(a[i])
+    return v if np.isfinite(v) else None
+
+
 @dataclass(frozen=True)
 class BarArrays:
-    """Bars of one face for n candidates: diameter and spacing mm, areas mm2/m, d mm."""
+    """Bars of one face for n candidates: diameter and spacing mm, areas mm2/m, d mm;
+    bend_r, far_bend_r: scheduling radii of the bars' bends, mm (nan: straight; see
+    :class:`wallrun.results.BarSet`)."""
 
     bar_mm: np.ndarray
     spacing_mm: np.ndarray
     as_prov: np.ndarray
     as_req: np.ndarray
     d_mm: np.ndarray
+    bend_r: np.ndarray | None = None
+    far_bend_r: np.ndarray | None = None
 
     def take(self, i: int) -> BarSet:
         return BarSet(int(self.bar_mm[i]), int(self.spacing_mm[i]),
                       round(float(self.as_prov[i]), 1), round(float(self.as_req[i]), 1),
-                      round(float(self.d_mm[i]), 1))
+                      round(float(self.d_mm[i]), 1), _opt(self.bend_r, i), _opt(self.far_bend_r, i))
+
+
+@dataclass(frozen=True)
+class StarterArrays:
+    """Starter bars of one face for n candidates (:class:`wallrun.results.Starter`):
+    the bars they lap (``bars``), l0 above the kicker, the kicker, the embedment in the
+    base and the foot, mm."""
+
+    bars: BarArrays
+    lap_mm: np.ndarray
+    kicker_mm: float
+    embedment_mm: np.ndarray
+    foot_mm: np.ndarray
+
+    def take(self, i: int) -> Starter:
+        b = self.bars.take(i)
+        return Starter(**b.__dict__, lap_mm=round(float(self.lap_mm[i]), 1),
+                       kicker_mm=float(self.kicker_mm),
+                       embedment_mm=round(float(self.embedment_mm[i]), 1),
+                       foot_mm=round(float(self.foot_mm[i]), 1))
 
 
 @dataclass(frozen=True)
@@ -85,26 +133,31 @@ class StructureResult:
     """Reinforcement and EC2 checks of n candidates.
 
     checks: stem_bending, stem_shear, heel_bending, heel_shear, toe_bending, toe_shear
-    (one per (combination, case) of the actions), crack_spacing and min_steel
-    (combination ``SLS``, case the face). steel_kg_per_m: approximate steel mass per
-    metre run of wall, kg/m. stem_curtail_m: height above the top of the base where
-    half the stem main bars stop, m (nan: no curtailment).
+    (one per (combination, case) of the actions), crack_spacing, min_steel and
+    restraint_steel (combination ``SLS``, case the face), bar_bend (combination ``ULS``,
+    case the bend). steel_kg_per_m: approximate steel mass per metre run of wall, kg/m.
+    stem_curtail_m: height above the top of the base where half the stem main bars
+    stop, m (nan: no curtailment). starters: ``starter`` and ``starter_front``.
     """
 
     checks: list[CheckArray]
     steel_kg_per_m: np.ndarray
     bars: dict[str, BarArrays] = field(default_factory=dict)
     stem_curtail_m: np.ndarray | None = None
+    starters: dict[str, StarterArrays] = field(default_factory=dict)
 
     def reinforcement(self, i: int) -> Reinforcement:
         c = None
         if self.stem_curtail_m is not None and np.isfinite(self.stem_curtail_m[i]):
             c = float(self.stem_curtail_m[i])
-        b = self.bars
+        b, st = self.bars, self.starters
         return Reinforcement(stem=b["stem"].take(i), heel=b["heel"].take(i), toe=b["toe"].take(i),
                              stem_horizontal=b["stem_horizontal"].take(i),
                              base_distribution=b["base_distribution"].take(i),
-                             stem_front=b["stem_front"].take(i), stem_curtail_m=c)
+                             stem_front=b["stem_front"].take(i), stem_curtail_m=c,
+                             starter=st["starter"].take(i) if "starter" in st else None,
+                             starter_front=(st["starter_front"].take(i) if "starter_front" in st
+                                            else None))
 
 
 # --- bar options ------------------------------------------------------------------------
@@ -272,10 +325,188 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
     return idx
 
 
-def _choose_secondary(opt: _Options, h, as_need):
-    """Cheapest option meeting an area and the secondary spacing limit."""
+def _choose_secondary(opt: _Options, h, as_need, basis: Basis):
+    """Cheapest option meeting an area, the restraint steel of 7.3.2 for its bar size
+    (when ``design.restraint_steel``; a detailing minimum, met at utilization 1.0
+    whatever ``design.max_utilization``) and the secondary spacing limit."""
     need = np.broadcast_to(as_need[:, None], (len(h), len(opt.sizes)))
+    if basis.design.restraint_steel:
+        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis))
     return _cheapest_per_size(opt, need, ec2.max_spacing_secondary(h), h)[0]
+
+
+# --- restraint steel (7.3.2) --------------------------------------------------------------
+
+def restraint_need(phi, h_mm, basis: Basis):
+    """Restraint steel per face, mm2/m (EN 1992-1-1 7.3.2(2) Eq. 7.1, design-basis 5).
+
+    As,min = kc k fct,eff Act / sigma_s with kc = 1.0 (tension over the whole
+    thickness), k of 7.3.2(2) for the thickness h (mm), fct,eff = ``concrete.fct_eff``
+    (fctm unless the site gives an early-age value), Act = 1000 h per metre, sigma_s =
+    fyk or the lower stress Table 7.2N allows for bars phi (mm) and wk; shared equally
+    by the two faces. For the stem h is its thickness at the top of the base (the
+    thickest, conservative, one bar spacing for the whole height); for the base its
+    thickness. inf where the bar size is not allowed at any stress."""
+    h = np.asarray(h_mm, dtype=float)
+    sig = _per_size(lambda x: ec2.restraint_stress(x, basis.steel.fyk_mpa, basis.design.crack_width_mm), phi)
+    return 0.5 * ec2.as_min_crack(1000.0 * h, sig, basis.concrete.fct_eff, ec2.k_restraint(h),
+                                  KC_RESTRAINT)
+
+
+def _per_size(f, phi):
+    """f(phi) for bar sizes phi (mm): where every size is a whole number up to 64 mm, f of
+    the 65 whole sizes taken by index (the same numbers, one evaluation per size)."""
+    phi = np.asarray(phi, dtype=float)
+    di = np.rint(phi).astype(np.int64)
+    if phi.size > 64 and np.all((di == phi) & (di >= 0) & (di <= 64)):
+        return np.asarray(f(np.arange(65, dtype=float)), dtype=float)[di]
+    return f(phi)
+
+
+# --- bends (8.3) and starters ------------------------------------------------------------------
+
+def mandrel_anchored(F, l_av, phi, fbd, kb):
+    """Least mandrel diameter, mm, meeting EN 1992-1-1 Eq. 8.1 for a bar whose force F (N)
+    at a critical section is carried by a straight length and then a bend.
+
+    l_av: from the critical section to the outside of the leg beyond the bend, mm; the
+    bend of mandrel M starts M/2 + phi before that, so the straight length is
+    l_av - M/2 - phi, along which bond fbd (MPa, 8.4.2) takes pi phi fbd per mm:
+    F_bt(M) = min(max(F - pi phi fbd (l_av - M/2 - phi), 0), F). kb = (1/a_b + 1/(2 phi))
+    / fcd (1/MPa/mm: Eq. 8.1 reads M >= kb F_bt). Returns the least M >= kb F_bt(M):
+    0 where the straight length anchors the bar before any bend."""
+    F = np.asarray(F, dtype=float)
+    c1 = np.pi * phi * fbd / 2.0
+    F0 = F - np.pi * phi * fbd * (l_av - phi)
+    den = 1.0 - kb * c1
+    with np.errstate(divide="ignore", invalid="ignore"):
+        m = np.where(den > 0, kb * F0 / np.where(den > 0, den, 1.0), np.inf)
+    return np.where(F0 <= 0, 0.0, np.minimum(m, kb * F))
+
+
+def mandrel_free_end(F, L, e0, kb):
+    """Least mandrel diameter, mm, meeting EN 1992-1-1 Eq. 8.1 for the bend at the free end
+    of a cantilever (heel or toe) whose bars carry F (N) at the critical section.
+
+    The tensile force along the member follows the moment shifted by a_l = d (9.2.1.3(2),
+    members without shear reinforcement) with the moment taken falling linearly from the
+    critical section to zero at the free end (an upper bound wherever the net load on
+    the cantilever is downward-convex, i.e. distributed or at the free end): at x from
+    the free edge F(x) = F min((x + a_l) / L, 1), L the cantilever length, mm. The bend
+    starts at x = cover + phi + M/2; e0 = cover + phi + a_l, mm. Returns the least M >=
+    kb F_bt(M) (kb as in :func:`mandrel_anchored`)."""
+    F = np.asarray(F, dtype=float)
+    L = np.asarray(L, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        alpha = kb * F / np.where(L > 0, L, 1.0)
+        m_lin = np.where(alpha < 2.0, alpha * e0 / (1.0 - alpha / 2.0), np.inf)
+    return np.where(L > 0, np.minimum(m_lin, kb * F), kb * F)
+
+
+def _lbd_straight(phi, sigma, fbd):
+    """lbd of a straight bar at stress sigma (MPa), alpha1..5 = 1: max(lb,rqd, lb,min),
+    lb,min = max(0.3 lb,rqd, 10 phi, 100) (8.4.3 Eq. 8.3, 8.4.4 Eq. 8.4, 8.6), mm."""
+    lb = ec2.lb_rqd(phi, sigma, fbd)
+    return np.maximum(lb, np.maximum(10.0 * phi, 100.0))
+
+
+#: The bends of the cage checked by ``bar_bend``: (case, bars, end) with end ``bend``
+#: (the starter's foot, the heel bars' heel end, the toe bars' toe end: always bent) or
+#: ``far`` (the other end of a base bar: bent only where it needs it).
+BENDS = (("starter, back face", "stem", "bend"), ("starter, front face", "stem_front", "bend"),
+         ("heel bars, heel end", "heel", "bend"), ("heel bars, toe end", "heel", "far"),
+         ("toe bars, toe end", "toe", "bend"), ("toe bars, heel end", "toe", "far"))
+
+
+def _bends(sec, basis, phi, s, d, MRd, pos, neg, floors):
+    """The bar_bend checks (one per bend of :data:`BENDS`), the scheduling radii of the
+    bends, mm ({bars: [bend, far]}, far nan where straight) and the starters'
+    embedment, mm (design-basis section 5, EN 1992-1-1 8.3).
+
+    Required mandrel = max(Table 8.1N, Eq. 8.1) with F_bt the design bar force at the
+    start of the bend: the bar's force at its critical section is As fyd min(M_Ed /
+    M_Rd, 1) per bar under the envelope ``pos``/``neg`` of every ULS combination given
+    (combination ``ULS``); starters and the base bars anchored beyond the stem lose
+    force by bond along their straight length first (:func:`mandrel_anchored`); the
+    free ends of the heel and toe carry the shifted force (:func:`mandrel_free_end`).
+    a_b = min(s/2, cover + phi/2): the end bars of a panel lie next to its end face. The
+    check compares the required mandrel with the largest the member can hold: a
+    starter's bend within the embedment (2 (embedment - phi)); a base bar's bend within
+    the leg from the top to the bottom cover with 5 phi straight after it (BS 8666
+    Table 2 P, and R + 6 phi for a larger radius: 2 (leg - 6 phi), none where the leg is
+    shorter than P). A far end that is straight has no demand (effect 0). The scheduled
+    radius is BS 8666's r, or half the required mandrel rounded up to 5 mm where that is
+    larger (and at least a radius the given bars carry, ``floors``)."""
+    n = len(sec)
+    c = basis.concrete
+    fck, fyk = c.fck_mpa, basis.steel.fyk_mpa
+    cv, cg = float(c.cover_mm), float(c.cover_ground_mm)
+    f_yd = float(ec2.fyd(fyk))
+    fcd_b = float(ec2.fcd_bend(fck, c.alpha_cc))
+    ts = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+    tb = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
+    bt = np.asarray(sec.toe_m, dtype=float) * 1000.0
+    bh = np.maximum(np.asarray(sec.heel_m, dtype=float) * 1000.0, 0.0)
+    embed = starter_embedment_mm(tb, cg, phi["toe"], phi["base_distribution"])
+    leg = tb - cv - cg
+    good = {"stem": True, "stem_front": True, "heel": False, "toe": True}  # heel top mat: poor bond
+    fbd = {f: ec2.bond_strength(fck, phi[f], good[f]) for f in good}
+    kb = {f: (1.0 / np.minimum(s[f] / 2.0, cv + phi[f] / 2.0) + 1.0 / (2.0 * phi[f])) / fcd_b
+          for f in good}
+    area = {f: ec2.bar_area(phi[f]) for f in good}
+
+    def sigma(M, f):  # design stress of the bars at the critical section, MPa
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = np.where(MRd[f] > 0, M / np.where(MRd[f] > 0, MRd[f], 1.0), np.where(M > 0, 1.0, 0.0))
+        return f_yd * np.minimum(np.maximum(ratio, 0.0), 1.0)
+
+    def anchored(M, f, l_av):
+        return mandrel_anchored(area[f] * sigma(M, f), l_av, phi[f], fbd[f], kb[f])
+
+    def free_end(M, f, L):
+        return mandrel_free_end(area[f] * sigma(M, f), L, cv + phi[f] + d[f], kb[f])
+
+    beyond_toe, beyond_heel = bt + ts - cv, bh + ts - cv  # from the stem faces to the base ends
+    eq81 = {
+        "starter, back face": anchored(pos["stem"], "stem", embed),
+        "starter, front face": anchored(neg["stem"], "stem_front", embed),
+        "heel bars, heel end": np.maximum(free_end(pos["heel"], "heel", bh),
+                                          anchored(neg["toe"], "heel", beyond_heel)),
+        "heel bars, toe end": np.maximum(free_end(neg["toe"], "heel", bt),
+                                         anchored(pos["heel"], "heel", beyond_toe)),
+        "toe bars, toe end": np.maximum(free_end(pos["toe"], "toe", bt),
+                                        anchored(neg["heel"], "toe", beyond_toe)),
+        "toe bars, heel end": np.maximum(free_end(neg["heel"], "toe", bh),
+                                         anchored(pos["toe"], "toe", beyond_heel)),
+    }
+    # the far ends: bent where a reverse moment loads them or the straight length beyond
+    # the stem does not anchor the bar (8.4.4)
+    far_bent = {
+        "heel": (neg["toe"] > 0) | (beyond_toe < _lbd_straight(phi["heel"], sigma(pos["heel"], "heel"), fbd["heel"])),
+        "toe": (neg["heel"] > 0) | (beyond_heel < _lbd_straight(phi["toe"], sigma(pos["toe"], "toe"), fbd["toe"]))}
+    room = {"stem": 2.0 * (embed - phi["stem"]), "stem_front": 2.0 * (embed - phi["stem_front"])}
+    for f in ("heel", "toe"):
+        fits = leg >= shapes.min_end_projection(phi[f]) - 1e-9
+        room[f] = np.where(fits, 2.0 * np.maximum(leg - 6.0 * phi[f], 0.0), 0.0)
+
+    checks: list[CheckArray] = []
+    radii: dict[str, list] = {}
+    for case, f, end in BENDS:
+        m = np.maximum(eq81[case], ec2.mandrel_min_table(phi[f]))
+        if end == "far":
+            m = np.where(far_bent[f], m, 0.0)
+        checks.append(CheckArray("bar_bend", "ULS", case, "mm", CL_BEND, m, room[f]))
+        r_std = shapes.min_radius(phi[f])
+        R = np.where(m <= shapes.min_former(phi[f]) + 1e-9, r_std,
+                     np.maximum(r_std, np.ceil(np.round(m / 10.0, 6)) * 5.0))
+        floor = floors.get((f, end))
+        if floor is not None:
+            R = np.maximum(R, floor)
+        if end == "bend":
+            radii[f] = [R, None]
+        else:
+            radii[f][1] = np.where(far_bent[f], R, np.nan)
+    return checks, radii, embed
 
 
 # --- envelopes --------------------------------------------------------------------------
@@ -313,7 +544,9 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     stem moment at depth y (m, array (n,)) below the top of the checked stem, kNm/m, for
     curtailment; stem_height_m: height of the checked stem from the top of the base to
     z_top, m, float or (n,) (estimated from stem_moment_at, or from M/V, when omitted:
-    it only enters the steel mass and the curtailment).
+    it only enters the steel mass and the curtailment); limit: the bars are chosen for
+    the actions over it, ``design.max_utilization`` (the minima, the restraint steel
+    among them, at 1.0).
     """
     n = len(sec)
     fck = basis.concrete.fck_mpa
@@ -350,7 +583,7 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
         cat([true, neg["stem"] > 0, true, true]), fck, basis), 4)
     need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
-    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d])), 2)
+    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis), 2)
     chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
               zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
     return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env)
@@ -362,7 +595,10 @@ def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: di
     """Check given bars (a catalogue type) with the checks of :func:`design_reinforcement`.
 
     Where ``given.stem_front`` is None (the catalogue lists no front-face bars) the
-    front face is designed as in :func:`design_reinforcement`.
+    front face is designed as in :func:`design_reinforcement`. Starters, laps and bends
+    are detailed for the given bars as in :func:`design_reinforcement`; a bend radius
+    the given bars carry (``bend_r_mm``, ``far_bend_r_mm``, of the heel and toe bars
+    and the starters) is kept where it is larger than the one needed.
     """
     n = len(sec)
     full = lambda v: np.full(n, float(v))  # noqa: E731
@@ -383,7 +619,15 @@ def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: di
         i = _choose_main(opt, t_stem, basis.concrete.cover_mm, neg["stem"], np.maximum(-q["stem"], 0),
                          0.001 * 1000 * t_stem, neg["stem"] > 0, fck, basis)
         chosen["stem_front"] = (opt.phi[i], opt.s[i])
-    return _evaluate(sec, actions, _qp(qp, n), basis, chosen, stem_moment_at, stem_height_m)
+    floors = {}
+    for f, b in (("heel", given.heel), ("toe", given.toe), ("stem", given.starter),
+                 ("stem_front", given.starter_front)):
+        if b is not None and b.bend_r_mm is not None:
+            floors[(f, "bend")] = float(b.bend_r_mm)
+        if b is not None and b.far_bend_r_mm is not None:
+            floors[(f, "far")] = float(b.far_bend_r_mm)
+    return _evaluate(sec, actions, _qp(qp, n), basis, chosen, stem_moment_at, stem_height_m,
+                     floors=floors)
 
 
 def _horizontal_need(As_back, As_front, t_stem):
@@ -504,7 +748,8 @@ def _curtailment(sec, basis, fck, phi, s, As, h_s, stem_moment_at, M_base, qp_ba
     return np.where(ok & (stop_m * 1000.0 < hs - c), stop_m, np.nan)
 
 
-def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env=None) -> StructureResult:
+def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env=None,
+              floors=None) -> StructureResult:
     n = len(sec)
     fck = basis.concrete.fck_mpa
     fyk, acc, wk = basis.steel.fyk_mpa, basis.concrete.alpha_cc, basis.design.crack_width_mm
@@ -576,6 +821,12 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
               "stem_horizontal": CL_MIN_WALL, "base_distribution": CL_MIN_DIST}
     for f in FACES:
         checks.append(CheckArray("min_steel", "SLS", f, "mm2/m", clause[f], as_min[f], As[f]))
+    as_restraint = {}
+    if basis.design.restraint_steel:
+        for f in ("stem_horizontal", "base_distribution"):
+            as_restraint[f] = restraint_need(phi[f], h[f], basis)
+            checks.append(CheckArray("restraint_steel", "SLS", f, "mm2/m", CL_RESTRAINT,
+                                     as_restraint[f], As[f]))
     for f in ("stem", "stem_front", "heel", "toe"):
         checks.append(CheckArray("min_steel", "SLS", f"{f}, As,max", "mm2/m", "EN 1992-1-1 9.2.1.1(3)",
                                  As[f], ec2.as_max(h[f])))
@@ -583,9 +834,24 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     # reported requirement per face
     as_req = {f: np.maximum(ec2.as_required(M_face[f], d[f], fck, fyk, acc), as_min[f])
               for f in ("stem", "stem_front", "heel", "toe")}
-    as_req["stem_horizontal"] = as_min["stem_horizontal"]
-    as_req["base_distribution"] = as_min["base_distribution"]
+    for f in ("stem_horizontal", "base_distribution"):
+        as_req[f] = np.maximum(as_min[f], as_restraint[f]) if f in as_restraint else as_min[f]
+
+    # bends (8.3) and starters (8.7.3)
+    MRd = {f: MRd4[k] for k, f in enumerate(F4)}
+    bend_checks, radii, embed = _bends(sec, basis, phi, s, d, MRd, pos, neg, floors or {})
+    checks += bend_checks
     bars = {f: BarArrays(phi[f], s[f], As[f], as_req[f], d[f]) for f in FACES}
+    for f in ("heel", "toe"):
+        bars[f] = BarArrays(phi[f], s[f], As[f], as_req[f], d[f], radii[f][0], radii[f][1])
+    kicker = float(basis.concrete.kicker_mm)
+    starters = {}
+    for name, f in (("starter", "stem"), ("starter_front", "stem_front")):
+        lbd = ec2.anchorage_length(phi[f], fck, fyk, True)
+        foot = np.maximum(starter_foot_mm(phi[f], lbd, embed), shapes.min_leg(phi[f], radii[f][0]))
+        starters[name] = StarterArrays(
+            BarArrays(phi[f], s[f], As[f], as_req[f], d[f], radii[f][0]),
+            ec2.lap_length(phi[f], fck, fyk, True), kicker, embed, foot)
 
     # stem height, curtailment and mass
     if stem_height_m is None:
@@ -596,40 +862,46 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     if stem_moment_at is not None:
         curtail = _curtailment(sec, basis, fck, phi["stem"], s["stem"], As["stem"], h_s, stem_moment_at,
                                pos["stem"], q["stem"])
-    kg = _steel_mass(sec, basis, fck, phi, s, h_s, curtail)
-    return StructureResult(checks=checks, steel_kg_per_m=kg, bars=bars, stem_curtail_m=curtail)
+    kg = _steel_mass(sec, basis, fck, phi, s, h_s, curtail, starters, np.isfinite(radii["heel"][1]),
+                     np.isfinite(radii["toe"][1]))
+    return StructureResult(checks=checks, steel_kg_per_m=kg, bars=bars, stem_curtail_m=curtail,
+                           starters=starters)
 
 
-def _steel_mass(sec, basis, fck, phi, s, h_s, curtail):
+def _steel_mass(sec, basis, fck, phi, s, h_s, curtail, starters, heel_far, toe_far):
     """Approximate steel mass per metre run of wall, kg/m (for the search cost).
 
-    Stem vertical bars of both faces: L-shaped starters (embedment + foot + lap l0) plus
-    bars over the checked stem height (curtailed half bars to their stop); horizontal bars
-    both faces over the stem height, +l0 per 12 m stock length; both base mats across the
-    base width less covers; distribution bars both mats, +l0 per 12 m; key U-bars at the
-    toe bar spacing. Freeboard stem above z_top is not known here and is left out.
+    Stem vertical bars of both faces: L-shaped starters (embedment + foot + kicker + lap
+    l0) plus bars from the kicker over the checked stem height (curtailed half bars to
+    their stop); horizontal bars both faces over the stem height, +l0 per 12 m stock
+    length; both base mats across the base width less covers, with a leg from the top to
+    the bottom cover at each bent end (heel bars at the heel end, toe bars at the toe
+    end, and the far ends ``heel_far`` / ``toe_far`` where bent); distribution bars both
+    mats, +l0 per 12 m; key U-bars at the toe bar spacing. The bends' length allowances
+    (BS 8666) and the stem above z_top (not known here) are left out.
     """
     fyk = basis.steel.fyk_mpa
     cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    kicker = float(basis.concrete.kicker_mm)
     B = np.asarray(sec.base_width_m, dtype=float) * 1000.0
     tb = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
     hs = np.asarray(h_s, dtype=float) * 1000.0
     mpm = {f: ec2.mass_per_m(phi[f]) for f in FACES}
-    embed = starter_embedment_mm(tb, cg, phi["toe"], phi["base_distribution"])
     total = np.zeros(len(sec))
-    for f in ("stem", "stem_front"):
-        lbd = ec2.anchorage_length(phi[f], fck, fyk, True)
-        l0 = ec2.lap_length(phi[f], fck, fyk, True)
-        starter = embed + starter_foot_mm(phi[f], lbd, embed) + l0
-        upper = np.maximum(hs - cv, 0.0)
+    for f, name in (("stem", "starter"), ("stem_front", "starter_front")):
+        st = starters[name]
+        starter = st.embedment_mm + st.foot_mm + np.minimum(kicker + st.lap_mm, np.maximum(hs - cv, 0.0))
+        upper = np.maximum(hs - cv - kicker, 0.0)
         if f == "stem" and curtail is not None:
-            upper = np.where(np.isfinite(curtail), 0.5 * upper + 0.5 * np.nan_to_num(curtail) * 1000.0, upper)
+            stop = np.maximum(np.nan_to_num(curtail) * 1000.0 - kicker, 0.0)
+            upper = np.where(np.isfinite(curtail), 0.5 * upper + 0.5 * stop, upper)
         total += mpm[f] * (1000.0 / s[f]) * (starter + upper) / 1000.0
     lap_frac = lambda f: 1.0 + ec2.lap_length(phi[f], fck, fyk, f != "base_distribution") / STOCK_LENGTH_MM  # noqa: E731
     n_hor = np.floor(np.maximum(hs - 2 * cv, 0.0) / s["stem_horizontal"]) + 1
     total += 2 * n_hor * mpm["stem_horizontal"] * lap_frac("stem_horizontal")
-    for f in ("heel", "toe"):
-        total += mpm[f] * (1000.0 / s[f]) * (B - 2 * cv) / 1000.0
+    leg = np.maximum(tb - cv - cg, 0.0)
+    for f, far in (("heel", heel_far), ("toe", toe_far)):
+        total += mpm[f] * (1000.0 / s[f]) * (B - 2 * cv + leg * (1.0 + far)) / 1000.0
     n_dist = np.floor(np.maximum(B - 2 * cv, 0.0) / s["base_distribution"]) + 1
     total += 2 * n_dist * mpm["base_distribution"] * lap_frac("base_distribution")
     kd = np.asarray(sec.key_depth_m, dtype=float) * 1000.0

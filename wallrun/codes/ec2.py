@@ -341,3 +341,96 @@ def lap_length(phi, fck, fyk=500.0, good_bond=True, alpha6=1.5):
     lb = lb_rqd(phi, fyd(fyk), bond_strength(fck, phi, good_bond))
     lbd = np.maximum(lb, np.maximum(np.maximum(0.3 * lb, 10.0 * phi), 100.0))
     return np.maximum(alpha6 * lbd, np.maximum(np.maximum(0.3 * alpha6 * lb, 15.0 * phi), 200.0))
+
+
+# --- minimum steel for restraint cracking (7.3.2) ----------------------------------------
+
+def k_restraint(h):
+    """Coefficient k of Eq. (7.1) for non-uniform self-equilibrating stresses,
+    dimensionless (7.3.2(2)): 1.0 for h <= 300 mm, 0.65 for h >= 800 mm, linear between;
+    h the thickness of the web or flange, mm."""
+    h = np.asarray(h, dtype=float)
+    return np.interp(h, [300.0, 800.0], [1.0, 0.65])
+
+
+def as_min_crack(A_ct, sigma_s, fct_eff, k, kc=1.0):
+    """Minimum steel within the tensile zone As,min = kc k fct,eff Act / sigma_s, mm2
+    (7.3.2(2) Eq. 7.1).
+
+    A_ct: concrete area in tension just before cracking, mm2; sigma_s: the steel stress
+    allowed just after cracking, MPa (fyk, or the lower stress of Table 7.2N for the bar
+    size, :func:`steel_stress_for_bar`); fct_eff: tensile strength when the cracks form,
+    MPa; k (:func:`k_restraint`) and kc (1.0 for pure tension, 7.3.2(2)) dimensionless.
+    sigma_s <= 0 (the bar is not allowed at any stress) gives inf.
+    """
+    s = np.asarray(sigma_s, dtype=float)
+    with np.errstate(divide="ignore"):
+        return np.where(s > 0, kc * np.asarray(k, dtype=float) * fct_eff
+                        * np.asarray(A_ct, dtype=float) / np.where(s > 0, s, 1.0), np.inf)
+
+
+def _stress_for_bar_column(phi, col):
+    """Inverse of one wk column of Table 7.2N: the steel stress at which the tabulated
+    maximum bar diameter equals phi, MPa (linear between the tabulated points)."""
+    last = int(np.flatnonzero(col > 0)[-1])
+    ds, ss = col[:last + 1][::-1], _T_STRESS_DIAMETER[:last + 1][::-1]  # diameters ascending
+    phi = np.asarray(phi, dtype=float)
+    s = np.interp(phi, ds, ss)  # below the smallest tabulated bar: its (highest) stress
+    return np.where(phi > ds[-1] + 1e-9, 0.0, s)  # a bar above the 160 MPa entry: none
+
+
+def steel_stress_for_bar(phi, wk=0.3):
+    """Steel stress allowed just after cracking for bars of diameter phi (mm) so that the
+    crack width stays within wk (mm), MPa: Table 7.2N read backwards (7.3.3(2), Note for
+    cracking caused mainly by restraint; the table taken as printed, without the
+    modification of Eq. 7.7N, as design-basis section 5 reads it).
+
+    Linear between the tabulated points; a bar larger than the 160 MPa entry of the
+    column is not allowed at any stress (0 returned, no extrapolation); a bar smaller
+    than the last entry gets the last entry's stress. wk between the columns 0.2, 0.3,
+    0.4: the stresses of the two neighbouring columns interpolated linearly in wk
+    (clamped to 0.2..0.4).
+    """
+    wk = float(np.clip(wk, 0.2, 0.4))
+    cols = sorted(_T_DIAMETER)
+    lo = max(c for c in cols if c <= wk + 1e-12)
+    hi = min(c for c in cols if c >= wk - 1e-12)
+    s_lo = _stress_for_bar_column(phi, _T_DIAMETER[lo])
+    if hi == lo:
+        return s_lo
+    s_hi = _stress_for_bar_column(phi, _T_DIAMETER[hi])
+    return s_lo + (s_hi - s_lo) * (wk - lo) / (hi - lo)
+
+
+def restraint_stress(phi, fyk=500.0, wk=0.3):
+    """sigma_s of Eq. (7.1) for bars phi (mm): fyk, or the lower stress Table 7.2N allows
+    for the bar size and wk (:func:`steel_stress_for_bar`), MPa (7.3.2(2))."""
+    return np.minimum(np.asarray(fyk, dtype=float), steel_stress_for_bar(phi, wk))
+
+
+# --- bends (8.3) ---------------------------------------------------------------------------
+
+def mandrel_min_table(phi):
+    """Minimum mandrel diameter phi_m,min of bars to avoid damage to the bar, mm
+    (8.3(2) Table 8.1N, bends and hooks): 4 phi for phi <= 16 mm, 7 phi above."""
+    phi = np.asarray(phi, dtype=float)
+    return np.where(phi <= 16.0, 4.0, 7.0) * phi
+
+
+def fcd_bend(fck, alpha_cc=0.85, gamma_c=GAMMA_C):
+    """fcd of Eq. (8.1), MPa: alpha_cc fck / gamma_c with fck not above 55 MPa (8.3(3):
+    fcd not taken greater than that of class C55/67)."""
+    return fcd(np.minimum(np.asarray(fck, dtype=float), 55.0), alpha_cc, gamma_c)
+
+
+def mandrel_min_bearing(F_bt, a_b, phi, fcd_b):
+    """Mandrel diameter that keeps the bearing stress inside a bend within fcd, mm
+    (8.3(3) Eq. 8.1): phi_m,min = F_bt (1/a_b + 1/(2 phi)) / fcd.
+
+    F_bt: tensile force from ultimate loads in the bar at the start of the bend, N;
+    a_b: half the centre-to-centre distance between the bars perpendicular to the plane
+    of the bend, or the cover plus phi/2 for a bar next to a face, mm; phi mm; fcd_b MPa
+    (:func:`fcd_bend`). F_bt <= 0 needs no mandrel (0 returned).
+    """
+    F = np.maximum(np.asarray(F_bt, dtype=float), 0.0)
+    return F * (1.0 / np.asarray(a_b, dtype=float) + 1.0 / (2.0 * np.asarray(phi, dtype=float))) / fcd_b

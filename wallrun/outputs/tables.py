@@ -31,8 +31,8 @@ PANEL_COLUMNS = (
     "concrete_m3", "steel_kg", "cost")
 JOINT_COLUMNS = ("joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
                  "pressure_ratio", "status", "reason")
-BAR_COLUMNS = ("section", "member", "bar_mark", "bar_mm", "shape_code", "length_mm", "number",
-               "total_length_m", "mass_kg")
+BAR_COLUMNS = ("member", "bar_mark", "type_size", "no_of_members", "no_in_each", "total_no",
+               "length_mm", "shape_code", "a_mm", "b_mm", "c_mm", "d_mm", "e_mm", "r_mm", "mass_kg")
 SECTION_COLUMNS = (
     "section", "stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
     "base_thickness_m", "key_depth_m", "key_width_m", "stem_bar_mm", "stem_spacing_mm",
@@ -160,9 +160,20 @@ def sections_csv(result: DesignResult) -> str:
     return to_csv(SECTION_COLUMNS, [section_row(t) for t in result.section_types])
 
 
+def bar_schedule_row(b) -> dict:
+    """One BS 8666 schedule row of a :class:`wallrun.results.BarMark` (:data:`BAR_COLUMNS`,
+    shape dimensions A to E and the bend radius in mm, empty where the shape has none),
+    plus ``section``, ``part`` and ``panels`` for ``design.json``."""
+    row = {c: getattr(b, c) for c in BAR_COLUMNS}
+    row["no_in_each"] = b.each
+    row.update(section=b.section, part=b.part or b.member, panels=list(b.panels))
+    return row
+
+
 def bar_schedule_csv(result: DesignResult) -> str:
-    rows = [{c: getattr(b, c) for c in BAR_COLUMNS} for b in result.bar_schedule]
-    return to_csv(BAR_COLUMNS, rows, {"mass_kg": 2, "total_length_m": 2})
+    """``bar_schedule.csv``: the BS 8666 columns of :data:`BAR_COLUMNS`, one row per bar
+    mark and group of alike panels of each section type."""
+    return to_csv(BAR_COLUMNS, [bar_schedule_row(b) for b in result.bar_schedule], {"mass_kg": 2})
 
 
 def quantities_csv(result: DesignResult) -> str:
@@ -332,9 +343,8 @@ def design_dict(result: DesignResult) -> dict:
                     "reason": j.reason} for j in result.joints],
         "sections": [section_row(t) | {"utilization": num(t.utilization)}
                      for t in result.section_types],
-        "bar_schedule": [{c_: (num(getattr(b, c_), 2) if isinstance(getattr(b, c_), float)
-                               else getattr(b, c_)) for c_ in BAR_COLUMNS}
-                         for b in result.bar_schedule],
+        "bar_schedule": [{k: (num(v, 2) if isinstance(v, float) else v)
+                          for k, v in bar_schedule_row(b).items()} for b in result.bar_schedule],
         "quantities": {q.item: {"unit": q.unit, "quantity": num(q.quantity)}
                        for q in result.quantities},
         "cost": {"rows": [{"item": r.item, "unit": r.unit, "quantity": num(r.quantity),
