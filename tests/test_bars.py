@@ -224,7 +224,6 @@ def test_steel_type_letter():
 
 # --- the array forms give the numbers of the per-value formulas --------------------------
 
-import math  # noqa: E402
 
 import numpy as np  # noqa: E402
 from hypothesis import given, settings, strategies as st  # noqa: E402

@@ -437,7 +437,6 @@ def _bends(sec, basis, phi, s, d, MRd, pos, neg, floors):
     shorter than P). A far end that is straight has no demand (effect 0). The scheduled
     radius is BS 8666's r, or half the required mandrel rounded up to 5 mm where that is
     larger (and at least a radius the given bars carry, ``floors``)."""
-    n = len(sec)
     c = basis.concrete
     fck, fyk = c.fck_mpa, basis.steel.fyk_mpa
     cv, cg = float(c.cover_mm), float(c.cover_ground_mm)
