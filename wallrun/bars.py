@@ -50,7 +50,6 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import replace
-from functools import lru_cache
 
 import numpy as np
 
@@ -115,7 +114,6 @@ def cutting_length(shape_code: str, phi: float, dims: dict[str, float], r: float
     return shapes.round_length(float(shapes.shape_length(shape_code, phi, dims, r)))
 
 
-@lru_cache(maxsize=None)
 def _mass_per_m(phi: float) -> float:
     return float(ec2.mass_per_m(phi))
 
@@ -125,14 +123,10 @@ def mass_kg(phi: float, length_mm: float, number: int) -> float:
     return _mass_per_m(phi) * length_mm / 1000.0 * number
 
 
-# The anchorage and lap lengths of a bar size repeat on every panel: computed once per
-# (phi, fck, fyk, bond) and reused (pure functions of their arguments).
-@lru_cache(maxsize=None)
 def _lbd(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
     return float(ec2.anchorage_length(phi, fck, fyk, good_bond))
 
 
-@lru_cache(maxsize=None)
 def _l0(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
     return float(ec2.lap_length(phi, fck, fyk, good_bond))
 

@@ -54,7 +54,6 @@ Choices where the design basis is silent (also in the final report):
 
 from __future__ import annotations
 
-import functools
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -177,7 +176,6 @@ def _options(basis: Basis) -> _Options:
     return _options_of(tuple(basis.steel.bar_sizes_mm), tuple(basis.steel.spacings_mm))
 
 
-@functools.lru_cache(maxsize=32)
 def _options_of(bar_sizes, spacings) -> _Options:
     phis, ss = np.meshgrid(np.asarray(bar_sizes, dtype=float),
                            np.asarray(spacings, dtype=float), indexing="ij")
@@ -236,18 +234,12 @@ def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, 
 _CRACK_WINDOW = 8
 
 
-_AREA_TABLES: dict = {}
-
-
 def _area_tables(opt: _Options):
     """Area per metre 1000 a_bar / s of every (bar size, spacing), mm2/m, flattened
-    size-major, and the same rounded to 1e-6 (the tie-break key), computed once."""
-    t = _AREA_TABLES.get(id(opt))
-    if t is None or t[0] is not opt:
-        a_bar = ec2.bar_area(opt.sizes)[:, None]
-        T = (1000.0 * a_bar / opt.spacings[None, :]).ravel()
-        t = _AREA_TABLES[id(opt)] = (opt, T, np.round(T, 6))
-    return t[1], t[2]
+    size-major, and the same rounded to 1e-6 (the tie-break key)."""
+    a_bar = ec2.bar_area(opt.sizes)[:, None]
+    T = (1000.0 * a_bar / opt.spacings[None, :]).ravel()
+    return T, np.round(T, 6)
 
 
 def _cheapest_per_size(opt: _Options, need, s_limit, h):
