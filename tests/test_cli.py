@@ -187,7 +187,7 @@ def test_python_dash_m(tmp_path):
 
 def _fake_result(site, ok=True):
     chk = SimpleNamespace(utilization=0.91)
-    panel = SimpleNamespace(panel="P003", ch_start_m=12.0, ch_end_m=18.0)
+    panel = SimpleNamespace(panel="P003", ch_start_m=12.0, ch_end_m=18.0, length_m=40.0)
     pr = SimpleNamespace(panel=panel, section_type="S01", checks=(chk,), status="ok" if ok else "flagged",
                          reason="" if ok else "no section passes", governing="sliding DA1-2")
     return SimpleNamespace(
