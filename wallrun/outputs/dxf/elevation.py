@@ -22,7 +22,8 @@ import math
 import numpy as np
 from ezdxf.enums import TextEntityAlignment as A
 
-from wallrun.outputs import drafting as d
+from wallrun.outputs.dxf import conventions as d
+from wallrun.outputs.dxf import titles
 
 KEY_W_MM = 75.0
 LEVEL_STEPS = (0.1, 0.2, 0.25, 0.5, 1.0, 2.0, 2.5, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0)
@@ -54,33 +55,8 @@ def read_transform(doc) -> tuple[float, float]:
 
 
 def _polyline(msp, xy, layer: str):
-    """An open LWPOLYLINE through the points ``xy`` ((n, 2) array-like), its vertex array
-    set in one go: the same vertices as adding them one by one, without a copy of the
-    growing array per vertex."""
-    pl = msp.add_lwpolyline([], format="xy", dxfattribs={"layer": layer})
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    v = np.zeros((len(xy), 5))  # x, y, start width, end width, bulge
-    v[:, :2] = xy
-    pl.lwpoints.values = v
-    return pl
-
-
-def _runs(result) -> list[list]:
-    """Panel results grouped by run, each sorted by chainage."""
-    by: dict[int, list] = {}
-    for pr in result.panels:
-        by.setdefault(pr.panel.run, []).append(pr)
-    return [sorted(v, key=lambda pr: pr.panel.ch_start_m) for _, v in sorted(by.items())]
-
-
-def _pieces(prs, gap: float = 1e-6) -> list[list]:
-    """Split a run's panels where they do not touch (the wall line is broken)."""
-    out = [[prs[0]]]
-    for pr in prs[1:]:
-        if pr.panel.ch_start_m - out[-1][-1].panel.ch_end_m > gap:
-            out.append([])
-        out[-1].append(pr)
-    return out
+    """An open LWPOLYLINE through the points ``xy`` ((n, 2) array-like)."""
+    return d.add_polyline(msp, xy, layer)
 
 
 def write_elevation(result, path) -> None:
@@ -123,8 +99,8 @@ def write_elevation(result, path) -> None:
 
     # the wall, run by run
     txt, small = P(d.TEXT_MM), P(d.SMALL_MM)
-    for prs in _runs(result):
-        for piece in _pieces(prs):
+    for prs in d.runs_of(result):
+        for piece in d.pieces(prs):
             # each panel gives two vertices: its start and its end
             ch = np.array([(pr.panel.ch_start_m, pr.panel.ch_end_m) for pr in piece]).ravel()
             found = np.array([pr.panel.founding_m for pr in piece])
@@ -210,16 +186,15 @@ def write_elevation(result, path) -> None:
         y = ytop - P(2.5) - P(5) * i
         d.key_sample(msp, (a, y), (a + P(15), y), layer)
         d.add_text(msp, label, (a + P(18), y), small, d.L_FRAME, A.MIDDLE_LEFT)
-    right = max(b, a + P(KEY_W_MM + 6 + d.NOTES_W_MM + 6 + d.TITLE_W_MM))
+    right = max(b, a + P(KEY_W_MM + 6 + 170 + 6 + titles.WIDTH_MM))
     ve_text = f"vertical exaggeration x{ve:g} (vertical 1:{scale / ve:g})"
-    d.sheet_furniture(
-        msp, (right, ytop - P(d.TITLE_H_MM)), scale, site.project,
-        "Developed elevation along the wall line", f"1:{scale} horizontal",
-        extra_title=(ve_text.capitalize(),),
-        extra_notes=(f"Levels are drawn at y = datum + (level - datum) x {ve:g} with datum "
-                     f"{datum:.2f} m; read levels on the level scale.",
-                     "Each panel shows its top of wall and its underside of base (founding "
-                     "level); joints are chain-dotted with their names below."))
+    titles.furniture(
+        msp, (right, ytop - P(titles.HEIGHT_MM)), scale / 1000.0, site,
+        "Developed elevation along the wall line", ve_text.capitalize(),
+        f"1:{scale} horizontal", "1 of 1",
+        notes=(f"Levels are drawn at y = datum + (level - datum) x {ve:g} with datum "
+               f"{datum:.2f} m; read levels on the level scale.",
+               "Each panel shows its top of wall and its underside of base (founding "
+               "level); joints are chain-dotted with their names below."))
 
-    d.audit_or_raise(doc, path)
-    d.save_document(doc, path)
+    d.save(doc, path)

@@ -16,7 +16,8 @@ import math
 import numpy as np
 from ezdxf.enums import TextEntityAlignment as A
 
-from wallrun.outputs import drafting as d
+from wallrun.outputs.dxf import conventions as d
+from wallrun.outputs.dxf import titles
 
 
 def _frame(profiles, ch):
@@ -68,7 +69,7 @@ def write_plan(result, path) -> bool:
     ends = [p.ch_start_m for p in panels] + [p.ch_end_m for p in panels]
 
     ref = d.xy_array(prof, d.sample_chainages(prof, lo, hi, extra=ends))
-    msp.add_lwpolyline(ref.tolist(), format="xy", dxfattribs={"layer": d.L_REFERENCE})
+    d.add_polyline(msp, ref, d.L_REFERENCE)
 
     by_run: dict[int, list] = {}
     for pr in result.panels:
@@ -78,7 +79,7 @@ def write_plan(result, path) -> bool:
         a, b = prs[0].panel.ch_start_m, prs[-1].panel.ch_end_m
         pe = [q.panel.ch_start_m for q in prs] + [q.panel.ch_end_m for q in prs]
         line = d.xy_array(prof, d.sample_chainages(prof, a, b, extra=pe, max_step=1.0))
-        msp.add_lwpolyline(line.tolist(), format="xy", dxfattribs={"layer": d.L_WALL_PLAN})
+        d.add_polyline(msp, line, d.L_WALL_PLAN)
         (xy,), (nv,) = _frame(prof, [a])
         ang = math.degrees(math.atan2(-nv[0], nv[1]))  # direction of the chainage
         pos = xy + nv * P(12)
@@ -121,17 +122,14 @@ def write_plan(result, path) -> bool:
     # north point and sheet furniture, below and right of the extents
     xmin, ymin = ref.min(axis=0) - P(30)
     xmax, ymax = ref.max(axis=0) + P(30)
-    nx, ny = xmin + P(10), ymax - P(5)
-    msp.add_lwpolyline([(nx - P(3), ny - P(10)), (nx, ny), (nx + P(3), ny - P(10)),
-                        (nx, ny - P(7))], close=True, dxfattribs={"layer": d.L_NORTH})
-    d.add_text(msp, "N", (nx, ny + P(2)), txt, d.L_NORTH, A.BOTTOM_CENTER)
-    right = max(xmax, xmin + P(d.NOTES_W_MM + 6 + d.TITLE_W_MM))
-    d.sheet_furniture(msp, (right, ymin - P(d.TITLE_H_MM)), scale, site.project,
-                      "Wall line in plan", f"1:{scale}",
-                      extra_title=("Coordinates: the survey grid of the profiles",),
-                      extra_notes=("Panel names and section types lie on the left of the "
-                                   "direction of increasing chainage, chainage figures on the "
-                                   "right; joints are drawn across the wall line.",))
-    d.audit_or_raise(doc, path)
-    doc.saveas(str(path))
+    msp.add_blockref(d.B_NORTH, (xmin + P(10), ymax - P(10)), dxfattribs={
+        "layer": d.L_NORTH})
+    right = max(xmax, xmin + P(170 + 6 + titles.WIDTH_MM))
+    titles.furniture(msp, (right, ymin - P(titles.HEIGHT_MM)), scale / 1000.0, site,
+                     "Wall line in plan", "Coordinates: the survey grid of the profiles",
+                     f"1:{scale}", "1 of 1",
+                     notes=("Panel names and section types lie on the left of the "
+                            "direction of increasing chainage, chainage figures on the "
+                            "right; joints are drawn across the wall line.",))
+    d.save(doc, path)
     return True
