@@ -37,8 +37,8 @@ def result():
 def out(tmp_path_factory, result):
     o = tmp_path_factory.mktemp("drawings")
     names = write_drawings(result, o)
-    assert set(names) == {"elevation.dxf", "sections.dxf", "plan.dxf", "elevation.png",
-                          "sections.pdf"}
+    assert set(names) == {"elevation.dxf", "sections.dxf", "plan.dxf", "setting_out.csv",
+                          "sheets.pdf", "sections.pdf", "elevation.png"}
     return o
 
 
@@ -122,7 +122,7 @@ def test_elevation_wall_top_profiles_labels_and_cautions(out, result):
     words = _all_text(doc)
     for pr in result.panels:
         assert pr.panel.panel in words and pr.section_type in words
-    for lab in ("0+000", "0+010", "0+020", "0+030", "0+040"):
+    for lab in ("0+010", "0+020", "0+030"):  # ticks every 10 m inside the wall's extent
         assert lab in words
     assert result.site.project.name in words and "WR-TEST-014" in words
     assert "PRELIMINARY - NOT FOR CONSTRUCTION" in words
@@ -322,11 +322,17 @@ def test_plan_joints_and_real_coordinates(out, result):
     joints = msp.query(f'LINE[layer=="{c.L_JOINTS}"]')
     assert len(joints) == len(result.joints)
     prof = result.profiles
+    from shapely.geometry import LineString, Point
+    by = {pr.panel.panel: pr for pr in result.panels}
     for j in result.joints:
         x, y = prof.xy_at(np.array([j.ch_m]))
-        mids = [((ln.dxf.start.x + ln.dxf.end.x) / 2, (ln.dxf.start.y + ln.dxf.end.y) / 2)
-                for ln in joints]
-        assert min(math.hypot(mx - x[0], my - y[0]) for mx, my in mids) < 1e-6
+        segs = [LineString([tuple(ln.dxf.start)[:2], tuple(ln.dxf.end)[:2]]) for ln in joints]
+        seg = min(segs, key=lambda g: g.distance(Point(x[0], y[0])))
+        assert seg.distance(Point(x[0], y[0])) < 1e-6  # across the wall line at the joint
+        # from the toe edge to the heel edge of the wider base of the two panels
+        toe = max(by[n].section.toe_m for n in (j.left, j.right))
+        heel = max(by[n].section.base_width_m - by[n].section.toe_m for n in (j.left, j.right))
+        assert seg.length == pytest.approx(toe + heel)
     walls = msp.query(f'LWPOLYLINE[layer=="{c.L_WALL_PLAN}"]')
     assert len(walls) == len(result.runs)
     # run 1 starts at ch 2 on the invented grid: (5202, 1800)
@@ -339,7 +345,7 @@ def test_plan_joints_and_real_coordinates(out, result):
 
 def test_no_plan_without_coordinates(tmp_path):
     r = sample_result(with_plan=False)
-    assert write_plan(r, tmp_path / "plan.dxf") is False
+    assert write_plan(r, tmp_path / "plan.dxf") is None
     assert not (tmp_path / "plan.dxf").exists()
 
 
@@ -350,11 +356,13 @@ def test_previews_non_empty_and_sized(out, result):
     assert img.shape[:2] == (previews.ELEVATION_PX[1], previews.ELEVATION_PX[0])
     rgb = img[:, :, :3]
     assert (rgb < 0.5).any() and rgb.mean() > 0.8  # drawing on a white background
-    pdf = (out / "sections.pdf").read_bytes()
-    assert pdf.startswith(b"%PDF")
     import re
-    # one page per section type (2)
-    assert len(re.findall(rb"/Type\s*/Page(?![s\w])", pdf)) == len(result.section_types)
+    pages = lambda b: len(re.findall(rb"/Type\s*/Page(?![s\w])", b))  # noqa: E731
+    sheets = {n: len([x for x in _read(out / n)[0].layout_names() if x != "Model"])
+              for n in ("elevation.dxf", "sections.dxf", "plan.dxf")}
+    pdf = (out / "sections.pdf").read_bytes()
+    assert pdf.startswith(b"%PDF") and pages(pdf) == sheets["sections.dxf"]
+    assert pages((out / "sheets.pdf").read_bytes()) == sum(sheets.values())
 
 
 def test_collector_draws_what_the_dxf_holds(out):

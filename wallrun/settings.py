@@ -158,6 +158,7 @@ class Drawings:
 
     vertical_exaggeration: float = 1.0
     chainage_tick_m: float = 20.0
+    sheet: str = "A1"  # ISO sheet of the drawings' paper-space layouts: A1 | A3
 
 
 @dataclass(frozen=True)

@@ -259,6 +259,7 @@ SPEC: dict[str, dict[str, _Spec]] = {
     "drawings": {
         "vertical_exaggeration": _F(0, 20, lo_open=True),
         "chainage_tick_m": _F(0, 10000, lo_open=True),
+        "sheet": _C("A1", "A3"),
     },
 }
 #: Sub-tables allowed beside the keys of a table.

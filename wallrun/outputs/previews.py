@@ -1,15 +1,19 @@
-"""Previews readable without CAD: ``elevation.png`` and ``sections.pdf``.
+"""Drawings readable without CAD: ``sheets.pdf``, ``sections.pdf``, ``elevation.png``.
+
+``sheets.pdf`` holds every sheet of the drawings (the paper-space layouts of
+``elevation.dxf``, ``sections.dxf`` and ``plan.dxf``), one page each at the sheet's
+size, as the paper space shows it: ezdxf's drawing add-on draws each layout, its
+viewports scaled and clipped; its front end (``ezdxf.addons.drawing.Frontend``, with a
+bounding-box cache so that each viewport visits only what it shows) feeds
+:class:`Collector`, a back end of wallrun's own on ezdxf's public ``Backend`` base
+class, which gathers the strokes and filled shapes of a page and hands them to
+matplotlib as one path per colour and line weight. ``sections.pdf`` is the sheets of
+the sections drawing again, on their own (the same pages).
 
 ``elevation.png`` is a quick look drawn with matplotlib straight from the result
 objects: existing ground, finished level, the wall's top and underside per run, and
 the joints, in up to :data:`MAX_STRIPS` stacked strips of consecutive chainage, the
 levels true to scale within a strip (each strip has its own level axis).
-
-``sections.pdf`` shows what ``sections.dxf`` holds, drawn by ezdxf's drawing add-on:
-its front end (``ezdxf.addons.drawing.Frontend``) feeds :class:`Collector`, a back end
-of wallrun's own on ezdxf's public ``Backend`` base class, which gathers the strokes
-and filled shapes of a page and hands them to matplotlib as a few collections (one
-per colour and line weight) instead of one artist per stroke.
 """
 
 from __future__ import annotations
@@ -26,7 +30,6 @@ from matplotlib.figure import Figure
 from matplotlib.patches import PathPatch
 
 MAX_STRIPS = 8
-MAX_SECTION_PAGES = 16
 ELEVATION_PX = (2400, 1600)
 DPI = 100
 A3_MM = (420.0, 297.0)
@@ -103,23 +106,40 @@ class Collector(Backend):
         v = np.concatenate(arrays)
         return (*v.min(axis=0), *v.max(axis=0))
 
-    def add_to(self, ax, points_per_mm: float = 72.0 * MM, min_width: float = 0.2) -> None:
+    def add_to(self, ax, points_per_mm: float = 72.0 * MM, min_width: float = 0.2,
+               place=None, clip=None) -> None:
         """Add the collected strokes and fills to ``ax`` (its limits are left as set):
         one compound path per colour and line weight; line weights in mm become
-        ``points_per_mm`` points, at least ``min_width``."""
+        ``points_per_mm`` points, at least ``min_width``. ``place`` (k, cx, cy, px, py)
+        maps drawing point p to (px, py) + k (p - (cx, cy)) (a viewport's scale and
+        position); ``clip`` (x0, y0, x1, y1) clips everything to that box."""
+        from matplotlib.patches import Rectangle
         from matplotlib.path import Path as MplPath
 
+        def moved(v):
+            if place is None:
+                return v
+            k, cx, cy, px, py = place
+            return (v - (cx, cy)) * k + (px, py)
+
+        artists = []
         for color, paths in self.fills.items():
-            ax.add_artist(PathPatch(MplPath.make_compound_path(*paths), facecolor=color,
-                                    edgecolor="none", linewidth=0))
+            path = MplPath.make_compound_path(*paths)
+            artists.append(PathPatch(MplPath(moved(path.vertices), path.codes),
+                                     facecolor=color, edgecolor="none", linewidth=0))
         for (color, lw), segs in self.strokes.items():
             verts = np.concatenate(segs)
             codes = np.full(len(verts), MplPath.LINETO, dtype=MplPath.code_type)
             starts = np.cumsum([0] + [len(s) for s in segs[:-1]])
             codes[starts] = MplPath.MOVETO
-            ax.add_artist(PathPatch(MplPath(verts, codes), fill=False, edgecolor=color,
-                                    capstyle="butt", joinstyle="miter",
-                                    linewidth=max(lw * points_per_mm, min_width)))
+            artists.append(PathPatch(MplPath(moved(verts), codes), fill=False,
+                                     edgecolor=color, capstyle="butt", joinstyle="miter",
+                                     linewidth=max(lw * points_per_mm, min_width)))
+        for a in artists:
+            ax.add_artist(a)
+            if clip is not None:
+                a.set_clip_path(Rectangle((clip[0], clip[1]), clip[2] - clip[0],
+                                          clip[3] - clip[1], transform=ax.transData))
 
 
 def _page(size_mm):
@@ -154,47 +174,6 @@ def frontend(doc, out: Collector):
     cfg = Configuration(background_policy=BackgroundPolicy.WHITE,
                         circle_approximation_count=32)
     return Frontend(RenderContext(doc), out, config=cfg)
-
-
-# --- sections.pdf --------------------------------------------------------------------------
-
-def render_sections_pdf(doc, pdf_path) -> int:
-    """Render ``doc``, the drawing saved as ``sections.dxf``, to a PDF: one A3 page per section (each insert of a
-    section block in model space, at most :data:`MAX_SECTION_PAGES`; the others are
-    listed on a last page), framed on the section's extents; returns the number of
-    sections drawn."""
-    import textwrap
-
-    from matplotlib import rc_context
-
-    msp = doc.modelspace()
-    inserts = [e for e in msp if e.dxftype() == "INSERT"]
-    shown, rest = inserts[:MAX_SECTION_PAGES], inserts[MAX_SECTION_PAGES:]
-    out = Collector()
-    fe = frontend(doc, out)
-    fe.ctx.set_current_layout(msp)
-    fe.set_background("#ffffff")
-    # zlib level 1 instead of matplotlib's 6: most of the time of a page otherwise
-    with rc_context({"pdf.compression": 1}), PdfPages(str(pdf_path)) as pdf:
-        for ins in shown:
-            out.clear()
-            fe.draw_entities([ins])
-            fig, ax = _page(A3_MM)
-            out.add_to(ax)
-            box = out.bounds()
-            if box is not None:
-                _show(ax, box, A3_MM)
-            fig.text(0.01, 0.99, f"sections.dxf: {ins.dxf.name}", fontsize=7, va="top")
-            pdf.savefig(fig)
-        if rest or not inserts:
-            fig, ax = _page(A3_MM)
-            names = ", ".join(e.dxf.name for e in rest)
-            head = (f"{len(rest)} more section types are drawn in sections.dxf but not "
-                    "previewed here:" if rest else "No section types to draw.")
-            fig.text(0.05, 0.9, head, fontsize=12)
-            fig.text(0.05, 0.85, "\n".join(textwrap.wrap(names, 150)), fontsize=8, va="top")
-            pdf.savefig(fig)
-    return len(shown)
 
 
 # --- elevation.png -----------------------------------------------------------------------
@@ -283,14 +262,106 @@ def _chainage_formatter():
     return FuncFormatter(lambda v, _pos: chainage_label(v))
 
 
-def write_previews(result, sections_doc, out_dir) -> list[str]:
-    """Render ``elevation.png`` from ``result`` and ``sections.pdf`` from
-    ``sections_doc`` (the drawing just saved as ``sections.dxf``) into ``out_dir``;
-    returns the names written."""
+def write_previews(result, docs, out_dir) -> list[str]:
+    """Render into ``out_dir``: ``sheets.pdf``, every sheet of the drawings ``docs``
+    (the documents just saved: elevation, sections, plan); ``sections.pdf``, the
+    sheets of the sections drawing (``docs[1]``) again on their own; and
+    ``elevation.png`` from ``result``. Returns the names written."""
+    from matplotlib import rc_context
+
     out = Path(out_dir)
+    # zlib level 1 instead of matplotlib's 6: most of the time of a page otherwise
+    with rc_context({"pdf.compression": 1}), PdfPages(str(out / "sections.pdf")) as sec:
+        render_sheets(docs, out / "sheets.pdf", also={id(docs[1]): sec})
     render_elevation_png(result, out / "elevation.png")
-    render_sections_pdf(sections_doc, out / "sections.pdf")
-    return ["elevation.png", "sections.pdf"]
+    return ["sheets.pdf", "sections.pdf", "elevation.png"]
 
 
-__all__ = ["Collector", "render_elevation_png", "render_sections_pdf", "write_previews"]
+__all__ = ["Collector", "render_elevation_png", "render_sheets", "write_previews"]
+
+
+# --- sheets.pdf ------------------------------------------------------------------------
+
+def sheet_layouts(doc) -> list:
+    """The paper-space layouts of ``doc`` in tab order (model space left out)."""
+    return [doc.paperspace(n) for n in doc.layout_names_in_taborder() if n != "Model"]
+
+
+def _config():
+    from ezdxf.addons.drawing.config import BackgroundPolicy, Configuration
+
+    return Configuration(background_policy=BackgroundPolicy.WHITE,
+                         circle_approximation_count=32, min_lineweight=0.1)
+
+
+class SheetPainter:
+    """Draws the sheets of one drawing. Paper-space entities go through ezdxf's front
+    end as they are; a viewport's model-space content goes through the front end too,
+    the entities whose extents (ezdxf's fast bounding boxes, measured once per
+    drawing) meet the viewport's window, and is then placed at the viewport's scale
+    and position and clipped to its box by matplotlib. (ezdxf's own viewport
+    rendering clips every glyph of every text in Python, twenty times the cost.)"""
+
+    def __init__(self, doc):
+        from ezdxf import bbox
+        from ezdxf.addons.drawing import Frontend, RenderContext
+
+        self.paper, self.model = Collector(), Collector()
+        self.fe_paper = Frontend(RenderContext(doc), self.paper, config=_config())
+        msp = doc.modelspace()
+        self.fe_model = Frontend(RenderContext(doc), self.model, config=_config())
+        self.fe_model.ctx.set_current_layout(msp)
+        self.fe_model.set_background("#ffffff")
+        self.entities = list(msp)
+        rows = []
+        for b in bbox.multi_flat(self.entities, fast=True):
+            rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
+                        else (np.inf, np.inf, -np.inf, -np.inf))
+        self.boxes = np.array(rows, dtype=float).reshape(-1, 4)
+
+    def figure(self, layout):
+        """The page of paper-space ``layout``: a figure of the sheet's size in mm."""
+        w, h = layout.dxf.paper_width, layout.dxf.paper_height
+        fig, ax = _page((w, h))
+        ax.set_xlim(0.0, w)
+        ax.set_ylim(0.0, h)
+        ax.set_aspect("equal", adjustable="box")
+        self.paper.clear()
+        self.fe_paper.draw_layout(layout, finalize=True,
+                                  filter_func=lambda e: e.dxftype() != "VIEWPORT")
+        self.paper.add_to(ax)
+        for vp in layout.query("VIEWPORT"):
+            if vp.dxf.get("id", 0) == 1 or vp.dxf.view_height <= 0:
+                continue  # the layout's own overall viewport
+            k = vp.dxf.height / vp.dxf.view_height
+            cx, cy = vp.dxf.view_center_point[0], vp.dxf.view_center_point[1]
+            hw, hh = vp.dxf.width / 2 / k, vp.dxf.height / 2 / k
+            b = self.boxes
+            hit = ((b[:, 0] <= cx + hw) & (b[:, 2] >= cx - hw)
+                   & (b[:, 1] <= cy + hh) & (b[:, 3] >= cy - hh))
+            self.model.clear()
+            self.fe_model.draw_entities([e for e, on in zip(self.entities, hit) if on])
+            px, py = vp.dxf.center[0], vp.dxf.center[1]
+            place = (k, cx, cy, px, py)
+            clip = (px - vp.dxf.width / 2, py - vp.dxf.height / 2,
+                    px + vp.dxf.width / 2, py + vp.dxf.height / 2)
+            self.model.add_to(ax, place=place, clip=clip)
+        return fig
+
+
+def render_sheets(docs, pdf_path, also=None) -> int:
+    """Every sheet of the drawings ``docs`` (in order) as one page each of
+    ``pdf_path`` (see :class:`SheetPainter`); ``also``: {id(doc): another PdfPages}
+    that gets that drawing's pages too. Returns the number of pages."""
+    n = 0
+    with PdfPages(str(pdf_path)) as pdf:
+        for doc in docs:
+            painter = SheetPainter(doc)
+            extra = (also or {}).get(id(doc))
+            for layout in sheet_layouts(doc):
+                fig = painter.figure(layout)
+                pdf.savefig(fig)
+                if extra is not None:
+                    extra.savefig(fig)
+                n += 1
+    return n

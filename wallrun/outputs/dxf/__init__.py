@@ -4,17 +4,22 @@ the plan and the paper-space sheets, written through ezdxf's public API."""
 
 def write_drawings(result, folder) -> list[str]:
     """Write every drawing of ``result`` into ``folder``: ``elevation.dxf``,
-    ``sections.dxf``, ``plan.dxf`` (when the profiles carry plan coordinates) and the
-    previews ``elevation.png`` and ``sections.pdf``; returns the file names written."""
+    ``sections.dxf``, and with plan coordinates ``plan.dxf`` and ``setting_out.csv``;
+    then ``sheets.pdf`` (every sheet of the drawings), ``sections.pdf`` (the section
+    sheets) and ``elevation.png`` (a quick look). Returns the file names written."""
     from pathlib import Path
 
     from wallrun.outputs import previews
     from wallrun.outputs.dxf import elevation, plan, sections
 
     folder = Path(folder)
-    elevation.write_elevation(result, folder / "elevation.dxf")
-    doc = sections.write_sections(result, folder / "sections.dxf")
+    docs = [elevation.write_elevation(result, folder / "elevation.dxf"),
+            sections.write_sections(result, folder / "sections.dxf")]
     names = ["elevation.dxf", "sections.dxf"]
-    if plan.write_plan(result, folder / "plan.dxf"):
-        names.append("plan.dxf")
-    return names + previews.write_previews(result, doc, folder)
+    plan_doc = plan.write_plan(result, folder / "plan.dxf")
+    if plan_doc is not None:
+        docs.append(plan_doc)
+        with open(folder / "setting_out.csv", "w", encoding="utf-8", newline="") as f:
+            f.write(plan.setting_out_csv(result))
+        names += ["plan.dxf", "setting_out.csv"]
+    return names + previews.write_previews(result, docs, folder)

@@ -77,9 +77,17 @@ def stem_heights(pr) -> tuple[float, float]:
     return max(hd, hc), hc
 
 
-def section_scale(result) -> int:
-    """Scale of the sections, 1:N: 25, or 50 when the tallest drawn section (key bottom
-    to top of wall) would be over 200 mm high on paper at 1:25."""
+SCALES = (25, 50, 100)  # 1:100 only for a section too tall for the sheet at 1:50
+LABELS_MM = 80.0  # an allowance for the labels above and below a section, mm
+
+
+TALL_AT_25_M = 3.5  # sections taller than this are drawn at 1:50 (common practice)
+
+
+def section_scale(result, area_h_mm: float) -> int:
+    """Scale of the sections, 1:N: 25 when the tallest drawn section (key bottom to
+    top of wall) is at most 3.5 m, else 50 (100 only when needed), and at which that
+    section with its labels fits a sheet's drawing area ``area_h_mm`` high."""
     gmap = governing_map(result)
     tall = 0.0
     for st in result.section_types:
@@ -87,7 +95,10 @@ def section_scale(result) -> int:
         if pr is not None:
             tall = max(tall, st.section.key_depth_m + st.section.base_thickness_m
                        + stem_heights(pr)[0])
-    return 25 if tall * 1000.0 / 25.0 <= 200.0 else 50
+    for n in SCALES:
+        if (n > 25 or tall <= TALL_AT_25_M) and tall * 1000.0 / n + LABELS_MM <= area_h_mm:
+            return n
+    return SCALES[-1]
 
 
 # --- bar geometry ----------------------------------------------------------------------
@@ -409,7 +420,7 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
         lab_w = max(lab_w, lt.width(label, c.SMALL_MM))
     left = x_mark - P(3.2) - P(lab_w)
 
-    # title above, conditions and bar table below
+    # title above; the design conditions and the bar table in a column on the right
     top = max(H + P(9), tag_hi, max(zl, default=0.0) + P(c.SMALL_MM))
     names = st.panels or tuple(q.panel.panel for q in result.panels
                                if q.section_type == st.section_type)
@@ -418,22 +429,23 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
              f"panels {listing}; drawn at {p.panel}, the tallest"]
     c.add_text(blk, title[0], (left, top + P(7.5)), P(c.TITLE_MM), c.L_TITLES, A.BOTTOM_LEFT)
     c.add_text(blk, title[1], (left, top + P(2.5)), P(c.SMALL_MM), c.L_TITLES, A.BOTTOM_LEFT)
-    right = max(right, left + P(lt.width(title[1], c.SMALL_MM)),
-                left + P(lt.width(title[0], c.TITLE_MM)))
-    top = top + P(7.5 + c.TITLE_MM)
-
+    head_right = max(left + P(lt.width(title[1], c.SMALL_MM)),
+                     left + P(lt.width(title[0], c.TITLE_MM)))
     bottom = min(row2 - P(c.SMALL_MM) - P(3), tag_lo - P(2), min(zl, default=0.0) - P(2))
+    x_col = right + P(8)
+    z = top
     lines = conditions(result, st, pr)
-    c.add_lines_text(blk, lines, (left, bottom), P(c.SMALL_MM), c.L_CONDITIONS,
+    c.add_lines_text(blk, lines, (x_col, z), P(c.SMALL_MM), c.L_CONDITIONS,
                      P(COND_PITCH_MM))
-    right = max(right, left + P(max(lt.width(t, c.SMALL_MM) for t in lines)))
-    bottom -= P(COND_PITCH_MM) * len(lines) + P(3)
+    col_w = max(lt.width(t, c.SMALL_MM) for t in lines)
+    z -= P(COND_PITCH_MM) * len(lines) + P(4)
     table = bar_table(rows)
-    c.add_lines_text(blk, table, (left, bottom), P(TABLE_MM), c.L_TABLE, P(TABLE_PITCH_MM),
+    c.add_lines_text(blk, table, (x_col, z), P(TABLE_MM), c.L_TABLE, P(TABLE_PITCH_MM),
                      style=c.TABLE_STYLE)
-    right = max(right, left + P(max(lt.width(t, TABLE_MM, mono=True) for t in table)))
-    bottom -= P(TABLE_PITCH_MM) * len(table)
-    return (left, bottom, right, top)
+    col_w = max(col_w, max(lt.width(t, TABLE_MM, mono=True) for t in table))
+    z -= P(TABLE_PITCH_MM) * len(table)
+    right = max(x_col + P(col_w), head_right)
+    return (left, min(bottom, z), right, top + P(7.5 + c.TITLE_MM))
 
 
 def _dot_row(blk, xs, zs, r: float) -> None:
@@ -513,38 +525,70 @@ def build_blocks(doc, result, scale: int, lt: c.Lettering) -> list[tuple[str, st
     return out
 
 
-def layout_cells(boxes, width: float, gap: float) -> list[tuple[float, float]]:
-    """Insertion points placing boxes (xmin, zmin, xmax, zmax) in rows from the top
-    left, left to right, a row at most ``width`` wide (at least one box a row),
-    ``gap`` apart; model m."""
-    out = []
-    x = y_top = 0.0
-    row_h = 0.0
-    for b in boxes:
-        w, h = b[2] - b[0], b[3] - b[1]
+def pack(sizes, width: float, height: float, gap: float) -> list[list[tuple]]:
+    """Shelf packing of boxes ``sizes`` (w, h) into pages ``width`` x ``height``: rows
+    from the top left, left to right, in the given order. Returns pages of
+    (index, x, y_top) with y_top measured down from the top of the page."""
+    pages: list[list[tuple]] = [[]]
+    x = y = row_h = 0.0
+    for i, (w, h) in enumerate(sizes):
         if x > 0 and x + w > width:
-            x, y_top, row_h = 0.0, y_top - row_h - gap, 0.0
-        out.append((x - b[0], y_top - b[3]))
+            x, y, row_h = 0.0, y + row_h + gap, 0.0
+        if y > 0 and y + h > height:
+            pages.append([])
+            x = y = row_h = 0.0
+        pages[-1].append((i, x, y))
         x += w + gap
         row_h = max(row_h, h)
-    return out
+    return pages
+
+
+NOTES = ("Each section is drawn at its tallest panel; bars are shown schematically at "
+         "their covers, distribution bars as dots; bar marks refer to bar_schedule.csv.",
+         "Section sizes in millimetres; levels in metres.")
 
 
 def write_sections(result, path):
-    """Write one cross-section per section type of ``result`` to ``path``; returns the
-    document written (for the previews).
+    """Write one cross-section per section type of ``result`` to ``path``, each a block
+    inserted in model space, laid out on paper-space sheets (``[drawings] sheet``) at
+    1:25 or 1:50 with one viewport each; returns the document written.
 
     Raises RuntimeError if the DXF audit reports errors (nothing is written then).
     """
-    scale = section_scale(result)
-    doc = c.new_document(scale, "cross-sections")
+    from wallrun.outputs.dxf import sheets
+
+    site = result.site
+    lt = c.Lettering()
+    fr = sheets.frame(site, getattr(site.drawings, "sheet", "A1"), NOTES, lt=lt)
+    ax0, ay0, ax1, ay1 = fr.area
+    aw, ah = ax1 - ax0, ay1 - ay0
+    start = SCALES.index(section_scale(result, ah))
+    for scale in SCALES[start:]:
+        doc = c.new_document(scale, "cross-sections")
+        cells = build_blocks(doc, result, scale, lt)
+        k = 1000.0 / scale  # paper mm per model m
+        sizes = [((b[2] - b[0]) * k, (b[3] - b[1]) * k) for _t, _n, b in cells]
+        if all(w <= aw - 6.0 and h <= ah - 6.0 for w, h in sizes) or scale == SCALES[-1]:
+            break
     msp = doc.modelspace()
-    cells = build_blocks(doc, result, scale, c.Lettering())
-    P = lambda mm: c.paper(mm, scale)  # noqa: E731
-    spots = layout_cells([b for _t, _n, b in cells], P(780), P(10))
-    for (_t, name, _b), xy in zip(cells, spots):
-        msp.add_blockref(name, xy)
-    if not cells:
-        c.add_text(msp, "No section types to draw.", (0.0, 0.0), P(c.TITLE_MM), c.L_TITLES)
+    pad = 3.0  # mm kept clear inside the viewport
+    pages = pack(sizes, aw - 2 * pad, ah - 2 * pad, gap=8.0) if cells else [[]]
+    m = scale / 1000.0  # model m per paper mm
+    for n, page in enumerate(pages, start=1):
+        top = -(n - 1) * (ah + 40.0) * m  # model y of the page's top edge
+        for i, x, y in page:
+            _t, name, b = cells[i]
+            msp.add_blockref(name, ((x + pad) * m - b[0], top - (y + pad) * m - b[3]))
+        types = [cells[i][0] for i, _x, _y in page]
+        sub = (f"section types {types[0]} to {types[-1]}" if len(types) > 1 else
+               f"section type {types[0]}" if types else "no section types")
+        lay = sheets.new_sheet(doc, f"SECTIONS {n:02d}", fr, site, lt,
+                               "Cross-sections of the section types", sub, f"1:{scale}",
+                               n, len(pages), notes=NOTES, scale=scale)
+        sheets.add_view(lay, fr.area, (aw / 2 * m, top - ah / 2 * m), scale)
+        if not types:
+            c.add_text(lay, "No section types to draw.", (ax0 + 10, ay1 - 10), c.TITLE_MM,
+                       c.L_TITLES)
+    sheets.finish(doc)
     c.save(doc, path)
     return doc
