@@ -276,15 +276,20 @@ _ALIGN = {A.LEFT: (0, 0), A.BOTTOM_LEFT: (0, 1), A.BOTTOM_CENTER: (1, 1),
 
 
 def add_lines_text(layout, lines, xy, height: float, layer: str, pitch: float,
-                   attach: int = 1, style: str = TEXT_STYLE, rotation: float = 0.0):
+                   attach: int = 1, style: str = TEXT_STYLE, rotation: float = 0.0,
+                   lt: "Lettering | None" = None):
     """One MTEXT of ``lines`` at ``xy`` (``attach`` 1 top left, 3 top right, 7 bottom
-    left ...), lines exactly ``pitch`` (m) apart."""
+    left ...), lines exactly ``pitch`` apart, its column as wide as its longest line
+    (measured, so that nothing wraps)."""
+    lt = lt or Lettering()
     text = "\\P".join(mtext_escape(str(t)) for t in lines)
+    width = max(lt.width(str(t), height, mono=style == TABLE_STYLE) for t in lines)
     return layout.add_mtext(text, dxfattribs={
         "layer": layer, "style": style, "char_height": float(height),
         "insert": (float(xy[0]), float(xy[1])), "attachment_point": attach,
         "rotation": float(rotation), "line_spacing_style": 2,  # exact
-        "line_spacing_factor": pitch / (height * 5.0 / 3.0)})
+        "line_spacing_factor": pitch / (height * 5.0 / 3.0),
+        "width": 1.02 * width + 0.01 * height})
 
 
 def mtext_escape(s: str) -> str:
@@ -330,14 +335,15 @@ def dot_block(doc, r: float) -> str:
 
 
 def add_dimensions(layout, points, base, scale: int, vertical: bool = False,
-                   layer: str = L_DIMS) -> list:
+                   layer: str = L_DIMS, lt: "Lettering | None" = None) -> list:
     """A chain of linear dimensions between consecutive ``points`` (model xy, m) with
     the dimension line through ``base``, horizontal or ``vertical``; segments of zero
     length are left out. One LWPOLYLINE draws the whole chain (each extension line
     from 1 mm off its point to 1.5 mm past the line, the dimension line and an oblique
     1.5 mm tick at every extension line, retraced where the stroke turns back), and
-    one TEXT per segment gives its length in mm, 0.8 mm above (left of) the line.
-    Returns the entities made."""
+    one TEXT per segment gives its length in mm, 0.8 mm above (left of) the line; with
+    ``lt`` given, a figure that would run into the one before it along the line goes
+    below (right of) the line instead. Returns the entities made."""
     ux, uy = (0.0, 1.0) if vertical else (1.0, 0.0)
     nx, ny = -uy, ux  # the side the text stands on
     P = lambda mm: paper(mm, scale)  # noqa: E731
@@ -362,12 +368,20 @@ def add_dimensions(layout, points, base, scale: int, vertical: bool = False,
         path += [f, s1, s0, s1, f, (f[0] - tx, f[1] - ty), (f[0] + tx, f[1] + ty), f]
     out = [add_polyline(layout, path, layer)]
     off = P(0.8)
+    last_end = -math.inf  # along the line, the far end of the previous figure above it
     for p, q in zip(pts[:-1], pts[1:]):
-        a, b = along(p), along(q)
+        a, b = sorted((along(p), along(q)))
         m = 0.5 * (a + b)
-        mid = (bx + m * ux + nx * off, by + m * uy + ny * off)
-        out.append(add_text(layout, f"{abs(b - a) * 1000.0:.0f}", mid, P(SMALL_MM), layer,
-                            A.BOTTOM_CENTER, rotation=90.0 if vertical else 0.0))
+        text = f"{(b - a) * 1000.0:.0f}"
+        half = P(lt.width(text, SMALL_MM) / 2 + 0.5) if lt is not None else 0.0
+        above = lt is None or m - half >= last_end
+        if above:
+            last_end = m + half
+        side = off if above else -off
+        mid = (bx + m * ux + nx * side, by + m * uy + ny * side)
+        align = A.BOTTOM_CENTER if above else A.TOP_CENTER
+        out.append(add_text(layout, text, mid, P(SMALL_MM), layer, align,
+                            rotation=90.0 if vertical else 0.0))
     return out
 
 

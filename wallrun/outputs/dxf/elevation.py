@@ -119,19 +119,24 @@ def elevation_scale(result, lt: d.Lettering, width_mm: float = 1e9) -> int:
     return fits[0] if fits else ok[-1]
 
 
-def windows(result, length_m: float) -> list[tuple[float, float]]:
+def windows(result, length_m: float, clear_m: float = 0.0) -> list[tuple[float, float]]:
     """Windows of chainage at most ``length_m`` long covering every panel, each ending at
-    a joint or run end (a longer single panel: cut at ``length_m``); windows holding
-    no panel are left out."""
+    a joint or run end (a longer single panel: cut at ``length_m``), where there is one
+    at least ``clear_m`` from its neighbours on both sides; windows holding no panel
+    are left out."""
     st = [ch for ch, _l, _r in stations(result)]
     if not st:
         return []
+    gaps = np.diff(st)
+    roomy = {x for i, x in enumerate(st)
+             if (i == 0 or gaps[i - 1] >= clear_m) and (i == len(st) - 1 or gaps[i] >= clear_m)}
     out = []
     a = st[0]
     end = st[-1]
     while a < end - 1e-9:
         inside = [x for x in st if a + 1e-9 < x <= a + length_m + 1e-9]
-        b = inside[-1] if inside else min(a + length_m, end)
+        good = [x for x in inside if x in roomy or x >= end - 1e-9]
+        b = good[-1] if good else inside[-1] if inside else min(a + length_m, end)
         if any(pr.panel.ch_start_m < b - 1e-9 and pr.panel.ch_end_m > a + 1e-9
                for pr in result.panels):
             out.append((a, b))
@@ -232,7 +237,7 @@ def write_elevation(result, path):
         msp.add_line((j.ch_m, Y(z0)), (j.ch_m, Y(z1)), dxfattribs={"layer": d.L_JOINTS})
 
     # windows and their bands
-    wins = windows(result, vp_w * m)
+    wins = windows(result, vp_w * m, clear_m=1.5 * COLUMN_MM * m)
     st_all = stations(result)
     levels_of = [level_lines(prof, s_) for s_ in st_all]
     level_row = 2.0 + max([lt.width(t, LABEL_MM) for ls in levels_of for t in ls] + [10.0])
@@ -268,13 +273,13 @@ def write_elevation(result, path):
                 x = c1 - P(COLUMN_MM / 2)
             d.add_lines_text(msp, lines, (x, y_lo - P(1.0)),
                              P(LABEL_MM), d.L_LEVEL_TEXT, P(2.6), attach=6,
-                             rotation=90.0)
+                             rotation=90.0, lt=lt)
         for pr in result.panels:
             p = pr.panel
             if p.ch_start_m >= c0 - 1e-9 and p.ch_end_m <= c1 + 1e-9:
                 label = [p.panel, pr.section_type + (" FLAGGED" if pr.status != "ok" else "")]
                 d.add_lines_text(msp, label, (0.5 * (p.ch_start_m + p.ch_end_m), y_names),
-                                 P(LABEL_MM), d.L_PANELS, P(3.0), attach=8)
+                                 P(LABEL_MM), d.L_PANELS, P(3.0), attach=8, lt=lt)
         _chainage_row(msp, c0, c1, y_chain, tick, scale, lt)
         views.append((c0, c1, lo, hi, y_bottom, y_top, level_row))
 

@@ -213,7 +213,7 @@ def write_plan(result, path):
                                n, count, notes=NOTES_TEXT, scale=scale)
         for ci, chunk in enumerate(chunks[s * cols_per_sheet:(s + 1) * cols_per_sheet]):
             d.add_lines_text(lay, table[:2] + chunk, (ax0 + 4.0 + ci * width_col, ay1 - 4.0),
-                             SET_MM, d.L_SETTING_TABLE, SET_PITCH, style=d.TABLE_STYLE)
+                             SET_MM, d.L_SETTING_TABLE, SET_PITCH, style=d.TABLE_STYLE, lt=lt)
     sheets.finish(doc)
     d.save(doc, path)
     return doc

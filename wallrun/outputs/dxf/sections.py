@@ -390,17 +390,17 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
         tag_lo = leaders[-1].tag[1] - P(TAG_PITCH_MM / 2)
         c.add_lines_text(blk, lines, (B + P(TAG_X_MM + 1.0), tag_hi - P(TAG_PITCH_MM / 2)
                                       + P(DESC_MM / 2)), P(DESC_MM), c.L_MARKS,
-                         P(TAG_PITCH_MM))
+                         P(TAG_PITCH_MM), lt=lt)
         right += P(1.0 + max(lt.width(t, DESC_MM) for t in lines))
 
     # dimensions
     zk = -kd
     row1, row2 = zk - P(7), zk - P(14)
     c.add_dimensions(blk, [(0.0, 0.0), (toe, 0.0), (toe + tsb, 0.0), (B, 0.0)],
-                     (0.0, row1), scale)
+                     (0.0, row1), scale, lt=lt)
     c.add_dimensions(blk, [(0.0, 0.0), (B, 0.0)], (0.0, row2), scale)
     c.add_dimensions(blk, [(0.0, 0.0), (0.0, tb), (toe, H)], (-P(8), 0.0), scale,
-                     vertical=True)
+                     vertical=True, lt=lt)
     c.add_dimensions(blk, [(toe, H), (toe + tst, H)], (0.0, H + P(6)), scale)
     if kd > 0 and kw > 0:
         c.add_dimensions(blk, [(toe, zk), (toe + kw, zk)], (0.0, zk - P(3.5)), scale)
@@ -436,12 +436,12 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
     z = top
     lines = conditions(result, st, pr)
     c.add_lines_text(blk, lines, (x_col, z), P(c.SMALL_MM), c.L_CONDITIONS,
-                     P(COND_PITCH_MM))
+                     P(COND_PITCH_MM), lt=lt)
     col_w = max(lt.width(t, c.SMALL_MM) for t in lines)
     z -= P(COND_PITCH_MM) * len(lines) + P(4)
     table = bar_table(rows)
     c.add_lines_text(blk, table, (x_col, z), P(TABLE_MM), c.L_TABLE, P(TABLE_PITCH_MM),
-                     style=c.TABLE_STYLE)
+                     style=c.TABLE_STYLE, lt=lt)
     col_w = max(col_w, max(lt.width(t, TABLE_MM, mono=True) for t in table))
     z -= P(TABLE_PITCH_MM) * len(table)
     right = max(x_col + P(col_w), head_right)

@@ -111,7 +111,8 @@ def add_notes(layout, top_left, lines, width_mm: float, lt: c.Lettering, k: floa
     ``width_mm`` (one MTEXT) with its top left at ``top_left``; returns its height in
     drawing units (``k`` per paper mm)."""
     body = [heading] + wrap_notes(lines, width_mm, lt)
-    c.add_lines_text(layout, body, top_left, NOTES_MM * k, c.L_NOTES, NOTES_PITCH_MM * k)
+    c.add_lines_text(layout, body, top_left, NOTES_MM * k, c.L_NOTES, NOTES_PITCH_MM * k,
+                     lt=lt)
     return NOTES_PITCH_MM * k * len(body)
 
 
