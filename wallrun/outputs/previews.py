@@ -298,23 +298,39 @@ class SheetPainter:
     """Draws the sheets of one drawing. Paper-space entities go through ezdxf's front
     end as they are; a viewport's model-space content goes through the front end too,
     the entities whose extents (ezdxf's fast bounding boxes, measured once per
-    drawing) meet the viewport's window, and is then placed at the viewport's scale
+    drawing; an insert's insertion point) meet the viewport's window, and is then
+    placed at the viewport's scale
     and position and clipped to its box by matplotlib. (ezdxf's own viewport
-    rendering clips every glyph of every text in Python, twenty times the cost.)"""
+    rendering clips every glyph of every text in Python, twenty times the cost.) The
+    paper-space MTEXTs of a sheet (the notes), alike on every sheet of a drawing, are
+    drawn once per drawing."""
 
     def __init__(self, doc):
         from ezdxf import bbox
         from ezdxf.addons.drawing import Frontend, RenderContext
 
-        self.paper, self.model = Collector(), Collector()
+        self.paper, self.model, self.notes = Collector(), Collector(), Collector()
         self.fe_paper = Frontend(RenderContext(doc), self.paper, config=_config())
+        self.fe_notes = Frontend(RenderContext(doc), self.notes, config=_config())
+        self.drawn_notes: dict = {}  # the MTEXTs of a sheet, drawn once for this drawing
         msp = doc.modelspace()
         self.fe_model = Frontend(RenderContext(doc), self.model, config=_config())
         self.fe_model.ctx.set_current_layout(msp)
         self.fe_model.set_background("#ffffff")
         self.entities = list(msp)
+        # where each entity is, to find what a viewport shows: an insert by its
+        # insertion point (wallrun's section blocks lie around their origin, on one
+        # sheet; measuring every block's contents costs more than drawing it),
+        # everything else by ezdxf's fast bounding box
         rows = []
-        for b in bbox.multi_flat(self.entities, fast=True):
+        others = [e for e in self.entities if e.dxftype() != "INSERT"]
+        boxes = iter(bbox.multi_flat(others, fast=True))
+        for e in self.entities:
+            if e.dxftype() == "INSERT":
+                x, y = e.dxf.insert[0], e.dxf.insert[1]
+                rows.append((x, y, x, y))
+                continue
+            b = next(boxes)
             rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
                         else (np.inf, np.inf, -np.inf, -np.inf))
         self.boxes = np.array(rows, dtype=float).reshape(-1, 4)
@@ -328,8 +344,22 @@ class SheetPainter:
         ax.set_aspect("equal", adjustable="box")
         self.paper.clear()
         self.fe_paper.draw_layout(layout, finalize=True,
-                                  filter_func=lambda e: e.dxftype() != "VIEWPORT")
+                                  filter_func=lambda e: e.dxftype() not in ("VIEWPORT",
+                                                                            "MTEXT"))
         self.paper.add_to(ax)
+        # the MTEXTs (the notes of every sheet, alike from sheet to sheet): drawn once
+        key = tuple((e.text, tuple(e.dxf.insert), e.dxf.char_height, e.dxf.get("width", 0),
+                     e.dxf.get("attachment_point", 1), e.dxf.get("rotation", 0.0),
+                     e.dxf.layer, e.dxf.get("style", ""), e.dxf.get("line_spacing_factor", 1))
+                    for e in layout.query("MTEXT"))
+        if key not in self.drawn_notes:
+            self.notes.clear()
+            self.fe_notes.draw_layout(layout, finalize=True,
+                                      filter_func=lambda e: e.dxftype() == "MTEXT")
+            self.drawn_notes[key] = (self.notes.strokes, self.notes.fills)
+            self.notes.strokes, self.notes.fills = {}, {}
+        self.notes.strokes, self.notes.fills = self.drawn_notes[key]
+        self.notes.add_to(ax)
         for vp in layout.query("VIEWPORT"):
             if vp.dxf.get("id", 0) == 1 or vp.dxf.view_height <= 0:
                 continue  # the layout's own overall viewport

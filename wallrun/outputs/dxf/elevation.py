@@ -10,9 +10,10 @@ the notes, and :func:`level_of` converts back.
 Model space holds the developed elevation as one drawing: existing ground and
 finished level sampled at the profile breakpoints (plus a regular grid, so vertical
 curves draw smoothly); per run the top of wall (stepped or sloped per panel from
-``wall_top_start_m`` / ``wall_top_end_m``), the underside of base (one LWPOLYLINE per
-run whose vertex levels are the panels' ``founding_m``), the top of base (dashed),
-the end faces; one LINE per joint.
+``wall_top_start_m`` / ``wall_top_end_m``), the underside of base (a polyline whose
+vertex levels are the panels' ``founding_m``), the top of base (dashed), the end
+faces; one LINE per joint. Long lines are drawn in pieces of at most 200 m of
+chainage joined end to end.
 
 The run is cut into windows of chainage, each shown on a sheet by a viewport at the
 horizontal scale 1:N (100, 200, 250 or 500: the smallest-numbered... see
@@ -66,9 +67,23 @@ def read_transform(doc) -> tuple[float, float]:
     return float(cv.get("WALLRUN_DATUM_M")), float(cv.get("WALLRUN_VERTICAL_EXAGGERATION"))
 
 
-def _polyline(msp, xy, layer: str):
-    """An open LWPOLYLINE through the points ``xy`` ((n, 2) array-like)."""
-    return d.add_polyline(msp, xy, layer)
+CHUNK_M = 200.0  # a long line is drawn as polylines of at most this much chainage
+
+
+def _polyline(msp, xy, layer: str) -> None:
+    """An open line through the points ``xy`` ((n, 2), x = chainage increasing) as
+    LWPOLYLINEs each spanning at most :data:`CHUNK_M` of chainage, joined end to end
+    (a sheet's viewport then meets only the pieces it shows)."""
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    piece = np.floor((xy[:, 0] - xy[0, 0]) / CHUNK_M + 1e-9).astype(int)
+    cuts = np.flatnonzero(np.diff(piece)) + 1
+    start = 0
+    for cut in list(cuts) + [len(xy)]:
+        if cut - start >= 1:
+            seg = xy[max(start - 1, 0):cut]  # from the last vertex of the piece before
+            if len(seg) >= 2:
+                d.add_polyline(msp, seg, layer)
+        start = cut
 
 
 STAFF_W = 30.0  # paper mm left of the viewport: level scale and row names
