@@ -383,3 +383,23 @@ def test_collector_draws_what_the_dxf_holds(out):
     for p in corners:
         assert np.min(np.hypot(*(black - p).T)) < 1e-6
     assert "#000000" in col.fills  # text in black
+
+
+def test_any_section_type_name_makes_a_valid_block(tmp_path):
+    """Type names come from sections.csv: characters a DXF name may not hold are
+    replaced in the block name (unique), and the title keeps the name as given."""
+    r = sample_result()
+    names = {"S01": '=HYPERLINK("x")', "S02": "=HYPERLINK<x>"}
+    r = replace(r, section_types=tuple(replace(st, section_type=names[st.section_type])
+                                       for st in r.section_types),
+                panels=tuple(replace(pr, section_type=names[pr.section_type])
+                             for pr in r.panels),
+                bar_schedule=tuple(replace(b, section=names[b.section])
+                                   for b in r.bar_schedule))
+    write_sections(r, tmp_path / "s.dxf")
+    doc, msp = _read(tmp_path / "s.dxf")
+    assert not doc.audit().has_errors
+    blocks = sorted(e.dxf.name for e in msp.query("INSERT"))
+    assert blocks == [BLOCK_PREFIX + "_HYPERLINK__x__", BLOCK_PREFIX + "_HYPERLINK__x__-2"]
+    words = _all_text(doc)
+    assert 'SECTION =HYPERLINK("x")' in words and "SECTION =HYPERLINK<x>" in words

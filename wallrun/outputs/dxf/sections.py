@@ -506,19 +506,36 @@ def bar_table(rows) -> list[str]:
 
 # --- the drawing -----------------------------------------------------------------------
 
+def block_name(section_type: str, taken) -> str:
+    """The block name of a section type: :data:`BLOCK_PREFIX` and the type's name, any
+    character a DXF name may not hold (or that is not a letter, digit, ``-`` or ``_``)
+    written as ``_``, and a number added when that name is ``taken`` already."""
+    import re
+
+    base = BLOCK_PREFIX + re.sub(r"[^A-Za-z0-9_-]", "_", section_type)[:200]
+    name, k = base, 1
+    while name.upper() in taken:
+        k += 1
+        name = f"{base}-{k}"
+    return name
+
+
 def build_blocks(doc, result, scale: int, lt: c.Lettering) -> list[tuple[str, str, tuple]]:
     """One block per section type drawn (types with a panel), in the order of
-    ``result.section_types``; returns (type, block name, box) for each."""
+    ``result.section_types``, named by :func:`block_name`; returns (type, block name,
+    box) for each."""
     gmap = governing_map(result)
     rows_of: dict[str, list] = {}
     for b in result.bar_schedule:
         rows_of.setdefault(b.section, []).append(b)
     out = []
+    taken: set[str] = set()
     for st in result.section_types:
         pr = gmap.get(st.section_type)
         if pr is None:
             continue
-        name = BLOCK_PREFIX + st.section_type
+        name = block_name(st.section_type, taken)
+        taken.add(name.upper())
         blk = doc.blocks.new(name, dxfattribs={"description": f"section {st.section_type}"})
         box = draw_section(blk, result, st, pr, rows_of.get(st.section_type, []), scale, lt)
         out.append((st.section_type, name, box))
