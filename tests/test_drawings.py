@@ -402,4 +402,4 @@ def test_any_section_type_name_makes_a_valid_block(tmp_path):
     blocks = sorted(e.dxf.name for e in msp.query("INSERT"))
     assert blocks == [BLOCK_PREFIX + "_HYPERLINK__x__", BLOCK_PREFIX + "_HYPERLINK__x__-2"]
     words = _all_text(doc)
-    assert 'SECTION =HYPERLINK("x")' in words and "SECTION =HYPERLINK<x>" in words
+    assert 'SECTION =HYPERLINK("x")' in words and "SECTION =HYPERLINK(<x>)" in words
