@@ -389,7 +389,7 @@ def test_any_section_type_name_makes_a_valid_block(tmp_path):
     """Type names come from sections.csv: characters a DXF name may not hold are
     replaced in the block name (unique), and the title keeps the name as given."""
     r = sample_result()
-    names = {"S01": '=HYPERLINK("x")', "S02": "=HYPERLINK<x>"}
+    names = {"S01": '=HYPERLINK("x")', "S02": "=HYPERLINK(<x>)"}
     r = replace(r, section_types=tuple(replace(st, section_type=names[st.section_type])
                                        for st in r.section_types),
                 panels=tuple(replace(pr, section_type=names[pr.section_type])
