@@ -36,7 +36,6 @@ import numpy as np
 from ezdxf.enums import TextEntityAlignment as A
 
 from wallrun.outputs.dxf import conventions as d
-from wallrun.outputs.dxf import titles
 
 KEY_W_MM = 75.0
 LEVEL_STEPS = (0.1, 0.2, 0.25, 0.5, 1.0, 2.0, 2.5, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0)

@@ -304,7 +304,7 @@ def plan_leaders(sec, g: dict, groups: dict, scale: int, spacing: dict) -> list[
 def _levels(pr, hd, hc) -> list[tuple[float, str]]:
     """(z in section coordinates, label) of the level marks, highest first; levels
     within 0.5 mm of each other share one mark."""
-    p, tb = pr.panel, pr.section.base_thickness_m
+    p = pr.panel
     top = max(p.wall_top_start_m, p.wall_top_end_m)
     items = [(top, "TOP OF WALL"), (p.retained_top_m, "RETAINED"),
              (p.front_min_m, "FRONT GROUND"), (p.founding_m, "UNDERSIDE OF BASE")]

@@ -27,7 +27,6 @@ Layout (mm, x from the left edge of the block, y from its bottom)::
 from __future__ import annotations
 
 import datetime as dt
-import textwrap
 
 from wallrun.outputs.dxf import conventions as c
 
