@@ -34,7 +34,7 @@ GROUND = "chainage_m,level_m\n0,50.0\n8,50.0\n16,50.0\n24,50.0\n"
 #: every output file of interfaces.md for a site without plan coordinates
 OUTPUTS = {"panels.csv", "joints.csv", "sections.csv", "bar_schedule.csv", "quantities.csv",
            "cost.csv", "design.json", "elevation.dxf", "sections.dxf", "elevation.png",
-           "sections.pdf", "report.html"}
+           "sections.pdf", "sheets.pdf", "report.html"}
 
 
 def site(tmp_path: Path, extra: str, peak: float) -> Path:

@@ -267,8 +267,8 @@ def test_design_default_out_is_site_out(fake_engine, tmp_path, capsys):
 # --- design end to end, once the engine and output modules exist --------------------------
 
 _NEEDED = ["wallrun.pipeline", "wallrun.outputs.write", "wallrun.outputs.tables",
-           "wallrun.outputs.workbook", "wallrun.outputs.dxf_elevation",
-           "wallrun.outputs.dxf_sections", "wallrun.outputs.dxf_plan",
+           "wallrun.outputs.workbook", "wallrun.outputs.dxf.elevation",
+           "wallrun.outputs.dxf.sections", "wallrun.outputs.dxf.plan",
            "wallrun.outputs.previews", "wallrun.outputs.report"]
 _MISSING = [m for m in _NEEDED if importlib.util.find_spec(m) is None]
 

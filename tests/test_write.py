@@ -7,7 +7,8 @@ from wallrun.outputs import write
 
 EXPECTED = {"bar_schedule.csv", "cost.csv", "design.json", "elevation.dxf", "elevation.png",
             "joints.csv", "panels.csv", "quantities.csv", "report.html", "schedule.xlsx",
-            "sections.csv", "sections.dxf", "sections.pdf", "profiles.csv", "model.ifc"}
+            "sections.csv", "sections.dxf", "sections.pdf", "sheets.pdf", "profiles.csv",
+            "model.ifc"}
 
 
 @pytest.fixture(scope="module")

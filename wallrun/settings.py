@@ -359,6 +359,7 @@ class Drawings:
 
     vertical_exaggeration: float = setting(1.0, gt=0, le=20)
     chainage_tick_m: float = setting(20.0, unit="m", gt=0, le=10000)
+    sheet: str = setting("A1", choices=("A1", "A3"))  # ISO sheet of the paper-space layouts
 
 
 @dataclass(frozen=True)

@@ -1,358 +1,397 @@
-"""Previews readable without CAD, rendered from the DXF files themselves.
+"""Drawings readable without CAD: ``sheets.pdf``, ``sections.pdf``, ``elevation.png``.
 
-``elevation.png`` (1800 x 600 px, white background; a long wall in up to 8 stacked
-strips of consecutive chainage) from ``elevation.dxf`` and
-``sections.pdf`` (one A3 landscape page per section type, then one page with the whole
-sheet; beyond ``MAX_SECTION_PAGES`` types, the rest are listed on a last page instead)
-from ``sections.dxf``, drawn by ezdxf's drawing add-on through matplotlib's Agg
-backend, so the previews show exactly what the DXF holds.
+``sheets.pdf`` holds every sheet of the drawings (the paper-space layouts of
+``elevation.dxf``, ``sections.dxf`` and ``plan.dxf``), one page each at the sheet's
+size, as the paper space shows it: ezdxf's drawing add-on draws each layout, its
+viewports scaled and clipped; its front end (``ezdxf.addons.drawing.Frontend``, with a
+bounding-box cache so that each viewport visits only what it shows) feeds
+:class:`Collector`, a back end of wallrun's own on ezdxf's public ``Backend`` base
+class, which gathers the strokes and filled shapes of a page and hands them to
+matplotlib as one path per colour and line weight. ``sections.pdf`` is the sheets of
+the sections drawing again, on their own (the same pages).
 
-A very long elevation (more than ``MAX_ELEVATION_TEXTS`` TEXT entities) is previewed
-without the per-panel and per-joint names, which cannot be read at 1800 px anyway,
-and with its lines drawn solid (linetype patterns of thousands of short lines are
-slow to render and invisible at that size); every line and polyline vertex is still
-drawn (no decimation).
-
-The drawings are taken as the document objects that ``dxf_*`` just saved (see
-``drafting.save_document``) when the file is unchanged since, else read from the
-file; either way the preview shows what the file holds. Each section page draws only
-the entities of that section's group.
-
-Cost: rendering runs with the garbage collector paused (``drafting.gc_paused``); the
-view of a page or the image comes from ezdxf's fast extents computed with less
-measuring (:func:`_group_box`, the same box); sections.pdf is compressed at zlib
-level 1.
+``elevation.png`` is a quick look drawn with matplotlib straight from the result
+objects: existing ground, finished level, the wall's top and underside per run, and
+the joints, in up to :data:`MAX_STRIPS` stacked strips of consecutive chainage, the
+levels true to scale within a strip (each strip has its own level axis).
 """
 
 from __future__ import annotations
 
 import math
-import textwrap
 from pathlib import Path
 
-import matplotlib
+import numpy as np
+from ezdxf.addons.drawing.backend import Backend
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.backends.backend_pdf import PdfPages
+from matplotlib.collections import LineCollection
+from matplotlib.figure import Figure
+from matplotlib.patches import PathPatch
 
-matplotlib.use("Agg")
-
-from ezdxf.addons.drawing import Frontend, RenderContext  # noqa: E402
-from ezdxf.addons.drawing.config import (BackgroundPolicy, Configuration,  # noqa: E402
-                                         LinePolicy)
-from ezdxf.addons.drawing.matplotlib import MatplotlibBackend  # noqa: E402
-from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: E402
-from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
-from matplotlib.figure import Figure  # noqa: E402
-import matplotlib.image as mpimg  # noqa: E402
-import numpy as np  # noqa: E402
-
-from wallrun.outputs import drafting as d  # noqa: E402
-
-ELEVATION_PX = (1800, 600)
-DPI = 100
-MAX_ELEVATION_TEXTS = 1500
 MAX_STRIPS = 8
-MAX_SECTION_PAGES = 16  # full pages (~0.2 s each); the rest are listed, and sections.dxf holds all
-A3_IN = (16.54, 11.69)
+ELEVATION_PX = (2400, 1600)
+DPI = 100
+A3_MM = (420.0, 297.0)
+MM = 1.0 / 25.4  # inch per mm
 
-_CONFIG = Configuration(background_policy=BackgroundPolicy.WHITE,
-                        lineweight_scaling=0.6)
+
+# --- a batching back end for ezdxf's drawing add-on ----------------------------------------
+
+class Collector(Backend):
+    """An ezdxf drawing back end that collects what the front end draws: polylines by
+    (colour, line weight in mm), filled paths by colour; :meth:`add_to` puts them on a
+    matplotlib Axes as one LineCollection and one PathPatch each. Text arrives as
+    filled glyph paths; they are filled by the non-zero rule, the fonts winding their
+    holes the other way."""
+
+    def __init__(self, flatten: float = 0.01):
+        super().__init__()
+        self.flatten = flatten  # curve flattening distance, drawing units
+        self.strokes: dict[tuple[str, float], list] = {}
+        self.fills: dict[str, list] = {}
+
+    def set_background(self, color) -> None:
+        pass
+
+    def _stroke(self, props, xy) -> None:
+        self.strokes.setdefault((props.color, props.lineweight), []).append(xy)
+
+    def draw_point(self, pos, properties) -> None:
+        self._stroke(properties, np.array([[pos.x, pos.y], [pos.x, pos.y]]))
+
+    def draw_line(self, start, end, properties) -> None:
+        self._stroke(properties, np.array([[start.x, start.y], [end.x, end.y]]))
+
+    def draw_solid_lines(self, lines, properties) -> None:
+        for s, e in lines:
+            self._stroke(properties, np.array([[s.x, s.y], [e.x, e.y]]))
+
+    def draw_path(self, path, properties) -> None:
+        for sub in path.sub_paths():
+            v = np.array([(p.x, p.y) for p in sub.flattening(self.flatten)])
+            if len(v) > 1:
+                self._stroke(properties, v)
+
+    def draw_filled_paths(self, paths, properties) -> None:
+        from ezdxf.npshapes import to_matplotlib_path
+
+        paths = list(paths)
+        if paths:
+            self.fills.setdefault(properties.color, []).append(
+                to_matplotlib_path(paths, detect_holes=False))
+
+    def draw_filled_polygon(self, points, properties) -> None:
+        from matplotlib.path import Path as MplPath
+
+        v = np.array([(p.x, p.y) for p in points.vertices()])
+        if len(v) > 2:
+            self.fills.setdefault(properties.color, []).append(MplPath(v, closed=True))
+
+    def draw_image(self, image_data, properties) -> None:
+        pass  # wallrun's drawings hold no images
+
+    def clear(self) -> None:
+        self.strokes, self.fills = {}, {}
+
+    def finalize(self) -> None:
+        pass
+
+    def bounds(self):
+        """(xmin, ymin, xmax, ymax) of everything collected, or None."""
+        arrays = [v for segs in self.strokes.values() for v in segs]
+        arrays += [p.vertices for paths in self.fills.values() for p in paths]
+        if not arrays:
+            return None
+        v = np.concatenate(arrays)
+        return (*v.min(axis=0), *v.max(axis=0))
+
+    def add_to(self, ax, points_per_mm: float = 72.0 * MM, min_width: float = 0.2,
+               place=None, clip=None) -> None:
+        """Add the collected strokes and fills to ``ax`` (its limits are left as set):
+        one compound path per colour and line weight; line weights in mm become
+        ``points_per_mm`` points, at least ``min_width``. ``place`` (k, cx, cy, px, py)
+        maps drawing point p to (px, py) + k (p - (cx, cy)) (a viewport's scale and
+        position); ``clip`` (x0, y0, x1, y1) clips everything to that box."""
+        from matplotlib.patches import Rectangle
+        from matplotlib.path import Path as MplPath
+
+        def moved(v):
+            if place is None:
+                return v
+            k, cx, cy, px, py = place
+            return (v - (cx, cy)) * k + (px, py)
+
+        artists = []
+        for color, paths in self.fills.items():
+            path = MplPath.make_compound_path(*paths)
+            artists.append(PathPatch(MplPath(moved(path.vertices), path.codes),
+                                     facecolor=color, edgecolor="none", linewidth=0))
+        for (color, lw), segs in self.strokes.items():
+            verts = np.concatenate(segs)
+            codes = np.full(len(verts), MplPath.LINETO, dtype=MplPath.code_type)
+            starts = np.cumsum([0] + [len(s) for s in segs[:-1]])
+            codes[starts] = MplPath.MOVETO
+            artists.append(PathPatch(MplPath(moved(verts), codes), fill=False,
+                                     edgecolor=color, capstyle="butt", joinstyle="miter",
+                                     linewidth=max(lw * points_per_mm, min_width)))
+        for a in artists:
+            ax.add_artist(a)
+            if clip is not None:
+                a.set_clip_path(Rectangle((clip[0], clip[1]), clip[2] - clip[0],
+                                          clip[3] - clip[1], transform=ax.transData))
 
 
-def _figure(size_in):
-    fig = Figure(figsize=size_in, dpi=DPI, facecolor="white")
+def _page(size_mm):
+    """A figure of ``size_mm`` (width, height) with one Axes filling it, no frame."""
+    fig = Figure(figsize=(size_mm[0] * MM, size_mm[1] * MM), dpi=DPI, facecolor="white")
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
     ax.set_axis_off()
-    ax.set_facecolor("white")
-    # The view limits are set from the DXF extents below; skipping matplotlib's per-patch
-    # data-limit update (exact Bezier extrema of every glyph outline) halves the time.
-    ax._update_patch_limits = lambda patch: None
-    ax._update_line_limits = lambda line: None  # likewise for the lines
     return fig, ax
 
 
-class _Backend(MatplotlibBackend):
-    """ezdxf's matplotlib backend, filling paths by the non-zero winding rule as
-    given instead of sorting each path into outlines and holes first: the only filled
-    paths of wallrun's drawings are text glyphs, whose outlines the font already
-    winds in opposite senses for holes, so the result is the same and text draws
-    several times faster."""
-
-    def draw_filled_paths(self, paths, properties):
-        from ezdxf.npshapes import to_matplotlib_path
-        from matplotlib.patches import PathPatch
-
-        try:
-            patch = PathPatch(to_matplotlib_path(paths, detect_holes=False),
-                              color=properties.color, linewidth=0, fill=True,
-                              zorder=self._get_z())
-        except ValueError:
-            return
-        self.ax.add_patch(patch)
-
-
-def _draw(doc, ax, filter_func=None, solid: bool = False, entities=None,
-          ctx=None) -> None:
-    """Draw the modelspace of ``doc`` (or only ``entities`` of it) into ``ax``."""
-    ctx = ctx or RenderContext(doc)
-    out = _Backend(ax, adjust_figure=False)
-    cfg = _CONFIG.with_changes(line_policy=LinePolicy.SOLID) if solid else _CONFIG
-    fe = Frontend(ctx, out, config=cfg)
-    if entities is None:
-        fe.draw_layout(doc.modelspace(), finalize=True, filter_func=filter_func)
-        return
-    ctx.set_current_layout(doc.modelspace())
-    fe.set_background(ctx.current_layout_properties.background_color)
-    fe.parent_stack = []
-    fe.draw_entities(entities, filter_func=filter_func)
-    fe.pipeline.finalize()
-
-
-def _keep_aspect_limits(ax, box, size_in, pad=0.02) -> None:
+def _show(ax, box, size_mm, pad: float = 0.02) -> None:
     """Show ``box`` (xmin, ymin, xmax, ymax) at equal x/y scale, centred."""
     x0, y0, x1, y1 = box
-    w, h = max(x1 - x0, 1e-6), max(y1 - y0, 1e-6)
-    w, h = w * (1 + 2 * pad), h * (1 + 2 * pad)
-    cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
-    aspect = size_in[0] / size_in[1]
+    w, h = max(x1 - x0, 1e-6) * (1 + 2 * pad), max(y1 - y0, 1e-6) * (1 + 2 * pad)
+    aspect = size_mm[0] / size_mm[1]
     if w / h > aspect:
         h = w / aspect
     else:
         w = h * aspect
+    cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
     ax.set_xlim(cx - w / 2, cx + w / 2)
     ax.set_ylim(cy - h / 2, cy + h / 2)
     ax.set_aspect("equal", adjustable="box")
 
 
-def strip_count(width: float, height: float, max_strips: int = MAX_STRIPS) -> int:
-    """Number of strips for a drawing of ``width`` x ``height`` in the 3:1 image: the k
-    whose strips (aspect 3 k^2) best fit the drawing's aspect, 1..max_strips."""
-    if height <= 0 or width <= 0:
+def frontend(doc, out: Collector):
+    """ezdxf's drawing front end for ``doc`` feeding ``out`` (white background)."""
+    from ezdxf.addons.drawing import Frontend, RenderContext
+    from ezdxf.addons.drawing.config import BackgroundPolicy, Configuration
+
+    cfg = Configuration(background_policy=BackgroundPolicy.WHITE,
+                        circle_approximation_count=32)
+    return Frontend(RenderContext(doc), out, config=cfg)
+
+
+# --- elevation.png -----------------------------------------------------------------------
+
+def strip_count(length_m: float, height_m: float, max_strips: int = MAX_STRIPS) -> int:
+    """Strips for a wall ``length_m`` long whose levels span ``height_m``: enough that a
+    strip is at most 40 times as long as the level span it shows, 1..max_strips."""
+    if length_m <= 0:
         return 1
-    return int(min(max_strips, max(1, round(math.sqrt(width / height / 3.0)))))
+    return int(min(max_strips, max(1, math.ceil(length_m / max(40.0 * height_m, 1.0)))))
 
 
-def render_elevation_png(dxf_path, png_path) -> int:
-    """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips
-    (see :func:`_render_elevation_png`), with the garbage collector paused."""
-    with d.gc_paused():
-        return _render_elevation_png(dxf_path, png_path)
+def render_elevation_png(result, png_path) -> int:
+    """A quick look at the developed elevation of ``result`` as a PNG
+    (:data:`ELEVATION_PX`); returns the number of strips."""
+    from wallrun.outputs.dxf import conventions as c
 
-
-def _render_elevation_png(dxf_path, png_path) -> int:
-    """Render ``elevation.dxf`` to a 1800 x 600 px PNG; returns the number of strips.
-
-    A drawing much longer than 3:1 is cut into k strips of consecutive chainage,
-    stacked top to bottom (first strip on top), so that the whole wall is visible at a
-    useful height: it is rasterised once on a canvas k times as wide and 1/k as high,
-    and the canvas is cut into k equal pieces.
-    """
-    doc = d.saved_document(dxf_path)
-    msp = doc.modelspace()
-    n_text = len(msp.query("TEXT"))
-    long = n_text > MAX_ELEVATION_TEXTS
-    skip = {d.L_PANELS} if long else set()
+    prof = result.profiles
+    panels = [pr.panel for pr in result.panels]
+    a, b = float(prof.ch_start), float(prof.ch_end)
+    chs = c.sample_chainages(prof, a, b, extra=[p.ch_start_m for p in panels]
+                             + [p.ch_end_m for p in panels], max_step=5.0)
+    G, F = np.asarray(prof.ground(chs), float), np.asarray(prof.finished(chs), float)
+    k = strip_count(b - a, float(max(G.max(), F.max()) - min(G.min(), F.min())) + 1.0)
     W, H = ELEVATION_PX
-    fig, ax = _figure((W / DPI, H / DPI))
-    _draw(doc, ax, (lambda e: e.dxf.layer not in skip) if skip else None, solid=long)
-    x0, y0, x1, y1 = _group_box(msp, doc) or (*ax.get_xlim(), *ax.get_ylim())
-    k = strip_count(x1 - x0, y1 - y0)
-    h_strip = H // k
-    size = (W * k / DPI, h_strip / DPI)
-    fig.set_size_inches(*size)
-    _keep_aspect_limits(ax, (x0, y0, x1, y1), size, pad=0.01 if k == 1 else 0.002)
-    fig.canvas.draw()
-    img = np.asarray(fig.canvas.buffer_rgba())[:, :, :3]
-    strips = [img[:, i * W:(i + 1) * W] for i in range(k)]
-    out = np.full((H, W, 3), 255, dtype=np.uint8)
-    for i, st in enumerate(strips):
-        out[i * h_strip:(i + 1) * h_strip, :st.shape[1]] = st[:h_strip]
-        if i:
-            out[i * h_strip, :] = 160  # thin grey rule between strips
-    mpimg.imsave(str(png_path), out, format="png")
+    fig = Figure(figsize=(W / DPI, H / DPI), dpi=DPI, facecolor="white")
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(k, 1, squeeze=False)[:, 0]
+    edges = np.linspace(a, b, k + 1)
+    tops, unders = [], []
+    for prs in c.runs_of(result):
+        for piece in c.pieces(prs):
+            ch = np.array([(pr.panel.ch_start_m, pr.panel.ch_end_m) for pr in piece]).ravel()
+            tops.append(np.column_stack([ch, np.array(
+                [(pr.panel.wall_top_start_m, pr.panel.wall_top_end_m) for pr in piece]).ravel()]))
+            unders.append(np.column_stack([ch, np.repeat([pr.panel.founding_m
+                                                          for pr in piece], 2)]))
+    jx = np.array([j.ch_m for j in result.joints])
+    by = {p.panel: p for p in panels}
+    jz = np.array([[min(q.founding_m for q in (by.get(j.left), by.get(j.right)) if q),
+                    max(v for v in ((by[j.left].wall_top_end_m if j.left in by else None),
+                                    (by[j.right].wall_top_start_m if j.right in by else None))
+                        if v is not None)]
+                   for j in result.joints if j.left in by or j.right in by]).reshape(-1, 2)
+    for i, ax in enumerate(axes):
+        lo, hi = edges[i], edges[i + 1]
+        m = (chs >= lo) & (chs <= hi)
+        ax.plot(chs[m], G[m], color="#7a5c2e", lw=0.8, ls="--", label="existing ground")
+        ax.plot(chs[m], F[m], color="#2e7a3c", lw=0.8, label="finished level")
+        ax.add_collection(LineCollection(tops, colors="#1f3fbf", linewidths=1.2,
+                                         label="top of wall"), autolim=False)
+        ax.add_collection(LineCollection(unders, colors="#bf1f1f", linewidths=1.2,
+                                         label="underside of base"), autolim=False)
+        if len(jx):
+            seg = np.stack([np.column_stack([jx, jz[:, 0]]), np.column_stack([jx, jz[:, 1]])],
+                           axis=1)
+            ax.add_collection(LineCollection(seg, colors="#9a3fb0", linewidths=0.5),
+                              autolim=False)
+        inside = [p for p in panels if p.ch_end_m >= lo and p.ch_start_m <= hi]
+        zs = list(G[m]) + list(F[m]) + [p.founding_m for p in inside] + \
+            [max(p.wall_top_start_m, p.wall_top_end_m) for p in inside]
+        z0, z1 = (min(zs), max(zs)) if zs else (0.0, 1.0)
+        pad = 0.08 * max(z1 - z0, 1.0)
+        ax.set_xlim(lo, hi)
+        ax.set_ylim(z0 - pad, z1 + pad)
+        ax.set_ylabel("level (m)", fontsize=8)
+        ax.tick_params(labelsize=7)
+        ax.grid(True, lw=0.3, color="#dddddd")
+        ax.xaxis.set_major_formatter(_chainage_formatter())
+    axes[0].set_title(f"{result.site.project.name}: developed elevation (quick look; "
+                      "elevation.dxf and sheets hold the drawing)", fontsize=9)
+    axes[0].legend(fontsize=7, loc="upper right", ncol=4)
+    axes[-1].set_xlabel("chainage (km+m)", fontsize=8)
+    fig.text(0.01, 0.005, "PRELIMINARY - NOT FOR CONSTRUCTION. wallrun is a preliminary "
+             "design aid; to be checked and signed by a qualified engineer.", fontsize=7)
+    fig.subplots_adjust(left=0.05, right=0.99, top=0.96, bottom=0.05, hspace=0.35)
+    fig.savefig(str(png_path), format="png", facecolor="white")
     return k
 
 
-def _text_bound(e):
-    """A box surely holding a TEXT: a circle of 4 + 2 x its length in text heights
-    round its insertion and alignment points."""
-    r = e.dxf.height * (4.0 + 2.0 * len(e.dxf.text))
-    ps = [e.dxf.insert] + ([e.dxf.align_point] if e.dxf.hasattr("align_point") else [])
-    return (min(p[0] for p in ps) - r, min(p[1] for p in ps) - r,
-            max(p[0] for p in ps) + r, max(p[1] for p in ps) + r)
+def _chainage_formatter():
+    from matplotlib.ticker import FuncFormatter
+
+    from wallrun.outputs.dxf.conventions import chainage_label
+
+    return FuncFormatter(lambda v, _pos: chainage_label(v))
 
 
-def _bound(e, doc):
-    """A box surely holding entity ``e`` as ezdxf measures it, cheaply, or None where
-    none is made here: TEXT (:func:`_text_bound`), a DIMENSION from the vertices and
-    texts of its geometry block, a (grid) INSERT of a block of circles from the grid's
-    corner insertion points and the circles' reach."""
-    t = e.dxftype()
-    if t == "TEXT":
-        return _text_bound(e)
-    boxes = []
-    if t == "DIMENSION" and doc is not None:
-        blk = doc.blocks.get(e.dxf.get("geometry", ""))
-        if blk is None:
-            return None
-        for b in blk:
-            bt = b.dxftype()
-            if bt == "TEXT":
-                boxes.append(_text_bound(b))
-            elif bt == "LWPOLYLINE":
-                v = np.asarray(b.lwpoints.values, dtype=float).reshape(-1, 5)
-                if not len(v) or v[:, 2:].any():
-                    return None
-                boxes.append((*v[:, :2].min(axis=0), *v[:, :2].max(axis=0)))
-            else:
-                return None
-    elif t == "INSERT" and doc is not None and not e.attribs:
-        blk = doc.blocks.get(e.dxf.name)
-        dx = e.dxf
-        if blk is None or (dx.xscale, dx.yscale, dx.zscale) != (1, 1, 1):
-            return None
-        reach = 0.0
-        for b in blk:
-            if b.dxftype() != "CIRCLE":
-                return None
-            reach = max(reach, abs(b.dxf.radius) + math.hypot(b.dxf.center[0], b.dxf.center[1]))
-        a = math.radians(dx.rotation)
-        ux, uy = math.cos(a), math.sin(a)
-        cx, cy = (dx.column_count - 1) * dx.column_spacing, (dx.row_count - 1) * dx.row_spacing
-        reach = reach * 1.001 + 1e-9
-        for i, j in ((0, 0), (cx, 0), (0, cy), (cx, cy)):
-            x, y = dx.insert[0] + i * ux - j * uy, dx.insert[1] + i * uy + j * ux
-            boxes.append((x - reach, y - reach, x + reach, y + reach))
-    else:
-        return None
-    if not boxes:
-        return None
-    return (min(b[0] for b in boxes), min(b[1] for b in boxes),
-            max(b[2] for b in boxes), max(b[3] for b in boxes))
+def write_previews(result, docs, out_dir) -> list[str]:
+    """Render into ``out_dir``: ``sheets.pdf``, every sheet of the drawings ``docs``
+    (the documents just saved: elevation, sections, plan); ``sections.pdf``, the
+    sheets of the sections drawing (``docs[1]``) again on their own; and
+    ``elevation.png`` from ``result``. Returns the names written."""
+    from matplotlib import rc_context
 
-
-def _group_box(entities, doc=None) -> tuple[float, float, float, float] | None:
-    """ezdxf's fast extents (x/y) of ``entities``, computed with less work and the
-    same result: straight LINEs and LWPOLYLINEs exactly from their vertices, every
-    other entity by ezdxf, except that one which a cheap box surely holding it
-    (:func:`_bound`) shows to lie inside the box of the rest cannot widen it and is
-    not measured (measuring text and block contents is most of the cost)."""
-    from ezdxf import bbox
-
-    pts, bounded, others = [], [], []
-    for e in entities:
-        t = e.dxftype()
-        if t == "LINE":
-            pts.append((e.dxf.start[0], e.dxf.start[1]))
-            pts.append((e.dxf.end[0], e.dxf.end[1]))
-        elif t == "LWPOLYLINE":
-            v = np.asarray(e.lwpoints.values, dtype=float).reshape(-1, 5)
-            if len(v) and not v[:, 2:].any():  # no widths, no bulges
-                pts.extend(map(tuple, v[:, :2]))
-            else:
-                others.append(e)
-        elif t in ("TEXT", "DIMENSION", "INSERT"):
-            bounded.append(e)
-        else:
-            others.append(e)
-    box = None
-    if pts:
-        a = np.asarray(pts)
-        box = [*a.min(axis=0), *a.max(axis=0)]
-
-    def widen(ents):
-        nonlocal box
-        ext = bbox.extents(ents, fast=True)
-        if ext.has_data:
-            b = [ext.extmin.x, ext.extmin.y, ext.extmax.x, ext.extmax.y]
-            box = b if box is None else [min(box[0], b[0]), min(box[1], b[1]),
-                                         max(box[2], b[2]), max(box[3], b[3])]
-
-    widen(others)
-    near = []
-    for e in bounded:
-        b = None if box is None else _bound(e, doc)
-        if b is None or b[0] < box[0] or b[1] < box[1] or b[2] > box[2] or b[3] > box[3]:
-            near.append(e)
-    widen(near)
-    return None if box is None else tuple(float(v) for v in box)
-
-
-def _ezdxf_box(entities):
-    """ezdxf's fast extents (x/y) of ``entities`` (the reference of :func:`_group_box`)."""
-    from ezdxf import bbox
-
-    ext = bbox.extents(entities, fast=True)
-    if not ext.has_data:
-        return None
-    return ext.extmin.x, ext.extmin.y, ext.extmax.x, ext.extmax.y
-
-
-def render_sections_pdf(dxf_path, pdf_path) -> None:
-    """Render ``sections.dxf`` to a PDF: one page per section group, then the sheet
-    (see :func:`_render_sections_pdf`), with the garbage collector paused."""
-    with d.gc_paused():
-        _render_sections_pdf(dxf_path, pdf_path)
-
-
-def _render_sections_pdf(dxf_path, pdf_path) -> None:
-    """One page per section group (at most ``MAX_SECTION_PAGES``), then the sheet or
-    the list of the rest."""
-    doc = d.saved_document(dxf_path)
-    groups = sorted(((name, g) for name, g in doc.groups
-                     if name.startswith(d.SECTION_GROUP_PREFIX)), key=lambda t: t[0])
-    shown, rest = groups[:MAX_SECTION_PAGES], groups[MAX_SECTION_PAGES:]
-    ctx = RenderContext(doc)
-    n_all = len(groups)
-    # zlib level 1 instead of matplotlib's 6: the same pages, a sixth larger file,
-    # compressed in a third of the time
-    with matplotlib.rc_context({"pdf.compression": 1}), PdfPages(str(pdf_path)) as pdf:
-        for k, (name, g) in enumerate(shown, start=1):
-            ents = list(g)
-            # extents without the MTEXTs (ezdxf's fast extents overestimate MTEXT
-            # with exact line spacing); they lie inside the cell's frame anyway
-            box = _group_box([e for e in ents if e.dxftype() != "MTEXT"], doc)
-            fig, ax = _figure(A3_IN)
-            _draw(doc, ax, entities=ents, ctx=ctx)
-            if box:
-                _keep_aspect_limits(ax, box, A3_IN)
-            head = (f"sections.dxf preview, page {k}: section "
-                    f"{name[len(d.SECTION_GROUP_PREFIX):]}")
-            if rest:
-                head += (f" ({len(shown)} of the {n_all} section types are drawn here; "
-                         f"the other {len(rest)} are listed on the last page and drawn "
-                         "in sections.dxf)")
-            fig.text(0.01, 0.99, head, fontsize=8, va="top")
-            pdf.savefig(fig, facecolor="white")
-        if rest:
-            fig = Figure(figsize=A3_IN, dpi=DPI, facecolor="white")
-            FigureCanvasAgg(fig)
-            names = ", ".join(n[len(d.SECTION_GROUP_PREFIX):] for n, _ in rest)
-            fig.text(0.05, 0.9, f"{len(rest)} more section types are drawn in sections.dxf "
-                     f"but not previewed here (the preview draws the first "
-                     f"{len(shown)} of {n_all}):", fontsize=12)
-            fig.text(0.05, 0.85, "\n".join(textwrap.wrap(names, 150)), fontsize=9, va="top")
-            pdf.savefig(fig, facecolor="white")
-            return  # the whole sheet is too large to preview usefully
-        fig, ax = _figure(A3_IN)
-        _draw(doc, ax)
-        box = _group_box(doc.modelspace(), doc)
-        if box:
-            _keep_aspect_limits(ax, box, A3_IN, pad=0.01)
-        pdf.savefig(fig, facecolor="white")
-
-
-def write_previews(out_dir) -> list[str]:
-    """Render ``elevation.png`` and ``sections.pdf`` in ``out_dir`` from the DXF files
-    there (each only when its DXF exists); returns the file names written."""
     out = Path(out_dir)
-    written = []
-    if (out / "elevation.dxf").exists():
-        render_elevation_png(out / "elevation.dxf", out / "elevation.png")
-        written.append("elevation.png")
-    if (out / "sections.dxf").exists():
-        render_sections_pdf(out / "sections.dxf", out / "sections.pdf")
-        written.append("sections.pdf")
-    return written
+    # zlib level 1 instead of matplotlib's 6: most of the time of a page otherwise
+    with rc_context({"pdf.compression": 1}), PdfPages(str(out / "sections.pdf")) as sec:
+        render_sheets(docs, out / "sheets.pdf", also={id(docs[1]): sec})
+    render_elevation_png(result, out / "elevation.png")
+    return ["sheets.pdf", "sections.pdf", "elevation.png"]
 
 
-__all__ = ["write_previews", "render_elevation_png", "render_sections_pdf"]
+__all__ = ["Collector", "render_elevation_png", "render_sheets", "write_previews"]
+
+
+# --- sheets.pdf ------------------------------------------------------------------------
+
+def sheet_layouts(doc) -> list:
+    """The paper-space layouts of ``doc`` in tab order (model space left out)."""
+    return [doc.paperspace(n) for n in doc.layout_names_in_taborder() if n != "Model"]
+
+
+def _config():
+    from ezdxf.addons.drawing.config import BackgroundPolicy, Configuration
+
+    return Configuration(background_policy=BackgroundPolicy.WHITE,
+                         circle_approximation_count=32, min_lineweight=0.1)
+
+
+class SheetPainter:
+    """Draws the sheets of one drawing. Paper-space entities go through ezdxf's front
+    end as they are; a viewport's model-space content goes through the front end too,
+    the entities whose extents (ezdxf's fast bounding boxes, measured once per
+    drawing; an insert's insertion point) meet the viewport's window, and is then
+    placed at the viewport's scale
+    and position and clipped to its box by matplotlib. (ezdxf's own viewport
+    rendering clips every glyph of every text in Python, twenty times the cost.) The
+    paper-space MTEXTs of a sheet (the notes), alike on every sheet of a drawing, are
+    drawn once per drawing."""
+
+    def __init__(self, doc):
+        from ezdxf import bbox
+        from ezdxf.addons.drawing import Frontend, RenderContext
+
+        self.paper, self.model, self.notes = Collector(), Collector(), Collector()
+        self.fe_paper = Frontend(RenderContext(doc), self.paper, config=_config())
+        self.fe_notes = Frontend(RenderContext(doc), self.notes, config=_config())
+        self.drawn_notes: dict = {}  # the MTEXTs of a sheet, drawn once for this drawing
+        msp = doc.modelspace()
+        self.fe_model = Frontend(RenderContext(doc), self.model, config=_config())
+        self.fe_model.ctx.set_current_layout(msp)
+        self.fe_model.set_background("#ffffff")
+        self.entities = list(msp)
+        # where each entity is, to find what a viewport shows: an insert by its
+        # insertion point (wallrun's section blocks lie around their origin, on one
+        # sheet; measuring every block's contents costs more than drawing it),
+        # everything else by ezdxf's fast bounding box
+        rows = []
+        others = [e for e in self.entities if e.dxftype() != "INSERT"]
+        boxes = iter(bbox.multi_flat(others, fast=True))
+        for e in self.entities:
+            if e.dxftype() == "INSERT":
+                x, y = e.dxf.insert[0], e.dxf.insert[1]
+                rows.append((x, y, x, y))
+                continue
+            b = next(boxes)
+            rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
+                        else (np.inf, np.inf, -np.inf, -np.inf))
+        self.boxes = np.array(rows, dtype=float).reshape(-1, 4)
+
+    def figure(self, layout):
+        """The page of paper-space ``layout``: a figure of the sheet's size in mm."""
+        w, h = layout.dxf.paper_width, layout.dxf.paper_height
+        fig, ax = _page((w, h))
+        ax.set_xlim(0.0, w)
+        ax.set_ylim(0.0, h)
+        ax.set_aspect("equal", adjustable="box")
+        self.paper.clear()
+        self.fe_paper.draw_layout(layout, finalize=True,
+                                  filter_func=lambda e: e.dxftype() not in ("VIEWPORT",
+                                                                            "MTEXT"))
+        self.paper.add_to(ax)
+        # the MTEXTs (the notes of every sheet, alike from sheet to sheet): drawn once
+        key = tuple((e.text, tuple(e.dxf.insert), e.dxf.char_height, e.dxf.get("width", 0),
+                     e.dxf.get("attachment_point", 1), e.dxf.get("rotation", 0.0),
+                     e.dxf.layer, e.dxf.get("style", ""), e.dxf.get("line_spacing_factor", 1))
+                    for e in layout.query("MTEXT"))
+        if key not in self.drawn_notes:
+            self.notes.clear()
+            self.fe_notes.draw_layout(layout, finalize=True,
+                                      filter_func=lambda e: e.dxftype() == "MTEXT")
+            self.drawn_notes[key] = (self.notes.strokes, self.notes.fills)
+            self.notes.strokes, self.notes.fills = {}, {}
+        self.notes.strokes, self.notes.fills = self.drawn_notes[key]
+        self.notes.add_to(ax)
+        for vp in layout.query("VIEWPORT"):
+            if vp.dxf.get("id", 0) == 1 or vp.dxf.view_height <= 0:
+                continue  # the layout's own overall viewport
+            k = vp.dxf.height / vp.dxf.view_height
+            cx, cy = vp.dxf.view_center_point[0], vp.dxf.view_center_point[1]
+            hw, hh = vp.dxf.width / 2 / k, vp.dxf.height / 2 / k
+            b = self.boxes
+            hit = ((b[:, 0] <= cx + hw) & (b[:, 2] >= cx - hw)
+                   & (b[:, 1] <= cy + hh) & (b[:, 3] >= cy - hh))
+            self.model.clear()
+            self.fe_model.draw_entities([e for e, on in zip(self.entities, hit) if on])
+            px, py = vp.dxf.center[0], vp.dxf.center[1]
+            place = (k, cx, cy, px, py)
+            clip = (px - vp.dxf.width / 2, py - vp.dxf.height / 2,
+                    px + vp.dxf.width / 2, py + vp.dxf.height / 2)
+            self.model.add_to(ax, place=place, clip=clip)
+        return fig
+
+
+def render_sheets(docs, pdf_path, also=None) -> int:
+    """Every sheet of the drawings ``docs`` (in order) as one page each of
+    ``pdf_path`` (see :class:`SheetPainter`); ``also``: {id(doc): another PdfPages}
+    that gets that drawing's pages too. Returns the number of pages."""
+    n = 0
+    with PdfPages(str(pdf_path)) as pdf:
+        for doc in docs:
+            painter = SheetPainter(doc)
+            extra = (also or {}).get(id(doc))
+            for layout in sheet_layouts(doc):
+                fig = painter.figure(layout)
+                pdf.savefig(fig)
+                if extra is not None:
+                    extra.savefig(fig)
+                n += 1
+    return n

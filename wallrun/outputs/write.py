@@ -38,20 +38,15 @@ def _write_text(path: Path, text: str) -> None:
 
 
 def _write_sections_and_preview(result: DesignResult, folder: Path) -> None:
-    from wallrun.outputs import dxf_sections, previews
-    dxf_sections.write_sections(result, folder / "sections.dxf")
-    previews.render_sections_pdf(folder / "sections.dxf", folder / "sections.pdf")
+    from wallrun.outputs.dxf import write_drawings
+    write_drawings(result, folder)
 
 
 def _write_the_rest(result: DesignResult, folder: Path) -> None:
-    from wallrun.outputs import (dxf_elevation, dxf_plan, ifc, previews, profiles_csv, report,
-                                 tables, workbook)
+    from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
     for name, render in tables.TABLES.items():
         _write_text(folder / name, render(result))
     workbook.write_workbook(result, folder / "schedule.xlsx")
-    dxf_elevation.write_elevation(result, folder / "elevation.dxf")
-    dxf_plan.write_plan(result, folder / "plan.dxf")
-    previews.render_elevation_png(folder / "elevation.dxf", folder / "elevation.png")
     report.write_report(result, folder / "report.html")
     profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
     ifc.write_ifc(result, folder / "model.ifc")
