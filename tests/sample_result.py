@@ -100,8 +100,11 @@ R02 = Reinforcement(
 def _bar(section, member, mark, phi, shape, length_mm, number, dims):
     total = number * length_mm / 1000.0
     mass = math.pi / 4 * (phi / 1000.0) ** 2 * STEEL_DENSITY * total
+    # the part of the bar: a bent stem bar is a starter (BarMark.part)
+    part = {"stem": "starter", "stem_front": "starter_front"}.get(member, member) \
+        if shape != "00" and member in ("stem", "stem_front") else member
     return BarMark(section, member, mark, phi, shape, length_mm, number, round(total, 3),
-                   round(mass, 2), dims)
+                   round(mass, 2), dims, part=part)
 
 
 def _schedule() -> tuple[BarMark, ...]:

@@ -47,6 +47,7 @@ the array forms give exactly the numbers of the per-value formulas above.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import re
 from dataclasses import replace
@@ -181,7 +182,7 @@ def _starter_of(bs: BarSet, r: Reinforcement, section: Section, basis) -> Starte
                                        r.toe.bar_mm, r.base_distribution.bar_mm))
     rad = float(shapes.min_radius(phi))
     foot = max(float(starter_foot_mm(phi, _lbd(phi, fck, fyk, True), embed)), float(shapes.min_leg(phi, rad)))
-    return Starter(**{**bs.__dict__, "bend_r_mm": rad}, lap_mm=_l0(phi, fck, fyk, True),
+    return Starter(**{**dataclasses.asdict(bs), "bend_r_mm": rad}, lap_mm=_l0(phi, fck, fyk, True),
                    kicker_mm=float(c.kicker_mm), embedment_mm=embed, foot_mm=foot)
 
 

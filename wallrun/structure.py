@@ -54,13 +54,14 @@ Choices where the design basis is silent (also in the final report):
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
 
+from wallrun import shapes
 from wallrun.codes import ec2
 from wallrun.members import MemberActions
-from wallrun import shapes
 from wallrun.results import BarSet, CheckArray, Reinforcement, Starter
 from wallrun.section import SectionArrays
 from wallrun.settings import Basis
@@ -121,7 +122,7 @@ class StarterArrays:
 
     def take(self, i: int) -> Starter:
         b = self.bars.take(i)
-        return Starter(**b.__dict__, lap_mm=round(float(self.lap_mm[i]), 1),
+        return Starter(**dataclasses.asdict(b), lap_mm=round(float(self.lap_mm[i]), 1),
                        kicker_mm=float(self.kicker_mm),
                        embedment_mm=round(float(self.embedment_mm[i]), 1),
                        foot_mm=round(float(self.foot_mm[i]), 1))

@@ -89,6 +89,8 @@ _L = [
     Layer("WALLRUN-LEVEL-TAGS", 7, "CONTINUOUS", 18, "level marks and their figures"),
     Layer("WALLRUN-DESIGN-DATA", 7, "CONTINUOUS", 18, "design conditions text"),
     Layer("WALLRUN-CELL-TITLES", 7, "CONTINUOUS", 35, "section titles"),
+    Layer("WALLRUN-SLIP-CIRCLE", 30, "WALLRUN_CHAIN", 25,
+          "critical slip circle of the overall stability check"),
     # every sheet
     Layer("WALLRUN-SHEET-FRAME", 7, "CONTINUOUS", 35, "title block frame and text"),
     Layer("WALLRUN-CAUTIONS", 1, "CONTINUOUS", 25, "notes and cautions"),
@@ -130,6 +132,7 @@ L_DIMS = "WALLRUN-SIZES"
 L_LEVEL_TAGS = "WALLRUN-LEVEL-TAGS"
 L_CONDITIONS = "WALLRUN-DESIGN-DATA"
 L_TITLES = "WALLRUN-CELL-TITLES"
+L_SLIP = "WALLRUN-SLIP-CIRCLE"
 L_FRAME = "WALLRUN-SHEET-FRAME"
 L_NOTES = "WALLRUN-CAUTIONS"
 L_WINDOWS = "WALLRUN-SHEET-WINDOWS"

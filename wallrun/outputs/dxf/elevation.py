@@ -159,8 +159,9 @@ def windows(result, length_m: float, clear_m: float = 0.0) -> list[tuple[float, 
 
 
 def _figure(v0, v1) -> str:
-    """One level figure, or left / right figures where they differ."""
-    if v0 is None or v1 is None or abs(v0 - v1) < 5e-4:
+    """One level figure, or left / right figures where they differ to the millimetre
+    (as written, so that a figure never stands for two that read differently)."""
+    if v0 is None or v1 is None or f"{v0:.3f}" == f"{v1:.3f}":
         v = v0 if v0 is not None else v1
         return f"{v:.3f}"
     return f"{v0:.3f} / {v1:.3f}"

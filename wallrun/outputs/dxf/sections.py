@@ -165,14 +165,14 @@ def bar_geometry(sec, reinf, hd, hc, cover_m, cover_ground_m, has_front) -> dict
 
 
 def _group_of(row, curtail_mm: float | None) -> str:
-    """The drawn bar a schedule row is tagged on."""
-    m = row.member
-    if m in ("stem", "stem_front"):
-        if row.shape_code != "00":
-            return m + "_starter"
-        if m == "stem" and curtail_mm is not None and row.length_mm <= curtail_mm + 50:
-            return "stem_curtailed"
-        return m
+    """The drawn bar a schedule row is tagged on (by its part, ``BarMark.part``)."""
+    m = row.part
+    if m == "starter":
+        return "stem_starter"
+    if m == "starter_front":
+        return "stem_front_starter"
+    if m == "stem" and curtail_mm is not None and row.length_mm <= curtail_mm + 50:
+        return "stem_curtailed"
     return m
 
 
@@ -407,6 +407,20 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
         c.add_dimensions(blk, [(toe + kw, zk), (toe + kw, 0.0)], (toe + kw + P(5), 0.0),
                          scale, vertical=True)
 
+    # the critical slip circle of overall stability (where checked): the arc from the
+    # front ground to the retained level, and its utilization at its lowest point
+    slip = slip_arc(pr, zf, tb + hc)
+    slip_lo = 0.0
+    if slip is not None:
+        xs, zs, label = slip
+        c.add_polyline(blk, list(zip(xs.tolist(), zs.tolist())), c.L_SLIP)
+        k = int(np.argmin(zs))
+        c.add_text(blk, label, (float(xs[k]), float(zs[k]) - P(1.5)), P(c.SMALL_MM),
+                   c.L_SLIP, A.TOP_CENTER)
+        slip_lo = float(zs[k]) - P(1.5 + c.SMALL_MM)
+        row2 = min(row2, slip_lo)
+        right = max(right, float(xs.max()) + P(2))
+
     # level marks: a column left of the section, figures spread in level order
     x_mark = -P(20)
     levels = _levels(pr, hd, hc)
@@ -419,6 +433,10 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
             "halign": 2, "valign": 0, "align_point": (x_mark - P(3.2), z_text)})
         lab_w = max(lab_w, lt.width(label, c.SMALL_MM))
     left = x_mark - P(3.2) - P(lab_w)
+    if slip is not None:
+        left = min(left, float(slip[0].min()))
+        half = P(lt.width(slip[2], c.SMALL_MM) / 2)
+        left = min(left, float(slip[0][int(np.argmin(slip[1]))]) - half)
 
     # title above; the design conditions and the bar table in a column on the right
     top = max(H + P(9), tag_hi, max(zl, default=0.0) + P(c.SMALL_MM))
@@ -446,6 +464,33 @@ def draw_section(blk, result, st, pr, rows, scale: int, lt: c.Lettering):
     z -= P(TABLE_PITCH_MM) * len(table)
     right = max(x_col + P(col_w), head_right)
     return (left, min(bottom, z), right, top + P(7.5 + c.TITLE_MM))
+
+
+def slip_arc(pr, z_front: float, z_top: float, n: int = 48):
+    """The critical slip circle of panel result ``pr`` in section coordinates (x from
+    the toe edge, z above the underside of the base), m: the lower arc from where it
+    meets the front ground level ``z_front`` to where it meets the retained level
+    ``z_top`` (the drawing's simplification of the ground surfaces), with a label naming
+    its combination and utilization; None where overall stability was not checked or
+    no circle was found. The worst ``overall`` entry of the panel is drawn."""
+    ov = [e for e in pr.checks if e.check == "overall" and getattr(e, "circle", None)]
+    if not ov:
+        return None
+    e = max(ov, key=lambda e: e.utilization)
+    xc, zc, R = e.circle.x_m, e.circle.z_m - pr.panel.founding_m, e.circle.radius_m
+
+    def x_at(z, sign):
+        dz = z - zc
+        return xc + sign * math.sqrt(max(R * R - dz * dz, 0.0))
+
+    if min(z_front, z_top) >= zc + R or zc - R >= max(z_front, z_top):
+        return None
+    x1, x2 = x_at(min(z_front, zc), -1.0), x_at(min(z_top, zc), 1.0)
+    xs = np.linspace(x1, x2, n + 1)
+    zs = zc - np.sqrt(np.maximum(R * R - (xs - xc) ** 2, 0.0))
+    label = (f"critical slip circle {e.combination}: R {R:.2f} m, utilization "
+             f"{e.utilization:.2f}")
+    return xs, zs, label
 
 
 def _dot_row(blk, xs, zs, r: float) -> None:
@@ -493,8 +538,8 @@ def conditions(result, st, pr) -> list[str]:
 def bar_table(rows) -> list[str]:
     """The bar table of a section type as fixed-pitch text lines: a heading and one
     line per ``bar_schedule`` row (mark, member, size, shape code, length, number)."""
-    head = ("mark", "member", "size", "shape", "length mm", "number")
-    body = [(r.bar_mark, r.member, f"H{r.bar_mm}", r.shape_code, f"{r.length_mm}",
+    head = ("mark", "part", "size", "shape", "length mm", "number")
+    body = [(r.bar_mark, r.part, r.type_size, r.shape_code, f"{r.length_mm}",
              f"{r.number}") for r in rows]
     w = [max(len(x) for x in col) for col in zip(head, *body)]
     fmt = lambda cells: "  ".join(s.ljust(n) for s, n in zip(cells, w)).rstrip()  # noqa: E731
