@@ -267,11 +267,10 @@ def write_previews(result, docs, out_dir) -> list[str]:
     (the documents just saved: elevation, sections, plan); ``sections.pdf``, the
     sheets of the sections drawing (``docs[1]``) again on their own; and
     ``elevation.png`` from ``result``. Returns the names written."""
-    from matplotlib import rc_context
-
     out = Path(out_dir)
-    # zlib level 1 instead of matplotlib's 6: most of the time of a page otherwise
-    with rc_context({"pdf.compression": 1}), PdfPages(str(out / "sections.pdf")) as sec:
+    # matplotlib's own settings are left as they are (no rc_context: they are shared
+    # by every thread of the process)
+    with PdfPages(str(out / "sections.pdf")) as sec:
         render_sheets(docs, out / "sheets.pdf", also={id(docs[1]): sec})
     render_elevation_png(result, out / "elevation.png")
     return ["sheets.pdf", "sections.pdf", "elevation.png"]
