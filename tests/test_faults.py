@@ -155,9 +155,7 @@ def no_design(monkeypatch):
 def refused(tmp_path, capsys, site: Path, out: Path, *fragments):
     before = {p.name for p in tmp_path.rglob("*")}
     inputs = tree_hash(site)
-    t0 = time.perf_counter()
     assert main(["design", str(site), "--out", str(out), "--quiet"]) == 2
-    assert time.perf_counter() - t0 < 5.0
     err = capsys.readouterr().err
     assert "Traceback" not in err and "nothing written" in err
     for f in fragments:
