@@ -28,8 +28,10 @@ def test_panel_columns_follow_the_interface():
     assert len(tables.PANEL_COLUMNS) == 32
 
 
-# --- the batched rounding gives the per-value numbers -------------------------------------
+# --- cost.csv starts with its header ------------------------------------------------------
 
+import csv  # noqa: E402
+import io  # noqa: E402
 import os  # noqa: E402
 import sys  # noqa: E402
 from dataclasses import replace  # noqa: E402
@@ -37,23 +39,43 @@ from dataclasses import replace  # noqa: E402
 sys.path.insert(0, os.path.dirname(__file__))
 from sample_result import sample_result  # noqa: E402
 
-
-def test_nums_equal_num_per_value():
-    values = [2.675, 0.0005, -0.0004, 1.0005, 12.3455, None, math.inf, -math.inf, math.nan,
-              -0.0, 7, True, 1e300, 123456789.0125]
-    for nd in (1, 2, 3):
-        got, want = tables.nums(values, nd), [tables.num(v, nd) for v in values]
-        assert got == want
-        # -0.0 never comes out (it would print as "-0.0")
-        assert all(math.copysign(1, g) > 0 for g in got if g == 0)
+from wallrun.results import Cost, CostRow  # noqa: E402
+from wallrun.takeoff import DEMO_RATES_NOTE  # noqa: E402
 
 
-def test_panels_json_equals_panel_json_of_each_panel():
+def _cost_rows(result):
+    text = tables.cost_csv(result)
+    assert text.startswith("item,unit,quantity,rate,amount,note\n")
+    return list(csv.DictReader(io.StringIO(text)))
+
+
+def test_cost_csv_header_first_and_demo_note():
+    r = sample_result()  # invented demo rates
+    rows = _cost_rows(r)
+    assert [x["item"] for x in rows] == [c.item for c in r.cost.rows] + ["total"]
+    assert all(x["note"] == tables.DEMO_RATE for x in rows[:-1])
+    assert DEMO_RATES_NOTE in rows[-1]["note"]
+    assert float(rows[-1]["amount"]) == round(r.cost.total, 2)
+    assert float(rows[0]["quantity"]) == round(r.cost.rows[0].quantity, 3)
+
+
+def test_cost_csv_unpriced_and_incomplete():
     r = sample_result()
-    assert tables.panels_json(r.panels) == [tables.panel_json(p) for p in r.panels]
-    # a panel without front bars and with a non-finite check value
-    p = r.panels[0]
-    c = replace(p.checks[0], utilization=math.inf, effect=-0.0001)
-    odd = replace(p, reinforcement=replace(p.reinforcement, stem_front=None),
-                  checks=(c,) + p.checks[1:])
-    assert tables.panels_json([odd, p]) == [tables.panel_json(odd), tables.panel_json(p)]
+    cost = Cost((CostRow("concrete_total", "m3", 24.0, 180.0, 4320.0),
+                 CostRow("joint_seal", "m", 6.5, None, None)), 4320.0, False, False)
+    rows = _cost_rows(replace(r, cost=cost))
+    assert rows[0]["note"] == "" and rows[0]["rate"] == "180.00"
+    assert rows[1]["rate"] == "unpriced" and rows[1]["amount"] == ""
+    assert "unpriced" in rows[1]["note"]
+    assert rows[2]["item"] == "total" and "incomplete" in rows[2]["note"]
+    assert DEMO_RATES_NOTE not in rows[2]["note"]
+
+
+def test_design_json_lists_what_is_not_checked_for_the_site():
+    import json
+    from wallrun.cautions import not_checked
+    r = sample_result()
+    doc = json.loads(tables.design_json(r))
+    assert doc["not_checked"] == list(not_checked(r.site))
+    assert len(doc["panels"]) == len(r.panels)
+    assert doc["panels"][0] == tables.panel_json(r.panels[0])

@@ -1,10 +1,11 @@
 """The tables of the output folder: CSV files and ``design.json`` (shared/interfaces.md).
 
 Every table is a plain rendering of the result objects. Numbers are rounded to fixed
-decimals so that the same site gives byte-identical files; text cells that a
-spreadsheet would read as a formula are neutralised. The numbers of all panels in
-``design.json`` are rounded as one array per number of decimals (``nums``), the same
-values as ``num`` of each.
+decimals so that the same site gives byte-identical files. CSV has no cell types, so a
+text cell that a spreadsheet would read as a formula (leading ``= + - @``, tab or CR)
+is neutralised with a leading apostrophe (common practice against formula injection);
+the workbook keeps text as typed text instead (``workbook.py``). ``cost.csv`` starts
+with its header; notices (demo rates, unpriced items) are in its ``note`` column.
 """
 
 from __future__ import annotations
@@ -14,11 +15,10 @@ import io
 import json
 import math
 
-import numpy as np
-
 from wallrun import __version__
-from wallrun.bars import round_like_builtin
+from wallrun.cautions import CAUTION, not_checked
 from wallrun.results import DesignResult, PanelResult
+from wallrun.takeoff import DEMO_RATES_NOTE
 
 SCHEMA = "wallrun-design/1"
 
@@ -64,20 +64,6 @@ def num(x, nd: int = 3):
         return None
     r = round(x, nd)
     return 0.0 if r == 0 else r
-
-
-def nums(values, nd: int = 3) -> list:
-    """``[num(x, nd) for x in values]``, rounded as one array (the same floats and Nones)."""
-    if not values:
-        return []
-    a = round_like_builtin(values, nd)  # None reads as NaN: both give None
-    a[a == 0] = 0.0  # -0.0 as 0.0
-    out = a.tolist()
-    bad = ~np.isfinite(a)
-    if bad.any():
-        for i in np.flatnonzero(bad).tolist():
-            out[i] = None
-    return out
 
 
 def _cell(v, nd=3) -> str:
@@ -180,22 +166,39 @@ def quantities_csv(result: DesignResult) -> str:
     return to_csv(("item", "unit", "quantity"), [q.__dict__ for q in result.quantities])
 
 
-def cost_csv(result: DesignResult) -> str:
+COST_COLUMNS = ("item", "unit", "quantity", "rate", "amount", "note")
+#: The note of a row priced at an invented demo rate.
+DEMO_RATE = "invented demo rate, not a market price"
+
+
+def cost_csv_rows(result: DesignResult) -> list[dict]:
+    """The rows of ``cost.csv`` (and of the workbook's cost sheet) keyed by
+    :data:`COST_COLUMNS`: one an item, then the total. The ``note`` says which rates are
+    invented demo rates (with ``takeoff.DEMO_RATES_NOTE`` on the total) and which items
+    are unpriced (left out of an incomplete total)."""
     c = result.cost
-    rows = [{"item": r.item, "unit": r.unit, "quantity": r.quantity,
-             "rate": r.rate if r.rate is not None else "unpriced",
-             "amount": r.amount} for r in c.rows]
-    total = {"item": "total", "unit": "", "quantity": None, "rate": None,
-             "amount": c.total}
+    rows = []
+    for r in c.rows:
+        if r.rate is None:
+            note = "unpriced: no rate, not in the total"
+        else:
+            note = DEMO_RATE if c.demo_rates else ""
+        rows.append({"item": r.item, "unit": r.unit, "quantity": r.quantity,
+                     "rate": r.rate if r.rate is not None else "unpriced",
+                     "amount": r.amount, "note": note})
+    notes = []
     if not c.complete:
-        total["unit"] = "incomplete: unpriced items"
-    rows.append(total)
-    text = to_csv(("item", "unit", "quantity", "rate", "amount"), rows,
-                  {"rate": 2, "amount": 2})
+        notes.append("incomplete: unpriced items left out")
     if c.demo_rates:
-        text = ("# rates are invented example figures for the demo, not market prices\n"
-                + text)
-    return text
+        notes.append(DEMO_RATES_NOTE)
+    rows.append({"item": "total", "unit": "", "quantity": None, "rate": None,
+                 "amount": c.total, "note": "; ".join(notes)})
+    return rows
+
+
+def cost_csv(result: DesignResult) -> str:
+    """``cost.csv``: the header first, then :func:`cost_csv_rows`."""
+    return to_csv(COST_COLUMNS, cost_csv_rows(result), {"rate": 2, "amount": 2})
 
 
 # --- design.json ---------------------------------------------------------------------
@@ -243,76 +246,6 @@ def panel_json(p: PanelResult) -> dict:
     }
 
 
-_BARS_JSON = ("stem", "heel", "toe", "stem_horizontal", "base_distribution", "stem_front")
-
-
-def _panel_numbers(p: PanelResult, v3: list, v1: list, v2: list) -> None:
-    """Append the numbers of ``panel_json(p)`` to the lists of 3, 1 and 2 decimals, in the
-    order ``_panel_json_from`` takes them back."""
-    pa, s, r, f = p.panel, p.section, p.reinforcement, p.panel.foundation
-    v3 += (pa.ch_start_m, pa.ch_end_m, pa.retained_top_m, pa.front_min_m, pa.founding_m,
-           pa.wall_top_start_m, pa.wall_top_end_m)
-    v3 += [getattr(s, d) for d in DIMENSIONS]
-    v3 += pa.backfill.__dict__.values()
-    v3 += (f.unit_weight_kn_m3, f.friction_angle_deg, f.phi_cv_deg, f.cohesion_kpa,
-           f.undrained_strength_kpa, f.allowable_bearing_kpa, pa.surcharge_kpa, pa.water_level_m)
-    for m in _BARS_JSON:
-        b = getattr(r, m)
-        if b is not None:
-            v1 += (b.as_prov_mm2_per_m, b.as_req_mm2_per_m, b.d_mm)
-    v3.append(r.stem_curtail_m)
-    for c in p.checks:
-        v3 += (c.effect, c.resistance, c.utilization)
-    v3 += p.quantities.values()
-    v3.append(p.concrete_m3)
-    v1.append(p.steel_kg)
-    v2.append(p.cost)
-
-
-def _panel_json_from(p: PanelResult, n3, n1, n2) -> dict:
-    """``panel_json(p)`` with the rounded numbers taken from the iterators' ``__next__``."""
-    pa, r = p.panel, p.reinforcement
-    ch = {"ch_start_m": n3(), "ch_end_m": n3()}
-    levels = {"retained_top_m": n3(), "front_min_m": n3(), "founding_m": n3(),
-              "wall_top_start_m": n3(), "wall_top_end_m": n3()}
-    section = {"type": p.section_type}
-    for d in DIMENSIONS:
-        section[d] = n3()
-    backfill = {k: n3() for k in pa.backfill.__dict__}
-    foundation = {"unit_weight_kn_m3": n3(), "friction_angle_deg": n3(),
-                  "critical_state_angle_deg": n3(), "cohesion_kpa": n3(),
-                  "undrained_strength_kpa": n3(), "allowable_bearing_kpa": n3()}
-    ground = {"backfill": backfill, "foundation": foundation, "surcharge_kpa": n3(),
-              "water_level_m": n3()}
-    reinf = {}
-    for m in _BARS_JSON:
-        b = getattr(r, m)
-        reinf[m] = None if b is None else {
-            "bar_mm": b.bar_mm, "spacing_mm": b.spacing_mm, "as_prov_mm2_per_m": n1(),
-            "as_req_mm2_per_m": n1(), "d_mm": n1()}
-    reinf["stem_curtail_m"] = n3()
-    checks = [{"check": c.check, "combination": c.combination, "case": c.case,
-               "effect": n3(), "resistance": n3(), "unit": c.unit, "utilization": n3(),
-               "clause": c.clause, "governs": c.governs} for c in p.checks]
-    quantities = {k: n3() for k in p.quantities}
-    return {
-        "panel": pa.panel, "run": pa.run, "side": pa.side, **ch, "levels": levels,
-        "section": section, "ground": ground, "reinforcement": reinf, "checks": checks,
-        "quantities": quantities, "concrete_m3": n3(), "steel_kg": n1(), "cost": n2(),
-        "status": p.status, "reason": p.reason,
-    }
-
-
-def panels_json(panels) -> list[dict]:
-    """``[panel_json(p) for p in panels]``, equal dicts, with every number of all panels
-    rounded in one array per number of decimals instead of one call per value."""
-    v3, v1, v2 = [], [], []
-    for p in panels:
-        _panel_numbers(p, v3, v1, v2)
-    n3, n1, n2 = (iter(nums(v, nd)).__next__ for v, nd in ((v3, 3), (v1, 1), (v2, 2)))
-    return [_panel_json_from(p, n3, n1, n2) for p in panels]
-
-
 def design_dict(result: DesignResult) -> dict:
     site = result.site
     factors = {name: {k: v for k, v in fs.__dict__.items() if k != "name" and v is not None}
@@ -328,7 +261,7 @@ def design_dict(result: DesignResult) -> dict:
         "wallrun_version": __version__,
         "project": {"name": site.project.name, "reference": site.project.reference},
         "caution": CAUTION,
-        "not_checked": list(NOT_CHECKED),
+        "not_checked": list(not_checked(site)),
         "basis": {"approach": site.design.approach, "factors": factors, "materials": mats,
                   "earth_pressure": site.design.earth_pressure, "passive": site.design.passive,
                   "sections": site.design.sections},
@@ -336,7 +269,7 @@ def design_dict(result: DesignResult) -> dict:
                   "ch_end_m": num(r.ch_end_m), "length_m": num(r.length_m),
                   "max_retained_height_m": num(r.max_retained_height_m),
                   "at_ch_m": num(r.at_ch_m)} for r in result.runs],
-        "panels": panels_json(result.panels),
+        "panels": [panel_json(p) for p in result.panels],
         "joints": [{"joint": j.joint, "ch_m": num(j.ch_m), "left": j.left, "right": j.right,
                     "founding_step_m": num(j.founding_step_m), "top_step_m": num(j.top_step_m),
                     "pressure_ratio": num(j.pressure_ratio), "status": j.status,
@@ -373,9 +306,6 @@ def design_json(result: DesignResult) -> str:
         else:
             parts.append(f" {enc(k)}: " + enc(v, indent=1).replace("\n", "\n "))
     return "{\n" + ",\n".join(parts) + "\n}\n"
-
-
-from wallrun.cautions import CAUTION, NOT_CHECKED  # noqa: E402  (re-exported)
 
 
 TABLES = {
