@@ -56,14 +56,14 @@ def safe_text(s: str) -> str:
 
 
 def num(x, nd: int = 3):
-    """A float rounded to ``nd`` decimals for output; None for inf/NaN (JSON null)."""
+    """A float rounded to ``nd`` decimals for output (never -0.0); None for None, inf
+    and NaN (JSON null)."""
     if x is None:
         return None
     x = float(x)
-    if not math.isfinite(x):
-        return None
-    r = round(x, nd)
-    return 0.0 if r == 0 else r
+    if x - x == 0.0:  # finite
+        return round(x, nd) + 0.0  # (-0.0 + 0.0 is 0.0)
+    return None
 
 
 def _cell(v, nd=3) -> str:

@@ -24,6 +24,9 @@ from wallrun.section import base_vertices, key_vertices, soil_vertices, stem_ver
 
 #: Width of a cross-section drawing, px (the page scales it).
 DRAWING_WIDTH = 320
+#: Most points drawn along a profile in the long section (800 px wide): a survey point
+#: every 0.5 m over 10 km is sampled at equal steps instead.
+MAX_PROFILE_POINTS = 4001
 
 
 @dataclass(frozen=True)
@@ -209,13 +212,16 @@ def run_png(result) -> bytes | None:
         c0, c1 = float(prof.ch_start), float(prof.ch_end)
         bp = np.asarray(prof.breakpoints, dtype=float)
         ch = np.union1d(bp[(bp >= c0) & (bp <= c1)], np.linspace(c0, c1, 2001))
+        if len(ch) > MAX_PROFILE_POINTS:  # more points than the picture has pixels
+            ch = np.linspace(c0, c1, MAX_PROFILE_POINTS)
         G = np.asarray(prof.ground(ch), dtype=float)
         F = np.asarray(prof.finished(ch), dtype=float)
     if ch is None and not panels:
         return None
 
-    fig = Figure(figsize=(10.0, 5.0), dpi=80, layout="constrained")
+    fig = Figure(figsize=(10.0, 5.0), dpi=80)
     ax, axh = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    fig.subplots_adjust(left=0.07, right=0.80, top=0.94, bottom=0.10, hspace=0.08)
     handles, labels = [], []
     if ch is not None:
         handles += ax.plot(ch, G, color="#7a5230", lw=1.0)
