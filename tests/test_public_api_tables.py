@@ -60,7 +60,10 @@ def problems(source: str) -> list[str]:
         if isinstance(node, ast.Call) and isinstance(node.func, ast.Name) and \
                 node.func.id in ("exec", "eval", "compile"):
             out.append(f"{node.func.id}()")
-        if isinstance(node, ast.Attribute) and _private(node.attr) and _rooted(node, bound):
+        if isinstance(node, ast.Attribute) and _private(node.attr) and (
+                _rooted(node, bound) or not _own(node.value)):
+            # a private name of a library object; or of any object but the module's own
+            # instance (self, cls): a parameter may hold a library's object
             out.append(f"private attribute .{node.attr}")
         targets = []
         if isinstance(node, (ast.Assign, ast.AugAssign, ast.AnnAssign)):
@@ -71,6 +74,11 @@ def problems(source: str) -> list[str]:
             targets = [node.args[0]]
         out += [f"patches {ast.unparse(t)}" for t in targets if _rooted(t, bound)]
     return out
+
+
+def _own(node: ast.AST) -> bool:
+    """``self`` or ``cls`` (the module's own instance or class)."""
+    return isinstance(node, ast.Name) and node.id in ("self", "cls")
 
 
 def _rooted(node: ast.AST, bound: set[str]) -> bool:
@@ -98,6 +106,8 @@ def _rooted(node: ast.AST, bound: set[str]) -> bool:
     ("import xlsxwriter\nsetattr(xlsxwriter.Workbook, 'close', None)",
      "patches xlsxwriter.Workbook"),
     ("exec('1')", "exec()"),
+    ("def place(leg, renderer):\n    return leg._legend_box.get_bbox(renderer)",
+     "private attribute ._legend_box"),
     ("import jinja2\nenv = jinja2.Environment()\nenv._x", "private attribute ._x"),
     ("import xlsxwriter\nclass B:\n    def __init__(self):\n"
      "        self.wb = xlsxwriter.Workbook('x')\n        self.wb._write()",
@@ -113,7 +123,7 @@ def test_the_checker_passes_public_use():
     assert problems("import jinja2\nfrom matplotlib.figure import Figure\n"
                     "env = jinja2.Environment(autoescape=True)\nfig = Figure()\n"
                     "fig.savefig('x.png')\nclass A:\n    def _mine(self): pass\n"
-                    "A()._mine()\nimport xlsxwriter\nclass B:\n    def __init__(self):\n"
+                    "    def run(self): return self._mine()\nimport xlsxwriter\nclass B:\n    def __init__(self):\n"
                     "        self.wb = xlsxwriter.Workbook('x')\n"
                     "        self.bold = self.wb.add_format({})") == []
 
