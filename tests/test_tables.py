@@ -79,3 +79,13 @@ def test_design_json_lists_what_is_not_checked_for_the_site():
     assert doc["not_checked"] == list(not_checked(r.site))
     assert len(doc["panels"]) == len(r.panels)
     assert doc["panels"][0] == tables.panel_json(r.panels[0])
+
+
+def test_rounded_check_values():
+    got = tables.rounded([1.23456, -0.0004, float("inf"), float("nan"), None, 2.5e-7, 7], 3)
+    assert got == [1.235, 0.0, None, None, None, 0.0, 7.0]
+    assert all(math.copysign(1, g) > 0 for g in got if g == 0)  # never "-0.0"
+    # the same decimals as num away from exact halves (numpy.round: half to even)
+    import numpy as np
+    values = np.random.default_rng(4).uniform(-500, 500, 2000).tolist()
+    assert tables.rounded(values, 3) == [tables.num(v, 3) for v in values]

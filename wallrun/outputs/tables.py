@@ -15,6 +15,8 @@ import io
 import json
 import math
 
+import numpy as np
+
 from wallrun import __version__
 from wallrun.cautions import CAUTION, not_checked
 from wallrun.results import DesignResult, PanelResult
@@ -64,6 +66,20 @@ def num(x, nd: int = 3):
     if x - x == 0.0:  # finite
         return round(x, nd) + 0.0  # (-0.0 + 0.0 is 0.0)
     return None
+
+
+def rounded(values, nd: int = 3) -> list:
+    """``values`` (numbers, None as NaN) rounded to ``nd`` decimals in one numpy call
+    (``numpy.round``: round half to even on the scaled value), -0.0 as 0.0, inf and NaN
+    as None: for the many check values of ``design.json``, where one call a value of
+    :func:`num` would be most of the file's time."""
+    a = np.round(np.asarray(values, dtype=float), nd) + 0.0
+    out = a.tolist()
+    bad = ~np.isfinite(a)
+    if bad.any():
+        for i in np.flatnonzero(bad).tolist():
+            out[i] = None
+    return out
 
 
 def _cell(v, nd=3) -> str:
@@ -212,8 +228,11 @@ def _bar_json(b):
 
 
 def panel_json(p: PanelResult) -> dict:
+    """One entry of ``design.json`` ``panels`` (shared/interfaces.md); numbers rounded by
+    :func:`num`, the checks' effect, resistance and utilization by :func:`rounded`."""
     pa, s, r = p.panel, p.section, p.reinforcement
     f = pa.foundation
+    values = rounded([v for c in p.checks for v in (c.effect, c.resistance, c.utilization)])
     reinf = {m: _bar_json(getattr(r, m)) for m in
              ("stem", "heel", "toe", "stem_horizontal", "base_distribution", "stem_front")}
     reinf["stem_curtail_m"] = num(r.stem_curtail_m)
@@ -236,9 +255,9 @@ def panel_json(p: PanelResult) -> dict:
             "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
         "reinforcement": reinf,
         "checks": [{"check": c.check, "combination": c.combination, "case": c.case,
-                    "effect": num(c.effect), "resistance": num(c.resistance), "unit": c.unit,
-                    "utilization": num(c.utilization), "clause": c.clause,
-                    "governs": c.governs} for c in p.checks],
+                    "effect": values[3 * i], "resistance": values[3 * i + 1], "unit": c.unit,
+                    "utilization": values[3 * i + 2], "clause": c.clause,
+                    "governs": c.governs} for i, c in enumerate(p.checks)],
         "quantities": {k: num(v) for k, v in p.quantities.items()},
         "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),
         "cost": num(p.cost, 2),
