@@ -78,9 +78,19 @@ class _Book:
             ws.set_column(j, j, w)
             ws.write_string(0, j, h, self.bold)
         r = 0
+        number, string = ws.write_number, ws.write_string
         for r, row in enumerate(rows, start=1):
             for j, v in enumerate(row):
-                _put(ws, r, j, v, fmts[j])
+                t = type(v)  # the common types first, the rest by _put
+                if t is float and v - v == 0.0:
+                    number(r, j, v, fmts[j])
+                elif t is str:
+                    if v:
+                        string(r, j, v)
+                elif t is int:
+                    number(r, j, v)
+                elif v is not None:
+                    _put(ws, r, j, v, fmts[j])
         ws.freeze_panes(1, 0)
         ws.autofilter(0, 0, r, n - 1)
 
