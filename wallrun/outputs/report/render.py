@@ -12,6 +12,7 @@ from __future__ import annotations
 import base64
 import math
 import os
+import secrets
 from dataclasses import fields
 from pathlib import Path
 
@@ -286,10 +287,13 @@ def write_report(result, path, date: str | None = None) -> Path:
     """Write the calculation report of ``result`` to ``path`` (UTF-8); returns the path.
     The file appears complete or not at all (written beside it, then renamed)."""
     path = Path(path)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.{id(result):x}.part")
+    data = render_report(result, date).encode("utf-8")
+    tmp = path.with_name(f".{path.name}.{secrets.token_hex(6)}.part")
     try:
-        tmp.write_bytes(render_report(result, date).encode("utf-8"))
+        with open(tmp, "xb") as f:  # a new file, with the umask's permissions
+            f.write(data)
         os.replace(tmp, path)
-    finally:
+    except BaseException:
         tmp.unlink(missing_ok=True)
+        raise
     return path
