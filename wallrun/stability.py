@@ -572,7 +572,7 @@ def bearing_terms(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[Be
     the four sub-cases, drained and, where cu > 0, undrained), in the order of
     :func:`stability_checks`, from the same factored actions (design-basis 4; EN 1997-1
     Annex D.3, D.4). For the calculation report: the factors a checker needs to
-    follow R_d. Raises InputError as :func:`stability_checks`."""
+    follow R_d."""
     ctx = _Actions(sec, cond, basis)
     g, fd = ctx.g, cond.foundation
     undrained = fd.undrained_strength_kpa > 0

@@ -17,7 +17,6 @@ import numpy as np
 
 from wallrun import stability
 from wallrun.conditions import Conditions
-from wallrun.errors import InputError
 from wallrun.results import ActionRow, CheckEntry, DesignResult, PanelResult, SectionType
 from wallrun.section import SectionArrays
 
@@ -114,11 +113,8 @@ def resistance_terms(result: DesignResult, panels: list[PanelResult]) -> dict[st
     for members in groups.values():
         sec = SectionArrays.of([p.section for p in members])
         cond = _conditions(members)
-        try:
-            bearing = stability.bearing_terms(sec, cond, basis)
-            passive = stability.passive_terms(sec, cond, basis)
-        except InputError:  # ground the engine refuses: the checks say why
-            continue
+        bearing = stability.bearing_terms(sec, cond, basis)
+        passive = stability.passive_terms(sec, cond, basis)
         by_case = {(t.combination, t.case): t for t in bearing}
         for i, p in enumerate(members):
             worst = max((c for c in p.checks if c.check == "bearing"),

@@ -154,14 +154,11 @@ def _factors(site) -> dict:
 
 def _materials(site) -> list:
     c, s = site.concrete, site.steel
-    try:
-        fck = ec2.fck_of_class(c.strength_class)
-    except ValueError:
-        fck = None
+    fck = c.fck_mpa
     return [
         ("concrete class", c.strength_class),
-        ("fck", "unknown class" if fck is None else f"{fck:g} MPa"),
-        ("fctm (EN 1992-1-1 Table 3.1)", "" if fck is None else f"{float(ec2.fctm(fck)):.2f} MPa"),
+        ("fck", f"{fck:g} MPa"),
+        ("fctm (EN 1992-1-1 Table 3.1)", f"{float(ec2.fctm(fck)):.2f} MPa"),
         ("alpha_cc", f"{c.alpha_cc:g}"),
         ("gamma_c, gamma_s", f"{ec2.GAMMA_C:g}, {ec2.GAMMA_S:g} (2.4.2.4, persistent and transient)"),
         ("reinforcement fyk", f"{s.fyk_mpa:g} MPa"),
