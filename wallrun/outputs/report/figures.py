@@ -219,7 +219,7 @@ def run_png(result) -> bytes | None:
     if ch is None and not panels:
         return None
 
-    fig = Figure(figsize=(10.0, 5.0), dpi=80)
+    fig = Figure(figsize=(10.0, 5.0), dpi=72)
     ax, axh = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     fig.subplots_adjust(left=0.07, right=0.80, top=0.94, bottom=0.10, hspace=0.08)
     handles, labels = [], []
