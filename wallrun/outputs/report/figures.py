@@ -27,6 +27,8 @@ DRAWING_WIDTH = 320
 #: Most points drawn along a profile in the long section (800 px wide): a survey point
 #: every 0.5 m over 10 km is sampled at equal steps instead.
 MAX_PROFILE_POINTS = 4001
+#: Most panels whose ends are drawn as lines in the long section (720 px wide).
+MAX_PANEL_LINES = 300
 
 
 @dataclass(frozen=True)
@@ -240,9 +242,10 @@ def run_png(result) -> bytes | None:
         labels += ["top of wall", "underside of base"]
         lo = min(x.founding_m for x in pa)
         hi = max(max(x.wall_top_start_m, x.wall_top_end_m) for x in pa)
-        ends = sorted({x.ch_start_m for x in pa} | {x.ch_end_m for x in pa})
-        ax.add_collection(LineCollection([((c, lo), (c, hi)) for c in ends],
-                                         colors="#999999", lw=0.4))
+        if len(pa) <= MAX_PANEL_LINES:  # more would only grey the picture
+            ends = sorted({x.ch_start_m for x in pa} | {x.ch_end_m for x in pa})
+            ax.add_collection(LineCollection([((c, lo), (c, hi)) for c in ends],
+                                             colors="#999999", lw=0.4))
         names = [st.section_type for st in result.section_types]
         palette = [tuple(c) for c in _tab20()]
         colour = {n: palette[i % len(palette)] for i, n in enumerate(names)}

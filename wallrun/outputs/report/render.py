@@ -122,14 +122,23 @@ def _order(names, order):
     return sorted(names, key=lambda n: rank.get(n, len(rank)))
 
 
-def _highest(result):
-    """{panel, entry} of the highest utilization of all checks (the first on a tie)."""
-    best = None
-    for p in result.panels:
+def _over_checks(panels) -> dict:
+    """What the report reads from every check entry, in one pass: the highest
+    utilization of each panel (``umax``), the highest of all (``highest``: panel name and
+    entry, the first on a tie), the combinations and each check's clauses."""
+    umax, best, combinations, clauses = [], None, set(), {}
+    for p in panels:
+        top = None
         for c in p.checks:
-            if best is None or c.utilization > best[1].utilization:
-                best = (p.panel.panel, c)
-    return None if best is None else {"panel": best[0], "entry": best[1]}
+            if top is None or c.utilization > top.utilization:
+                top = c
+            combinations.add(c.combination)
+            clauses.setdefault(c.check, set()).add(c.clause)
+        umax.append(0.0 if top is None else top.utilization)
+        if top is not None and (best is None or top.utilization > best[1].utilization):
+            best = (p.panel.panel, top)
+    return {"umax": umax, "combinations": combinations, "clauses": clauses,
+            "highest": None if best is None else {"panel": best[0], "entry": best[1]}}
 
 
 def _factors(site) -> dict:
@@ -215,11 +224,7 @@ def _settings(site) -> list:
     return out
 
 
-def _check_words(result) -> list:
-    clauses: dict = {}
-    for p in result.panels:
-        for c in p.checks:
-            clauses.setdefault(c.check, set()).add(c.clause)
+def _check_words(clauses: dict) -> list:
     return [{"check": k, "words": CHECK_WORDS.get(k, ""), "clauses": "; ".join(sorted(clauses[k]))}
             for k in _order(list(clauses), calc.CHECK_ORDER)]
 
@@ -240,6 +245,7 @@ def context(result, date: str | None = None) -> dict:
     type_length: dict = {}
     for p in panels:
         type_length[p.section_type] = type_length.get(p.section_type, 0.0) + p.panel.length_m
+    seen = _over_checks(panels)
     warnings = list(result.warnings)
     warnings += [w for w in getattr(site, "warnings", ()) if w not in warnings]
     return {
@@ -253,7 +259,7 @@ def context(result, date: str | None = None) -> dict:
         "totals": {"length": sum(p.panel.length_m for p in panels),
                    "concrete": sum(p.concrete_m3 for p in panels),
                    "steel": sum(p.steel_kg for p in panels)},
-        "highest": _highest(result),
+        "highest": seen["highest"],
         "caution": CAUTION, "not_checked": not_checked(site), "demo_note": DEMO_RATES_NOTE,
         "warnings": warnings,
         "flagged_panels": [p for p in panels if p.status != "ok"],
@@ -261,14 +267,13 @@ def context(result, date: str | None = None) -> dict:
         "joints": {"founding": max((j.founding_step_m for j in result.joints), default=0.0),
                    "top": max((j.top_step_m for j in result.joints), default=0.0),
                    "ratio": max((j.pressure_ratio for j in result.joints), default=0.0)},
-        "combinations": _order({c.combination for p in panels for c in p.checks},
-                               COMBINATION_ORDER),
+        "combinations": _order(seen["combinations"], COMBINATION_ORDER),
         "factors": _factors(site), "materials": _materials(site), "ground": _ground(site),
         "foundation": _foundation(site), "settings": _settings(site),
-        "check_words": _check_words(result),
+        "check_words": _check_words(seen["clauses"]),
         "run_png": None if png is None else
         "data:image/png;base64," + base64.b64encode(png).decode("ascii"),
-        "umax": [max((c.utilization for c in p.checks), default=0.0) for p in panels],
+        "umax": seen["umax"],
         "type_length": type_length, "calcs": calcs,
         "cost_rows": cost_csv_rows(result),
     }
