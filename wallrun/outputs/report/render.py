@@ -14,9 +14,11 @@ import math
 import os
 import secrets
 from dataclasses import fields
+from numbers import Real
 from pathlib import Path
 
 import jinja2
+import markupsafe
 
 import wallrun
 from wallrun.cautions import CAUTION, not_checked
@@ -78,6 +80,18 @@ def num(x, nd: int = 2) -> str:
     return s[1:] if s[0] == "-" and not any(ch in "123456789" for ch in s) else s
 
 
+def cells(values, *nd) -> markupsafe.Markup:
+    """Adjacent table cells of numbers: ``values`` each to its ``nd`` decimals (:func:`num`)
+    joined by ``<td>``, as markup (one output of the template for a run of numbers;
+    anything but a number or None is refused, so no text goes out unescaped)."""
+    out = []
+    for v, d in zip(values, nd, strict=True):
+        if v is not None and not isinstance(v, Real):
+            raise TypeError(f"cells() takes numbers only, not {v!r}")
+        out.append(num(v, d))
+    return markupsafe.Markup("<td>".join(out))
+
+
 def decimals(unit: str) -> int:
     """Decimals shown for a check's effect and resistance in ``unit``."""
     return {"m": 3, "mm2/m": 0, "mm": 0}.get(unit, 1)
@@ -112,8 +126,8 @@ def environment() -> jinja2.Environment:
         loader=jinja2.PackageLoader("wallrun.outputs.report", "templates"),
         autoescape=True, trim_blocks=True, lstrip_blocks=True,
         undefined=jinja2.StrictUndefined)
-    env.filters.update(num=num, decimals=decimals, bar_sets=bar_sets, by_code=by_code,
-                       clause=clause)
+    env.filters.update(num=num, cells=cells, decimals=decimals, bar_sets=bar_sets,
+                       by_code=by_code, clause=clause)
     return env
 
 
