@@ -514,3 +514,10 @@ def test_demo_prints_to_at_most_40_pages(tmp_path):
     pages = count_pdf_pages(data)
     # the summary, the basis, the run, one page or less a section type, the cost
     assert 3 + len(r.section_types) // 2 <= pages <= 40, pages
+
+
+def test_numeric_cells_refuse_text():
+    from wallrun.outputs.report.render import cells
+    assert cells((1.0, None, -0.0001, float("inf")), 2, 2, 2, 0) == "1.00<td><td>0.00<td>inf"
+    with pytest.raises(TypeError):
+        cells(("<script>",), 2)
