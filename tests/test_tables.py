@@ -25,7 +25,9 @@ def test_numbers_round_and_never_print_negative_zero():
 def test_panel_columns_follow_the_interface():
     assert tables.PANEL_COLUMNS[:3] == ("panel", "run", "side")
     assert tables.PANEL_COLUMNS[-3:] == ("concrete_m3", "steel_kg", "cost")
-    assert len(tables.PANEL_COLUMNS) == 32
+    assert len(tables.PANEL_COLUMNS) == 34
+    i = tables.PANEL_COLUMNS.index("util_structural")
+    assert tables.PANEL_COLUMNS[i + 1:i + 3] == ("util_overall", "util_seismic")
 
 
 # --- cost.csv starts with its header ------------------------------------------------------
@@ -89,3 +91,26 @@ def test_rounded_check_values():
     import numpy as np
     values = np.random.default_rng(4).uniform(-500, 500, 2000).tolist()
     assert tables.rounded(values, 3) == [tables.num(v, 3) for v in values]
+
+
+def test_overall_and_seismic_columns_and_the_circle():
+    """util_overall and util_seismic are empty where not checked; an overall entry
+    carries its critical circle in design.json (shared/interfaces.md, second wave)."""
+    import json
+    from wallrun.results import CheckEntry, Circle
+    r = sample_result()
+    row = tables.panel_row(r.panels[0])
+    assert row["util_overall"] is None and row["util_seismic"] is None
+    assert ",,," not in tables.panels_csv(r).splitlines()[0]
+    p = r.panels[0]
+    extra = (CheckEntry("overall", "DA1-2", "drained", 900.0, 1000.0, "kNm/m", 0.9,
+                        "EN 1997-1 11.5.1", True, Circle(1.25, 52.0, 6.5)),
+             CheckEntry("sliding", "SEIS", "kv up, G unfav", 50.0, 80.0, "kN/m", 0.625,
+                        "EN 1998-5 7.3.2", True))
+    q = replace(p, checks=p.checks + extra)
+    row = tables.panel_row(q)
+    assert row["util_overall"] == 0.9 and row["util_seismic"] == 0.625
+    entry = tables.panel_json(q)["checks"][-2]
+    assert entry["circle"] == {"x_m": 1.25, "z_m": 52.0, "radius_m": 6.5}
+    assert "circle" not in tables.panel_json(q)["checks"][-1]
+    json.dumps(tables.panel_json(q), allow_nan=False)

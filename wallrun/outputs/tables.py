@@ -29,7 +29,8 @@ PANEL_COLUMNS = (
     "front_min_m", "founding_m", "wall_top_start_m", "wall_top_end_m", "retained_height_m",
     "total_height_m", "section", "stem_top_m", "stem_base_m", "base_width_m", "toe_m",
     "heel_m", "base_thickness_m", "key_depth_m", "key_width_m", "util_overturning",
-    "util_sliding", "util_bearing", "util_structural", "governing", "status", "reason",
+    "util_sliding", "util_bearing", "util_structural", "util_overall", "util_seismic",
+    "governing", "status", "reason",
     "concrete_m3", "steel_kg", "cost")
 JOINT_COLUMNS = ("joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
                  "pressure_ratio", "status", "reason")
@@ -42,8 +43,14 @@ SECTION_COLUMNS = (
     "stem_horizontal_spacing_mm", "heel_bar_mm", "heel_spacing_mm", "toe_bar_mm",
     "toe_spacing_mm", "dist_bar_mm", "dist_spacing_mm", "panels", "utilization", "governing")
 
+#: The member checks of EN 1992-1-1 (``util_structural``); every other check is
+#: geotechnical (EN 1997-1, or EN 1998-5 in the seismic combination).
 STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear", "toe_bending",
-                     "toe_shear", "crack_spacing", "min_steel")
+                     "toe_shear", "crack_spacing", "min_steel", "restraint_steel", "bar_bend")
+GEOTECHNICAL_CHECKS = ("overturning", "sliding", "bearing", "eccentricity", "eccentricity_sls",
+                       "bearing_sls", "joint_pressure", "overall")
+#: The seismic design situation's combination (EN 1998-5; ``util_seismic``).
+SEISMIC = "SEIS"
 DIMENSIONS = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
               "base_thickness_m", "key_depth_m", "key_width_m")
 
@@ -109,9 +116,16 @@ def to_csv(columns, rows, decimals: dict | None = None) -> str:
     return buf.getvalue()
 
 
+def _largest(values):
+    """The largest of ``values``; None (an empty cell) when there are none."""
+    return max(values, default=None)
+
+
 def panel_row(p: PanelResult) -> dict:
     """One ``panels.csv`` row (shared/interfaces.md). util_bearing is the bearing
-    resistance check; the eccentricity checks count in ``governing``."""
+    resistance check; the eccentricity checks count in ``governing``; util_overall and
+    util_seismic are empty where the site does not check overall stability or seismic
+    actions."""
     pa, s = p.panel, p.section
     row = {
         "panel": pa.panel, "run": pa.run, "side": pa.side, "ch_start_m": pa.ch_start_m,
@@ -122,6 +136,8 @@ def panel_row(p: PanelResult) -> dict:
         "section": p.section_type,
         "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
         "util_bearing": p.util("bearing"), "util_structural": p.util(*STRUCTURAL_CHECKS),
+        "util_overall": _largest(c.utilization for c in p.checks if c.check == "overall"),
+        "util_seismic": _largest(c.utilization for c in p.checks if c.combination == SEISMIC),
         "governing": p.governing, "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
     }
@@ -227,6 +243,19 @@ def _bar_json(b):
             "as_req_mm2_per_m": num(b.as_req_mm2_per_m, 1), "d_mm": num(b.d_mm, 1)}
 
 
+def _check_json(c, numbers) -> dict:
+    """One entry of ``panels[].checks``: ``numbers`` the rounded effect, resistance and
+    utilization; an ``overall`` entry carries its critical ``circle``."""
+    e, r, u = numbers
+    d = {"check": c.check, "combination": c.combination, "case": c.case, "effect": e,
+         "resistance": r, "unit": c.unit, "utilization": u, "clause": c.clause,
+         "governs": c.governs}
+    if c.circle is not None:
+        d["circle"] = {"x_m": num(c.circle.x_m), "z_m": num(c.circle.z_m),
+                       "radius_m": num(c.circle.radius_m)}
+    return d
+
+
 def panel_json(p: PanelResult) -> dict:
     """One entry of ``design.json`` ``panels`` (shared/interfaces.md); numbers rounded by
     :func:`num`, the checks' effect, resistance and utilization by :func:`rounded`."""
@@ -254,10 +283,7 @@ def panel_json(p: PanelResult) -> dict:
                            "allowable_bearing_kpa": num(f.allowable_bearing_kpa)},
             "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
         "reinforcement": reinf,
-        "checks": [{"check": c.check, "combination": c.combination, "case": c.case,
-                    "effect": values[3 * i], "resistance": values[3 * i + 1], "unit": c.unit,
-                    "utilization": values[3 * i + 2], "clause": c.clause,
-                    "governs": c.governs} for i, c in enumerate(p.checks)],
+        "checks": [_check_json(c, values[3 * i:3 * i + 3]) for i, c in enumerate(p.checks)],
         "quantities": {k: num(v) for k, v in p.quantities.items()},
         "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),
         "cost": num(p.cost, 2),

@@ -4,7 +4,8 @@ The governing panel of a type is the panel of that type with the highest utiliza
 over all its checks (the first in chainage order on a tie): the panel the pipeline
 gives ``result.actions`` for. Its calculation holds the characteristic actions, the
 worst entry of every check, the terms of the governing bearing resistance and the
-passive resistance in front. The terms are not on the result: they are computed here
+passive resistance in front (the persistent design situation: the seismic one has its
+own terms, in design.json's entries). The terms are not on the result: they are computed here
 by the engine's own functions (``stability.bearing_terms``, ``stability.passive_terms``)
 at the panel's conditions, many panels of the same ground per call.
 """
@@ -18,12 +19,9 @@ import numpy as np
 from wallrun import stability
 from wallrun.conditions import Conditions
 from wallrun.results import ActionRow, CheckEntry, DesignResult, PanelResult, SectionType
+from wallrun.outputs.tables import GEOTECHNICAL_CHECKS, STRUCTURAL_CHECKS
 from wallrun.section import SectionArrays
 
-STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear",
-                     "toe_bending", "toe_shear", "crack_spacing", "min_steel")
-GEOTECHNICAL_CHECKS = ("overturning", "sliding", "bearing", "eccentricity",
-                       "eccentricity_sls", "bearing_sls")
 CHECK_ORDER = GEOTECHNICAL_CHECKS + STRUCTURAL_CHECKS
 
 
@@ -104,7 +102,8 @@ def resistance_terms(result: DesignResult, panels: list[PanelResult]) -> dict[st
     basis = result.site.basis
     groups: dict = {}
     for p in panels:
-        if not any(c.check == "bearing" for c in p.checks):
+        if not any(c.check == "bearing" and c.combination in basis.uls_sets
+                   for c in p.checks):
             continue  # a panel that could not be designed: nothing to show
         pa = p.panel
         key = (pa.backfill, pa.foundation, pa.surcharge_kpa, pa.water_level_m is None)
@@ -117,8 +116,8 @@ def resistance_terms(result: DesignResult, panels: list[PanelResult]) -> dict[st
         passive = stability.passive_terms(sec, cond, basis)
         by_case = {(t.combination, t.case): t for t in bearing}
         for i, p in enumerate(members):
-            worst = max((c for c in p.checks if c.check == "bearing"),
-                        key=lambda c: c.utilization)
+            worst = max((c for c in p.checks if c.check == "bearing"
+                         and c.combination in basis.uls_sets), key=lambda c: c.utilization)
             t = by_case.get((worst.combination, worst.case))
             b = None if t is None else {**_floats(t, i), "entry": worst}
             out[p.panel.panel] = (b, tuple(_floats(t, i) for t in passive))

@@ -26,10 +26,10 @@ from wallrun.codes import ec2
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED
 from wallrun.outputs.report import calc, figures
 from wallrun.outputs.stamp import issue_date
-from wallrun.outputs.tables import cost_csv_rows
+from wallrun.outputs.tables import STRUCTURAL_CHECKS, cost_csv_rows
 from wallrun.takeoff import DEMO_RATES_NOTE
 
-COMBINATION_ORDER = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", "SLS")
+COMBINATION_ORDER = ("EQU", "DA1-1", "DA1-2", "DA2", "DA3", "SEIS", "SLS")
 
 CHECK_WORDS = {
     "overturning": "overturning about the toe edge",
@@ -46,6 +46,10 @@ CHECK_WORDS = {
     "toe_shear": "toe shear at the front face of the stem",
     "crack_spacing": "bar spacing or diameter for crack control",
     "min_steel": "minimum and maximum reinforcement",
+    "joint_pressure": "edge pressure against the cap that keeps the joints' pressure ratio",
+    "overall": "overall stability of the slope and wall together (critical slip circle)",
+    "restraint_steel": "minimum reinforcement for restrained early-age and shrinkage strains",
+    "bar_bend": "bearing stress inside bar bends",
 }
 
 FACTOR_WORDS = {
@@ -59,6 +63,7 @@ FACTOR_WORDS = {
     "gR_sliding": "gamma_R;h sliding",
     "gR_passive": "gamma_R;e passive resistance",
     "gG_unfav_ground": "gamma_G, unfavourable ground actions (DA3)",
+    "gR_slope": "gamma_R;e slopes and overall stability",
 }
 
 MEMBERS = ("stem", "stem_front", "stem_horizontal", "heel", "toe", "base_distribution")
@@ -109,8 +114,8 @@ CODES = ("EN 1997-1", "EN 1992-1-1")
 def by_code(checks):
     """[(code, entries)]: the check entries of EN 1997-1 (the geotechnical checks) and of
     EN 1992-1-1 (the members), in their order; groups without entries left out."""
-    geo = [c for c in checks if c.check not in calc.STRUCTURAL_CHECKS]
-    struc = [c for c in checks if c.check in calc.STRUCTURAL_CHECKS]
+    geo = [c for c in checks if c.check not in STRUCTURAL_CHECKS]
+    struc = [c for c in checks if c.check in STRUCTURAL_CHECKS]
     return [(code, group) for code, group in zip(CODES, (geo, struc)) if group]
 
 
