@@ -116,17 +116,19 @@ def to_csv(columns, rows, decimals: dict | None = None) -> str:
     return buf.getvalue()
 
 
-def _largest(values):
-    """The largest of ``values``; None (an empty cell) when there are none."""
-    return max(values, default=None)
-
-
 def panel_row(p: PanelResult) -> dict:
     """One ``panels.csv`` row (shared/interfaces.md). util_bearing is the bearing
     resistance check; the eccentricity checks count in ``governing``; util_overall and
     util_seismic are empty where the site does not check overall stability or seismic
     actions."""
     pa, s = p.panel, p.section
+    overall = seismic = None  # empty where not checked
+    for c in p.checks:
+        u = c.utilization
+        if c.check == "overall" and (overall is None or u > overall):
+            overall = u
+        if c.combination == SEISMIC and (seismic is None or u > seismic):
+            seismic = u
     row = {
         "panel": pa.panel, "run": pa.run, "side": pa.side, "ch_start_m": pa.ch_start_m,
         "ch_end_m": pa.ch_end_m, "length_m": pa.length_m, "retained_top_m": pa.retained_top_m,
@@ -136,8 +138,7 @@ def panel_row(p: PanelResult) -> dict:
         "section": p.section_type,
         "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
         "util_bearing": p.util("bearing"), "util_structural": p.util(*STRUCTURAL_CHECKS),
-        "util_overall": _largest(c.utilization for c in p.checks if c.check == "overall"),
-        "util_seismic": _largest(c.utilization for c in p.checks if c.combination == SEISMIC),
+        "util_overall": overall, "util_seismic": seismic,
         "governing": p.governing, "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
     }
@@ -243,17 +244,18 @@ def _bar_json(b):
             "as_req_mm2_per_m": num(b.as_req_mm2_per_m, 1), "d_mm": num(b.d_mm, 1)}
 
 
-def _check_json(c, numbers) -> dict:
-    """One entry of ``panels[].checks``: ``numbers`` the rounded effect, resistance and
-    utilization; an ``overall`` entry carries its critical ``circle``."""
-    e, r, u = numbers
-    d = {"check": c.check, "combination": c.combination, "case": c.case, "effect": e,
-         "resistance": r, "unit": c.unit, "utilization": u, "clause": c.clause,
-         "governs": c.governs}
-    if c.circle is not None:
-        d["circle"] = {"x_m": num(c.circle.x_m), "z_m": num(c.circle.z_m),
-                       "radius_m": num(c.circle.radius_m)}
-    return d
+def _checks_json(checks, values) -> list[dict]:
+    """The entries of ``panels[].checks``: ``values`` the rounded effect, resistance and
+    utilization of each in turn; an ``overall`` entry carries its critical ``circle``."""
+    out = [{"check": c.check, "combination": c.combination, "case": c.case,
+            "effect": values[3 * i], "resistance": values[3 * i + 1], "unit": c.unit,
+            "utilization": values[3 * i + 2], "clause": c.clause, "governs": c.governs}
+           for i, c in enumerate(checks)]
+    for d, c in zip(out, checks):
+        if c.circle is not None:
+            d["circle"] = {"x_m": num(c.circle.x_m), "z_m": num(c.circle.z_m),
+                           "radius_m": num(c.circle.radius_m)}
+    return out
 
 
 def panel_json(p: PanelResult) -> dict:
@@ -283,7 +285,7 @@ def panel_json(p: PanelResult) -> dict:
                            "allowable_bearing_kpa": num(f.allowable_bearing_kpa)},
             "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
         "reinforcement": reinf,
-        "checks": [_check_json(c, values[3 * i:3 * i + 3]) for i, c in enumerate(p.checks)],
+        "checks": _checks_json(p.checks, values),
         "quantities": {k: num(v) for k, v in p.quantities.items()},
         "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),
         "cost": num(p.cost, 2),
