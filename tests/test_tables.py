@@ -80,7 +80,7 @@ def test_design_json_lists_what_is_not_checked_for_the_site():
     doc = json.loads(tables.design_json(r))
     assert doc["not_checked"] == list(not_checked(r.site))
     assert len(doc["panels"]) == len(r.panels)
-    assert doc["panels"][0] == tables.panel_json(r.panels[0])
+    assert doc["panels"] == tables.panels_json(r.panels)
 
 
 def test_rounded_check_values():
@@ -110,7 +110,8 @@ def test_overall_and_seismic_columns_and_the_circle():
     q = replace(p, checks=p.checks + extra)
     row = tables.panel_row(q)
     assert row["util_overall"] == 0.9 and row["util_seismic"] == 0.625
-    entry = tables.panel_json(q)["checks"][-2]
-    assert entry["circle"] == {"x_m": 1.25, "z_m": 52.0, "radius_m": 6.5}
-    assert "circle" not in tables.panel_json(q)["checks"][-1]
-    json.dumps(tables.panel_json(q), allow_nan=False)
+    entries = tables.panels_json([r.panels[1], q])[1]["checks"]
+    assert entries[-2]["circle"] == {"x_m": 1.25, "z_m": 52.0, "radius_m": 6.5}
+    assert "circle" not in entries[-1] and entries[-1]["utilization"] == 0.625
+    assert entries[0]["utilization"] == round(q.checks[0].utilization, 3)
+    json.dumps(tables.panels_json([q]), allow_nan=False)
