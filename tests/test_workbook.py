@@ -16,7 +16,7 @@ from wallrun.cautions import CAUTION, not_checked
 from wallrun.outputs.workbook import header, write_workbook
 from wallrun.results import (BarSet, CheckEntry, DesignResult, Joint, PanelResult,
                              Reinforcement, SectionType)
-from wallrun.settings import GroundModel, Rate, Takeoff
+from wallrun.settings import Design, GroundModel, Rate, Takeoff
 from wallrun.takeoff import DEMO_RATES, cost, panel_quantities, totals
 
 from test_takeoff import BARS, SLOPED, SLOPED_SEC, STRAIGHT, STRAIGHT_SEC
@@ -47,7 +47,7 @@ def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand"):
                                            (SLOPED, SLOPED_SEC, qb, "flagged", reason)))
     quantities = totals([qa, qb])
     site = SimpleNamespace(project=SimpleNamespace(name=name, reference="R-1"),
-                           ground_model=GroundModel(), seismic=None)
+                           ground_model=GroundModel(), seismic=None, design=Design())
     return DesignResult(
         site=site, profiles=None, runs=(), panels=panels,
         joints=(Joint("J001", 6.0, "P001", "P002", 0.15, 0.6, 1.1, "ok", ""),),

@@ -28,7 +28,8 @@ import xlsxwriter
 from wallrun.cautions import CAUTION, not_checked
 from wallrun.outputs.stamp import issue_date
 from wallrun.outputs.tables import (BAR_COLUMNS, COST_COLUMNS, JOINT_COLUMNS, PANEL_COLUMNS,
-                                    SECTION_COLUMNS, cost_csv_rows, panel_row, section_row)
+                                    SECTION_COLUMNS, bar_schedule_row, cost_csv_rows,
+                                    panel_row, section_row)
 from wallrun.results import DesignResult
 from wallrun.takeoff import DEMO_RATES_NOTE, item_order, unit_of
 
@@ -192,8 +193,7 @@ def write_workbook(result: DesignResult, path) -> Path:
     _columns(book, "joints", JOINT_COLUMNS, (j.__dict__ for j in result.joints))
     _columns(book, "sections", SECTION_COLUMNS, (section_row(t) for t in result.section_types))
     _columns(book, "bar schedule", BAR_COLUMNS,
-             ({c: getattr(b, c) for c in BAR_COLUMNS} for b in result.bar_schedule),
-             {"mass_kg": "0.00", "total_length_m": "0.00"})
+             (bar_schedule_row(b) for b in result.bar_schedule), {"mass_kg": "0.00"})
     book.table("quantities", ["item", "unit", "quantity (in unit)"],
                ((q.item, q.unit, q.quantity) for q in result.quantities), [None, None, "0.000"])
     book.table("cost", ["item", "unit", "quantity (in unit)", "rate (cost units per unit)",
