@@ -43,6 +43,14 @@ def stable(name: str, data: bytes) -> bytes:
     return data
 
 
+def first_difference(a: bytes, b: bytes):
+    """The first line that differs between two files' texts (for the failure message)."""
+    for k, (x, y) in enumerate(zip(a.split(b"\n"), b.split(b"\n"))):
+        if x != y:
+            return k, x[:160], y[:160]
+    return len(a), len(b)
+
+
 def results():
     """Two different invented results (tests/sample_result.py)."""
     a = sample_result()
@@ -79,7 +87,7 @@ def test_two_threads_write_the_same_files_as_one_after_the_other(tmp_path):
         assert set(seq) == set(par)
         assert set(seq) >= EXPECTED
         differ = [n for n in seq if seq[n] != par[n] and n not in SHARED_STATE]
-        assert differ == [], name
+        assert differ == [], (name, [first_difference(seq[n], par[n]) for n in differ])
     # and the two results really differ
     assert files(tmp_path / "seq-a")["design.json"] != files(tmp_path / "seq-b")["design.json"]
 
