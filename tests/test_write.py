@@ -30,11 +30,6 @@ VOLATILE = {".dxf": [re.compile(rb"(?m)^\s*\d{7}\.\d+\s*$"),
                      re.compile(rb"'[0-9A-Za-z_$]{22}'")]}
 
 
-#: Files whose writer still changes process-wide state: previews.py sets matplotlib's
-#: rcParams through rc_context while it writes sections.pdf, so the other thread's PDFs
-#: may take the other compression level. Remove from here when the previews pass their
-#: options per call.
-SHARED_STATE = {"sections.pdf", "sheets.pdf"}
 
 
 #: A list of entity references of an IFC file (``(#4,#5,#3)``): ifcopenshell writes
@@ -95,7 +90,7 @@ def test_two_threads_write_the_same_files_as_one_after_the_other(tmp_path):
         seq, par = files(tmp_path / f"seq-{name}"), files(tmp_path / f"par-{name}")
         assert set(seq) == set(par)
         assert set(seq) >= EXPECTED
-        differ = [n for n in seq if seq[n] != par[n] and n not in SHARED_STATE]
+        differ = [n for n in seq if seq[n] != par[n]]
         assert differ == [], (name, [first_difference(seq[n], par[n]) for n in differ])
     # and the two results really differ
     assert files(tmp_path / "seq-a")["design.json"] != files(tmp_path / "seq-b")["design.json"]
