@@ -15,11 +15,12 @@ the drawings on a benchmark-sized job.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 
 import numpy as np
 
 from wallrun.panels import ceil_inc, founding_level
+from wallrun.profile import Profiles, build_profiles
 from wallrun.results import (BarMark, BarSet, CheckEntry, Cost, CostRow, DesignResult,
                              Joint, Panel, PanelResult, Quantity, Reinforcement, Run,
                              SectionType)
@@ -31,49 +32,22 @@ STEEL_DENSITY = 7850.0  # kg/m3 (design-basis section 7)
 
 
 @dataclass(frozen=True)
-class SampleProfiles:
-    """Stand-in for ``wallrun.profile.Profiles``: piecewise-linear ground and finished
-    level, plan position linear between the ground points."""
-
-    g_ch: np.ndarray
-    g_lv: np.ndarray
-    f_ch: np.ndarray
-    f_lv: np.ndarray
-    x: np.ndarray | None = None
-    y: np.ndarray | None = None
-
-    def ground(self, ch):
-        return np.interp(np.asarray(ch, dtype=float), self.g_ch, self.g_lv)
-
-    def finished(self, ch):
-        return np.interp(np.asarray(ch, dtype=float), self.f_ch, self.f_lv)
+class SampleProfiles(Profiles):
+    """The profiles of the sample's site (``wallrun.profile.build_profiles``), with the
+    short names of the ground points the drawing tests read."""
 
     @property
-    def breakpoints(self) -> np.ndarray:
-        pts = np.unique(np.concatenate([self.g_ch, self.f_ch]))
-        return pts[(pts >= self.ch_start) & (pts <= self.ch_end)]
+    def g_ch(self) -> np.ndarray:
+        return self.ground_ch
 
     @property
-    def ch_start(self) -> float:
-        return float(max(self.g_ch[0], self.f_ch[0]))
+    def g_lv(self) -> np.ndarray:
+        return self.ground_level
 
-    @property
-    def ch_end(self) -> float:
-        return float(min(self.g_ch[-1], self.f_ch[-1]))
 
-    @property
-    def plan_line(self):
-        if self.x is None:
-            return None
-        from shapely.geometry import LineString
-        return LineString(np.column_stack([self.x, self.y]))
-
-    def xy_at(self, ch):
-        """(x, y) arrays like ``wallrun.profile.Profiles.xy_at``; None without plan data."""
-        if self.x is None:
-            return None
-        c = np.asarray(ch, dtype=float)
-        return np.interp(c, self.g_ch, self.x), np.interp(c, self.g_ch, self.y)
+def _profiles(site: Site) -> SampleProfiles:
+    p = build_profiles(site)
+    return SampleProfiles(**{f.name: getattr(p, f.name) for f in fields(p)})
 
 
 S01 = Section(stem_top_m=0.25, stem_base_m=0.35, base_width_m=2.40, toe_m=0.60,
@@ -133,7 +107,7 @@ def _checks(u: float) -> tuple[CheckEntry, ...]:
     )
 
 
-def _panel_levels(prof: SampleProfiles, side: str, a: float, b: float, t_base: float,
+def _panel_levels(prof: Profiles, side: str, a: float, b: float, t_base: float,
                   wall: Wall):
     """Levels of one panel by design-basis section 1 (envelope over the panel)."""
     bp = prof.breakpoints
@@ -147,11 +121,11 @@ def _panel_levels(prof: SampleProfiles, side: str, a: float, b: float, t_base: f
     return z_top, z_front, z_found, top
 
 
-def _site(prof: SampleProfiles, name: str, ve: float, tick: float, water) -> Site:
-    ground = ProfileData(prof.g_ch, prof.g_lv, prof.x, prof.y, source="ground.csv",
-                         lines=tuple(range(2, 2 + len(prof.g_ch))))
-    finished = ProfileData(prof.f_ch, prof.f_lv, source="finished.csv",
-                           lines=tuple(range(2, 2 + len(prof.f_ch))))
+def _site(g_ch, g_lv, f_ch, f_lv, x, y, name: str, ve: float, tick: float, water) -> Site:
+    ground = ProfileData(g_ch, g_lv, x, y, source="ground.csv",
+                         lines=tuple(range(2, 2 + len(g_ch))))
+    finished = ProfileData(f_ch, f_lv, source="finished.csv",
+                           lines=tuple(range(2, 2 + len(f_ch))))
     return Site(root="/nonexistent/sample-site", project=Project(name, "WR-TEST-014"),
                 ground=ground, finished=finished, alignment=None, water=water,
                 drawings=Drawings(vertical_exaggeration=ve, chainage_tick_m=tick))
@@ -215,10 +189,10 @@ def sample_result(vertical_exaggeration: float = 2.0, chainage_tick_m: float = 1
         seg = np.diff(g_ch, prepend=0.0)
         x = 5200.0 + np.cumsum(seg * np.cos(ang))
         y = 1800.0 + np.cumsum(seg * np.sin(ang))
-    prof = SampleProfiles(g_ch, g_lv, f_ch, f_lv, x, y)
     water = None if water_level_m is None else Water(level_m=water_level_m)
-    site = _site(prof, "Hollin Bank yard extension (test scenario)", vertical_exaggeration,
-                 chainage_tick_m, water)
+    site = _site(g_ch, g_lv, f_ch, f_lv, x, y, "Hollin Bank yard extension (test scenario)",
+                 vertical_exaggeration, chainage_tick_m, water)
+    prof = _profiles(site)
     spans = [("fill", [2.0, 10.0, 18.0, 26.0], ["S01", "S01", "S01"]),
              ("cut", [30.0, 34.0, 38.0], ["S02", "S02"])]
     return _build(prof, site, spans, {"S01": S01, "S02": S02}, {"S01": R01, "S02": R02},
@@ -234,8 +208,9 @@ def long_result(length_m: float = 10000.0, panel_m: float = 8.0) -> DesignResult
     f = g + 1.5 + 0.8 * np.sin(ch / 190.0)
     x = 10000.0 + 900.0 * np.sin(ch / 1800.0) + 0.3 * ch
     y = 20000.0 + ch * 0.9
-    prof = SampleProfiles(ch, g, ch.copy(), f, x, y)
-    site = _site(prof, "Long test wall (benchmark scenario)", 2.0, 100.0, None)
+    site = _site(ch, g, ch.copy(), f, x, y, "Long test wall (benchmark scenario)", 2.0, 100.0,
+                 None)
+    prof = _profiles(site)
     n = int(math.floor((length_m - 4.0) / panel_m))
     cuts = [2.0 + panel_m * i for i in range(n + 1)]
     # section type by retained height at the panel middle

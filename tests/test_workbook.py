@@ -1,24 +1,29 @@
-"""schedule.xlsx: sheets, headers with units, formula neutralising, cost labels.
+"""schedule.xlsx read back with openpyxl: sheets, headers with units, typed cells, text
+kept as text (never a formula, never altered), frozen headers and autofilters, cost labels.
 
 The DesignResult is built by hand from the take-off of two invented panels."""
 
 from __future__ import annotations
 
+import math
+from dataclasses import replace
 from types import SimpleNamespace
 
 import openpyxl
 import pytest
 
-from wallrun.outputs.workbook import header, safe, write_workbook
+from wallrun.cautions import CAUTION, not_checked
+from wallrun.outputs.workbook import header, write_workbook
 from wallrun.results import (BarSet, CheckEntry, DesignResult, Joint, PanelResult,
                              Reinforcement, SectionType)
-from wallrun.settings import Rate, Takeoff
+from wallrun.settings import Design, GroundModel, Rate, Takeoff
 from wallrun.takeoff import DEMO_RATES, cost, panel_quantities, totals
 
 from test_takeoff import BARS, SLOPED, SLOPED_SEC, STRAIGHT, STRAIGHT_SEC
 
-SHEETS = ["notes", "schedule", "panel quantities", "joints", "sections", "bar schedule",
-          "quantities", "cost"]
+SHEETS = ["cautions", "schedule", "checks", "panel quantities", "joints", "sections",
+          "bar schedule", "quantities", "cost"]
+HOSTILE = ["=cmd|' /C calc'!A0", "+1", "-2+3", "@SUM(A1)", "=HYPERLINK(\"x\")"]
 
 
 def _reinf():
@@ -41,7 +46,8 @@ def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand"):
                    for p, s, q, st, rs in ((STRAIGHT, STRAIGHT_SEC, qa, "ok", ""),
                                            (SLOPED, SLOPED_SEC, qb, "flagged", reason)))
     quantities = totals([qa, qb])
-    site = SimpleNamespace(project=SimpleNamespace(name=name, reference="R-1"))
+    site = SimpleNamespace(project=SimpleNamespace(name=name, reference="R-1"),
+                           ground_model=GroundModel(), seismic=None, design=Design())
     return DesignResult(
         site=site, profiles=None, runs=(), panels=panels,
         joints=(Joint("J001", 6.0, "P001", "P002", 0.15, 0.6, 1.1, "ok", ""),),
@@ -64,40 +70,45 @@ def test_header_units():
     assert header("panel") == "panel"
 
 
-def test_safe_neutralises_formula_text():
-    for s in ("=cmd", "+1", "-2+3", "@SUM(A1)", "\t=x"):
-        assert safe(s) == "'" + s
-    assert safe("plain") == "plain" and safe(-2.5) == -2.5 and safe(float("inf")) == "inf"
+def test_every_sheet_is_a_table_with_frozen_header_and_filter(tmp_path):
+    res = _result()
+    wb = openpyxl.load_workbook(write_workbook(res, tmp_path / "schedule.xlsx"))
+    assert wb.sheetnames == SHEETS
+    for ws in wb.worksheets:
+        assert ws.freeze_panes == "A2", ws.title
+        heads = [c.value for c in ws[1]]
+        assert all(isinstance(h, str) and h for h in heads), ws.title
+        assert all(c.font.bold for c in ws[1]), ws.title
+        # the filter covers the header and every row of the table
+        assert ws.auto_filter.ref == f"A1:{openpyxl.utils.get_column_letter(len(heads))}" \
+                                     f"{ws.max_row}", ws.title
 
 
 def test_workbook_round_trip(tmp_path):
     res = _result()
     path = write_workbook(res, tmp_path / "schedule.xlsx")
     wb = openpyxl.load_workbook(path)
-    assert wb.sheetnames == SHEETS
     sched = wb["schedule"]
     heads = [c.value for c in sched[1]]
     assert heads[:6] == ["panel", "run", "side", "ch_start (m)", "ch_end (m)", "length (m)"]
-    assert "concrete (m3)" in heads and "steel (kg)" in heads
+    assert "concrete (m3)" in heads and "steel (kg)" in heads and "cost (cost units)" in heads
     assert sched.max_row == 3
-    # header bold and frozen; numbers keep their display formats (write-only mode)
-    assert all(c.font.bold for c in sched[1]) and sched.freeze_panes == "A2"
-    assert sched.cell(row=2, column=heads.index("length (m)") + 1).number_format == "0.000"
+    # numbers are numbers with their display formats; integers stay General
+    length = sched.cell(row=2, column=heads.index("length (m)") + 1)
+    assert length.data_type == "n" and length.number_format == "0.000"
+    assert length.value == pytest.approx(res.panels[0].panel.length_m, rel=1e-15)
     assert sched.cell(row=2, column=heads.index("steel (kg)") + 1).number_format == "0.0"
+    run = sched.cell(row=2, column=heads.index("run") + 1)
+    assert run.value == 1 and run.number_format == "General"
     col = heads.index("concrete (m3)") + 1
     assert sched.cell(row=2, column=col).value == pytest.approx(
         res.panels[0].quantities["concrete_total"])
-    # The flagged reason starting with "-" is text, neutralised.
-    assert sched.cell(row=3, column=heads.index("reason") + 1).value == "'-flagged by hand"
-    # The project name "=cmd..." never becomes a formula.
-    notes = wb["notes"]
-    values = _cells(notes)
-    assert "'=cmd|' /C calc'!A0" in values
-    for ws in wb.worksheets:
-        for row in ws.iter_rows():
-            for c in row:
-                assert c.data_type != "f", (ws.title, c.coordinate, c.value)
-    # Quantities sheet equals the result's totals.
+    # the flagged reason starting with "-" reads back unchanged, as text
+    reason = sched.cell(row=3, column=heads.index("reason") + 1)
+    assert reason.value == "-flagged by hand" and reason.data_type == "s"
+    # an empty reason stays an empty cell
+    assert sched.cell(row=2, column=heads.index("reason") + 1).value is None
+    # quantities sheet equals the result's totals
     q = wb["quantities"]
     got = {r[0].value: r[2].value for r in q.iter_rows(min_row=2)}
     assert got == pytest.approx({x.item: x.quantity for x in res.quantities})
@@ -105,24 +116,68 @@ def test_workbook_round_trip(tmp_path):
                                                              "no_of_members"]
 
 
+@pytest.mark.parametrize("text", HOSTILE)
+def test_text_that_looks_like_a_formula_reads_back_unchanged(tmp_path, text):
+    res = _result(name=text, reason=text)
+    wb = openpyxl.load_workbook(write_workbook(res, tmp_path / "w.xlsx"))
+    for ws in wb.worksheets:
+        for row in ws.iter_rows():
+            for c in row:
+                assert c.data_type != "f", (ws.title, c.coordinate, c.value)
+    cautions = {r[0].value: r[1] for r in wb["cautions"].iter_rows(min_row=2)}
+    assert cautions["project"].value == text and cautions["project"].data_type == "s"
+    sched = wb["schedule"]
+    heads = [c.value for c in sched[1]]
+    reason = sched.cell(row=3, column=heads.index("reason") + 1)
+    assert reason.value == text and reason.data_type == "s"
+
+
+def test_cautions_sheet(tmp_path):
+    res = _result()
+    ws = openpyxl.load_workbook(write_workbook(res, tmp_path / "c.xlsx"))["cautions"]
+    rows = [(r[0].value, r[1].value) for r in ws.iter_rows(min_row=2)]
+    assert ("caution", CAUTION) in rows
+    assert [t for k, t in rows if k == "not checked"] == list(not_checked(res.site))
+    assert ("warning", "+ a warning that looks like a formula") in rows
+
+
+def test_checks_sheet_has_the_governing_utilizations(tmp_path):
+    res = _result()
+    ws = openpyxl.load_workbook(write_workbook(res, tmp_path / "k.xlsx"))["checks"]
+    heads = [c.value for c in ws[1]]
+    assert heads == ["panel", "section", "status", "governing", "sliding DA1-2 (-)",
+                     "stem_bending DA1-1 (-)"]
+    assert [c.value for c in ws[2]][4:] == pytest.approx([0.87, 0.9])
+    assert ws.cell(row=2, column=5).number_format == "0.000"
+
+
+def test_non_finite_numbers(tmp_path):
+    res = _result()
+    p = res.panels[0]
+    bad = replace(p.checks[0], utilization=math.inf)
+    res = replace(res, panels=(replace(p, checks=(bad,) + p.checks[1:]),) + res.panels[1:])
+    ws = openpyxl.load_workbook(write_workbook(res, tmp_path / "n.xlsx"))["checks"]
+    assert ws.cell(row=2, column=5).value == "inf"
+
+
 def test_cost_sheet_marks_demo_and_incomplete(tmp_path):
-    demo = openpyxl.load_workbook(write_workbook(_result(), tmp_path / "a.xlsx"))["cost"]
-    text = " ".join(str(v) for v in _cells(demo))
-    assert "INVENTED" in text and "not market prices" in text
-    assert "INCOMPLETE" not in text
+    demo = openpyxl.load_workbook(write_workbook(_result(), tmp_path / "a.xlsx"))
+    rows = [[c.value for c in r] for r in demo["cost"].iter_rows()]
+    assert rows[0] == ["item", "unit", "quantity (in unit)", "rate (cost units per unit)",
+                       "amount (cost units)", "note"]
+    assert all("invented demo rate" in r[5] for r in rows[1:-1])
+    assert "not market prices" in rows[-1][5] and "incomplete" not in rows[-1][5]
     rates = [r for r in DEMO_RATES if r.item != "excavation"]
     res = _result(rates=rates)
-    ws = openpyxl.load_workbook(write_workbook(res, tmp_path / "b.xlsx"))["cost"]
-    cells = _cells(ws)
-    text = " ".join(str(v) for v in cells)
-    assert "INCOMPLETE" in text and "INVENTED" not in text
-    rows = [[c.value for c in r] for r in ws.iter_rows()]
+    rows = [[c.value for c in r] for r in openpyxl.load_workbook(
+        write_workbook(res, tmp_path / "b.xlsx"))["cost"].iter_rows()]
     exc = next(r for r in rows if r[0] == "excavation")
-    assert exc[3] == "unpriced" and exc[4] == "unpriced"
-    total = next(r for r in rows if str(r[0]).startswith("total"))
-    assert "incomplete" in total[0]
+    assert exc[3] == "unpriced" and exc[4] is None and "unpriced" in exc[5]
+    total = rows[-1]
+    assert total[0] == "total" and "incomplete" in total[5]
+    assert "demo" not in total[5].lower()
     assert total[4] == pytest.approx(res.cost.total)
-    priced = [r[4] for r in rows if isinstance(r[4], (int, float)) and r is not total]
+    priced = [r[4] for r in rows[1:-1] if isinstance(r[4], (int, float))]
     assert total[4] == pytest.approx(sum(priced))
 
 
@@ -132,23 +187,13 @@ def test_user_rates_unit_row(tmp_path):
     rows = [[c.value for c in r] for r in ws.iter_rows()]
     conc = next(r for r in rows if r[0] == "concrete_total")
     assert conc[1] == "m3" and conc[4] == pytest.approx(conc[2] * 100.0)
+    assert ws.cell(row=2, column=4).number_format == "0.00"
 
 
-def test_text_cells_escape_and_keep_spaces(tmp_path):
-    # markup characters, surrounding spaces and a non-ASCII name survive the streamed XML
-    res = _result(name="  Wall <RW1> & Co, Müller  ")
-    wb = openpyxl.load_workbook(write_workbook(res, tmp_path / "t.xlsx"))
-    assert "  Wall <RW1> & Co, Müller  " in _cells(wb["notes"])
-    sched = wb["schedule"]
-    heads = [c.value for c in sched[1]]
-    # an empty reason stays an empty cell; numbers keep their full value
-    assert sched.cell(row=2, column=heads.index("reason") + 1).value is None
-    assert sched.cell(row=2, column=heads.index("steel (kg)") + 1).value == pytest.approx(
-        res.panels[0].steel_kg, rel=1e-15)
-    assert wb["notes"].column_dimensions["B"].width == 100
-
-
-def test_control_characters_are_refused(tmp_path):
-    from openpyxl.utils.exceptions import IllegalCharacterError
-    with pytest.raises(IllegalCharacterError):
-        write_workbook(_result(name="bad\x01name"), tmp_path / "x.xlsx")
+def test_text_cells_keep_markup_spaces_and_letters(tmp_path):
+    # markup characters, surrounding spaces and a non-ASCII name survive
+    name = "  Wall <RW1> & Co, Müller  "
+    wb = openpyxl.load_workbook(write_workbook(_result(name=name), tmp_path / "t.xlsx"))
+    cautions = {r[0].value: r[1].value for r in wb["cautions"].iter_rows(min_row=2)}
+    assert cautions["project"] == name
+    assert wb.properties.title == f"{name}: panel schedule"

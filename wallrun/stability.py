@@ -34,7 +34,7 @@ Readings taken where the design basis is silent (also listed in the module repor
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -434,10 +434,17 @@ def passive_front(g: Geometry, Kp, basis: Basis, z_p):
     mode = basis.design.passive
     if mode == "none":
         return np.zeros(g.n)
-    low = g.z_found - g.dk
-    high = g.z_found + (g.t if mode == "full" else 0.0)
+    low, high = passive_face(g, basis)
     P, _ = ec7.passive_force(Kp, g.gf, z_p, low, high)
     return P
+
+
+def passive_face(g: Geometry, basis: Basis):
+    """(z_low, z_high), m: the face that gives passive resistance in front, from the key
+    bottom to the underside (``key``) or to the top of the base (``full``)."""
+    low = g.z_found - g.dk
+    high = g.z_found + (g.t if basis.design.passive == "full" else 0.0)
+    return low, high
 
 
 def _sls_cases(ctx: _Actions):
@@ -516,6 +523,132 @@ def action_table(section: Section, cond: Conditions, basis: Basis) -> tuple[Acti
         row("surcharge thrust", "variable", a.Pq_v, a.Pq_h, g.B, g.Hv / 2.0)
         row("surcharge on heel", "variable", g.Q, zeros, g.xQ, zeros)
     return tuple(rows)
+
+
+# --- the terms of the resistances, for the report -------------------------------------------
+
+@dataclass(frozen=True)
+class BearingTerms:
+    """The terms of one bearing resistance check (EN 1997-1 6.5.2, Annex D) of n
+    candidates, as :func:`stability_checks` evaluates it; numbers are arrays (n,).
+
+    combination, case: those of the check entry (the case ends in ``drained`` or
+    ``undrained``). V_kn_m, H_kn_m: design vertical action (net of uplift) and
+    horizontal action on the base, kN/m; e_m: eccentricity from the base centreline,
+    m (inf where V <= 0); B_eff_m: B' = B - 2|e|, m (D.1); q_kpa: overburden q' at the
+    founding level (front soil over the underside), kPa; gamma_kn_m3: the unit weight
+    in the N_gamma term (submerged where water stands above the underside), kN/m3;
+    phi_d_deg, c_d_kpa, cu_d_kpa: design strength parameters; Nq, Nc, Ngamma: bearing
+    factors (D.4; undrained D.3: Nc = pi + 2, Nq and Ngamma NaN); iq, igamma, ic:
+    inclination factors (undrained: ic of D.3, iq and igamma NaN); resistance_kpa:
+    R/A', kPa; gR: gamma_R;v; R_d_kn_m: R/A' x B' / gamma_R;v, kN/m (the check's
+    resistance).
+    """
+
+    combination: str
+    case: str
+    V_kn_m: np.ndarray
+    H_kn_m: np.ndarray
+    e_m: np.ndarray
+    B_eff_m: np.ndarray
+    q_kpa: np.ndarray
+    gamma_kn_m3: np.ndarray
+    phi_d_deg: float
+    c_d_kpa: float
+    cu_d_kpa: float
+    Nq: np.ndarray
+    Nc: np.ndarray
+    Ngamma: np.ndarray
+    iq: np.ndarray
+    igamma: np.ndarray
+    ic: np.ndarray
+    resistance_kpa: np.ndarray
+    gR: float
+    R_d_kn_m: np.ndarray
+
+
+def bearing_terms(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[BearingTerms]:
+    """The terms of every bearing check of n candidates (each ULS set of the approach x
+    the four sub-cases, drained and, where cu > 0, undrained), in the order of
+    :func:`stability_checks`, from the same factored actions (design-basis 4; EN 1997-1
+    Annex D.3, D.4). For the calculation report: the factors a checker needs to
+    follow R_d."""
+    ctx = _Actions(sec, cond, basis)
+    g, fd = ctx.g, cond.foundation
+    undrained = fd.undrained_strength_kpa > 0
+    nan = np.full(g.n, np.nan)
+    out = []
+    for name, fs in _sets(basis):
+        a = ctx.set(fs)
+        Nq, Nc, Ng = (np.full(g.n, float(x)) for x in ec7.bearing_factors(a.phi_f))
+        for label, unfav, on in SUBCASES:
+            V, H, _, e, _, _ = a.subcase(g, unfav, on)
+            H = np.broadcast_to(H, (g.n,))
+            fin = np.isfinite(e)
+            Bp = np.where(fin, ec7.effective_width(g.B, np.where(fin, e, 0)), 0.0)
+            iq, ig, ic = ec7.inclination_factors_drained(H, V, Bp, a.c_d, a.phi_f, Nc)
+            qd = ec7.bearing_drained(a.c_d, g.q_over, g.g_eff_found, Bp, a.phi_f, H, V)
+            out.append(BearingTerms(name, f"{label}, drained", V, H, e, Bp, g.q_over,
+                                    g.g_eff_found, a.phi_f, a.c_d, a.cu_d, Nq, Nc, Ng,
+                                    iq, ig, ic, qd, fs.gR_bearing, qd * Bp / fs.gR_bearing))
+            if undrained:
+                icu = ec7.inclination_factor_undrained(H, Bp, a.cu_d)
+                qu = ec7.bearing_undrained(a.cu_d, g.q_over, H, Bp)
+                out.append(BearingTerms(name, f"{label}, undrained", V, H, e, Bp, g.q_over,
+                                        g.g_eff_found, a.phi_f, a.c_d, a.cu_d, nan,
+                                        np.full(g.n, np.pi + 2.0), nan, nan, nan, icu, qu,
+                                        fs.gR_bearing, qu * Bp / fs.gR_bearing))
+    return out
+
+
+@dataclass(frozen=True)
+class PassiveTerms:
+    """Passive resistance in front of the wall for one ULS factor set (design-basis 3;
+    EN 1997-1 9.5.1, 9.3.2.2), n candidates; levels m, forces kN/m, arrays (n,).
+
+    mode: ``[design] passive`` (``key``: the front face of the key below the underside;
+    ``full``: down from the top of the base; ``none``: no passive resistance, P = 0).
+    phi_d_deg: design friction angle of the foundation; Kp: Rankine coefficient;
+    delta_a_m: the unplanned excavation; z_surface_m: the front level lowered by it;
+    z_low_m, z_high_m: the face; P_kn_m and z_P_m: the force and the level of its line
+    of action; gR: gamma_R;e; R_kn_m: P / gamma_R;e, the part of the sliding
+    resistance it gives.
+    """
+
+    combination: str
+    mode: str
+    phi_d_deg: float
+    Kp: float
+    delta_a_m: np.ndarray
+    z_surface_m: np.ndarray
+    z_low_m: np.ndarray
+    z_high_m: np.ndarray
+    P_kn_m: np.ndarray
+    z_P_m: np.ndarray
+    gR: float
+    R_kn_m: np.ndarray
+
+
+def passive_terms(sec: SectionArrays, cond: Conditions, basis: Basis) -> list[PassiveTerms]:
+    """The passive resistance of n candidates for each ULS set of the approach, as the
+    drained sliding check of :func:`stability_checks` adds it (P / gamma_R;e)."""
+    ctx = _Actions(sec, cond, basis)
+    g = ctx.g
+    delta_a = np.broadcast_to(ec7.unplanned_excavation(cond.h), (g.n,))
+    z_p = np.broadcast_to(cond.z_front - delta_a, (g.n,))
+    mode = basis.design.passive
+    out = []
+    for name, fs in _sets(basis):
+        a = ctx.set(fs)
+        Kp = float(ec7.kp_rankine(a.phi_f))
+        low, high = (np.broadcast_to(z, (g.n,)) for z in passive_face(g, basis))
+        if mode == "none":
+            P, z_P = np.zeros(g.n), np.full(g.n, np.nan)
+        else:
+            P, z_P = ec7.passive_force(Kp, g.gf, z_p, low, high)
+        out.append(PassiveTerms(name, mode, a.phi_f, Kp, delta_a, z_p, low,
+                                high, P, z_P, fs.gR_passive, P / fs.gR_passive))
+    return out
 
 
 # --- member actions (design-basis 5) ----------------------------------------------------------

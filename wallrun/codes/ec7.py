@@ -129,18 +129,28 @@ def bearing_drained(c, q, gamma, B_eff, phi_deg, H, V):
     return c * Nc * ic + q * Nq * iq + 0.5 * gamma * B_eff * Ng * ig
 
 
-def bearing_undrained(cu, q, H, A_eff):
-    """Undrained bearing resistance per effective area, R/A' in kPa (EN 1997-1 D.3),
-    strip, horizontal base: R/A' = (pi + 2) cu ic + q, ic = 0.5 (1 + sqrt(1 - H/(A' cu))).
-    cu kPa, q total overburden kPa, H kN/m, A' m2/m. Where H > A' cu (D.3 requires
-    H <= A' cu) the base cannot carry the load: the resistance is 0."""
+def inclination_factor_undrained(H, A_eff, cu):
+    """Load-inclination factor of EN 1997-1 D.3, dimensionless:
+    ic = 0.5 (1 + sqrt(1 - H/(A' cu))), H kN/m, A' m2/m, cu kPa. D.3 requires
+    H <= A' cu: beyond it (or with A' cu <= 0) the factor is NaN (no resistance)."""
     cu = np.asarray(cu, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         cap = A_eff * cu
         r = np.where(cap > 0, np.asarray(H, dtype=float) / np.where(cap > 0, cap, 1.0), np.inf)
-    ok = r <= 1.0
     ic = 0.5 * (1.0 + np.sqrt(np.clip(1.0 - r, 0.0, 1.0)))
-    return np.where(ok, (np.pi + 2.0) * cu * ic + q, 0.0)
+    return np.where(r <= 1.0, ic, np.nan)
+
+
+def bearing_undrained(cu, q, H, A_eff):
+    """Undrained bearing resistance per effective area, R/A' in kPa (EN 1997-1 D.3),
+    strip, horizontal base: R/A' = (pi + 2) cu ic + q, ic by
+    :func:`inclination_factor_undrained`. cu kPa, q total overburden kPa, H kN/m, A' m2/m.
+    Where H > A' cu (D.3 requires H <= A' cu) the base cannot carry the load: the
+    resistance is 0."""
+    cu = np.asarray(cu, dtype=float)
+    ic = inclination_factor_undrained(H, A_eff, cu)
+    ok = np.isfinite(ic)
+    return np.where(ok, (np.pi + 2.0) * cu * np.where(ok, ic, 0.0) + q, 0.0)
 
 
 def effective_width(B, e):

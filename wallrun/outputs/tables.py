@@ -1,10 +1,11 @@
 """The tables of the output folder: CSV files and ``design.json`` (shared/interfaces.md).
 
 Every table is a plain rendering of the result objects. Numbers are rounded to fixed
-decimals so that the same site gives byte-identical files; text cells that a
-spreadsheet would read as a formula are neutralised. The numbers of all panels in
-``design.json`` are rounded as one array per number of decimals (``nums``), the same
-values as ``num`` of each.
+decimals so that the same site gives byte-identical files. CSV has no cell types, so a
+text cell that a spreadsheet would read as a formula (leading ``= + - @``, tab or CR)
+is neutralised with a leading apostrophe (common practice against formula injection);
+the workbook keeps text as typed text instead (``workbook.py``). ``cost.csv`` starts
+with its header; notices (demo rates, unpriced items) are in its ``note`` column.
 """
 
 from __future__ import annotations
@@ -17,8 +18,9 @@ import math
 import numpy as np
 
 from wallrun import __version__
-from wallrun.bars import round_like_builtin
+from wallrun.cautions import CAUTION, not_checked
 from wallrun.results import DesignResult, PanelResult
+from wallrun.takeoff import DEMO_RATES_NOTE
 
 SCHEMA = "wallrun-design/1"
 
@@ -27,7 +29,8 @@ PANEL_COLUMNS = (
     "front_min_m", "founding_m", "wall_top_start_m", "wall_top_end_m", "retained_height_m",
     "total_height_m", "section", "stem_top_m", "stem_base_m", "base_width_m", "toe_m",
     "heel_m", "base_thickness_m", "key_depth_m", "key_width_m", "util_overturning",
-    "util_sliding", "util_bearing", "util_structural", "governing", "status", "reason",
+    "util_sliding", "util_bearing", "util_structural", "util_overall", "util_seismic",
+    "governing", "status", "reason",
     "concrete_m3", "steel_kg", "cost")
 JOINT_COLUMNS = ("joint", "ch_m", "left", "right", "founding_step_m", "top_step_m",
                  "pressure_ratio", "status", "reason")
@@ -40,8 +43,14 @@ SECTION_COLUMNS = (
     "stem_horizontal_spacing_mm", "heel_bar_mm", "heel_spacing_mm", "toe_bar_mm",
     "toe_spacing_mm", "dist_bar_mm", "dist_spacing_mm", "panels", "utilization", "governing")
 
+#: The member checks of EN 1992-1-1 (``util_structural``); every other check is
+#: geotechnical (EN 1997-1, or EN 1998-5 in the seismic combination).
 STRUCTURAL_CHECKS = ("stem_bending", "stem_shear", "heel_bending", "heel_shear", "toe_bending",
-                     "toe_shear", "crack_spacing", "min_steel")
+                     "toe_shear", "crack_spacing", "min_steel", "restraint_steel", "bar_bend")
+GEOTECHNICAL_CHECKS = ("overturning", "sliding", "bearing", "eccentricity", "eccentricity_sls",
+                       "bearing_sls", "joint_pressure", "overall")
+#: The seismic design situation's combination (EN 1998-5; ``util_seismic``).
+SEISMIC = "SEIS"
 DIMENSIONS = ("stem_top_m", "stem_base_m", "base_width_m", "toe_m", "heel_m",
               "base_thickness_m", "key_depth_m", "key_width_m")
 
@@ -56,22 +65,22 @@ def safe_text(s: str) -> str:
 
 
 def num(x, nd: int = 3):
-    """A float rounded to ``nd`` decimals for output; None for inf/NaN (JSON null)."""
+    """A float rounded to ``nd`` decimals for output (never -0.0); None for None, inf
+    and NaN (JSON null)."""
     if x is None:
         return None
     x = float(x)
-    if not math.isfinite(x):
-        return None
-    r = round(x, nd)
-    return 0.0 if r == 0 else r
+    if x - x == 0.0:  # finite
+        return round(x, nd) + 0.0  # (-0.0 + 0.0 is 0.0)
+    return None
 
 
-def nums(values, nd: int = 3) -> list:
-    """``[num(x, nd) for x in values]``, rounded as one array (the same floats and Nones)."""
-    if not values:
-        return []
-    a = round_like_builtin(values, nd)  # None reads as NaN: both give None
-    a[a == 0] = 0.0  # -0.0 as 0.0
+def rounded(values, nd: int = 3) -> list:
+    """``values`` (numbers, None as NaN) rounded to ``nd`` decimals in one numpy call
+    (``numpy.round``: round half to even on the scaled value), -0.0 as 0.0, inf and NaN
+    as None: for the many check values of ``design.json``, where one call a value of
+    :func:`num` would be most of the file's time."""
+    a = np.round(np.asarray(values, dtype=float), nd) + 0.0
     out = a.tolist()
     bad = ~np.isfinite(a)
     if bad.any():
@@ -109,8 +118,17 @@ def to_csv(columns, rows, decimals: dict | None = None) -> str:
 
 def panel_row(p: PanelResult) -> dict:
     """One ``panels.csv`` row (shared/interfaces.md). util_bearing is the bearing
-    resistance check; the eccentricity checks count in ``governing``."""
+    resistance check; the eccentricity checks count in ``governing``; util_overall and
+    util_seismic are empty where the site does not check overall stability or seismic
+    actions."""
     pa, s = p.panel, p.section
+    overall = seismic = None  # empty where not checked
+    for c in p.checks:
+        u = c.utilization
+        if c.check == "overall" and (overall is None or u > overall):
+            overall = u
+        if c.combination == SEISMIC and (seismic is None or u > seismic):
+            seismic = u
     row = {
         "panel": pa.panel, "run": pa.run, "side": pa.side, "ch_start_m": pa.ch_start_m,
         "ch_end_m": pa.ch_end_m, "length_m": pa.length_m, "retained_top_m": pa.retained_top_m,
@@ -120,6 +138,7 @@ def panel_row(p: PanelResult) -> dict:
         "section": p.section_type,
         "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
         "util_bearing": p.util("bearing"), "util_structural": p.util(*STRUCTURAL_CHECKS),
+        "util_overall": overall, "util_seismic": seismic,
         "governing": p.governing, "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
     }
@@ -180,22 +199,39 @@ def quantities_csv(result: DesignResult) -> str:
     return to_csv(("item", "unit", "quantity"), [q.__dict__ for q in result.quantities])
 
 
-def cost_csv(result: DesignResult) -> str:
+COST_COLUMNS = ("item", "unit", "quantity", "rate", "amount", "note")
+#: The note of a row priced at an invented demo rate.
+DEMO_RATE = "invented demo rate, not a market price"
+
+
+def cost_csv_rows(result: DesignResult) -> list[dict]:
+    """The rows of ``cost.csv`` (and of the workbook's cost sheet) keyed by
+    :data:`COST_COLUMNS`: one an item, then the total. The ``note`` says which rates are
+    invented demo rates (with ``takeoff.DEMO_RATES_NOTE`` on the total) and which items
+    are unpriced (left out of an incomplete total)."""
     c = result.cost
-    rows = [{"item": r.item, "unit": r.unit, "quantity": r.quantity,
-             "rate": r.rate if r.rate is not None else "unpriced",
-             "amount": r.amount} for r in c.rows]
-    total = {"item": "total", "unit": "", "quantity": None, "rate": None,
-             "amount": c.total}
+    rows = []
+    for r in c.rows:
+        if r.rate is None:
+            note = "unpriced: no rate, not in the total"
+        else:
+            note = DEMO_RATE if c.demo_rates else ""
+        rows.append({"item": r.item, "unit": r.unit, "quantity": r.quantity,
+                     "rate": r.rate if r.rate is not None else "unpriced",
+                     "amount": r.amount, "note": note})
+    notes = []
     if not c.complete:
-        total["unit"] = "incomplete: unpriced items"
-    rows.append(total)
-    text = to_csv(("item", "unit", "quantity", "rate", "amount"), rows,
-                  {"rate": 2, "amount": 2})
+        notes.append("incomplete: unpriced items left out")
     if c.demo_rates:
-        text = ("# rates are invented example figures for the demo, not market prices\n"
-                + text)
-    return text
+        notes.append(DEMO_RATES_NOTE)
+    rows.append({"item": "total", "unit": "", "quantity": None, "rate": None,
+                 "amount": c.total, "note": "; ".join(notes)})
+    return rows
+
+
+def cost_csv(result: DesignResult) -> str:
+    """``cost.csv``: the header first, then :func:`cost_csv_rows`."""
+    return to_csv(COST_COLUMNS, cost_csv_rows(result), {"rate": 2, "amount": 2})
 
 
 # --- design.json ---------------------------------------------------------------------
@@ -208,7 +244,36 @@ def _bar_json(b):
             "as_req_mm2_per_m": num(b.as_req_mm2_per_m, 1), "d_mm": num(b.d_mm, 1)}
 
 
-def panel_json(p: PanelResult) -> dict:
+def _checks_json(checks, values) -> list[dict]:
+    """The entries of ``panels[].checks``: ``values`` the rounded effect, resistance and
+    utilization of each in turn; an ``overall`` entry carries its critical ``circle``."""
+    out = [{"check": c.check, "combination": c.combination, "case": c.case,
+            "effect": values[3 * i], "resistance": values[3 * i + 1], "unit": c.unit,
+            "utilization": values[3 * i + 2], "clause": c.clause, "governs": c.governs}
+           for i, c in enumerate(checks)]
+    for d, c in zip(out, checks):
+        if c.circle is not None:
+            d["circle"] = {"x_m": num(c.circle.x_m), "z_m": num(c.circle.z_m),
+                           "radius_m": num(c.circle.radius_m)}
+    return out
+
+
+def panels_json(panels) -> list[dict]:
+    """The entries of ``design.json`` ``panels`` (shared/interfaces.md): numbers rounded
+    by :func:`num`, the checks' effect, resistance and utilization of all panels by one
+    call of :func:`rounded` (some 300,000 values on a 10 km job)."""
+    values = rounded([v for p in panels for c in p.checks
+                      for v in (c.effect, c.resistance, c.utilization)])
+    out, k = [], 0
+    for p in panels:
+        n = 3 * len(p.checks)
+        out.append(_panel_json(p, values[k:k + n]))
+        k += n
+    return out
+
+
+def _panel_json(p: PanelResult, values: list) -> dict:
+    """One entry of :func:`panels_json`; ``values`` its checks' rounded numbers."""
     pa, s, r = p.panel, p.section, p.reinforcement
     f = pa.foundation
     reinf = {m: _bar_json(getattr(r, m)) for m in
@@ -232,85 +297,12 @@ def panel_json(p: PanelResult) -> dict:
                            "allowable_bearing_kpa": num(f.allowable_bearing_kpa)},
             "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
         "reinforcement": reinf,
-        "checks": [{"check": c.check, "combination": c.combination, "case": c.case,
-                    "effect": num(c.effect), "resistance": num(c.resistance), "unit": c.unit,
-                    "utilization": num(c.utilization), "clause": c.clause,
-                    "governs": c.governs} for c in p.checks],
+        "checks": _checks_json(p.checks, values),
         "quantities": {k: num(v) for k, v in p.quantities.items()},
         "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),
         "cost": num(p.cost, 2),
         "status": p.status, "reason": p.reason,
     }
-
-
-_BARS_JSON = ("stem", "heel", "toe", "stem_horizontal", "base_distribution", "stem_front")
-
-
-def _panel_numbers(p: PanelResult, v3: list, v1: list, v2: list) -> None:
-    """Append the numbers of ``panel_json(p)`` to the lists of 3, 1 and 2 decimals, in the
-    order ``_panel_json_from`` takes them back."""
-    pa, s, r, f = p.panel, p.section, p.reinforcement, p.panel.foundation
-    v3 += (pa.ch_start_m, pa.ch_end_m, pa.retained_top_m, pa.front_min_m, pa.founding_m,
-           pa.wall_top_start_m, pa.wall_top_end_m)
-    v3 += [getattr(s, d) for d in DIMENSIONS]
-    v3 += pa.backfill.__dict__.values()
-    v3 += (f.unit_weight_kn_m3, f.friction_angle_deg, f.phi_cv_deg, f.cohesion_kpa,
-           f.undrained_strength_kpa, f.allowable_bearing_kpa, pa.surcharge_kpa, pa.water_level_m)
-    for m in _BARS_JSON:
-        b = getattr(r, m)
-        if b is not None:
-            v1 += (b.as_prov_mm2_per_m, b.as_req_mm2_per_m, b.d_mm)
-    v3.append(r.stem_curtail_m)
-    for c in p.checks:
-        v3 += (c.effect, c.resistance, c.utilization)
-    v3 += p.quantities.values()
-    v3.append(p.concrete_m3)
-    v1.append(p.steel_kg)
-    v2.append(p.cost)
-
-
-def _panel_json_from(p: PanelResult, n3, n1, n2) -> dict:
-    """``panel_json(p)`` with the rounded numbers taken from the iterators' ``__next__``."""
-    pa, r = p.panel, p.reinforcement
-    ch = {"ch_start_m": n3(), "ch_end_m": n3()}
-    levels = {"retained_top_m": n3(), "front_min_m": n3(), "founding_m": n3(),
-              "wall_top_start_m": n3(), "wall_top_end_m": n3()}
-    section = {"type": p.section_type}
-    for d in DIMENSIONS:
-        section[d] = n3()
-    backfill = {k: n3() for k in pa.backfill.__dict__}
-    foundation = {"unit_weight_kn_m3": n3(), "friction_angle_deg": n3(),
-                  "critical_state_angle_deg": n3(), "cohesion_kpa": n3(),
-                  "undrained_strength_kpa": n3(), "allowable_bearing_kpa": n3()}
-    ground = {"backfill": backfill, "foundation": foundation, "surcharge_kpa": n3(),
-              "water_level_m": n3()}
-    reinf = {}
-    for m in _BARS_JSON:
-        b = getattr(r, m)
-        reinf[m] = None if b is None else {
-            "bar_mm": b.bar_mm, "spacing_mm": b.spacing_mm, "as_prov_mm2_per_m": n1(),
-            "as_req_mm2_per_m": n1(), "d_mm": n1()}
-    reinf["stem_curtail_m"] = n3()
-    checks = [{"check": c.check, "combination": c.combination, "case": c.case,
-               "effect": n3(), "resistance": n3(), "unit": c.unit, "utilization": n3(),
-               "clause": c.clause, "governs": c.governs} for c in p.checks]
-    quantities = {k: n3() for k in p.quantities}
-    return {
-        "panel": pa.panel, "run": pa.run, "side": pa.side, **ch, "levels": levels,
-        "section": section, "ground": ground, "reinforcement": reinf, "checks": checks,
-        "quantities": quantities, "concrete_m3": n3(), "steel_kg": n1(), "cost": n2(),
-        "status": p.status, "reason": p.reason,
-    }
-
-
-def panels_json(panels) -> list[dict]:
-    """``[panel_json(p) for p in panels]``, equal dicts, with every number of all panels
-    rounded in one array per number of decimals instead of one call per value."""
-    v3, v1, v2 = [], [], []
-    for p in panels:
-        _panel_numbers(p, v3, v1, v2)
-    n3, n1, n2 = (iter(nums(v, nd)).__next__ for v, nd in ((v3, 3), (v1, 1), (v2, 2)))
-    return [_panel_json_from(p, n3, n1, n2) for p in panels]
 
 
 def design_dict(result: DesignResult) -> dict:
@@ -328,7 +320,7 @@ def design_dict(result: DesignResult) -> dict:
         "wallrun_version": __version__,
         "project": {"name": site.project.name, "reference": site.project.reference},
         "caution": CAUTION,
-        "not_checked": list(NOT_CHECKED),
+        "not_checked": list(not_checked(site)),
         "basis": {"approach": site.design.approach, "factors": factors, "materials": mats,
                   "earth_pressure": site.design.earth_pressure, "passive": site.design.passive,
                   "sections": site.design.sections},
@@ -373,9 +365,6 @@ def design_json(result: DesignResult) -> str:
         else:
             parts.append(f" {enc(k)}: " + enc(v, indent=1).replace("\n", "\n "))
     return "{\n" + ",\n".join(parts) + "\n}\n"
-
-
-from wallrun.cautions import CAUTION, NOT_CHECKED  # noqa: E402  (re-exported)
 
 
 TABLES = {

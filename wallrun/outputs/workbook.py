@@ -1,35 +1,35 @@
-"""The spreadsheet ``schedule.xlsx``: the output tables in one workbook (openpyxl).
+"""The spreadsheet ``schedule.xlsx``: the output tables in one workbook, via XlsxWriter.
 
-Sheets: notes (project, caution, what is not checked, rate labels), schedule (the
-``panels.csv`` columns), panel quantities, joints, sections, bar schedule,
-quantities, cost. Headers carry their units, e.g. ``length (m)``. Text cells that a
-spreadsheet would read as a formula (leading ``= + - @``, tab or CR) are written with a
-leading apostrophe so they stay text. Numbers are written unrounded with a display
-format; infinite or undefined numbers are written as the text ``inf`` / empty.
+Sheets, each one table: ``cautions`` (project, the caution, what is not checked for the
+site, rate and cost notices, warnings), ``schedule`` (the ``panels.csv`` columns),
+``checks`` (a row a panel: the utilization of the worst entry of each check and
+combination; ``design.json`` has every entry with its case, effect and resistance),
+``panel quantities``, ``joints``, ``sections``, ``bar schedule``, ``quantities`` and
+``cost`` (the ``cost.csv`` columns, notices in ``note``). Every sheet has one bold
+header row carrying the units (``length (m)``), frozen, and an autofilter over its
+table.
 
-The workbook is streamed as SpreadsheetML (ECMA-376) text straight into the zip: each
-row is one string built from the cell values, in the layout openpyxl's write-only mode
-gives (inline strings, one style per number format or bold, the numbers as ``%.16g``),
-so openpyxl and spreadsheet programs read the same cells, formats and widths, at a
-fraction of the cost of one cell object per value. As in openpyxl's write-only mode,
-column widths and the frozen header apply only to a sheet whose table starts the sheet.
+Cells are typed: numbers are numbers, unrounded, shown with a number format; text is
+written with ``write_string``, so a text starting with ``= + - @`` is stored as it is
+and is never a formula; true and false are booleans; an infinite number is the text
+``inf`` (``-inf``) and an undefined one an empty cell. The workbook is streamed in
+XlsxWriter's constant-memory mode (each row goes to disk once written).
 """
 
 from __future__ import annotations
 
+import datetime as dt
 import math
-import zipfile
+from numbers import Real
 from pathlib import Path
-from xml.sax.saxutils import escape
 
-from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-from openpyxl.styles.numbers import BUILTIN_FORMATS_REVERSE
-from openpyxl.utils import get_column_letter
-from openpyxl.utils.exceptions import IllegalCharacterError
-from openpyxl.writer.theme import theme_xml
+import xlsxwriter
 
-from wallrun.outputs.tables import (BAR_COLUMNS, CAUTION, JOINT_COLUMNS, NOT_CHECKED,
-                                    PANEL_COLUMNS, SECTION_COLUMNS, panel_row, section_row)
+from wallrun.cautions import CAUTION, not_checked
+from wallrun.outputs.stamp import issue_date
+from wallrun.outputs.tables import (BAR_COLUMNS, COST_COLUMNS, JOINT_COLUMNS, PANEL_COLUMNS,
+                                    SECTION_COLUMNS, bar_schedule_row, cost_csv_rows,
+                                    panel_row, section_row)
 from wallrun.results import DesignResult
 from wallrun.takeoff import DEMO_RATES_NOTE, item_order, unit_of
 
@@ -47,288 +47,158 @@ def header(column: str) -> str:
     if column.startswith(_DIMENSIONLESS):
         return f"{column} (-)"
     if column == "cost":
-        return "cost (rate units)"
+        return "cost (cost units)"
     return column
 
 
-def safe(value):
-    """A cell value that cannot run as a formula: text starting with = + - @ (or a
-    tab/CR) gets a leading apostrophe; non-finite floats become text; None stays empty."""
-    if value is None:
-        return None
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float):
-        if math.isnan(value):
+class _Book:
+    """A workbook being written: its cell formats, made once each."""
+
+    def __init__(self, path: Path):
+        self.wb = xlsxwriter.Workbook(str(path), {"constant_memory": True})
+        self.bold = self.wb.add_format({"bold": True})
+        self._formats: dict = {}
+
+    def number_format(self, fmt: str | None):
+        if fmt is None:
             return None
-        if math.isinf(value):
-            return "inf" if value > 0 else "'-inf"
-        return value
-    if isinstance(value, int):
-        return value
-    s = str(value)
-    if s and s[0] in "=+-@\t\r":
-        return "'" + s
-    return s
+        f = self._formats.get(fmt)
+        if f is None:
+            f = self._formats[fmt] = self.wb.add_format({"num_format": fmt})
+        return f
+
+    def table(self, name: str, headers, rows, formats=(), widths=None) -> None:
+        """A sheet holding one table: the bold header row (frozen, with an autofilter
+        over the table) and ``rows`` (sequences of values in header order).
+        ``formats``: the number format of each column's floats (None: General)."""
+        ws = self.wb.add_worksheet(name)
+        n = len(headers)
+        fmts = [self.number_format(f) for f in formats] + [None] * (n - len(formats))
+        for j, h in enumerate(headers):
+            w = widths[j] if widths else min(max(len(h), 8) + 2, 40)
+            ws.set_column(j, j, w)
+            ws.write_string(0, j, h, self.bold)
+        r = 0
+        number, string = ws.write_number, ws.write_string
+        for r, row in enumerate(rows, start=1):
+            for j, v in enumerate(row):
+                t = type(v)  # the common types first, the rest by _put
+                if t is float and v - v == 0.0:
+                    number(r, j, v, fmts[j])
+                elif t is str:
+                    if v:
+                        string(r, j, v)
+                elif t is int:
+                    number(r, j, v)
+                elif v is not None:
+                    _put(ws, r, j, v, fmts[j])
+        ws.freeze_panes(1, 0)
+        ws.autofilter(0, 0, r, n - 1)
+
+    def close(self, result: DesignResult) -> None:
+        project = getattr(result.site, "project", None)
+        self.wb.set_properties({
+            "title": f"{getattr(project, 'name', '')}: panel schedule",
+            "comments": CAUTION,
+            "created": dt.datetime.combine(issue_date(), dt.time(0, 0)),
+        })
+        self.wb.close()
 
 
-_MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
-_REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
-_PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
-_CT = "application/vnd.openxmlformats-officedocument.spreadsheetml"
+def _put(ws, r: int, c: int, v, fmt) -> None:
+    """One typed cell (see the module docstring); ``fmt`` applies to floats only."""
+    if v is None:
+        return
+    if isinstance(v, str):
+        if v:
+            ws.write_string(r, c, v)
+    elif isinstance(v, bool):
+        ws.write_boolean(r, c, v)
+    elif isinstance(v, Real):
+        x = float(v)
+        if math.isfinite(x):
+            ws.write_number(r, c, x, fmt if isinstance(v, float) else None)
+        elif not math.isnan(x):
+            ws.write_string(r, c, "inf" if x > 0 else "-inf")
+    else:
+        ws.write_string(r, c, str(v))
 
 
-def _attr(value: str) -> str:
-    """``value`` escaped for a double-quoted XML attribute."""
-    return escape(value, {'"': "&quot;"})
-
-
-def _text(value: str) -> str:
-    """The ``<is>`` of an inline string cell (openpyxl's checks: at most 32,767
-    characters, no XML-illegal control characters; surrounding space preserved)."""
-    value = value[:32767]
-    if ILLEGAL_CHARACTERS_RE.search(value):
-        raise IllegalCharacterError(f"{value} cannot be used in worksheets.")
-    if value == "":
-        return ""
-    sp = ' xml:space="preserve"' if value != value.strip() else ""
-    return f"<is><t{sp}>{escape(value)}</t></is>"
-
-
-class _Styles:
-    """The cell formats of the workbook (number format, bold), numbered in order of first
-    use after the default one, as ``styles.xml`` lists them."""
-
-    def __init__(self):
-        self.ids: dict = {(None, False): 0}
-
-    def id(self, fmt: str | None, bold: bool) -> int:
-        key = (fmt, bold)
-        i = self.ids.get(key)
-        if i is None:
-            i = self.ids[key] = len(self.ids)
-        return i
-
-    def xml(self) -> str:
-        custom: dict[str, int] = {}
-        xfs = []
-        for fmt, bold in self.ids:
-            num = 0
-            if fmt:
-                num = BUILTIN_FORMATS_REVERSE.get(fmt)
-                if num is None:
-                    num = custom.setdefault(fmt, 164 + len(custom))
-            xfs.append(f'<xf numFmtId="{num}" fontId="{1 if bold else 0}" fillId="0" borderId="0"'
-                       f' pivotButton="0" quotePrefix="0" xfId="0"/>')
-        fmts = "".join(f'<numFmt numFmtId="{i}" formatCode="{_attr(f)}"/>'
-                       for f, i in custom.items())
-        return (f'<styleSheet xmlns="{_MAIN}"><numFmts count="{len(custom)}">{fmts}</numFmts>'
-                '<fonts count="2"><font><name val="Calibri"/><family val="2"/>'
-                '<color theme="1"/><sz val="11"/><scheme val="minor"/></font>'
-                '<font><b val="1"/></font></fonts><fills count="2"><fill><patternFill/></fill>'
-                '<fill><patternFill patternType="gray125"/></fill></fills><borders count="1">'
-                '<border><left/><right/><top/><bottom/><diagonal/></border></borders>'
-                '<cellStyleXfs count="1"><xf numFmtId="0" fontId="0" fillId="0" borderId="0"/>'
-                f'</cellStyleXfs><cellXfs count="{len(xfs)}">{"".join(xfs)}</cellXfs>'
-                '<cellStyles count="1"><cellStyle name="Normal" xfId="0" builtinId="0" '
-                'hidden="0"/></cellStyles><tableStyles count="0" '
-                'defaultTableStyle="TableStyleMedium9" defaultPivotStyle="PivotStyleLight16"/>'
-                '</styleSheet>')
-
-
-class _Sheet:
-    """One worksheet streamed as text: the head (column widths, frozen header) is fixed
-    by the first row, as in openpyxl's write-only mode; then one string per row."""
-
-    def __init__(self, title: str, styles: _Styles):
-        self.title, self.styles = title, styles
-        self.widths: dict[int, float] = {}
-        self.freeze: str | None = None
-        self.parts: list[str] = []
-        self.row = 0
-
-    def _head(self) -> None:
-        view = '<selection activeCell="A1" sqref="A1"/>'
-        if self.freeze:
-            view = (f'<pane ySplit="{int(self.freeze[1:]) - 1}" topLeftCell="{self.freeze}" '
-                    'activePane="bottomLeft" state="frozen"/>'
-                    '<selection pane="bottomLeft" activeCell="A1" sqref="A1"/>')
-        cols = "".join(f'<col width="{w}" customWidth="1" min="{j}" max="{j}"/>'
-                       for j, w in sorted(self.widths.items()))
-        self.parts.append(
-            f'<worksheet xmlns="{_MAIN}"><sheetPr><outlinePr summaryBelow="1" summaryRight="1"/>'
-            f'<pageSetUpPr/></sheetPr><sheetViews><sheetView workbookViewId="0">{view}'
-            '</sheetView></sheetViews><sheetFormatPr baseColWidth="8" defaultRowHeight="15"/>'
-            + (f"<cols>{cols}</cols>" if cols else "") + "<sheetData>")
-
-    def append(self, values, fmts=None, bold=()) -> None:
-        """One row: ``values`` (made safe here, :func:`safe`), the number format of each
-        column for floats (``fmts``), and the columns in bold."""
-        if not self.parts:
-            self._head()
-        self.row += 1
-        r = self.row
-        cells = []
-        sid = self.styles.id
-        for j, value in enumerate(values):
-            v = safe(value)
-            b = j in bold
-            if v is None:
-                if b:
-                    cells.append(f'<c r="{get_column_letter(j + 1)}{r}" s="{sid(None, True)}" t="n"/>')
-                continue
-            ref = f"{get_column_letter(j + 1)}{r}"
-            if isinstance(v, str):
-                st = f' s="{sid(None, True)}"' if b else ""
-                cells.append(f'<c r="{ref}"{st} t="inlineStr">{_text(v)}</c>')
-            else:
-                fmt = fmts[j] if fmts is not None and isinstance(v, float) else None
-                st = f' s="{sid(fmt, b)}"' if (fmt or b) else ""
-                cells.append(f'<c r="{ref}"{st} t="n"><v>{"%.16g" % v}</v></c>')
-        self.parts.append(f'<row r="{r}">{"".join(cells)}</row>')
-
-    def xml(self) -> str:
-        if not self.parts:
-            self._head()
-        return "".join(self.parts) + ('</sheetData><pageMargins left="0.75" right="0.75" top="1" '
-                                      'bottom="1" header="0.5" footer="0.5"/></worksheet>')
-
-
-def _table(ws: _Sheet, columns, rows, formats: dict | None = None,
-           headers: list[str] | None = None, bold_last: bool = False) -> None:
-    """Column widths, frozen header, a bold header row and the rows (dicts keyed by
-    column) of a sheet; the last row's first cell bold with ``bold_last``. Widths and
-    the frozen header count only when the header is the sheet's first row."""
-    formats = formats or {}
-    heads = headers if headers else [header(c) for c in columns]
-    if not ws.parts:
-        for j, h in enumerate(heads, start=1):
-            ws.widths[j] = min(max(len(str(h)), 8) + 2, 40)
-        ws.freeze = "A2"
-    ws.append(heads, bold=range(len(heads)))
-    fmts = [formats.get(c, "0.000") for c in columns]
-    last = len(rows) - 1
-    first = (0,)
-    for i, row in enumerate(rows):
-        ws.append([row.get(c) for c in columns], fmts, first if bold_last and i == last else ())
-
-
-def _notes(ws, result: DesignResult) -> None:
+def _cautions(book: _Book, result: DesignResult) -> None:
     project = getattr(result.site, "project", None)
-    lines = [("project", getattr(project, "name", "")),
-             ("reference", getattr(project, "reference", "")),
-             ("caution", CAUTION)]
-    lines += [("not checked", item) for item in NOT_CHECKED]
+    rows = [("project", getattr(project, "name", "")),
+            ("reference", getattr(project, "reference", "")),
+            ("caution", CAUTION)]
+    rows += [("not checked", item) for item in not_checked(result.site)]
     if result.cost.demo_rates:
-        lines.append(("rates", DEMO_RATES_NOTE))
+        rows.append(("rates", DEMO_RATES_NOTE))
     if not result.cost.complete:
-        lines.append(("cost", "Incomplete: some items have no rate; the total leaves them out."))
-    lines += [("warning", w) for w in result.warnings]
-    ws.widths.update({1: 14, 2: 100})
-    for k, v in lines:
-        ws.append([k, v], bold=(0,))
+        rows.append(("cost", "Incomplete: some items have no rate; the total leaves them out."))
+    rows += [("warning", w) for w in result.warnings]
+    book.table("cautions", ["topic", "text"], rows, widths=[14, 110])
 
 
-def _panel_quantities(ws, result: DesignResult) -> None:
+def _checks(book: _Book, result: DesignResult) -> None:
+    """A row a panel: the utilization of the governing entry of each (check,
+    combination), columns in order of first appearance."""
+    keys: dict = {}
+    per_panel = []
+    for p in result.panels:
+        u = {}
+        for c in p.checks:
+            if c.governs:
+                k = (c.check, c.combination)
+                u[k] = c.utilization
+                keys.setdefault(k, None)
+        per_panel.append(u)
+    cols = list(keys)
+    heads = ["panel", "section", "status", "governing"] + [f"{c} {m} (-)" for c, m in cols]
+    rows = ([p.panel.panel, p.section_type, p.status, p.governing] + [u.get(k) for k in cols]
+            for p, u in zip(result.panels, per_panel))
+    book.table("checks", heads, rows, [None] * 4 + ["0.000"] * len(cols))
+
+
+def _panel_quantities(book: _Book, result: DesignResult) -> None:
     items = sorted({k for p in result.panels for k in p.quantities}, key=item_order)
-    cols = ["panel"] + items
-    heads = ["panel"] + [f"{i} ({_unit(i)})" for i in items]
-    rows = [{"panel": p.panel.panel, **p.quantities} for p in result.panels]
-    _table(ws, cols, rows, headers=heads)
+
+    def unit(item):
+        try:
+            return unit_of(item)
+        except ValueError:
+            return "?"
+
+    heads = ["panel"] + [f"{i} ({unit(i)})" for i in items]
+    rows = ([p.panel.panel] + [p.quantities.get(i) for i in items] for p in result.panels)
+    book.table("panel quantities", heads, rows, [None] + ["0.000"] * len(items))
 
 
-def _unit(item: str) -> str:
-    try:
-        return unit_of(item)
-    except ValueError:
-        return "?"
-
-
-def _cost(ws, result: DesignResult) -> None:
-    c = result.cost
-    above = []
-    if c.demo_rates:
-        above.append(["RATES ARE INVENTED EXAMPLE FIGURES, NOT MARKET PRICES",
-                      DEMO_RATES_NOTE])
-    if not c.complete:
-        above.append(["INCOMPLETE ESTIMATE",
-                      "items marked unpriced have no rate and are not in the total"])
-    cols = ("item", "unit", "quantity", "rate", "amount")
-    heads = ["item", "unit", "quantity (in unit)", "rate (per unit)", "amount"]
-    rows = [{"item": x.item, "unit": x.unit, "quantity": x.quantity,
-             "rate": x.rate if x.rate is not None else "unpriced",
-             "amount": x.amount if x.amount is not None else "unpriced"} for x in c.rows]
-    label = "total" if c.complete else "total (incomplete: unpriced items left out)"
-    rows.append({"item": label, "amount": c.total})
-    if above:  # the notices, a blank row, then the table
-        for a, b in above:
-            ws.append([a, b], bold=(0,))
-        ws.append([])
-    _table(ws, cols, rows, headers=heads, bold_last=True,
-           formats={"quantity": "0.000", "rate": "0.00", "amount": "0.00"})
-
-
-SHEETS = ("notes", "schedule", "panel quantities", "joints", "sections", "bar schedule",
-          "quantities", "cost")
-
-
-def _package(sheets: list[_Sheet], styles: _Styles, path: Path) -> None:
-    """The zip of the workbook: content types, relationships, workbook, styles, theme
-    and the sheets."""
-    n = len(sheets)
-    ws_ct = f"{_CT}.worksheet+xml"
-    types = ("".join(f'<Override PartName="/xl/worksheets/sheet{i}.xml" ContentType="{ws_ct}"/>'
-                     for i in range(1, n + 1)))
-    content_types = (
-        '<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">'
-        '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.'
-        'relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>'
-        f'<Override PartName="/xl/styles.xml" ContentType="{_CT}.styles+xml"/>'
-        '<Override PartName="/xl/theme/theme1.xml" ContentType="application/vnd.'
-        'openxmlformats-officedocument.theme+xml"/>' + types +
-        f'<Override PartName="/xl/workbook.xml" ContentType="{_CT}.sheet.main+xml"/></Types>')
-    rels = (f'<Relationships xmlns="{_PKG_REL}"><Relationship Type="{_REL}/officeDocument" '
-            'Target="xl/workbook.xml" Id="rId1"/></Relationships>')
-    book = (f'<workbook xmlns="{_MAIN}"><workbookPr/><bookViews><workbookView '
-            'visibility="visible" activeTab="0"/></bookViews><sheets>'
-            + "".join(f'<sheet xmlns:r="{_REL}" name="{_attr(s.title)}" sheetId="{i}" '
-                      f'state="visible" r:id="rId{i}"/>' for i, s in enumerate(sheets, 1))
-            + '</sheets><calcPr calcId="124519" fullCalcOnLoad="1"/></workbook>')
-    book_rels = (f'<Relationships xmlns="{_PKG_REL}">'
-                 + "".join(f'<Relationship Type="{_REL}/worksheet" '
-                           f'Target="/xl/worksheets/sheet{i}.xml" Id="rId{i}"/>'
-                           for i in range(1, n + 1))
-                 + f'<Relationship Type="{_REL}/styles" Target="styles.xml" Id="rId{n + 1}"/>'
-                 f'<Relationship Type="{_REL}/theme" Target="theme/theme1.xml" Id="rId{n + 2}"/>'
-                 '</Relationships>')
-    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED, compresslevel=6) as z:
-        z.writestr("[Content_Types].xml", content_types)
-        z.writestr("_rels/.rels", rels)
-        z.writestr("xl/workbook.xml", book)
-        z.writestr("xl/_rels/workbook.xml.rels", book_rels)
-        for i, sh in enumerate(sheets, 1):
-            z.writestr(f"xl/worksheets/sheet{i}.xml", sh.xml())
-        z.writestr("xl/styles.xml", styles.xml())
-        z.writestr("xl/theme/theme1.xml", theme_xml)
+def _columns(book: _Book, name: str, columns, dict_rows, formats: dict | None = None) -> None:
+    """A table of dict rows keyed by ``columns``, headers with units, floats shown to
+    3 decimals unless ``formats`` says otherwise."""
+    formats = formats or {}
+    book.table(name, [header(c) for c in columns],
+               ([row.get(c) for c in columns] for row in dict_rows),
+               [formats.get(c, "0.000") for c in columns])
 
 
 def write_workbook(result: DesignResult, path) -> Path:
     """Write ``schedule.xlsx`` for ``result`` at ``path``; returns the path."""
-    styles = _Styles()
-    sheets = {name: _Sheet(name, styles) for name in SHEETS}
-    _notes(sheets["notes"], result)
-    _table(sheets["schedule"], PANEL_COLUMNS, [panel_row(p) for p in result.panels],
-           formats={"cost": "0.00", "steel_kg": "0.0"})
-    _panel_quantities(sheets["panel quantities"], result)
-    _table(sheets["joints"], JOINT_COLUMNS, [dict(j.__dict__) for j in result.joints])
-    _table(sheets["sections"], SECTION_COLUMNS, [section_row(t) for t in result.section_types])
-    _table(sheets["bar schedule"], BAR_COLUMNS,
-           [{c: getattr(b, c) for c in BAR_COLUMNS} for b in result.bar_schedule],
-           formats={"mass_kg": "0.00", "total_length_m": "0.00"})
-    _table(sheets["quantities"], ("item", "unit", "quantity"),
-           [dict(q.__dict__) for q in result.quantities],
-           headers=["item", "unit", "quantity (in unit)"])
-    _cost(sheets["cost"], result)
     path = Path(path)
-    _package(list(sheets.values()), styles, path)
+    book = _Book(path)
+    _cautions(book, result)
+    _columns(book, "schedule", PANEL_COLUMNS, (panel_row(p) for p in result.panels),
+             {"cost": "0.00", "steel_kg": "0.0"})
+    _checks(book, result)
+    _panel_quantities(book, result)
+    _columns(book, "joints", JOINT_COLUMNS, (j.__dict__ for j in result.joints))
+    _columns(book, "sections", SECTION_COLUMNS, (section_row(t) for t in result.section_types))
+    _columns(book, "bar schedule", BAR_COLUMNS,
+             (bar_schedule_row(b) for b in result.bar_schedule), {"mass_kg": "0.00"})
+    book.table("quantities", ["item", "unit", "quantity (in unit)"],
+               ((q.item, q.unit, q.quantity) for q in result.quantities), [None, None, "0.000"])
+    book.table("cost", ["item", "unit", "quantity (in unit)", "rate (cost units per unit)",
+                        "amount (cost units)", "note"],
+               ([row[c] for c in COST_COLUMNS] for row in cost_csv_rows(result)),
+               [None, None, "0.000", "0.00", "0.00", None], widths=[22, 8, 18, 26, 20, 60])
+    book.close(result)
     return path

@@ -2,15 +2,16 @@
 
 Everything is written into a temporary folder beside the target and moved into place
 only when complete, so a failed or killed run leaves the previous output untouched.
-The inputs are only ever read.
+The inputs are only ever read. One process writes every file, one after the other; no
+state is kept between calls, so two threads may write two results at once (into two
+different folders).
 """
 
 from __future__ import annotations
 
-import gc
 import os
+import secrets
 import shutil
-import tempfile
 from pathlib import Path
 
 from wallrun.errors import InputError
@@ -22,8 +23,7 @@ def check_writable(out_dir) -> None:
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
         raise InputError(f"--out {out}: exists and is not a folder")
-    parent = out.parent if not out.exists() else out.parent
-    probe = parent
+    probe = out.parent
     while not probe.exists():
         probe = probe.parent
     if not probe.is_dir() or not os.access(probe, os.W_OK | os.X_OK):
@@ -37,78 +37,33 @@ def _write_text(path: Path, text: str) -> None:
         f.write(text)
 
 
-def _write_sections_and_preview(result: DesignResult, folder: Path) -> None:
-    from wallrun.outputs.dxf import write_drawings
-    write_drawings(result, folder)
-
-
-def _write_the_rest(result: DesignResult, folder: Path) -> None:
+def write_all(result: DesignResult, folder: Path) -> list[str]:
+    """Write every output file of ``result`` into ``folder`` (which exists and is
+    empty); returns the names written. Each writer renders ``result`` only."""
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
+    from wallrun.outputs.dxf import write_drawings
+    folder = Path(folder)
     for name, render in tables.TABLES.items():
         _write_text(folder / name, render(result))
     workbook.write_workbook(result, folder / "schedule.xlsx")
+    write_drawings(result, folder)
     report.write_report(result, folder / "report.html")
     profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
     ifc.write_ifc(result, folder / "model.ifc")
-
-
-def _child(result, folder, conn) -> None:
-    gc.disable()  # this process ends after the two files; nothing to collect meanwhile
-    try:
-        _write_sections_and_preview(result, folder)
-        conn.send("")
-    except BaseException as exc:  # reported by the parent
-        conn.send(f"{type(exc).__name__}: {exc}")
-    finally:
-        conn.close()
-
-
-#: Above this many section types the cross-section drawings (the largest writer) are
-#: written by a second process while this one writes the rest; the files are the same.
-PARALLEL_FROM_TYPES = 12
-
-
-def write_all(result: DesignResult, folder: Path) -> list[str]:
-    """Write every output file into ``folder`` (which exists and is empty).
-
-    The writers are independent renderings of ``result``. For a large job (more than
-    ``PARALLEL_FROM_TYPES`` section types, on a platform with ``fork``) the section
-    drawings and their preview are written by a forked child process at the same time;
-    a failure there fails the whole write.
-    """
-    import multiprocessing as mp
-
-    from wallrun.memory import collector_paused
-    with collector_paused():  # the writers make many long-lived objects
-        return _write_all(result, folder, mp)
-
-
-def _write_all(result: DesignResult, folder: Path, mp) -> list[str]:
-    if len(result.section_types) > PARALLEL_FROM_TYPES and "fork" in mp.get_all_start_methods():
-        ctx = mp.get_context("fork")
-        recv, send = ctx.Pipe(duplex=False)
-        child = ctx.Process(target=_child, args=(result, folder, send), daemon=True)
-        child.start()
-        send.close()
-        try:
-            _write_the_rest(result, folder)
-        finally:
-            try:
-                message = recv.recv()
-            except EOFError:
-                message = "the writing process ended without an answer"
-            child.join()
-        if message or child.exitcode != 0:
-            raise RuntimeError(f"writing sections.dxf failed: {message or child.exitcode}")
-    else:
-        _write_sections_and_preview(result, folder)
-        _write_the_rest(result, folder)
     return sorted(p.name for p in folder.iterdir())
 
 
 def _leftovers(out: Path, kind: str) -> list[Path]:
     """Temporary siblings of ``out`` left by a run that was killed (``tmp`` or ``old``)."""
     return sorted(p for p in out.parent.glob(f".{out.name}.{kind}-*") if p.is_dir())
+
+
+def _sibling(out: Path, kind: str) -> Path:
+    """A new unused name ``.NAME.kind-XXXX`` beside ``out``."""
+    while True:
+        p = out.parent / f".{out.name}.{kind}-{secrets.token_hex(6)}"
+        if not os.path.lexists(p):
+            return p
 
 
 def recover(out: Path) -> None:
@@ -125,23 +80,27 @@ def recover(out: Path) -> None:
 def write_outputs(result: DesignResult, out_dir) -> list[str]:
     """Write the output folder atomically; returns the file names written.
 
-    The files go into ``.NAME.tmp-*`` beside the target; the previous output is moved
-    to ``.NAME.old-*``, the new one into place, and the old one removed. Leftovers of
-    killed runs are recovered or removed.
+    The files go into ``.NAME.tmp-*`` beside the target (made with the permissions the
+    process's umask gives an ordinary folder); the previous output is moved to
+    ``.NAME.old-*``, the new one into place, and the old one removed. Leftovers of
+    killed runs into the same target are recovered or removed (two writes into the
+    same folder at the same time are not supported; into two folders they are).
     """
     out = Path(out_dir).resolve()
     out.parent.mkdir(parents=True, exist_ok=True)
     recover(out)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes 0700; the output is an ordinary folder
+    while True:
+        tmp = _sibling(out, "tmp")
+        try:
+            os.mkdir(tmp, 0o777)  # the umask applies, as to any new folder
+            break
+        except FileExistsError:
+            continue
     try:
         names = write_all(result, tmp)
         old = None
         if out.exists():
-            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.parent))
-            old.rmdir()
+            old = _sibling(out, "old")
             os.replace(out, old)
         os.replace(tmp, out)
     except BaseException:
