@@ -31,14 +31,7 @@ MODULES = sorted(PACKAGE.rglob("*.py"))
 #: progress (the workbook, report and tables rewrite of the outputs issue, branch
 #: ``report``). Their findings are expected failures until that change lands; every
 #: other module must pass.
-KNOWN: dict[str, str] = {
-    "wallrun/outputs/report.py": "report.py: matplotlib private names (being rewritten "
-                                 "on branch report)",
-    "wallrun/outputs/tables.py": "tables.py: .__dict__ of its own result dataclasses "
-                                 "(being rewritten on branch report)",
-    "wallrun/outputs/workbook.py": "workbook.py: .__dict__ of its own result dataclasses "
-                                   "(being rewritten on branch report)",
-}
+KNOWN: dict[str, str] = {}
 
 #: Findings reviewed as wallrun's own objects, by module and source text: the
 #: ``.__dict__`` of wallrun's frozen result dataclasses (``CheckEntry``,

@@ -11,6 +11,7 @@ with its header; notices (demo rates, unpriced items) are in its ``note`` column
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import json
 import math
@@ -153,7 +154,7 @@ def panels_csv(result: DesignResult) -> str:
 
 
 def joints_csv(result: DesignResult) -> str:
-    return to_csv(JOINT_COLUMNS, [j.__dict__ for j in result.joints])
+    return to_csv(JOINT_COLUMNS, [dataclasses.asdict(j) for j in result.joints])
 
 
 def _bars_of(r, member):
@@ -196,7 +197,7 @@ def bar_schedule_csv(result: DesignResult) -> str:
 
 
 def quantities_csv(result: DesignResult) -> str:
-    return to_csv(("item", "unit", "quantity"), [q.__dict__ for q in result.quantities])
+    return to_csv(("item", "unit", "quantity"), [dataclasses.asdict(q) for q in result.quantities])
 
 
 COST_COLUMNS = ("item", "unit", "quantity", "rate", "amount", "note")
@@ -288,7 +289,7 @@ def _panel_json(p: PanelResult, values: list) -> dict:
                    "wall_top_end_m": num(pa.wall_top_end_m)},
         "section": {"type": p.section_type, **{d: num(getattr(s, d)) for d in DIMENSIONS}},
         "ground": {
-            "backfill": {k: num(v) for k, v in pa.backfill.__dict__.items()},
+            "backfill": {k: num(v) for k, v in dataclasses.asdict(pa.backfill).items()},
             "foundation": {"unit_weight_kn_m3": num(f.unit_weight_kn_m3),
                            "friction_angle_deg": num(f.friction_angle_deg),
                            "critical_state_angle_deg": num(f.phi_cv_deg),
@@ -307,7 +308,7 @@ def _panel_json(p: PanelResult, values: list) -> dict:
 
 def design_dict(result: DesignResult) -> dict:
     site = result.site
-    factors = {name: {k: v for k, v in fs.__dict__.items() if k != "name" and v is not None}
+    factors = {name: {k: v for k, v in dataclasses.asdict(fs).items() if k != "name" and v is not None}
                for name, fs in site.factors.items()}
     mats = {"strength_class": site.concrete.strength_class,
             "fck_mpa": num(site.concrete.fck_mpa),

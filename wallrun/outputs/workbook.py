@@ -18,6 +18,7 @@ XlsxWriter's constant-memory mode (each row goes to disk once written).
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import math
 from numbers import Real
@@ -27,9 +28,17 @@ import xlsxwriter
 
 from wallrun.cautions import CAUTION, not_checked
 from wallrun.outputs.stamp import issue_date
-from wallrun.outputs.tables import (BAR_COLUMNS, COST_COLUMNS, JOINT_COLUMNS, PANEL_COLUMNS,
-                                    SECTION_COLUMNS, bar_schedule_row, cost_csv_rows,
-                                    panel_row, section_row)
+from wallrun.outputs.tables import (
+    BAR_COLUMNS,
+    COST_COLUMNS,
+    JOINT_COLUMNS,
+    PANEL_COLUMNS,
+    SECTION_COLUMNS,
+    bar_schedule_row,
+    cost_csv_rows,
+    panel_row,
+    section_row,
+)
 from wallrun.results import DesignResult
 from wallrun.takeoff import DEMO_RATES_NOTE, item_order, unit_of
 
@@ -190,7 +199,7 @@ def write_workbook(result: DesignResult, path) -> Path:
              {"cost": "0.00", "steel_kg": "0.0"})
     _checks(book, result)
     _panel_quantities(book, result)
-    _columns(book, "joints", JOINT_COLUMNS, (j.__dict__ for j in result.joints))
+    _columns(book, "joints", JOINT_COLUMNS, (dataclasses.asdict(j) for j in result.joints))
     _columns(book, "sections", SECTION_COLUMNS, (section_row(t) for t in result.section_types))
     _columns(book, "bar schedule", BAR_COLUMNS,
              (bar_schedule_row(b) for b in result.bar_schedule), {"mass_kg": "0.00"})
