@@ -196,7 +196,33 @@ def _drawing(s, p, hc: float, hd: float, beta: float, outlines) -> SectionDrawin
         _dim(pen, (toe, y_key), (toe + s.key_width_m, y_key), f"{s.key_width_m:.2f}", False,
              dims, labels)
     paths.append(("dim", "".join(dims)))
+    if p is not None:  # overall stability: the critical slip circle where it was checked
+        arc = slip_arc(p, -ext, x_end, z0)
+        if arc is not None:
+            xs, zs, text = arc
+            paths.append(("slip", "M" + "L".join(pen.p(x, z) for x, z in zip(xs, zs))))
+            lx, ly = pen.xy(x0, z1)
+            labels.append(Label(lx + 4, ly + 10, text, "slip"))
     return SectionDrawing(DRAWING_WIDTH, round((z1 - z0) * k), tuple(paths), tuple(labels))
+
+
+def slip_arc(p, x_lo: float, x_hi: float, z_lo: float, n: int = 64):
+    """The part of the critical slip circle of panel result ``p`` inside the drawing
+    (x from ``x_lo`` to ``x_hi``, above ``z_lo``; section coordinates, m, z above the
+    underside of the base) and its label, or None: the worst ``overall`` entry's circle
+    (design-basis section 9)."""
+    ov = [e for e in p.checks if e.check == "overall" and getattr(e, "circle", None)]
+    if not ov:
+        return None
+    e = max(ov, key=lambda e: e.utilization)
+    xc, zc, R = e.circle.x_m, e.circle.z_m - p.panel.founding_m, e.circle.radius_m
+    xs = np.linspace(max(x_lo, xc - R), min(x_hi, xc + R), n + 1)
+    zs = zc - np.sqrt(np.maximum(R * R - (xs - xc) ** 2, 0.0))
+    keep = zs >= z_lo
+    if keep.sum() < 2:
+        return None
+    return (xs[keep], zs[keep],
+            f"critical slip circle {e.combination}, utilization {e.utilization:.2f}")
 
 
 # --- the long section ------------------------------------------------------------------
