@@ -90,6 +90,18 @@ def test_retained_height_beyond_supported_range(tmp_path, capsys):
     for p in panels:
         if float(p["retained_height_m"]) <= 8.0:
             assert "beyond the supported range" not in p["reason"]
+    # a panel that could not be designed reports only its reason: no utilization,
+    # quantities or cost, and it is left out of the totals
+    for p in tall:
+        for col in ("util_overturning", "util_sliding", "util_bearing", "util_structural",
+                    "governing", "concrete_m3", "steel_kg", "cost"):
+            assert p[col] == "", (p["panel"], col, p[col])
+        assert js[p["panel"]]["quantities"] == {}
+    total = {q["item"]: float(q["quantity"]) for q in rows(out, "quantities.csv")}
+    designed = [p for p in panels if p["status"] == "ok"]
+    assert designed
+    assert total["concrete_total"] == pytest.approx(
+        sum(float(p["concrete_m3"]) for p in designed), abs=0.01 * len(designed))
 
 
 def test_foundation_too_weak_for_any_section(tmp_path, capsys):

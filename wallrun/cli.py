@@ -426,7 +426,8 @@ def print_design_summary(result, out_dir) -> None:
     if flagged or fj:
         print(f"Flagged: {len(flagged)} panel{'s' if len(flagged) != 1 else ''}, "
               f"{len(fj)} joint{'s' if len(fj) != 1 else ''} (reasons in panels.csv and "
-              "joints.csv)")
+              "joints.csv)" + ("; the flagged panels are not designed and not in the "
+                               "quantities or cost" if flagged else ""))
         lines = [f"  {p.panel.panel}: {p.reason}" for p in flagged]
         lines += [f"  {j.joint} at ch {j.ch_m:.2f}: {j.reason}" for j in fj]
         for line in lines[:SHOWN_FLAGS]:

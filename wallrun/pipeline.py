@@ -283,16 +283,25 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
             k += 1
         type_names[key] = f"S{k:02d}"
 
+    # a panel that could not be designed (flagged) has no bars, quantities, cost or
+    # utilization to report: only its reason (its nominal section is still drawn)
     per_panel_bars, all_bars = [], []
     for panel, d, _, _ in rows:
-        b = bars_mod.panel_bars(type_names[_type_key(d)], d.section, d.reinforcement, panel,
-                                site.basis)
+        b = (bars_mod.panel_bars(type_names[_type_key(d)], d.section, d.reinforcement, panel,
+                                 site.basis) if d.status == "ok" else [])
         per_panel_bars.append(b)
         all_bars.extend(b)
     schedule = bars_mod.schedule(all_bars)
 
     results, per_panel_q = [], []
     for k, ((panel, d, _, front_mean), b) in enumerate(zip(rows, per_panel_bars)):
+        common = dict(panel=panel, section_type=type_names[_type_key(d)], section=d.section,
+                      reinforcement=d.reinforcement, checks=d.checks, status=d.status,
+                      reason=d.reason)
+        if d.status != "ok":
+            results.append(PanelResult(**common, quantities={}, concrete_m3=None,
+                                       steel_kg=None, cost=None))
+            continue
         nxt = rows[k + 1][0] if k + 1 < len(rows) else None
         sealed = 1 if (nxt is not None and nxt.run == panel.run) else 0
         q = takeoff.panel_quantities(panel, d.section, b, site.takeoff, front_level_m=front_mean,
@@ -300,11 +309,8 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
         per_panel_q.append(q)
         pq = tuple(Quantity(item, takeoff.UNITS.get(item, ""), v) for item, v in q.items())
         results.append(PanelResult(
-            panel=panel, section_type=type_names[_type_key(d)], section=d.section,
-            reinforcement=d.reinforcement, checks=d.checks, status=d.status, reason=d.reason,
-            quantities=q, concrete_m3=q.get("concrete_total", 0.0),
-            steel_kg=q.get("reinforcement_total", 0.0),
-            cost=takeoff.cost(pq, site.rates).total))
+            **common, quantities=q, concrete_m3=q.get("concrete_total", 0.0),
+            steel_kg=q.get("reinforcement_total", 0.0), cost=takeoff.cost(pq, site.rates).total))
     quantities = takeoff.totals(per_panel_q)
     if rational is not None:
         used = {r.section_type for r in results if r.status == "ok"}

@@ -297,9 +297,11 @@ class PanelResult:
     status: str  # ok | flagged
     reason: str = ""
     quantities: dict[str, float] = field(default_factory=dict)  # per-panel take-off
-    concrete_m3: float = 0.0
-    steel_kg: float = 0.0
-    cost: float = 0.0
+    # None for a panel that could not be designed (flagged): nothing is measured or
+    # priced for it, and it is left out of the totals
+    concrete_m3: float | None = 0.0
+    steel_kg: float | None = 0.0
+    cost: float | None = 0.0
 
     def util(self, *checks: str) -> float:
         us = [c.utilization for c in self.checks if c.check in checks]

@@ -313,6 +313,8 @@ def write_ifc(result, path) -> None:
     products = []
     typed: dict[str, list] = {}
     for pr in result.panels:
+        if pr.status != "ok":
+            continue  # a panel that could not be designed has nothing to build
         wall, footing = _panel(m, body, line, site_placement, pr, pr.panel.panel in starts,
                                pr.panel.panel in ends)
         products += [wall, footing]

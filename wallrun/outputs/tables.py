@@ -130,6 +130,9 @@ def panel_row(p: PanelResult) -> dict:
             overall = u
         if c.combination == SEISMIC and (seismic is None or u > seismic):
             seismic = u
+    designed = p.status == "ok"  # a flagged panel reports its reason, no utilization
+    if not designed:
+        overall = seismic = None
     row = {
         "panel": pa.panel, "run": pa.run, "side": pa.side, "ch_start_m": pa.ch_start_m,
         "ch_end_m": pa.ch_end_m, "length_m": pa.length_m, "retained_top_m": pa.retained_top_m,
@@ -137,10 +140,12 @@ def panel_row(p: PanelResult) -> dict:
         "wall_top_start_m": pa.wall_top_start_m, "wall_top_end_m": pa.wall_top_end_m,
         "retained_height_m": pa.retained_height_m, "total_height_m": pa.total_height_m,
         "section": p.section_type,
-        "util_overturning": p.util("overturning"), "util_sliding": p.util("sliding"),
-        "util_bearing": p.util("bearing"), "util_structural": p.util(*STRUCTURAL_CHECKS),
+        "util_overturning": p.util("overturning") if designed else None,
+        "util_sliding": p.util("sliding") if designed else None,
+        "util_bearing": p.util("bearing") if designed else None,
+        "util_structural": p.util(*STRUCTURAL_CHECKS) if designed else None,
         "util_overall": overall, "util_seismic": seismic,
-        "governing": p.governing, "status": p.status, "reason": p.reason,
+        "governing": p.governing if designed else "", "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
     }
     for dim in DIMENSIONS:

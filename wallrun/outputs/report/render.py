@@ -276,8 +276,8 @@ def context(result, date: str | None = None) -> dict:
         "status": ("ok: every panel and joint passes" if result.ok else
                    f"FLAGGED: {n_bad} panel(s) and {len(j_bad)} joint(s)"),
         "totals": {"length": sum(p.panel.length_m for p in panels),
-                   "concrete": sum(p.concrete_m3 for p in panels),
-                   "steel": sum(p.steel_kg for p in panels)},
+                   "concrete": sum(p.concrete_m3 or 0.0 for p in panels),
+                   "steel": sum(p.steel_kg or 0.0 for p in panels)},
         "highest": seen["highest"],
         "caution": CAUTION, "not_checked": not_checked(site), "demo_note": DEMO_RATES_NOTE,
         "warnings": warnings,
