@@ -109,3 +109,26 @@ def test_overall_entries_confirmed_by_independent_bishop(result):
             assert abs(c.utilization * F - 1.0) < 0.03, (p.panel.panel, c, F)
             checked += 1
     assert checked >= 2
+
+
+def test_outputs_carry_both_situations(result, tmp_path):
+    # panels.csv gains util_overall and util_seismic; design.json's overall entries their
+    # critical circle; the report a seismic block (kh, kv, theta, K and the actions of
+    # each sign of kv) in every type's calculation
+    import csv
+    import json
+    site, res = result
+    out = tmp_path / "out"
+    wallrun.write_outputs(res, out)
+    rows = list(csv.DictReader((out / "panels.csv").open(encoding="utf-8")))
+    ok = [r for r in rows if r["status"] == "ok"]
+    assert ok and all(r["util_overall"] and r["util_seismic"] for r in ok)
+    doc = json.loads((out / "design.json").read_text(encoding="utf-8"))
+    ov = [c for p in doc["panels"] for c in p["checks"] if c["check"] == "overall"]
+    assert ov and all(set(c["circle"]) == {"x_m", "z_m", "radius_m"} for c in ov)
+    html = (out / "report.html").read_text(encoding="utf-8")
+    n_types = len([t for t in res.section_types if t.panels])
+    assert html.count("Seismic design situation") >= n_types - sum(
+        p.status != "ok" for p in res.panels)
+    assert "seismic actions, kv up" in html and "seismic actions, kv down" in html
+    assert "critical slip circle" in html

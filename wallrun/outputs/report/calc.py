@@ -46,6 +46,32 @@ class TypeCalc:
     entries: int
     bearing: dict | None
     passive: tuple[dict, ...]
+    seismic: dict | None = None
+
+
+def seismic_calc(result: DesignResult, p: PanelResult) -> dict | None:
+    """The seismic situation of a type at its governing panel (EN 1998-5 7.3.2 and Annex
+    E, design-basis section 10): kh, kv, the design angles and, per sign of kv, theta
+    and the Mononobe-Okabe coefficients (``seismic.seismic_set``), and the actions of
+    each sign (``seismic.seismic_action_table``); None without ``[seismic]`` or for a
+    panel that could not be designed."""
+    site = result.site
+    if site.seismic is None or p is None or p.status != "ok":
+        return None
+    from dataclasses import replace
+
+    from wallrun import seismic
+    pa = p.panel
+    cond = Conditions(z_top=pa.retained_top_m, z_front=pa.front_min_m, z_found=pa.founding_m,
+                      backfill=pa.backfill, foundation=pa.foundation,
+                      surcharge_kpa=pa.surcharge_kpa, water_level_m=pa.water_level_m)
+    basis = replace(site.basis, seismic=site.seismic)
+    ss = seismic.seismic_set(cond, basis, site.seismic)
+    tables = seismic.seismic_action_table(p.section, cond, basis, site.seismic)
+    return {"kh": ss.kh, "kv": ss.kv, "phi_b": ss.phi_b, "delta": ss.delta_back,
+            "K0": ss.K0_back, "cases": [(c.label, c.theta, c.K_back, c.theta_w, c.K_back_w)
+                                         for c in ss.cases],
+            "tables": list(tables.items())}
 
 
 def governing_panels(result: DesignResult) -> dict[str, PanelResult]:
@@ -135,5 +161,6 @@ def type_calcs(result: DesignResult) -> list[TypeCalc]:
         checks = p.checks if p is not None else ()
         bearing, passive = terms.get(p.panel.panel, (None, ())) if p is not None else (None, ())
         out.append(TypeCalc(k, st, p, tuple(result.actions.get(st.section_type, ()) or ()),
-                            worst_of_each_check(checks), len(checks), bearing, passive))
+                            worst_of_each_check(checks), len(checks), bearing, passive,
+                            seismic_calc(result, p)))
     return out

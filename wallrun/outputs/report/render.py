@@ -257,7 +257,8 @@ def context(result, date: str | None = None) -> dict:
                                         [c.panel for c in calcs])
     calcs = [{"number": c.number, "st": c.st, "panel": c.panel, "actions": c.actions,
               "checks": c.checks, "entries": c.entries, "bearing": c.bearing,
-              "passive": c.passive, "drawing": d} for c, d in zip(calcs, drawings)]
+              "passive": c.passive, "seismic": c.seismic, "drawing": d}
+             for c, d in zip(calcs, drawings)]
     png = figures.run_png(result)
     n_bad = sum(p.status != "ok" for p in panels)
     j_bad = [j for j in result.joints if j.status != "ok"]
