@@ -66,25 +66,6 @@ CLAUSE = {
 }
 
 
-# --- a backfill too steep for an active limit state -------------------------------------
-
-def steep_backfill(cond: Conditions, basis: Basis) -> tuple[str, float, str] | None:
-    """(set name, phi'_d deg, message) of the first factor set in use (EQU, then the
-    approach's sets) whose design friction angle of the backfill the backfill slope
-    reaches or exceeds: no active limit state (Rankine needs beta < phi'_d), so no
-    section can be designed; None when the slope is below every phi'_d."""
-    bf = cond.backfill
-    for name in ("EQU",) + tuple(basis.uls_sets):
-        fs = basis.factors.get(name)
-        if fs is None:
-            continue
-        phid = float(ec7.design_friction_angle(bf.friction_angle_deg, fs.g_phi))
-        if float(bf.slope_deg) >= phid:
-            return (name, phid, f"backfill slope {float(bf.slope_deg):.1f} deg >= phi'_d "
-                                f"{phid:.1f} deg ({name}): no active limit state, not designed")
-    return None
-
-
 # --- characteristic geometry ------------------------------------------------------------------
 
 class Geometry:
