@@ -21,7 +21,7 @@ from wallrun.settings import Basis, Backfill, Design, Foundation, GroundModel
 
 from overall_reference import bishop_panel
 
-pyslope = pytest.importorskip("pyslope")
+import pyslope  # noqa: E402  (a test dependency, pyproject.toml [test])
 
 DA1 = Basis(factors=factors.resolve("DA1"))
 
