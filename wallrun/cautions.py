@@ -26,6 +26,8 @@ ALWAYS = (
     "chemical attack on the concrete or the reinforcement (exposure and durability "
     "beyond the covers given)",
     "shear reinforcement: members are sized to need none (EN 1992-1-1 6.2.1(4))",
+    "the shear key as a reinforced member: its bending and shear under the passive "
+    "pressure, and the bends of its bars",
 )
 
 
