@@ -208,8 +208,13 @@ def polygons(section: Section, stem_height_m: float, checked_stem_height_m: floa
 
 
 def section_problems(sec: SectionArrays) -> np.ndarray:
-    """Boolean mask (n,) of candidates whose dimensions do not close (see
-    :func:`validate_section`); vectorised for the sizing search."""
+    """Boolean mask (n,) of candidates whose dimensions do not close; vectorised for
+    the sizing search. Rules: every dimension finite; stem_top_m, stem_base_m,
+    base_width_m, base_thickness_m > 0; toe_m, key_depth_m, key_width_m >= 0;
+    stem_top_m <= stem_base_m (the back face tapers outwards downwards); heel_m =
+    base_width_m - toe_m - stem_base_m > 0; a key has both depth and width; the key
+    (front face at the stem front face) fits under the base. (A ``sections.csv`` row
+    is held to the same rules, with its line named, by ``wallrun.site.read_catalogue``.)"""
     B = np.asarray(sec.base_width_m, dtype=float)
     bad = ~np.isfinite(B)
     for f in fields(sec):
@@ -221,52 +226,3 @@ def section_problems(sec: SectionArrays) -> np.ndarray:
     bad |= (sec.key_depth_m > 0) != (sec.key_width_m > 0)
     bad |= sec.toe_m + sec.key_width_m > B + 1e-12
     return bad
-
-
-def validate_section(section: Section, where: str = "section") -> list[str]:
-    """Problems with one section's dimensions, each naming the dimension (the
-    ``sections.csv`` column); empty when the section closes.
-
-    Rules: every dimension finite; stem_top_m, stem_base_m, base_width_m,
-    base_thickness_m > 0; toe_m, key_depth_m, key_width_m >= 0; stem_top_m <=
-    stem_base_m (the back face tapers outwards downwards); stem not thicker than the
-    base; heel_m = base_width_m - toe_m - stem_base_m > 0; a key has both depth and
-    width; the key (front face at the stem front face) fits under the base.
-    """
-    s = section
-    p = []
-    vals = {f.name: getattr(s, f.name) for f in fields(s)}
-    for k, v in vals.items():
-        try:
-            fv = float(v)
-        except (TypeError, ValueError):
-            p.append(f"{where}: {k} = {v!r}: not a number")
-            continue
-        if not np.isfinite(fv):
-            p.append(f"{where}: {k} = {v!r}: not a finite number")
-    if p:
-        return p
-    for k in ("stem_top_m", "stem_base_m", "base_width_m", "base_thickness_m"):
-        if vals[k] <= 0:
-            p.append(f"{where}: {k} = {vals[k]:g}: must be > 0")
-    for k in ("toe_m", "key_depth_m", "key_width_m"):
-        if vals[k] < 0:
-            p.append(f"{where}: {k} = {vals[k]:g}: must be >= 0")
-    if s.stem_top_m > s.stem_base_m:
-        p.append(f"{where}: stem_top_m = {s.stem_top_m:g} is thicker than stem_base_m = "
-                 f"{s.stem_base_m:g}: the stem must not thicken upwards")
-    if s.stem_base_m >= s.base_width_m:
-        p.append(f"{where}: stem_base_m = {s.stem_base_m:g} is not thinner than "
-                 f"base_width_m = {s.base_width_m:g}: the stem is thicker than the base")
-    elif s.heel_m <= 0:
-        p.append(f"{where}: heel_m = base_width_m - toe_m - stem_base_m = "
-                 f"{s.base_width_m:g} - {s.toe_m:g} - {s.stem_base_m:g} = {s.heel_m:g}: "
-                 f"must be > 0 (toe_m too long for the base)")
-    if (s.key_depth_m > 0) != (s.key_width_m > 0):
-        p.append(f"{where}: key_depth_m = {s.key_depth_m:g}, key_width_m = {s.key_width_m:g}: "
-                 f"a key needs both (or set both to 0)")
-    if s.key_width_m > 0 and s.toe_m + s.key_width_m > s.base_width_m:
-        p.append(f"{where}: key_width_m = {s.key_width_m:g}: the key from the stem front face "
-                 f"(toe_m = {s.toe_m:g}) runs past the heel edge (base_width_m = "
-                 f"{s.base_width_m:g})")
-    return p
