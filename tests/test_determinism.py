@@ -66,10 +66,14 @@ def test_two_runs_byte_identical(runs, name):
 def test_jobs_2_same_files_as_jobs_1(tmp_path, monkeypatch):
     # --jobs 2 hands the bespoke searches to a process pool (forkserver or spawn): every
     # demand's design depends on that demand only, so the files are the same byte for
-    # byte (the pool is used from the first batch here: PARALLEL_FROM lowered to 1)
+    # byte (the pool is used from the first batch here: PARALLEL_FROM lowered to 1); a
+    # worker of the pool writes the drawings: the same file names, and the previews,
+    # report and workbook the same bytes (their dates fixed by SOURCE_DATE_EPOCH; a DXF
+    # carries its own creation time and GUIDs)
     from wallrun import pipeline
     from wallrun.cli import main
     monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")
     site = tmp_path / "site"
     shutil.copytree(ROOT / "sites" / "hillside-cut", site)
     outs = []
@@ -79,6 +83,9 @@ def test_jobs_2_same_files_as_jobs_1(tmp_path, monkeypatch):
         outs.append(out)
     a, b = data(outs[0]), data(outs[1])
     assert a and a == b
+    assert sorted(p.name for p in outs[0].iterdir()) == sorted(p.name for p in outs[1].iterdir())
+    for name in ("sheets.pdf", "sections.pdf", "elevation.png", "report.html", "schedule.xlsx"):
+        assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name
 
 
 def test_two_threads_design_and_write_as_one_after_the_other(tmp_path):

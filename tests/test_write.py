@@ -106,10 +106,37 @@ def test_a_failing_writer_fails_the_write_and_leaves_nothing(tmp_path, monkeypat
     assert list(tmp_path.iterdir()) == []
 
 
+@pytest.mark.parametrize("failing", ["drawings", "report"])
+def test_with_an_executor_the_same_files_and_a_failure_leaves_nothing(tmp_path, monkeypatch,
+                                                                     failing):
+    # an executor the caller owns writes the drawings meanwhile: the same files as one
+    # process; an error on either side fails the write, after the worker has finished,
+    # and nothing is left
+    from concurrent.futures import ThreadPoolExecutor
+
+    from wallrun.outputs import dxf
+    r = sample_result()
+    write.write_outputs(r, tmp_path / "one")
+    with ThreadPoolExecutor(1) as pool:
+        write.write_outputs(r, tmp_path / "two", executor=pool)
+    one, two = files(tmp_path / "one"), files(tmp_path / "two")
+    assert set(one) == set(two) >= EXPECTED
+    assert [n for n in one if one[n] != two[n]] == []
+
+    def broken(*args, **kwargs):
+        raise OSError("disk full (simulated)")
+
+    monkeypatch.setattr(dxf if failing == "drawings" else report,
+                        "write_drawings" if failing == "drawings" else "write_report", broken)
+    with ThreadPoolExecutor(1) as pool, pytest.raises(OSError, match="disk full"):
+        write.write_outputs(r, tmp_path / "three", executor=pool)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["one", "two"]
+
+
 @pytest.fixture
 def quick(monkeypatch):
     """write_all replaced by one small file: for the tests of the folder handling."""
-    def one_file(result, folder):
+    def one_file(result, folder, executor=None):
         (folder / "panels.csv").write_text(result.site.project.name)
         return ["panels.csv"]
 
@@ -121,7 +148,7 @@ def test_previous_output_survives_a_failed_write(tmp_path, monkeypatch, quick):
     write.write_outputs(r, tmp_path / "out")
     before = (tmp_path / "out" / "panels.csv").read_bytes()
 
-    def broken(result, folder):
+    def broken(result, folder, executor=None):
         raise ValueError("renderer fault (simulated)")
 
     monkeypatch.setattr(write, "write_all", broken)

@@ -20,13 +20,17 @@ def load_site(path):
     return _load(path)
 
 
-def design(site, progress=None):
-    """Design the whole wall of a loaded site; returns a ``DesignResult``."""
+def design(site, progress=None, executor=None):
+    """Design the whole wall of a loaded site; returns a ``DesignResult``. ``executor``:
+    a process pool the caller owns for the large bespoke searches (None: this process
+    does all; the result is the same)."""
     from wallrun.pipeline import design as _design
-    return _design(site, progress=progress)
+    return _design(site, progress=progress, executor=executor)
 
 
-def write_outputs(result, out_dir):
-    """Write the output folder of a result atomically."""
+def write_outputs(result, out_dir, executor=None):
+    """Write the output folder of a result atomically. ``executor``: a process pool the
+    caller owns that writes the drawings meanwhile (None: this process writes all; the
+    files are the same)."""
     from wallrun.outputs.write import write_outputs as _write
-    return _write(result, out_dir)
+    return _write(result, out_dir, executor=executor)

@@ -60,8 +60,8 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("--out", metavar="DIR", help="output folder (default SITE_DIR/out)")
     d.add_argument("--quiet", action="store_true", help="no progress bar")
     d.add_argument("--jobs", type=_jobs, default=1, metavar="N",
-                   help="worker processes for the section search (default 1); the results "
-                        "are the same for every N")
+                   help="worker processes for the section search and the drawings "
+                        "(default 1); the results are the same for every N")
     c = sub.add_parser("check", parents=[common],
                        help="validate the site folder and print the wall runs; writes nothing")
     c.add_argument("site", metavar="SITE_DIR")
@@ -339,7 +339,7 @@ def check_out_is_safe(site_dir, out_dir, shown: str | None = None) -> None:
 def worker_pool(jobs: int):
     """A process pool of ``jobs`` workers started by ``forkserver`` (or ``spawn`` where
     there is none), or None for one process. The command line owns it; the library only
-    hands it work (``pipeline.design(executor=...)``)."""
+    hands it work (``pipeline.design(executor=...)``, ``write_outputs(executor=...)``)."""
     if jobs <= 1:
         return None
     import multiprocessing as mp
@@ -360,12 +360,14 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
     cb = _Progress(enabled=(not quiet) and sys.stderr.isatty())
     pool = worker_pool(jobs)
     try:
-        result = pipeline.design(site, progress=cb, executor=pool)
+        try:
+            result = pipeline.design(site, progress=cb, executor=pool)
+        finally:
+            cb.close()
+        write.write_outputs(result, out_dir, executor=pool)
     finally:
-        cb.close()
         if pool is not None:
             pool.shutdown()
-    write.write_outputs(result, out_dir)
     print_design_summary(result, out_dir)
     return EXIT_OK if result.ok else EXIT_FLAGGED
 

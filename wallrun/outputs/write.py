@@ -2,9 +2,12 @@
 
 Everything is written into a temporary folder beside the target and moved into place
 only when complete, so a failed or killed run leaves the previous output untouched.
-The inputs are only ever read. One process writes every file, one after the other; no
-state is kept between calls, so two threads may write two results at once (into two
-different folders).
+The inputs are only ever read. By default this process writes every file, one after
+the other; a caller that owns a process pool (the command line's ``--jobs``) may pass
+it as ``executor``, and the drawings (the slowest writer) are then written by one of
+its workers while this process writes the rest: the same files either way, each
+writer rendering the result alone. No state is kept between calls, so two threads may
+write two results at once (into two different folders).
 """
 
 from __future__ import annotations
@@ -12,6 +15,7 @@ from __future__ import annotations
 import os
 import secrets
 import shutil
+from concurrent.futures import wait
 from pathlib import Path
 
 from wallrun.errors import InputError
@@ -37,19 +41,30 @@ def _write_text(path: Path, text: str) -> None:
         f.write(text)
 
 
-def write_all(result: DesignResult, folder: Path) -> list[str]:
+def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
     """Write every output file of ``result`` into ``folder`` (which exists and is
-    empty); returns the names written. Each writer renders ``result`` only."""
+    empty); returns the names written. Each writer renders ``result`` only and writes
+    files of its own; ``executor`` (a ``concurrent.futures`` executor the caller owns,
+    or None) writes the drawings meanwhile."""
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
     from wallrun.outputs.dxf import write_drawings
     folder = Path(folder)
-    for name, render in tables.TABLES.items():
-        _write_text(folder / name, render(result))
-    workbook.write_workbook(result, folder / "schedule.xlsx")
-    write_drawings(result, folder)
-    report.write_report(result, folder / "report.html")
-    profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
-    ifc.write_ifc(result, folder / "model.ifc")
+    drawings = None if executor is None else executor.submit(write_drawings, result, folder)
+    try:
+        for name, render in tables.TABLES.items():
+            _write_text(folder / name, render(result))
+        workbook.write_workbook(result, folder / "schedule.xlsx")
+        if drawings is None:
+            write_drawings(result, folder)
+        report.write_report(result, folder / "report.html")
+        profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
+        ifc.write_ifc(result, folder / "model.ifc")
+    except BaseException:
+        if drawings is not None:  # let the worker finish before the folder is removed
+            wait([drawings])
+        raise
+    if drawings is not None:
+        drawings.result()  # the worker's error, if any, is raised here
     return sorted(p.name for p in folder.iterdir())
 
 
@@ -77,8 +92,9 @@ def recover(out: Path) -> None:
         os.replace(newest, out)
 
 
-def write_outputs(result: DesignResult, out_dir) -> list[str]:
+def write_outputs(result: DesignResult, out_dir, executor=None) -> list[str]:
     """Write the output folder atomically; returns the file names written.
+    ``executor``: see :func:`write_all` (None: this process writes every file).
 
     The files go into ``.NAME.tmp-*`` beside the target (made with the permissions the
     process's umask gives an ordinary folder); the previous output is moved to
@@ -97,7 +113,7 @@ def write_outputs(result: DesignResult, out_dir) -> list[str]:
         except FileExistsError:
             continue
     try:
-        names = write_all(result, tmp)
+        names = write_all(result, tmp, executor)
         old = None
         if out.exists():
             old = _sibling(out, "old")
