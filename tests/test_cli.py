@@ -216,7 +216,7 @@ def fake_engine(monkeypatch):
         if Path(out).is_file():
             raise InputError(f"--out {out}: exists and is not a folder")
 
-    def write_outputs(result, out):
+    def write_outputs(result, out, executor=None):
         calls.append(("write", str(out)))
         Path(out).mkdir(parents=True)
         (Path(out) / "panels.csv").write_text("x")
