@@ -93,7 +93,28 @@ def test_halving_picks_the_longer_panel_or_the_later():
     assert pn.halve_target(6.0, 6.0) == 1
 
 
-def test_joint_next_to_an_undesigned_panel_is_flagged():
-    f = pn.joint_figures(48.9, 48.9, 52.0, 52.0, float("nan"), 120.0)
-    problems = pn.joint_problems(f, Wall())
-    assert problems and "not evaluated" in problems[0]
+def _sized(status, z_found, edge_kpa):
+    from wallrun.sizing.evaluate import SizedDesign
+    return SizedDesign(section=None, reinforcement=None, checks=(), cost_per_m=0.0,
+                       z_found=z_found, edge_pressure_sls_kpa=edge_kpa, status=status,
+                       reason="", utilization=0.0, governing="")
+
+
+def test_joint_next_to_an_undesigned_panel_is_flagged_not_evaluated():
+    # the failing candidate of a panel without a section has levels and pressures, but
+    # they are not a design: the joint gets no founding step or pressure ratio, only
+    # its top step (fixed by the profiles), and the reason says why
+    import math
+
+    from wallrun import layout
+    a = pn.Extent(1, "fill", 0.0, 5.0, 52.0, 49.0, 52.0, 52.0)
+    b = pn.Extent(1, "fill", 5.0, 10.0, 52.3, 49.0, 52.0, 52.0)
+    ok, flagged = _sized("ok", 48.9, 120.0), _sized("flagged", 47.0, 400.0)
+    js = layout.joint_state(a, ok, b, flagged, Wall())
+    assert js.problems == (layout.NOT_EVALUATED,) and js.reason == layout.NOT_EVALUATED
+    assert math.isnan(js.figures.founding_step_m) and math.isnan(js.figures.pressure_ratio)
+    assert js.figures.top_step_m == 0.0
+    c = pn.Extent(1, "fill", 5.0, 10.0, 53.3, 49.0, 53.0, 53.0)  # a 1 m top step
+    js = layout.joint_state(a, flagged, c, ok, Wall())
+    assert js.problems[0] == layout.NOT_EVALUATED and "top step 1.00 m" in js.problems[1]
+    assert layout.joint_state(a, ok, b, _sized("ok", 48.6, 110.0), Wall()).problems == ()

@@ -92,12 +92,26 @@ def demand_of(ext: pn.Extent, site: Site, extra_depth_m: float = 0.0,
         max_edge_pressure_kpa=None if cap_kpa is None else round(cap_kpa, 6))
 
 
+#: The reason of a joint beside a panel the sizing left without a section.
+NOT_EVALUATED = "not evaluated: a neighbouring panel is not designed"
+
+
 def joint_state(ext_l: pn.Extent, d_l: SizedDesign, ext_r: pn.Extent, d_r: SizedDesign,
                 wall) -> JointState:
-    """The figures and problems of the joint between two designed panels."""
-    fig = pn.joint_figures(d_l.z_found, d_r.z_found, ext_l.wall_top_end, ext_r.wall_top_start,
-                           d_l.edge_pressure_sls_kpa, d_r.edge_pressure_sls_kpa)
-    return JointState(fig, tuple(pn.joint_problems(fig, wall)))
+    """The figures and problems of the joint between two panels. Beside a panel without
+    a section (flagged by the sizing) the founding step and the pressure ratio have no
+    value (NaN: the failing candidate's levels and pressures are not a design): the
+    joint is flagged :data:`NOT_EVALUATED` (and its top step checked, which the profiles
+    fix), and no cure is tried."""
+    if d_l.status == "ok" and d_r.status == "ok":
+        fig = pn.joint_figures(d_l.z_found, d_r.z_found, ext_l.wall_top_end,
+                               ext_r.wall_top_start, d_l.edge_pressure_sls_kpa,
+                               d_r.edge_pressure_sls_kpa)
+        return JointState(fig, tuple(pn.joint_problems(fig, wall)))
+    nan = float("nan")
+    fig = pn.joint_figures(nan, nan, ext_l.wall_top_end, ext_r.wall_top_start, nan, nan)
+    problems = (NOT_EVALUATED,) + tuple(pn.joint_problems(fig, wall))
+    return JointState(fig, problems, reason="; ".join(problems))
 
 
 def first_slots(run, site: Site, profiles=None) -> list[Slot]:
@@ -164,7 +178,7 @@ def lay_out(profiles, runs, site: Site, design_many, slots=None,
         joints = []
         for i in range(len(ss) - 1):
             js = joint_state(exts[i], designs[i], exts[i + 1], designs[i + 1], wall)
-            if js.problems:
+            if js.problems and not js.reason:
                 js = replace(js, reason="cannot cure: " + "; ".join(js.problems))
             joints.append(js)
         out.append(RunLayout(r, tuple(ss), tuple(exts), tuple(dems), tuple(designs),

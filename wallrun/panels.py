@@ -165,16 +165,21 @@ def joint_figures(z_found_left: float, z_found_right: float, top_left_end: float
 
 
 def joint_problems(fig: JointFigures, wall) -> list[str]:
-    """Reasons a joint fails its limits (empty when it passes)."""
+    """Reasons a joint fails its limits (empty when it passes); where the founding step
+    or the pressure ratio has no value (NaN, a neighbour without a section) only the
+    top step is checked."""
     out = []
     tol = 1e-6
+    if np.isnan(fig.founding_step_m) or np.isnan(fig.pressure_ratio):
+        # beside a panel without a section (wallrun.layout.joint_state says so)
+        if fig.top_step_m > wall.max_top_step_m + tol:
+            out.append(f"top step {fig.top_step_m:.2f} m > {wall.max_top_step_m:g} m")
+        return out
     if fig.founding_step_m > wall.max_founding_step_m + tol:
         out.append(f"founding step {fig.founding_step_m:.2f} m > {wall.max_founding_step_m:g} m")
     if fig.top_step_m > wall.max_top_step_m + tol:
         out.append(f"top step {fig.top_step_m:.2f} m > {wall.max_top_step_m:g} m")
-    if np.isnan(fig.pressure_ratio):
-        out.append("edge pressure ratio not evaluated: a neighbouring panel is not designed")
-    elif fig.pressure_ratio > wall.max_pressure_ratio + tol:
+    if fig.pressure_ratio > wall.max_pressure_ratio + tol:
         out.append(f"edge pressure ratio {fig.pressure_ratio:.2f} > {wall.max_pressure_ratio:g}")
     return out
 
