@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import csv
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -97,6 +98,7 @@ def test_retained_height_beyond_supported_range(tmp_path, capsys):
                     "governing", "concrete_m3", "steel_kg", "cost"):
             assert p[col] == "", (p["panel"], col, p[col])
         assert js[p["panel"]]["quantities"] == {}
+    assert_no_type_for_undesigned(out, panels, cap.out)
     total = {q["item"]: float(q["quantity"]) for q in rows(out, "quantities.csv")}
     designed = [p for p in panels if p["status"] == "ok"]
     assert designed
@@ -110,10 +112,33 @@ def test_foundation_too_weak_for_any_section(tmp_path, capsys):
     rc, out, cap = design(tmp_path, d, capsys)
     assert rc == 3
     assert_all_written(out)
-    flagged = [p for p in rows(out, "panels.csv") if p["status"] == "flagged"]
+    panels = rows(out, "panels.csv")
+    flagged = [p for p in panels if p["status"] == "flagged"]
     assert flagged
     for p in flagged:
         assert "no section" in p["reason"] and "fails" in p["reason"], p["reason"]
+    assert_no_type_for_undesigned(out, panels, cap.out)
+
+
+def assert_no_type_for_undesigned(out, panels, console):
+    """A panel that could not be designed has no section type: ``sections.csv`` lists
+    the types of passing panels only (a failing section is never detailed), the
+    console counts none for it, and a joint beside it is "not evaluated" with no
+    founding step or pressure ratio."""
+    ok = {p["panel"] for p in panels if p["status"] == "ok"}
+    for p in panels:
+        if p["panel"] not in ok:
+            assert p["section"] == "", (p["panel"], p["section"])
+    types = rows(out, "sections.csv")
+    for t in types:
+        assert set(t["panels"].split()) <= ok, t
+    assert {t["section"] for t in types} == {p["section"] for p in panels if p["panel"] in ok}
+    line = next(ln for ln in console.splitlines() if ln.startswith("Section "))
+    assert sum(int(n) for n in re.findall(r" x(\d+)", line)) == len(ok), line
+    for j in rows(out, "joints.csv"):
+        if j["left"] not in ok or j["right"] not in ok:
+            assert j["status"] == "flagged" and j["reason"].startswith("not evaluated"), j
+            assert j["founding_step_m"] == "" and j["pressure_ratio"] == "", j
 
 
 # above phi'_d of DA1-2 (atan(tan 32 / 1.25) = 26.6 deg) but below phi'_k: accepted,

@@ -380,8 +380,11 @@ def _types_line(panels) -> str:
     """``n types: S01 x12, S02 x7, ...`` (at most 12 named, the rest counted)."""
     types: dict[str, int] = {}
     for p in panels:
-        types[p.section_type] = types.get(p.section_type, 0) + 1
+        if p.section_type:  # a panel that could not be designed has none
+            types[p.section_type] = types.get(p.section_type, 0) + 1
     names = sorted(types)
+    if not names:
+        return "types: none (no panel could be designed)"
     shown = ", ".join(f"{t} x{types[t]}" for t in names[:12])
     more = f", and {len(names) - 12} more" if len(names) > 12 else ""
     return f"{len(names)} type{'s' if len(names) != 1 else ''}: {shown}{more}"

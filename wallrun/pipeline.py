@@ -268,9 +268,12 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
         d.reinforcement, stem_curtail_m=common[d.section_type])), dem, f)
         for p, d, dem, f in rows]
 
-    # section types: given names (catalogue, rationalised set), else named by size
+    # section types: given names (catalogue, rationalised set), else named by size. A
+    # type is a section some passing panel is built with: the nominal section of a panel
+    # that could not be designed (flagged) is no type unless a passing panel shares it
+    # (then its panel keeps the name); it is never listed, scheduled or detailed
     type_names: dict = {}
-    keys = list(dict.fromkeys(_type_key(d) for _, d, _, _ in rows))
+    keys = list(dict.fromkeys(_type_key(d) for _, d, _, _ in rows if d.status == "ok"))
     for key in keys:
         if key[3]:
             type_names[key] = key[3]
@@ -284,7 +287,8 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
         type_names[key] = f"S{k:02d}"
 
     # a panel that could not be designed (flagged) has no bars, quantities, cost or
-    # utilization to report: only its reason (its nominal section is still drawn)
+    # utilization to report: only its reason (its nominal levels are still drawn on the
+    # elevation, marked FLAGGED)
     per_panel_bars, all_bars = [], []
     for panel, d, _, _ in rows:
         b = (bars_mod.panel_bars(type_names[_type_key(d)], d.section, d.reinforcement, panel,
@@ -295,7 +299,8 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
 
     results, per_panel_q = [], []
     for k, ((panel, d, _, front_mean), b) in enumerate(zip(rows, per_panel_bars)):
-        common = dict(panel=panel, section_type=type_names[_type_key(d)], section=d.section,
+        common = dict(panel=panel, section_type=type_names.get(_type_key(d), ""),
+                      section=d.section,
                       reinforcement=d.reinforcement, checks=d.checks, status=d.status,
                       reason=d.reason)
         if d.status != "ok":
@@ -320,7 +325,8 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
     section_types, actions = [], {}
     by_type: dict[str, list] = {}
     for r, (_, d, dem, _) in zip(results, rows):
-        by_type.setdefault(r.section_type, []).append((r, d, dem))
+        if r.section_type:
+            by_type.setdefault(r.section_type, []).append((r, d, dem))
     for key in sorted(type_names, key=lambda k: type_names[k]):
         name = type_names[key]
         members = by_type[name]

@@ -96,6 +96,12 @@ KEY = [(d.L_GROUND, "existing ground (survey)"), (d.L_FINISHED, "finished level"
        (d.L_BASE_TOP, "top of base"), (d.L_JOINTS, "movement joint")]
 
 
+def type_label(pr) -> str:
+    """A panel's label under its name: its section type, and FLAGGED for a panel that did
+    not pass (a panel that could not be designed has no type)."""
+    return " ".join(t for t in (pr.section_type, "FLAGGED" if pr.status != "ok" else "") if t)
+
+
 def stations(result) -> list[tuple]:
     """(chainage, left panel or None, right panel or None) at every joint and run end,
     by chainage."""
@@ -119,7 +125,7 @@ def elevation_scale(result, lt: d.Lettering, width_mm: float = 1e9) -> int:
     gaps = np.diff(st) if len(st) > 1 else np.array([1e9])
     gaps = gaps[gaps > 1e-6]
     need_name = max([lt.width(f"{pr.panel.panel}", LABEL_MM) for pr in result.panels]
-                    + [lt.width(pr.section_type + " FLAGGED", LABEL_MM)
+                    + [lt.width(type_label(pr), LABEL_MM)
                        for pr in result.panels if pr.status != "ok"]
                     + [lt.width(pr.section_type, LABEL_MM) for pr in result.panels] + [1.0])
     short = min([pr.panel.length_m for pr in result.panels] + [1e9])
@@ -292,7 +298,7 @@ def write_elevation(result, path):
         for pr in result.panels:
             p = pr.panel
             if p.ch_start_m >= c0 - 1e-9 and p.ch_end_m <= c1 + 1e-9:
-                label = [p.panel, pr.section_type + (" FLAGGED" if pr.status != "ok" else "")]
+                label = [p.panel, type_label(pr)]
                 d.add_lines_text(msp, label, (0.5 * (p.ch_start_m + p.ch_end_m), y_names),
                                  P(LABEL_MM), d.L_PANELS, P(3.0), attach=8, lt=lt)
         _chainage_row(msp, c0, c1, y_chain, tick, scale, lt)
