@@ -270,13 +270,17 @@ def _leaders(blk):
     return out
 
 
-def test_leaders_cross_neither_each_other_nor_the_concrete(drawn):
-    name, result, docs = drawn
-    doc = docs["sections"]
+def _type_blocks(result, doc):
+    """(section type, its block) of every type drawn in the sections drawing ``doc``."""
     for st in result.section_types:
         blk = doc.blocks.get(sections.BLOCK_PREFIX + st.section_type)
-        if blk is None:
-            continue
+        if blk is not None:
+            yield st, blk
+
+
+def test_leaders_cross_neither_each_other_nor_the_concrete(drawn):
+    name, result, docs = drawn
+    for st, blk in _type_blocks(result, docs["sections"]):
         outline = [e for e in blk.query("LWPOLYLINE") if e.dxf.layer == c.L_CONCRETE][0]
         edge = Polygon(outline.get_points("xy")).exterior
         lines = _leaders(blk)
@@ -291,11 +295,7 @@ def test_leaders_cross_neither_each_other_nor_the_concrete(drawn):
 
 def test_level_marks_in_the_order_of_their_levels(drawn):
     name, result, docs = drawn
-    doc = docs["sections"]
-    for st in result.section_types:
-        blk = doc.blocks.get(sections.BLOCK_PREFIX + st.section_type)
-        if blk is None:
-            continue
+    for st, blk in _type_blocks(result, docs["sections"]):
         marks = [e for e in blk.query("INSERT") if e.dxf.name == c.B_LEVEL]
         by_mark = sorted(marks, key=lambda e: -e.dxf.insert.y)
         levels = [float(e.get_attrib_text("LEVEL").rsplit("+", 1)[1]) for e in by_mark]
