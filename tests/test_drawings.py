@@ -19,7 +19,7 @@ import pytest
 sys.path.insert(0, str(Path(__file__).parent))
 from sample_result import sample_result  # noqa: E402
 
-from wallrun.outputs import previews  # noqa: E402
+from wallrun.outputs import previews, sheets_pdf  # noqa: E402
 from wallrun.outputs.dxf import conventions as c  # noqa: E402
 from wallrun.outputs.dxf import write_drawings  # noqa: E402
 from wallrun.outputs.dxf.elevation import level_of, read_transform, write_elevation  # noqa: E402
@@ -366,12 +366,13 @@ def test_previews_non_empty_and_sized(out, result):
 
 
 def test_collector_draws_what_the_dxf_holds(out):
-    """The preview back end receives the section's strokes: the concrete outline's
-    corners are among the collected vertices (black, ACI 7 on white)."""
+    """The sheets' back end receives the section's strokes: the concrete outline's
+    corners are among the collected vertices (black, ACI 7 on white); its texts arrive
+    as text, placed where ezdxf places them."""
     doc, msp = _read(out / "sections.dxf")
     ins = [e for e in msp if e.dxftype() == "INSERT"][0]
-    col = previews.Collector()
-    fe = previews.frontend(doc, col)
+    col = sheets_pdf.Collector()
+    fe = sheets_pdf.frontend(doc, col)
     fe.ctx.set_current_layout(msp)
     fe.set_background("#ffffff")
     fe.draw_entities([ins])
@@ -382,7 +383,42 @@ def test_collector_draws_what_the_dxf_holds(out):
                             if colr == "#000000" for s in segs])
     for p in corners:
         assert np.min(np.hypot(*(black - p).T)) < 1e-6
-    assert "#000000" in col.fills  # text in black
+    # every TEXT of the block arrives as its string, at its rotation and cap height;
+    # a left-aligned one starts at its alignment point, its baseline within one cap
+    # height of it (ezdxf's DXF alignment: bottom, baseline, middle or top)
+    plain = [v for v in ins.virtual_entities() if v.dxftype() == "TEXT"]
+    assert plain
+    for v in plain:
+        rot = v.dxf.get("rotation", 0.0)
+        same = [t for t in col.texts if t[0] == v.dxf.text and abs(t[3] - rot) < 1e-9
+                and abs(t[4] - v.dxf.height) < 1e-9]
+        assert same, v.dxf.text
+        if v.dxf.get("halign", 0) == 0 and not rot:
+            at = v.dxf.align_point if v.dxf.get("valign", 0) else v.dxf.insert
+            assert any(abs(t[1] - at[0]) < 1e-9 and abs(t[2] - at[1]) <= v.dxf.height
+                       for t in same)
+
+
+def test_sheets_pdf_reads_back_with_its_text(out, result):
+    """pypdf reads sheets.pdf: one page per paper-space layout at the layout's paper
+    size (mm to points, 72 / 25.4), and the sheets' words are PDF text (every panel
+    name and the caution are found by text extraction)."""
+    pypdf = pytest.importorskip("pypdf")
+    reader = pypdf.PdfReader(str(out / "sheets.pdf"))
+    sizes = [(lay.dxf.paper_width, lay.dxf.paper_height)
+             for n in ("elevation.dxf", "sections.dxf", "plan.dxf")
+             for lay in sheets_pdf.sheet_layouts(_read(out / n)[0])]
+    assert len(reader.pages) == len(sizes)
+    for page, (w, h) in zip(reader.pages, sizes):
+        box = page.mediabox
+        assert (float(box.width), float(box.height)) == pytest.approx(
+            (w * 72 / 25.4, h * 72 / 25.4), abs=0.01)
+    words = " ".join(p.extract_text() for p in reader.pages)
+    for pr in result.panels:
+        assert pr.panel.panel in words
+    assert "PRELIMINARY" in words
+    sec = pypdf.PdfReader(str(out / "sections.pdf"))
+    assert len(sec.pages) == len(sheets_pdf.sheet_layouts(_read(out / "sections.dxf")[0]))
 
 
 def test_any_section_type_name_makes_a_valid_block(tmp_path):

@@ -1,0 +1,349 @@
+"""``sheets.pdf`` and ``sections.pdf``: the paper-space sheets of the drawings as PDF pages.
+
+Every sheet of the drawings (the paper-space layouts of ``elevation.dxf``,
+``sections.dxf`` and ``plan.dxf``) becomes one page at the sheet's size, as the paper
+space shows it. ezdxf's drawing add-on decomposes the entities: its front end
+(``ezdxf.addons.drawing.frontend.UniversalFrontend``) feeds :class:`TextPipeline`
+(ezdxf's 2D render pipeline with ``draw_text`` overridden) and :class:`Collector` (a
+back end on ezdxf's public ``Backend`` base class), which gather a page's strokes by
+colour and line weight, its filled shapes by colour, and its lines of text with
+ezdxf's placement of them. ReportLab's canvas then writes the page: one path per
+colour and line weight, and the texts as PDF text in the drawings' own fonts (DejaVu
+Sans and DejaVu Sans Mono, the files matplotlib carries), so the pages stay small, are
+written quickly and can be searched. ``sections.pdf`` is the pages of the sections
+drawing again, on their own.
+
+A viewport's model-space content is drawn from the entities whose extents meet its
+window (ezdxf's fast bounding boxes, measured once per drawing; an insert by its
+insertion point), then placed at the viewport's scale and position and clipped to its
+box. The notes (the MTEXTs of a sheet, alike on every sheet of a drawing) are
+decomposed once per drawing.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+from ezdxf.addons.drawing.backend import Backend
+from ezdxf.addons.drawing.pipeline import RenderPipeline2d
+
+PT_PER_MM = 72.0 / 25.4
+MIN_WIDTH_MM = 0.2 / PT_PER_MM  # the thinnest line drawn: 0.2 pt
+FLATTEN_MM = 0.01  # curve flattening distance, drawing units
+
+
+class Collector(Backend):
+    """An ezdxf drawing back end that collects what the front end draws: polylines by
+    (colour, line weight in mm), filled polygons by colour, and lines of text (from
+    :class:`TextPipeline`) as (text, x, y, angle in degrees, cap height, colour, font
+    face), all in drawing units."""
+
+    def __init__(self, flatten: float = FLATTEN_MM):
+        super().__init__()
+        self.flatten = flatten
+        self.strokes: dict[tuple[str, float], list] = {}
+        self.fills: dict[str, list] = {}
+        self.texts: list[tuple] = []
+
+    def _stroke(self, props, xy) -> None:
+        self.strokes.setdefault((props.color, props.lineweight), []).append(xy)
+
+    def _fill(self, props, xy) -> None:
+        if len(xy) > 2:
+            self.fills.setdefault(props.color, []).append(xy)
+
+    def add_text(self, text: str, transform, cap_height: float, color: str, face) -> None:
+        """One line of text: ezdxf places its baseline's start with ``transform``
+        (``ezdxf.math.Matrix44``, text units of cap height ``cap_height`` to drawing
+        units); kept as position, angle and cap height in drawing units."""
+        o, ux, uy = transform.origin, transform.ux, transform.uy
+        self.texts.append((text, o.x, o.y, math.degrees(math.atan2(ux.y, ux.x)),
+                           cap_height * math.hypot(uy.x, uy.y), color, face))
+
+    def set_background(self, color) -> None:
+        pass
+
+    def draw_point(self, pos, properties) -> None:
+        self._stroke(properties, np.array([[pos.x, pos.y], [pos.x, pos.y]]))
+
+    def draw_line(self, start, end, properties) -> None:
+        self._stroke(properties, np.array([[start.x, start.y], [end.x, end.y]]))
+
+    def draw_solid_lines(self, lines, properties) -> None:
+        for s, e in lines:
+            self._stroke(properties, np.array([[s.x, s.y], [e.x, e.y]]))
+
+    def draw_path(self, path, properties) -> None:
+        for sub in path.sub_paths():
+            v = np.array([(p.x, p.y) for p in sub.flattening(self.flatten)])
+            if len(v) > 1:
+                self._stroke(properties, v)
+
+    def draw_filled_paths(self, paths, properties) -> None:
+        for path in paths:
+            for sub in path.sub_paths():
+                self._fill(properties, np.array([(p.x, p.y)
+                                                 for p in sub.flattening(self.flatten)]))
+
+    def draw_filled_polygon(self, points, properties) -> None:
+        self._fill(properties, np.array([(p.x, p.y) for p in points.vertices()]))
+
+    def draw_image(self, image_data, properties) -> None:
+        pass  # wallrun's drawings hold no images
+
+    def clear(self) -> None:
+        self.strokes, self.fills, self.texts = {}, {}, []
+
+    def finalize(self) -> None:
+        pass
+
+    def taken(self) -> tuple:
+        """What was collected, as (strokes, fills, texts); the collector is emptied."""
+        out = (self.strokes, self.fills, self.texts)
+        self.clear()
+        return out
+
+
+class TextPipeline(RenderPipeline2d):
+    """ezdxf's 2D render pipeline (``ezdxf.addons.drawing.pipeline.RenderPipeline2d``)
+    with ``draw_text`` overridden: a line of text goes to the collector
+    (:meth:`Collector.add_text`) with ezdxf's placement, colour and font face, instead
+    of as filled glyph outlines; everything else is ezdxf's own."""
+
+    def draw_text(self, text, transform, properties, cap_height, dxftype="TEXT") -> None:
+        from ezdxf.addons.drawing.pipeline import prepare_string_for_rendering
+
+        if not text.strip():
+            return
+        self.backend.add_text(prepare_string_for_rendering(text, dxftype), transform,
+                              cap_height, self.get_backend_properties(properties).color,
+                              properties.font or getattr(self, "default_font_face", None))
+
+
+def _config():
+    from ezdxf.addons.drawing.config import BackgroundPolicy, Configuration
+
+    return Configuration(background_policy=BackgroundPolicy.WHITE,
+                         circle_approximation_count=32, min_lineweight=0.1)
+
+
+def frontend(doc, out: Collector):
+    """ezdxf's drawing front end for ``doc`` feeding ``out`` through
+    :class:`TextPipeline` (white background)."""
+    from ezdxf.addons.drawing import RenderContext
+    from ezdxf.addons.drawing.frontend import UniversalFrontend
+
+    return UniversalFrontend(RenderContext(doc), TextPipeline(out), config=_config())
+
+
+# --- fonts ---------------------------------------------------------------------------------
+
+class Fonts:
+    """The PDF fonts of one rendering: an ezdxf font face (None: DejaVu Sans) maps to
+    the TrueType file matplotlib finds for its family (``font_manager.findfont``),
+    registered with ReportLab under ``wallrun-<file stem>``, and to its cap height
+    per unit of font size (ezdxf sizes text by cap height, PDF by the em), measured
+    on "H" with matplotlib's public ``TextPath``."""
+
+    def __init__(self):
+        self.known: dict = {}
+
+    def get(self, face) -> tuple[str, float]:
+        """(ReportLab font name, cap height per unit font size) of ``face``."""
+        if face in self.known:
+            return self.known[face]
+        from matplotlib.font_manager import FontProperties, findfont
+        from matplotlib.textpath import TextPath
+        from reportlab.pdfbase import pdfmetrics
+        from reportlab.pdfbase.ttfonts import TTFont
+
+        if face is None:
+            prop = FontProperties(family="DejaVu Sans")
+        else:
+            prop = FontProperties(family=face.family, weight=face.weight,
+                                  style="italic" if face.is_italic else "normal")
+        path = findfont(prop, fallback_to_default=True)
+        name = "wallrun-" + Path(path).stem
+        if name not in pdfmetrics.getRegisteredFontNames():
+            pdfmetrics.registerFont(TTFont(name, path))
+        cap = TextPath((0.0, 0.0), "H", size=1.0, prop=prop).get_extents().height
+        self.known[face] = (name, cap)
+        return self.known[face]
+
+
+# --- painting a page -----------------------------------------------------------------------
+
+def _rgb(color: str) -> tuple[float, float, float]:
+    """"#rrggbb" (an alpha byte after it is ignored) as ReportLab's 0..1 channels."""
+    h = color.lstrip("#")
+    return tuple(int(h[i:i + 2], 16) / 255.0 for i in (0, 2, 4))
+
+
+def paint(canvas, drawn: tuple, fonts: Fonts, place=None, clip=None) -> None:
+    """Paint ``drawn`` ((strokes, fills, texts) of a :class:`Collector`) on ``canvas``
+    (whose unit is the paper millimetre): ``place`` (k, cx, cy, px, py) maps drawing
+    point p to (px, py) + k (p - (cx, cy)) (a viewport's scale and position), ``clip``
+    (x0, y0, x1, y1) clips everything to that box. Line weights are in mm, at least
+    :data:`MIN_WIDTH_MM`; fills use the non-zero rule."""
+    from reportlab.pdfgen.canvas import FILL_NON_ZERO
+
+    strokes, fills, texts = drawn
+    k, cx, cy, px, py = place if place is not None else (1.0, 0.0, 0.0, 0.0, 0.0)
+    canvas.saveState()
+    if clip is not None:
+        box = canvas.beginPath()
+        box.rect(clip[0], clip[1], clip[2] - clip[0], clip[3] - clip[1])
+        canvas.clipPath(box, stroke=0, fill=0)
+    # the viewport's placement as the page's transformation; line widths and text
+    # sizes are then given in drawing units (divided by k)
+    canvas.translate(px - k * cx, py - k * cy)
+    canvas.scale(k, k)
+    for color, polys in fills.items():
+        canvas.setFillColorRGB(*_rgb(color))
+        path = canvas.beginPath()
+        for v in polys:
+            path.moveTo(*v[0])
+            for x, y in v[1:]:
+                path.lineTo(x, y)
+            path.close()
+        canvas.drawPath(path, stroke=0, fill=1, fillMode=FILL_NON_ZERO)
+    canvas.setLineCap(0)
+    canvas.setLineJoin(0)
+    for (color, lw), segs in strokes.items():
+        canvas.setStrokeColorRGB(*_rgb(color))
+        canvas.setLineWidth(max(lw, MIN_WIDTH_MM) / k)
+        path = canvas.beginPath()
+        for v in segs:
+            path.moveTo(*v[0])
+            for x, y in v[1:]:
+                path.lineTo(x, y)
+        canvas.drawPath(path, stroke=1, fill=0)
+    for text, x, y, angle, cap, color, face in texts:
+        name, cap_per_size = fonts.get(face)
+        canvas.saveState()
+        canvas.setFillColorRGB(*_rgb(color))
+        canvas.translate(x, y)
+        if angle:
+            canvas.rotate(angle)
+        canvas.setFont(name, cap / cap_per_size)
+        canvas.drawString(0.0, 0.0, text)
+        canvas.restoreState()
+    canvas.restoreState()
+
+
+# --- the sheets ------------------------------------------------------------------------------
+
+def sheet_layouts(doc) -> list:
+    """The paper-space layouts of ``doc`` in tab order (model space left out)."""
+    return [doc.paperspace(n) for n in doc.layout_names_in_taborder() if n != "Model"]
+
+
+class SheetPainter:
+    """Decomposes the sheets of one drawing (see the module's text): :meth:`page`
+    gives a sheet's size and its parts, each (drawn, place, clip) for :func:`paint`."""
+
+    def __init__(self, doc):
+        from ezdxf import bbox
+
+        self.paper, self.model, self.notes = Collector(), Collector(), Collector()
+        self.fe_paper = frontend(doc, self.paper)
+        self.fe_notes = frontend(doc, self.notes)
+        self.drawn_notes: dict = {}  # the MTEXTs of a sheet, drawn once for this drawing
+        msp = doc.modelspace()
+        self.fe_model = frontend(doc, self.model)
+        self.fe_model.ctx.set_current_layout(msp)
+        self.fe_model.set_background("#ffffff")
+        self.entities = list(msp)
+        # where each entity is, to find what a viewport shows: an insert by its
+        # insertion point (wallrun's section blocks lie around their origin, on one
+        # sheet; measuring every block's contents costs more than drawing it),
+        # everything else by ezdxf's fast bounding box
+        rows = []
+        others = [e for e in self.entities if e.dxftype() != "INSERT"]
+        boxes = iter(bbox.multi_flat(others, fast=True))
+        for e in self.entities:
+            if e.dxftype() == "INSERT":
+                x, y = e.dxf.insert[0], e.dxf.insert[1]
+                rows.append((x, y, x, y))
+                continue
+            b = next(boxes)
+            rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
+                        else (np.inf, np.inf, -np.inf, -np.inf))
+        self.boxes = np.array(rows, dtype=float).reshape(-1, 4)
+
+    def page(self, layout) -> tuple[tuple[float, float], list]:
+        """((width, height) mm, parts) of paper-space ``layout``."""
+        parts = []
+        self.fe_paper.draw_layout(layout, finalize=True,
+                                  filter_func=lambda e: e.dxftype() not in ("VIEWPORT",
+                                                                            "MTEXT"))
+        parts.append((self.paper.taken(), None, None))
+        key = tuple((e.text, tuple(e.dxf.insert), e.dxf.char_height, e.dxf.get("width", 0),
+                     e.dxf.get("attachment_point", 1), e.dxf.get("rotation", 0.0),
+                     e.dxf.layer, e.dxf.get("style", ""), e.dxf.get("line_spacing_factor", 1))
+                    for e in layout.query("MTEXT"))
+        if key not in self.drawn_notes:
+            self.fe_notes.draw_layout(layout, finalize=True,
+                                      filter_func=lambda e: e.dxftype() == "MTEXT")
+            self.drawn_notes[key] = self.notes.taken()
+        parts.append((self.drawn_notes[key], None, None))
+        for vp in layout.query("VIEWPORT"):
+            if vp.dxf.get("id", 0) == 1 or vp.dxf.view_height <= 0:
+                continue  # the layout's own overall viewport
+            k = vp.dxf.height / vp.dxf.view_height
+            cx, cy = vp.dxf.view_center_point[0], vp.dxf.view_center_point[1]
+            hw, hh = vp.dxf.width / 2 / k, vp.dxf.height / 2 / k
+            b = self.boxes
+            hit = ((b[:, 0] <= cx + hw) & (b[:, 2] >= cx - hw)
+                   & (b[:, 1] <= cy + hh) & (b[:, 3] >= cy - hh))
+            self.fe_model.draw_entities([e for e, on in zip(self.entities, hit) if on])
+            px, py = vp.dxf.center[0], vp.dxf.center[1]
+            clip = (px - vp.dxf.width / 2, py - vp.dxf.height / 2,
+                    px + vp.dxf.width / 2, py + vp.dxf.height / 2)
+            parts.append((self.model.taken(), (k, cx, cy, px, py), clip))
+        return (layout.dxf.paper_width, layout.dxf.paper_height), parts
+
+
+def _canvas(path, title: str):
+    """A ReportLab canvas writing ``path``, its unit set per page to the millimetre;
+    invariant output (no dates or random ids: the same drawings give the same bytes)."""
+    from reportlab.pdfgen.canvas import Canvas
+
+    c = Canvas(str(path), pageCompression=1, invariant=1)
+    c.setTitle(title)
+    c.setCreator("wallrun")
+    return c
+
+
+def _add_page(canvas, size_mm, parts, fonts: Fonts) -> None:
+    canvas.setPageSize((size_mm[0] * PT_PER_MM, size_mm[1] * PT_PER_MM))
+    canvas.scale(PT_PER_MM, PT_PER_MM)
+    for drawn, place, clip in parts:
+        paint(canvas, drawn, fonts, place, clip)
+    canvas.showPage()
+
+
+def render_sheets(docs, pdf_path, also=None) -> int:
+    """Every sheet of the drawings ``docs`` (in order) as one page each of
+    ``pdf_path``; ``also``: {index in ``docs``: another PDF path} that gets that
+    drawing's pages on their own. Returns the number of pages of ``pdf_path``."""
+    fonts = Fonts()
+    n = 0
+    pdf = _canvas(pdf_path, "wallrun drawing sheets")
+    for i, doc in enumerate(docs):
+        painter = SheetPainter(doc)
+        extra = None
+        if also and i in also:
+            extra = _canvas(also[i], "wallrun section sheets")
+        for layout in sheet_layouts(doc):
+            size, parts = painter.page(layout)
+            _add_page(pdf, size, parts, fonts)
+            if extra is not None:
+                _add_page(extra, size, parts, fonts)
+            n += 1
+        if extra is not None:
+            extra.save()
+    pdf.save()
+    return n
