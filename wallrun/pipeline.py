@@ -40,12 +40,13 @@ class Sizer:
     design depends on that demand only, so the results are the same."""
 
     def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None,
-                 fallback=None):
+                 fallback=None, known=None):
         self.site, self.mode, self.types, self.tick = site, mode, types, tick
         self.executor, self.fallback = executor, fallback
         self.basis, self.costing = site.basis, Costing.of(site)
         self.step = site.design.dimension_step_m
-        self.designs: dict[Demand, SizedDesign] = {}
+        # designs already made in this call for these demands in this way
+        self.designs: dict[Demand, SizedDesign] = dict(known or {})
         self.seconds = 0.0
         self.stats: list = []
 
@@ -135,7 +136,12 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
         rational = _rationalise(site, laid, sizer)
         seconds += time.perf_counter() - t1
         if len(rational.types):  # else nothing could be designed: the flags stand
-            typed = Sizer(site, "types", types=rational.types, tick=tick, fallback=sizer)
+            # a demand some type serves has that design already (rationalise chose it
+            # as _with_types would: the cheapest passing type with its cage)
+            known = {d: sd for d, sd in zip(_demands_of(laid), rational.designs)
+                     if sd.status == "ok"}
+            typed = Sizer(site, "types", types=rational.types, tick=tick, fallback=sizer,
+                          known=known)
             laid = lay_out(profiles, runs, site, typed,
                            slots={lay.run.run: lay.slots for lay in laid})
             seconds += typed.seconds
@@ -190,13 +196,15 @@ def _with_overall(site: Site, laid: list[RunLayout]) -> list[RunLayout]:
     return out
 
 
+def _demands_of(laid: list[RunLayout]) -> list[Demand]:
+    """The demands of every panel of ``laid``, run after run."""
+    return [d for lay in laid for d in lay.demands]
+
+
 def _rationalise(site: Site, laid: list[RunLayout], sizer: Sizer) -> rat_mod.Rationalised:
-    demands, lengths, own = [], [], []
-    for lay in laid:
-        for s, d, sd in zip(lay.slots, lay.demands, lay.designs):
-            demands.append(d)
-            lengths.append(s.length)
-            own.append(sd)
+    demands = _demands_of(laid)
+    lengths = [s.length for lay in laid for s in lay.slots]
+    own = [sd for lay in laid for sd in lay.designs]
     return rat_mod.rationalise(demands, lengths, own, site.basis, Costing.of(site),
                                site.design.max_types,
                                takeoff.section_type_rate(site.rates))
