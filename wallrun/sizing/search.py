@@ -70,7 +70,7 @@ MAX_WIDEN = 4
 #: this length, several hundred of them live at once).
 CHUNK = 60_000
 #: Candidates per batch of :func:`best_first`.
-BEST_FIRST_BATCH = 8192
+BEST_FIRST_BATCH = 512
 
 
 # --- the candidates of one demand ---------------------------------------------------------
