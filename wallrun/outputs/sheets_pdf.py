@@ -143,7 +143,9 @@ def frontend(doc, out: Collector):
 class Fonts:
     """The PDF fonts of one rendering: an ezdxf font face (None: DejaVu Sans) maps to
     the TrueType file matplotlib finds for its family (``font_manager.findfont``),
-    registered with ReportLab under ``wallrun-<file stem>``, and to its cap height
+    registered with ReportLab under ``wallrun-<file stem>`` (ReportLab's font registry is
+    the process's: the same file under the same name, whichever call or thread
+    registers it first, so no output depends on it), and to its cap height
     per unit of font size (ezdxf sizes text by cap height, PDF by the em), measured
     on "H" with matplotlib's public ``TextPath``."""
 
