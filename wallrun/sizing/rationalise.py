@@ -48,6 +48,9 @@ MAX_CANDIDATES = 40
 MILP_SECONDS = 30.0
 #: Largest matrix (rows x columns) given to the integer program.
 MILP_MAX_CELLS = 200_000
+#: Most candidates evaluated in one call when the cost matrix is made (memory: every
+#: check is an array of this length).
+CHUNK = 60_000
 
 
 # --- the choice ---------------------------------------------------------------------------
@@ -442,25 +445,31 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
     # 2. the cost matrix, bars chosen per demand
     rows_d = [uniq[k] for k in ok_rows]
     cost = np.full((len(rows_d), len(cands)), math.inf)
-    bars: dict[tuple[int, int], tuple] = {}  # (row, type) -> (evaluation, its row)
+    bars: dict[tuple[int, int], tuple] = {}  # (row, type) -> (its bars, its row)
     groups: dict[tuple, list[int]] = {}
     for r, d in enumerate(rows_d):
         groups.setdefault(d.ground_key, []).append(r)
     S = SectionArrays.of(cands)
-    for rs in groups.values():
-        ds = [rows_d[r] for r in rs]
-        counts = [len(cands)] * len(ds)
-        sec = SectionArrays(**{f: np.tile(np.asarray(getattr(S, f), dtype=float), len(ds))
-                               for f in ("stem_top_m", "stem_base_m", "base_width_m", "toe_m",
-                                         "base_thickness_m", "key_depth_m", "key_width_m")})
-        ev = ev_.evaluate(sec, Rows.of(ds, counts), ds[0], basis, costing,
-                          caps=ev_.caps_of(ds, counts))
-        for j, r in enumerate(rs):
-            sl = slice(j * len(cands), (j + 1) * len(cands))
-            okj = ev.ok[sl]
-            cost[r] = np.where(okj, ev.cost[sl] * L[ok_rows[r]], math.inf)
-            for t in np.flatnonzero(okj):
-                bars[(r, int(t))] = (ev, j * len(cands) + int(t))
+    per_call = max(1, CHUNK // len(cands))  # rows per evaluation: bounded memory
+    for group in groups.values():
+        for a in range(0, len(group), per_call):
+            rs = group[a:a + per_call]
+            ds = [rows_d[r] for r in rs]
+            counts = [len(cands)] * len(ds)
+            sec = SectionArrays(**{f: np.tile(np.asarray(getattr(S, f), dtype=float), len(ds))
+                                   for f in ("stem_top_m", "stem_base_m", "base_width_m",
+                                             "toe_m", "base_thickness_m", "key_depth_m",
+                                             "key_width_m")})
+            ev = ev_.evaluate(sec, Rows.of(ds, counts), ds[0], basis, costing,
+                              caps=ev_.caps_of(ds, counts))
+            cage = replace(ev.structure, checks=[])  # the bars only: the checks are freed
+            for j, r in enumerate(rs):
+                sl = slice(j * len(cands), (j + 1) * len(cands))
+                okj = ev.ok[sl]
+                cost[r] = np.where(okj, ev.cost[sl] * L[ok_rows[r]], math.inf)
+                for t in np.flatnonzero(okj):
+                    bars[(r, int(t))] = (cage, j * len(cands) + int(t))
+            del ev
     order = np.argsort([own_of[d].cost_per_m for d in rows_d], kind="stable")
     cap = max_types if max_types != "auto" else practical_count(rows_d)
     ch = choose(cost, type_rate, cap, order=order)
@@ -473,7 +482,7 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
             continue
         names.append(f"S{len(names) + 1:02d}")
         sections.append(cands[t])
-        cages.append(envelope_bars([bars[(r, t)][0].structure.reinforcement(bars[(r, t)][1])
+        cages.append(envelope_bars([bars[(r, t)][0].reinforcement(bars[(r, t)][1])
                                     for r in served]))
     types = SectionSet(tuple(names), tuple(sections), tuple(cages))
     types = with_stops(types, rows_d, [ch.assign[r] for r in range(len(rows_d))], chosen,
