@@ -61,6 +61,39 @@ def test_any_small_matrix_choice_equals_enumeration(seed):
         assert ch.total == pytest.approx(ref, rel=1e-7)
 
 
+def ranked_alike_matrix(rng, n, T):
+    """n rows drawn from a few rankings: each row is one of four base rows scaled by a
+    panel length and shifted by a cost common to its columns (the ranking kept), with
+    its infeasible cells."""
+    base = rng.uniform(10, 100, (4, T))
+    base[rng.random((4, T)) < 0.3] = np.inf
+    base[:, int(rng.integers(T))] = rng.uniform(50, 150, 4)  # one column serves all
+    pick = rng.integers(0, 4, n)
+    return base[pick] * rng.uniform(1, 6, n)[:, None] + rng.uniform(0, 5, n)[:, None]
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_merged_rows_keep_every_sets_total(seed):
+    """Rows that rank the columns alike are served by the same column of any set: the
+    merged matrix has fewer rows and, for every set of columns, the same total
+    (checked over all sets), so the integer program on it finds the least total."""
+    import itertools
+
+    rng = np.random.default_rng(300 + seed)
+    n, T = int(rng.integers(8, 16)), int(rng.integers(3, 6))
+    C = ranked_alike_matrix(rng, n, T)
+    M = rat.merged_rows(C)
+    assert M.shape[1] == T and M.shape[0] <= 4 < n
+    for k in range(1, T + 1):
+        for combo in itertools.combinations(range(T), k):
+            assert rat._total(M, combo, 0.0) == pytest.approx(rat._total(C, combo, 0.0),
+                                                              rel=1e-12)
+    rate = float(rng.uniform(0, 60))
+    got = rat.milp_sets(C, rate, T)
+    ref, _ = rat.enumerate_sets(C, rate, T)
+    assert got is not None and got[0] == pytest.approx(ref, rel=1e-7)
+
+
 def test_auto_count_balances_type_rate_against_panel_cost():
     # two panel groups: a cheap type for the small ones saves 10 x 3 = 30 per panel group;
     # worth it when one type costs less than that

@@ -15,7 +15,8 @@ Total cost = the panels' cost + the number of types x the rate of one type (item
    the candidates considered: dynamic programming over contiguous groups of the rows
    ordered by severity when the types are nested (:func:`nested`, proof in
    :func:`dp_by_count`), else an integer program (``scipy.optimize.milp``) of the
-   facility-location form; :func:`enumerate_sets` is the reference for the tests.
+   facility-location form, its rows that rank the types alike merged
+   (:func:`merged_rows`, exact); :func:`enumerate_sets` is the reference for the tests.
 4. One cage per type: per face the bars of largest area among the panels it serves;
    every panel is checked again with its type's section and cage, including the
    curtailment: the type's stem bars stop at the highest stop its panels need, which is
@@ -46,7 +47,8 @@ MAX_CANDIDATES = 40
 #: Seconds the integer program may take before the choice falls back to the dynamic
 #: programme (then reported as not proven least).
 MILP_SECONDS = 30.0
-#: Largest matrix (rows x columns) given to the integer program.
+#: Largest matrix (rows x columns, after rows that rank the types alike are merged)
+#: given to the integer program.
 MILP_MAX_CELLS = 200_000
 #: Most candidates evaluated in one call when the cost matrix is made (memory: every
 #: check is an array of this length).
@@ -178,10 +180,15 @@ def milp_sets(cost: np.ndarray, rate: float, max_types: int):
     with HiGHS): x_t in {0, 1} (type t used), y_rt in [0, 1] (row r served by t), minimise
     sum c_rt y_rt + rate sum x_t subject to sum_t y_rt = 1, y_rt <= x_t, sum x_t <=
     max_types, y_rt = 0 where t fails at r. Returns (total, columns) or None when the
-    solver gives no proven optimum."""
+    solver gives no proven optimum, or when the program, after the rows are merged
+    (:func:`merged_rows`), has more than ``MILP_MAX_CELLS`` cells."""
     from scipy.optimize import Bounds, LinearConstraint, milp
     from scipy.sparse import coo_matrix
 
+    full = cost
+    cost = merged_rows(cost)
+    if cost.size > MILP_MAX_CELLS:
+        return None
     n, T = cost.shape
     rr, tt = np.nonzero(np.isfinite(cost))
     m = len(rr)
@@ -215,7 +222,27 @@ def milp_sets(cost: np.ndarray, rate: float, max_types: int):
     if res.status != 0 or res.x is None:
         return None
     chosen = tuple(int(t) for t in np.flatnonzero(res.x[:T] > 0.5))
-    return _total(cost, chosen, rate), chosen
+    return _total(full, chosen, rate), chosen
+
+
+def merged_rows(cost: np.ndarray) -> np.ndarray:
+    """``cost`` with the rows that rank their columns alike made one row, their sum.
+
+    A row's ranking: its finite columns in increasing cost, ties to the lower column.
+    Given any set of columns, a row is served by the first column of the set in its
+    ranking (a least-cost one), so rows of one ranking are always served by the same
+    column: for every set, the total of the merged matrix equals the total of
+    ``cost``, and the least-total sets of the two are the same. Rows keep the order of
+    their rankings' first appearance. (Adjacent panels of a wall mostly rank the types
+    alike: 1,250 rows of the 10 km benchmark are 104.)"""
+    groups: dict[tuple, list[int]] = {}
+    for r in range(cost.shape[0]):
+        row = cost[r]
+        fin = np.flatnonzero(np.isfinite(row))
+        groups.setdefault(tuple(fin[np.lexsort((fin, row[fin]))].tolist()), []).append(r)
+    if len(groups) == cost.shape[0]:
+        return cost
+    return np.array([cost[rs].sum(axis=0) for rs in groups.values()]).reshape(-1, cost.shape[1])
 
 
 def choose(cost: np.ndarray, rate: float, max_types: int | str,
@@ -252,7 +279,7 @@ def choose(cost: np.ndarray, rate: float, max_types: int | str,
         cols = tuple(sorted(set(int(x) for x in a if x >= 0)))
     else:
         live = undominated(sub)
-        got = milp_sets(sub[:, live], rate, k_cap) if sub.size <= MILP_MAX_CELLS else None
+        got = milp_sets(sub[:, live], rate, k_cap)
         if got is not None:
             method, exact = "integer program", True
             cols = tuple(int(np.flatnonzero(live)[c]) for c in got[1])
