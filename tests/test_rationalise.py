@@ -94,6 +94,29 @@ def test_merged_rows_keep_every_sets_total(seed):
     assert got is not None and got[0] == pytest.approx(ref, rel=1e-7)
 
 
+@pytest.mark.parametrize("seed", range(6))
+def test_dynamic_programme_over_runs_equals_over_rows(seed):
+    """Nested columns with many rows of a few severities (runs of rows ranking the
+    columns alike): the programme over the runs gives the least cost with at most k
+    groups that the programme over the rows gives, for every k (a run is never split
+    in an optimal partition; with exactly k groups the rows may split runs needlessly),
+    and assignments that cost what it says."""
+    rng = np.random.default_rng(400 + seed)
+    n, T = int(rng.integers(12, 30)), int(rng.integers(2, 6))
+    C, _ = nested_matrix(rng, n, T)
+    C = C[rng.integers(0, n, 3 * n)]  # repeated rows: runs once ordered
+    order = np.lexsort((np.min(C, axis=1), -np.isfinite(C).sum(axis=1)))
+    assert rat.nested(C, order)
+    ref, _ = rat.dp_by_count(C, order, T)
+    got, assignment = rat.dp_by_runs(C, order, T)
+    assert np.minimum.accumulate(got) == pytest.approx(np.minimum.accumulate(ref), rel=1e-12)
+    for k in range(1, T + 1):
+        a = assignment(k)
+        if np.isfinite(got[k]):
+            assert np.all(a >= 0)
+            assert C[np.arange(len(C)), a].sum() == pytest.approx(got[k], rel=1e-12)
+
+
 def test_auto_count_balances_type_rate_against_panel_cost():
     # two panel groups: a cheap type for the small ones saves 10 x 3 = 30 per panel group;
     # worth it when one type costs less than that

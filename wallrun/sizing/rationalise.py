@@ -225,6 +225,45 @@ def milp_sets(cost: np.ndarray, rate: float, max_types: int):
     return _total(full, chosen, rate), chosen
 
 
+def ranking(row: np.ndarray) -> tuple[int, ...]:
+    """The finite columns of a cost row in increasing cost, ties to the lower column."""
+    fin = np.flatnonzero(np.isfinite(row))
+    return tuple(fin[np.lexsort((fin, row[fin]))].tolist())
+
+
+def dp_by_runs(cost: np.ndarray, order: np.ndarray, k_max: int):
+    """:func:`dp_by_count` over the runs of consecutive rows (in ``order``) that rank the
+    columns alike, each run one row (their sum); the assignment is given back per row.
+
+    Exact where :func:`dp_by_count` is: with nested columns a row is served by the
+    member of the set with the shortest prefix covering it, and the rows of a run have
+    the same finite columns, so an optimal partition never splits a run. The table of
+    :func:`dp_by_count` is (rows + 1)^2: over runs it stays small on a long wall."""
+    order = np.asarray(order)
+    runs: list[list[int]] = []
+    last = None
+    for r in order.tolist():
+        key = ranking(cost[r])
+        if runs and key == last:
+            runs[-1].append(r)
+        else:
+            runs.append([r])
+            last = key
+    merged = np.array([cost[rs].sum(axis=0) for rs in runs]).reshape(-1, cost.shape[1])
+    best, assign_runs = dp_by_count(merged, np.arange(len(runs)), k_max)
+    K = max(1, min(k_max, cost.shape[0]))  # the length dp_by_count gives over the rows
+    best = np.concatenate([best, np.full(K + 1 - len(best), math.inf)])
+
+    def assignment(k: int) -> np.ndarray:
+        a = assign_runs(min(k, len(runs)))
+        out = np.full(cost.shape[0], -1, dtype=np.int64)
+        for rs, col in zip(runs, a.tolist()):
+            out[rs] = col
+        return out
+
+    return best, assignment
+
+
 def merged_rows(cost: np.ndarray) -> np.ndarray:
     """``cost`` with the rows that rank their columns alike made one row, their sum.
 
@@ -237,9 +276,7 @@ def merged_rows(cost: np.ndarray) -> np.ndarray:
     alike: 1,250 rows of the 10 km benchmark are 104.)"""
     groups: dict[tuple, list[int]] = {}
     for r in range(cost.shape[0]):
-        row = cost[r]
-        fin = np.flatnonzero(np.isfinite(row))
-        groups.setdefault(tuple(fin[np.lexsort((fin, row[fin]))].tolist()), []).append(r)
+        groups.setdefault(ranking(cost[r]), []).append(r)
     if len(groups) == cost.shape[0]:
         return cost
     return np.array([cost[rs].sum(axis=0) for rs in groups.values()]).reshape(-1, cost.shape[1])
@@ -270,7 +307,7 @@ def choose(cost: np.ndarray, rate: float, max_types: int | str,
         order = pos[[i for i in np.asarray(order) if served[i]]]
     method, exact = "dynamic programming", nested(sub, order)
     if exact:
-        best, assignment = dp_by_count(sub, order, k_cap)
+        best, assignment = dp_by_runs(sub, order, k_cap)
         ks = np.arange(len(best))
         tot = best + rate * ks
         tot[0] = math.inf
@@ -285,7 +322,7 @@ def choose(cost: np.ndarray, rate: float, max_types: int | str,
             cols = tuple(int(np.flatnonzero(live)[c]) for c in got[1])
         else:
             method = "dynamic programming (types not nested: not proven least)"
-            best, assignment = dp_by_count(sub, order, k_cap)
+            best, assignment = dp_by_runs(sub, order, k_cap)
             tot = best + rate * np.arange(len(best))
             tot[0] = math.inf
             cols = tuple(sorted(set(int(x) for x in assignment(int(np.argmin(tot))) if x >= 0)))
