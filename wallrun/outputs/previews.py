@@ -110,15 +110,17 @@ def _chainage_formatter():
     return FuncFormatter(lambda v, _pos: chainage_label(v))
 
 
-def write_previews(result, docs, out_dir) -> list[str]:
+def write_previews(result, docs, out_dir, quick_look: bool = True) -> list[str]:
     """Render into ``out_dir``: ``sheets.pdf``, every sheet of the drawings ``docs``
     (the documents just saved: elevation, sections, plan); ``sections.pdf``, the
-    sheets of the sections drawing (``docs[1]``) again on their own; and
-    ``elevation.png`` from ``result``. Returns the names written."""
+    sheets of the sections drawing (``docs[1]``) again on their own; and, with
+    ``quick_look``, ``elevation.png`` from ``result``. Returns the names written."""
     from wallrun.outputs.sheets_pdf import render_sheets
 
     out = Path(out_dir)
     render_sheets(docs, out / "sheets.pdf", also={1: out / "sections.pdf"})
+    if not quick_look:
+        return ["sheets.pdf", "sections.pdf"]
     render_elevation_png(result, out / "elevation.png")
     return ["sheets.pdf", "sections.pdf", "elevation.png"]
 

@@ -45,17 +45,23 @@ def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
     """Write every output file of ``result`` into ``folder`` (which exists and is
     empty); returns the names written. Each writer renders ``result`` only and writes
     files of its own; ``executor`` (a ``concurrent.futures`` executor the caller owns,
-    or None) writes the drawings meanwhile."""
+    or None) writes the drawings meanwhile (but for ``elevation.png``, which this process
+    draws)."""
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
     from wallrun.outputs.dxf import write_drawings
+    from wallrun.outputs.previews import render_elevation_png
     folder = Path(folder)
-    drawings = None if executor is None else executor.submit(write_drawings, result, folder)
+    # with a worker: the drawings there, their quick look (from the result alone) here
+    drawings = (None if executor is None
+                else executor.submit(write_drawings, result, folder, False))
     try:
         for name, render in tables.TABLES.items():
             _write_text(folder / name, render(result))
         workbook.write_workbook(result, folder / "schedule.xlsx")
         if drawings is None:
             write_drawings(result, folder)
+        else:
+            render_elevation_png(result, folder / "elevation.png")
         report.write_report(result, folder / "report.html")
         profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
         ifc.write_ifc(result, folder / "model.ifc")

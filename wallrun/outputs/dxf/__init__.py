@@ -2,11 +2,12 @@
 the plan and the paper-space sheets, written through ezdxf's public API."""
 
 
-def write_drawings(result, folder) -> list[str]:
+def write_drawings(result, folder, quick_look: bool = True) -> list[str]:
     """Write every drawing of ``result`` into ``folder``: ``elevation.dxf``,
     ``sections.dxf``, and with plan coordinates ``plan.dxf`` and ``setting_out.csv``;
     then ``sheets.pdf`` (every sheet of the drawings), ``sections.pdf`` (the section
-    sheets) and ``elevation.png`` (a quick look). Returns the file names written."""
+    sheets) and, with ``quick_look``, ``elevation.png`` (a quick look, drawn from the
+    result alone). Returns the file names written."""
     from pathlib import Path
 
     from wallrun.outputs import previews
@@ -22,4 +23,4 @@ def write_drawings(result, folder) -> list[str]:
         with open(folder / "setting_out.csv", "w", encoding="utf-8", newline="") as f:
             f.write(plan.setting_out_csv(result))
         names += ["plan.dxf", "setting_out.csv"]
-    return names + previews.write_previews(result, docs, folder)
+    return names + previews.write_previews(result, docs, folder, quick_look)
