@@ -202,7 +202,7 @@ def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
     cpu0 = time.process_time()
     t0 = time.perf_counter()
     try:
-        result = pipeline.design(site, executor=pool)
+        result = pipeline.design(site, executor=pool, parts=jobs)
         t_design = time.perf_counter() - t0
         stages.update({k: float(v) for k, v in result.timings.items()})
         stages["design_other"] = max(t_design - sum(stages.values()), 0.0)

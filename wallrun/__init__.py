@@ -20,12 +20,12 @@ def load_site(path):
     return _load(path)
 
 
-def design(site, progress=None, executor=None):
+def design(site, progress=None, executor=None, parts=2):
     """Design the whole wall of a loaded site; returns a ``DesignResult``. ``executor``:
-    a process pool the caller owns for the large bespoke searches (None: this process
-    does all; the result is the same)."""
+    a process pool the caller owns for the large bespoke searches, cut into ``parts``
+    (best: its number of workers); None: this process does all. The result is the same."""
     from wallrun.pipeline import design as _design
-    return _design(site, progress=progress, executor=executor)
+    return _design(site, progress=progress, executor=executor, parts=parts)
 
 
 def write_outputs(result, out_dir, executor=None):

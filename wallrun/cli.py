@@ -361,7 +361,7 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
     pool = worker_pool(jobs)
     try:
         try:
-            result = pipeline.design(site, progress=cb, executor=pool)
+            result = pipeline.design(site, progress=cb, executor=pool, parts=jobs)
         finally:
             cb.close()
         write.write_outputs(result, out_dir, executor=pool)

@@ -26,10 +26,8 @@ from wallrun.sizing import search
 from wallrun.sizing.conditions import Rows, conditions_of, water_level
 
 
-#: Fewest new demands worth sending to worker processes, and the parts a batch is cut
-#: into for them.
+#: Fewest new demands worth sending to worker processes.
 PARALLEL_FROM = 48
-PARTS = 8
 
 
 class Sizer:
@@ -40,9 +38,9 @@ class Sizer:
     design depends on that demand only, so the results are the same."""
 
     def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None,
-                 fallback=None, known=None):
+                 fallback=None, known=None, parts: int = 2):
         self.site, self.mode, self.types, self.tick = site, mode, types, tick
-        self.executor, self.fallback = executor, fallback
+        self.executor, self.fallback, self.parts = executor, fallback, max(1, int(parts))
         self.basis, self.costing = site.basis, Costing.of(site)
         self.step = site.design.dimension_step_m
         # designs already made in this call for these demands in this way
@@ -73,7 +71,7 @@ class Sizer:
             return search.bespoke(new, *args, stats=self.stats)
         # contiguous ranges of retained height share most of their reference demands
         order = sorted(range(len(new)), key=lambda k: (new[k].h, k))
-        size = -(-len(order) // PARTS)
+        size = -(-len(order) // self.parts)
         parts = [order[i:i + size] for i in range(0, len(order), size)]
         futures = [self.executor.submit(_bespoke_part, [new[k] for k in p], *args)
                    for p in parts]
@@ -111,12 +109,14 @@ def _bespoke_part(demands, basis, costing, step):
     return search.bespoke(demands, basis, costing, step, stats=stats), stats[0]
 
 
-def design(site: Site, progress=None, executor=None) -> DesignResult:
+def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignResult:
     """Design the whole wall of ``site`` (design-basis sections 1 to 7).
 
     ``executor``: a ``concurrent.futures`` executor of worker processes the caller owns
-    (the command line's ``--jobs``) for the bespoke searches; None designs in this
-    process. The result is the same either way."""
+    (the command line's ``--jobs``) for the bespoke searches, a large batch of which is
+    cut into ``parts`` ranges of retained height (one per worker is best: each part
+    searches the reference demands of its range, and a cut makes a few of them twice);
+    None designs in this process. The result is the same either way."""
     tick = progress or (lambda stage, done, total: None)
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
@@ -127,7 +127,7 @@ def design(site: Site, progress=None, executor=None) -> DesignResult:
     t0 = time.perf_counter()
     mode = site.design.sections
     sizer = Sizer(site, "catalogue" if mode == "catalogue" else "bespoke", tick=tick,
-                  executor=executor)
+                  executor=executor, parts=parts)
     laid = lay_out(profiles, runs, site, sizer)
     seconds, stats = sizer.seconds, list(sizer.stats)
     rational = None
