@@ -205,7 +205,7 @@ def fake_engine(monkeypatch):
     write = types.ModuleType("wallrun.outputs.write")
     from wallrun.errors import InputError
 
-    def design(site, progress=None, executor=None):
+    def design(site, progress=None, executor=None, parts=2):
         calls.append("design")
         progress("panels", 1, 2)
         progress("panels", 2, 2)

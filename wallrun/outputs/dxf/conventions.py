@@ -245,17 +245,22 @@ def _define_blocks(doc, scale: int) -> None:
 
 class Lettering:
     """Widths of text as drawn in wallrun's text styles, measured with ezdxf's font
-    support (``ezdxf.fonts.fonts.make_font``); made once per drawing."""
+    support (``ezdxf.fonts.fonts.make_font``); made once per drawing, it remembers the
+    widths it measured for that drawing (the notes of every sheet are wrapped alike)."""
 
     def __init__(self):
         from ezdxf.fonts import fonts
 
         self._sans = fonts.make_font("DejaVuSans.ttf", 1.0)
         self._mono = fonts.make_font("DejaVuSansMono.ttf", 1.0)
+        self._known: dict[tuple[str, bool], float] = {}
 
     def width(self, s: str, mm: float, mono: bool = False) -> float:
         """Width of ``s`` at text height ``mm`` (the height of a capital), same unit."""
-        return (self._mono if mono else self._sans).text_width(s) * mm
+        w = self._known.get((s, mono))
+        if w is None:
+            w = self._known[(s, mono)] = (self._mono if mono else self._sans).text_width(s)
+        return w * mm
 
 
 def add_text(layout, text: str, xy, height: float, layer: str,
