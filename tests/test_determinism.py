@@ -110,3 +110,24 @@ def test_two_threads_design_and_write_as_one_after_the_other(tmp_path):
         t.join()
     for k in range(2):
         assert data(tmp_path / f"par{k}") == seq[k]
+
+
+def test_height_ranges_cut_the_batch_into_contiguous_parts_of_equal_work():
+    """``--jobs N`` hands N ranges of retained height to the workers: every demand in
+    exactly one part, the parts contiguous in height, their weights (the heights)
+    within one demand's weight of an equal share (invented heights)."""
+    import numpy as np
+
+    from wallrun.pipeline import height_ranges
+
+    rng = np.random.default_rng(7)
+    h = list(np.round(rng.uniform(0.5, 7.0, 301), 3))
+    for parts in (1, 2, 3, 8):
+        got = height_ranges(h, parts)
+        assert 1 <= len(got) <= parts
+        assert sorted(k for p in got for k in p) == list(range(len(h)))
+        for a, b in zip(got[:-1], got[1:]):
+            assert max(h[k] for k in a) <= min(h[k] for k in b)
+        share = sum(h) / parts
+        for p in got[:-1]:
+            assert abs(sum(h[k] for k in p) - share) <= max(h) + 1e-9
