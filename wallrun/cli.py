@@ -337,15 +337,17 @@ def check_out_is_safe(site_dir, out_dir, shown: str | None = None) -> None:
 
 
 def worker_pool(jobs: int):
-    """A process pool of ``jobs`` workers started by ``forkserver`` (or ``spawn`` where
-    there is none), or None for one process. The command line owns it; the library only
-    hands it work (``pipeline.design(executor=...)``, ``write_outputs(executor=...)``)."""
+    """For ``jobs`` processes in all: a pool of ``jobs - 1`` workers started by
+    ``forkserver`` (or ``spawn`` where there is none) beside this process, which works
+    too (it searches a part of the sections itself and writes the outputs that are not
+    drawings); None for one process. The command line owns it; the library only hands
+    it work (``pipeline.design(executor=..., parts=jobs)``, ``write_outputs(executor=...)``)."""
     if jobs <= 1:
         return None
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
     method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
-    return ProcessPoolExecutor(max_workers=jobs, mp_context=mp.get_context(method))
+    return ProcessPoolExecutor(max_workers=jobs - 1, mp_context=mp.get_context(method))
 
 
 def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,

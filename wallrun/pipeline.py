@@ -34,8 +34,8 @@ class Sizer:
     """The designs of demands in one way (bespoke, catalogue, or a rationalised set),
     each distinct demand designed once within one ``design`` call. With an
     ``executor`` (a ``concurrent.futures`` pool the caller owns), large batches of
-    bespoke searches are split by retained height over its workers: every demand's
-    design depends on that demand only, so the results are the same."""
+    bespoke searches are split by retained height over its workers and this process:
+    every demand's design depends on that demand only, so the results are the same."""
 
     def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None,
                  fallback=None, known=None, parts: int = 2):
@@ -70,11 +70,19 @@ class Sizer:
         if self.executor is None or len(new) < PARALLEL_FROM:
             return search.bespoke(new, *args, stats=self.stats)
         parts = height_ranges([d.h for d in new], self.parts)
+        # the executor searches every part but the first, which this process searches
+        # meanwhile
         futures = [self.executor.submit(_bespoke_part, [new[k] for k in p], *args)
-                   for p in parts]
+                   for p in parts[1:]]
         got: list[SizedDesign | None] = [None] * len(new)
-        for p, f in zip(parts, futures):
-            designs, st = f.result()
+        try:
+            done = [_bespoke_part([new[k] for k in parts[0]], *args)]
+        except BaseException:
+            for f in futures:
+                f.cancel()
+            raise
+        done += [f.result() for f in futures]
+        for p, (designs, st) in zip(parts, done):
             self.stats.append(st)
             for k, sd in zip(p, designs):
                 got[k] = sd
@@ -131,9 +139,11 @@ def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignRe
 
     ``executor``: a ``concurrent.futures`` executor of worker processes the caller owns
     (the command line's ``--jobs``) for the bespoke searches, a large batch of which is
-    cut into ``parts`` ranges of retained height (one per worker is best: each part
-    searches the reference demands of its range, and a cut makes a few of them twice);
-    None designs in this process. The result is the same either way."""
+    cut into ``parts`` ranges of retained height, the first searched by this process
+    and the others by the executor (best: one part per process, the executor's workers
+    and this one; each part searches the reference demands of its range, and a cut
+    makes a few of them twice); None designs in this process. The result is the same
+    either way."""
     tick = progress or (lambda stage, done, total: None)
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
