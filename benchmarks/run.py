@@ -269,8 +269,8 @@ def main(argv=None) -> int:
     ap.add_argument("--gap", type=int, default=0, metavar="N",
                     help="compare N sampled panels with the exhaustive reference")
     ap.add_argument("--jobs", type=int, default=1, metavar="N",
-                    help="worker processes for the search and the drawings, as the "
-                         "command line's --jobs")
+                    help="processes for the search (this one and N - 1 workers, a worker "
+                         "writing the drawings), as the command line's --jobs")
     a = ap.parse_args(argv)
     results = [run_one(km, write=not a.no_write, gap=a.gap, jobs=a.jobs) for km in a.km]
     if a.json:

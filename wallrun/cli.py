@@ -60,8 +60,9 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("--out", metavar="DIR", help="output folder (default SITE_DIR/out)")
     d.add_argument("--quiet", action="store_true", help="no progress bar")
     d.add_argument("--jobs", type=_jobs, default=1, metavar="N",
-                   help="worker processes for the section search and the drawings "
-                        "(default 1); the results are the same for every N")
+                   help="processes for the section search, this one and N - 1 workers "
+                        "(a worker also writes the drawings; default 1: no worker); the "
+                        "results are the same for every N")
     c = sub.add_parser("check", parents=[common],
                        help="validate the site folder and print the wall runs; writes nothing")
     c.add_argument("site", metavar="SITE_DIR")
