@@ -129,7 +129,8 @@ def height_ranges(heights, parts: int) -> list[list[int]]:
 
 
 def _bespoke_part(demands, basis, costing, step):
-    """One worker's share of a bespoke batch: (designs, search stats)."""
+    """One share of a bespoke batch (a worker's, or this process's): (designs, search
+    stats)."""
     stats: list = []
     return search.bespoke(demands, basis, costing, step, stats=stats), stats[0]
 
