@@ -183,6 +183,19 @@ def _rgb(color: str) -> tuple[float, float, float]:
     return tuple(int(h[i:i + 2], 16) / 255.0 for i in (0, 2, 4))
 
 
+def _path(canvas, lines, closed: bool):
+    """One ReportLab path of the vertex arrays ``lines`` ((m, 2) each), each closed or
+    open."""
+    path = canvas.beginPath()
+    for v in lines:
+        path.moveTo(*v[0])
+        for x, y in v[1:]:
+            path.lineTo(x, y)
+        if closed:
+            path.close()
+    return path
+
+
 def paint(canvas, drawn: tuple, fonts: Fonts, place=None, clip=None) -> None:
     """Paint ``drawn`` ((strokes, fills, texts) of a :class:`Collector`) on ``canvas``
     (whose unit is the paper millimetre): ``place`` (k, cx, cy, px, py) maps drawing
@@ -204,24 +217,14 @@ def paint(canvas, drawn: tuple, fonts: Fonts, place=None, clip=None) -> None:
     canvas.scale(k, k)
     for color, polys in fills.items():
         canvas.setFillColorRGB(*_rgb(color))
-        path = canvas.beginPath()
-        for v in polys:
-            path.moveTo(*v[0])
-            for x, y in v[1:]:
-                path.lineTo(x, y)
-            path.close()
-        canvas.drawPath(path, stroke=0, fill=1, fillMode=FILL_NON_ZERO)
+        canvas.drawPath(_path(canvas, polys, closed=True), stroke=0, fill=1,
+                        fillMode=FILL_NON_ZERO)
     canvas.setLineCap(0)
     canvas.setLineJoin(0)
     for (color, lw), segs in strokes.items():
         canvas.setStrokeColorRGB(*_rgb(color))
         canvas.setLineWidth(max(lw, MIN_WIDTH_MM) / k)
-        path = canvas.beginPath()
-        for v in segs:
-            path.moveTo(*v[0])
-            for x, y in v[1:]:
-                path.lineTo(x, y)
-        canvas.drawPath(path, stroke=1, fill=0)
+        canvas.drawPath(_path(canvas, segs, closed=False), stroke=1, fill=0)
     for text, x, y, angle, cap, color, face in texts:
         name, cap_per_size = fonts.get(face)
         canvas.saveState()
