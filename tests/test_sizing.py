@@ -120,6 +120,58 @@ def test_search_within_half_a_percent_of_the_grids_cheapest(name, d, basis):
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+# --- the lower bound of the cost ---------------------------------------------------------
+
+def test_steel_floor_by_hand():
+    # hand calculation from the published formulas, restraint steel off: fctm = 0.30
+    # fck^(2/3) (EN 1992-1-1 Table 3.1) = 3.0238 MPa for C32/40; As,min = 0.26 fctm / fyk
+    # b d (Eq. 9.1N, above 0.0013 b d) at d = h - cover - 32 / 2; stem front 0.001 Ac
+    # (9.6.2); horizontal half of max(0.25 As,vert, 0.001 Ac) per face (9.6.3);
+    # distribution 20 % of the larger mat (9.3.1.1(2)); covers 50 / 75 mm, kicker 75 mm,
+    # 7850 kg/m3
+    from wallrun import structure
+    b = Basis(factors=resolve("DA1"), design=Design(restraint_steel=False))
+    sec = SectionArrays.of([Section(stem_top_m=0.25, stem_base_m=0.30, base_width_m=2.5,
+                                    toe_m=0.6, base_thickness_m=0.40)])
+    rho = 0.26 * 0.30 * 32.0 ** (2.0 / 3.0) / 500.0
+    back, front = rho * 1000 * (300 - 50 - 16), 300.0
+    heel, toe = rho * 1000 * (400 - 50 - 16), rho * 1000 * (400 - 75 - 16)
+    hor, dist = 0.5 * max(0.25 * (back + front), 300.0), 0.2 * max(heel, toe)
+    mm3 = ((0.5 * back + front) * (3000 - 50 - 75) + (heel + toe) * (2500 - 100)
+           + 2 * hor * (3000 - 100) + 2 * dist * (2500 - 100))
+    got = structure.steel_mass_floor(sec, np.array([3.0]), b)
+    assert float(got[0]) == pytest.approx(mm3 * 1e-9 * 7850.0, rel=1e-5)  # about 40.8 kg/m
+    # the restraint steel of 7.3.2 only adds to it
+    assert float(structure.steel_mass_floor(sec, np.array([3.0]), BASIS)[0]) > float(got[0])
+
+
+FLOOR_CASES = CASES + [
+    ("no restraint steel 2.8 m", demand(2.8),
+     Basis(factors=resolve("DA1"), design=Design(restraint_steel=False))),
+    ("tall 6.5 m", demand(6.5), BASIS)]
+
+
+@pytest.mark.parametrize("name, d, basis", FLOOR_CASES, ids=[c[0] for c in FLOOR_CASES])
+def test_lower_bound_is_never_above_a_passing_cost(name, d, basis):
+    # the search prunes and stops on the lower bound: it must hold for every candidate
+    # that passes, in the search's costing (full-height stem bars) and the designs'
+    # (curtailed)
+    g = grid_for(d, 0.05, basis.design)
+    v = g.every(g.coarse_strides((8, 6, 4, 4, 2)))
+    v = v[np.random.default_rng(3).choice(len(v), min(len(v), 3000), replace=False)]
+    sec, rows = g.sections(v), Rows.of([d], [len(v)])
+    lb = ev_.lower_bound(sec, rows, d, Costing(), basis)
+    ok, cost, _ = ev_.screen(sec, rows, d, basis, Costing(), np.zeros(len(v), dtype=int),
+                             np.array([True]))
+    ev = ev_.evaluate(sec, rows, d, basis, Costing())
+    assert ok.sum() > 50 and ev.ok.sum() > 50
+    assert np.all(lb[ok] <= cost[ok]) and np.all(lb[ev.ok] <= ev.cost[ev.ok])
+    # and it holds steel: above the cost with none
+    cond = conditions_of(sec.base_thickness_m, rows, d)
+    hs, D = ev_.stem_heights(sec, cond, rows)
+    assert np.all(lb > Costing().per_metre(sec, hs, D, 0.0))
+
+
 # --- purity: the same conditions always give the same design -------------------------------
 
 def _key(sd):

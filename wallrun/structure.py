@@ -901,3 +901,55 @@ def _steel_mass(sec, basis, fck, phi, s, h_s, curtail, starters, heel_far, toe_f
     key_len = 2 * (kd + tb - cg - cv) + np.maximum(kw - 2 * cg, 0)
     total += np.where(kd > 0, mpm["toe"] * (1000.0 / s["toe"]) * key_len / 1000.0, 0.0)
     return total
+
+
+def steel_mass_floor(sec: SectionArrays, stem_height_m, basis: Basis) -> np.ndarray:
+    """A lower bound of the steel mass per metre run (kg/m) of every design of these
+    sections that passes its detailing checks, whatever its bars: the mass
+    :func:`_steel_mass` gives (full-height or curtailed stem bars) is never below it.
+
+    Each face carries at least its minimum area (mm2/m), from the checks of
+    :func:`_evaluate` (met at utilization 1.0; the bound is taken a part in a million
+    lower for the tolerance of that test):
+
+    - stem back face, heel and toe mats: As,min of EN 1992-1-1 9.2.1.1(1) Eq. 9.1N at the
+      least effective depth any listed bar gives (h - cover - phi_max / 2; As,min grows
+      with d);
+    - stem front face: 0.001 Ac (9.6.2(1), design basis 5);
+    - stem horizontal bars per face: half of max(0.25 (As,back + As,front), 0.001 Ac)
+      (9.6.3(1)) and, with ``design.restraint_steel``, the restraint steel of 7.3.2(2)
+      Eq. 7.1 for the listed bar size needing least (:func:`restraint_need`);
+    - base distribution bars per mat: 20 % of the larger main mat (9.3.1.1(2)) and the
+      restraint steel of the base thickness, alike.
+
+    Each over the least length :func:`_steel_mass` gives it: stem bars over the stem
+    above the kicker (the back face's half where curtailed; starters, feet and laps
+    are >= 0 and left out), base mats over B - 2 covers (legs left out), horizontal
+    bars over h_s - 2 covers per face and distribution bars over B - 2 covers per mat
+    (a count floor(L / s) + 1 >= L / s, laps >= 0 left out); key bars left out. Mass
+    7850 kg/m3 (``ec2.STEEL_DENSITY``). ``stem_height_m``: the checked stem height the
+    mass is taken over (m, (n,)).
+    """
+    fck, fyk = basis.concrete.fck_mpa, basis.steel.fyk_mpa
+    cv, cg = basis.concrete.cover_mm, basis.concrete.cover_ground_mm
+    sizes = np.asarray(basis.steel.bar_sizes_mm, dtype=float)
+    half_phi = float(sizes.max()) / 2.0
+    t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
+    t_base = np.asarray(sec.base_thickness_m, dtype=float) * 1000.0
+    B = np.asarray(sec.base_width_m, dtype=float) * 1000.0
+    hs = np.asarray(stem_height_m, dtype=float) * 1000.0
+    a_min = lambda d: ec2.as_min_beam(np.maximum(d, 0.0), fck, fyk)  # noqa: E731
+    back, heel, toe = a_min(t_stem - cv - half_phi), a_min(t_base - cv - half_phi), a_min(t_base - cg - half_phi)
+    front = 0.001 * 1000.0 * t_stem
+    hor = _horizontal_need(back, front, t_stem)
+    dist = _distribution_need(heel, toe)
+    if basis.design.restraint_steel:
+        least = lambda h: np.nan_to_num(np.min(restraint_need(sizes[None, :], h[:, None], basis), axis=1),  # noqa: E731
+                                        posinf=0.0)
+        hor = np.maximum(hor, least(t_stem))
+        dist = np.maximum(dist, least(t_base))
+    stem_len = np.maximum(hs - cv - float(basis.concrete.kicker_mm), 0.0)
+    base_len = np.maximum(B - 2.0 * cv, 0.0)
+    area_length = ((0.5 * back + front) * stem_len + (heel + toe) * base_len
+                   + 2.0 * hor * np.maximum(hs - 2.0 * cv, 0.0) + 2.0 * dist * base_len)  # mm2/m x mm
+    return area_length * 1e-9 * ec2.STEEL_DENSITY * (1.0 - 1e-6)

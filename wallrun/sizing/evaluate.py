@@ -11,8 +11,8 @@ cut or joined anywhere and gives the same numbers.
 - :func:`evaluate` (a chosen section): every check in full, with the stem bars
   curtailed where the moment allows, as an :class:`Evaluation` from which
   :func:`sized` makes the :class:`SizedDesign` of a panel.
-- :func:`lower_bound` of the cost (no steel): the search never checks a candidate that
-  cannot beat the best one found.
+- :func:`lower_bound` of the cost (with the least steel a passing design carries): the
+  search never checks a candidate that cannot beat the best one found.
 
 A candidate passes when every check's utilization is at most
 ``design.max_utilization`` and its dimensions close. Units: m, kN, kPa; cost in the
@@ -88,12 +88,18 @@ def stem_heights(sec: SectionArrays, cond, rows: Rows):
     return hs, rows.z_front - zf
 
 
-def lower_bound(sec: SectionArrays, rows: Rows, ground: Demand, costing: Costing) -> np.ndarray:
-    """Cost per metre without the steel, (n,): a lower bound of the full cost (every
-    rate is >= 0), money per metre run."""
+def lower_bound(sec: SectionArrays, rows: Rows, ground: Demand, costing: Costing,
+                basis: Basis) -> np.ndarray:
+    """A lower bound of the cost per metre of every passing design of each candidate,
+    (n,), money per metre run: the cost with the least steel any passing design carries
+    (``structure.steel_mass_floor``, the minimum areas over the checked stem height
+    z_top - z_found - t_base, as the search's costs take it). Every rate is >= 0 and
+    the cost grows with the steel mass, so no passing candidate costs less."""
     cond = conditions_of(sec.base_thickness_m, rows, ground)
     hs, D = stem_heights(sec, cond, rows)
-    return costing.per_metre(sec, hs, D, 0.0)
+    h_c = np.maximum(cond.z_top - np.asarray(cond.z_found, dtype=float)
+                     - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
+    return costing.per_metre(sec, hs, D, structure.steel_mass_floor(sec, h_c, basis))
 
 
 # --- utilization ---------------------------------------------------------------------------

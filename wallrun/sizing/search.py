@@ -30,8 +30,8 @@ The moves of one demand:
    stem bars (``evaluate.evaluate``), and the cheapest passing is the design (ties: the
    lower utilization).
 
-Candidates whose cost without steel (``evaluate.lower_bound``) cannot beat the best
-found are never checked. The search is a heuristic, not a proof: its results are
+Candidates whose lower bound of the cost (``evaluate.lower_bound``: the cost with the
+least steel a passing design carries) cannot beat the best found are never checked. The search is a heuristic, not a proof: its results are
 compared with :func:`cheapest_on_grid`, which checks every candidate of the grid (in
 increasing lower bound, stopping only where no unchecked candidate can be cheaper), in
 the tests and the benchmark.
@@ -317,10 +317,10 @@ def _chunks(counts: list[int], chunk: int):
     return out
 
 
-def _lower_bounds(tasks, vs, ground: Demand, costing: Costing) -> np.ndarray:
+def _lower_bounds(tasks, vs, ground: Demand, costing: Costing, basis: Basis) -> np.ndarray:
     sec = _joined(tasks, vs)
     rows = Rows.of([t.demand for t in tasks], [len(v) for v in vs])
-    return ev_.lower_bound(sec, rows, ground, costing)
+    return ev_.lower_bound(sec, rows, ground, costing, basis)
 
 
 def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK) -> int:
@@ -341,7 +341,7 @@ def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK)
         counts = [len(t.req.v) for t in lbt]
         for c0, c1 in _chunks(counts, chunk):
             part = lbt[c0:c1]
-            lb = _lower_bounds(part, [t.req.v for t in part], ground, costing)
+            lb = _lower_bounds(part, [t.req.v for t in part], ground, costing, basis)
             pos = 0
             for t in part:
                 m = len(t.req.v)
@@ -496,7 +496,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
 
     def lb_of(d: Demand, g: Grid):
         rows1 = lambda n: Rows.of([d], [n])  # noqa: E731
-        return lambda v: ev_.lower_bound(g.sections(v), rows1(len(v)), d, costing)
+        return lambda v: ev_.lower_bound(g.sections(v), rows1(len(v)), d, costing, basis)
 
     # 1. the references, searched cold
     refs = list(dict.fromkeys(reference(d, h) for d in todo for h in reference_heights(d.h)))
@@ -584,8 +584,9 @@ def cheapest_on_grid(demand: Demand, basis: Basis, costing: Costing = Costing(),
     """The cheapest passing section of the whole grid of ``demand`` and its cost per
     metre (money/m), by checking every candidate in full (with curtailed stem bars: the
     costing of the designs). Candidates are checked in increasing lower bound of the
-    cost (``evaluate.lower_bound``, the cost without steel), stopping once the lower
-    bound of every unchecked candidate is at or above the best cost found: none of them
+    cost (``evaluate.lower_bound``: the cost with the least steel a passing design
+    carries), stopping once the lower bound of every unchecked candidate is at or above
+    the best cost found: none of them
     can be cheaper, so the answer is that of checking all (``every=True`` checks all,
     to show it). Where the cheapest sits on a bound a wider grid could move, the bound
     is moved as the search moves it (:meth:`Grid.widened`) and the grid checked again
@@ -606,7 +607,7 @@ def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk:
               every: bool) -> tuple[Section | None, float]:
     v = grid.every()
     sec_all = grid.sections(v)
-    lb = ev_.lower_bound(sec_all, Rows.of([demand], [len(v)]), demand, costing)
+    lb = ev_.lower_bound(sec_all, Rows.of([demand], [len(v)]), demand, costing, basis)
     order = np.argsort(lb, kind="stable")
     v, lb = v[order], lb[order]
     best, best_cost, best_u = None, math.inf, math.inf
