@@ -122,7 +122,8 @@ class StarterArrays:
 
     def take(self, i: int) -> Starter:
         b = self.bars.take(i)
-        return Starter(**dataclasses.asdict(b), lap_mm=round(float(self.lap_mm[i]), 1),
+        return Starter(**{f.name: getattr(b, f.name) for f in dataclasses.fields(b)},
+                       lap_mm=round(float(self.lap_mm[i]), 1),
                        kicker_mm=float(self.kicker_mm),
                        embedment_mm=round(float(self.embedment_mm[i]), 1),
                        foot_mm=round(float(self.foot_mm[i]), 1))

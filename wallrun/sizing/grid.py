@@ -47,21 +47,22 @@ class Grid:
     key_widths: tuple[float, ...]
 
     # --- the candidates -------------------------------------------------------------------
+    @property
+    def lattice(self) -> tuple:
+        """What maps an integer vector to a section: the step and the key options (grids
+        of one lattice differ in their bounds only)."""
+        return (self.step, self.key_depths, self.key_widths)
+
+    def bounds(self) -> tuple[tuple[int, int, int, int], tuple[int, int, int, int]]:
+        """(lower, upper) bounds of base width, base thickness, stem base and stem top."""
+        return ((self.b[0], self.tb[0], self.ts[0], self.tt[0]),
+                (self.b[1], self.tb[1], self.ts[1], self.tt[1]))
+
     def valid(self, v: np.ndarray) -> np.ndarray:
         """Mask of integer candidates (m, NDIM) inside the bounds whose sections close."""
-        v = np.asarray(v, dtype=np.int64)
-        b, toe, tb, ts, tt, kd, kw = v.T
-        ok = (b >= self.b[0]) & (b <= self.b[1]) & (tb >= self.tb[0]) & (tb <= self.tb[1])
-        ok &= (ts >= self.ts[0]) & (ts <= self.ts[1]) & (tt >= self.tt[0]) & (tt <= self.tt[1])
-        ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)
-        ok &= (2 * toe <= b) if self.toe_half else np.ones(len(v), dtype=bool)
-        ok &= b - toe - ts >= 1  # a heel of at least one step
-        ok &= (kd >= 0) & (kd <= len(self.key_depths)) & (kw >= 0)
-        ok &= np.where(kd > 0, kw < max(len(self.key_widths), 1), kw == 0)
-        if self.key_widths:
-            w = np.asarray(self.key_widths)[np.clip(kw, 0, len(self.key_widths) - 1)]
-            ok &= (kd == 0) | (toe * self.step + w <= b * self.step + 1e-9)
-        return ok
+        lo, hi = self.bounds()
+        return valid_rows(v, np.array(lo), np.array(hi), self.toe_half, self.step,
+                          self.key_depths, self.key_widths)
 
     def sections(self, v: np.ndarray) -> SectionArrays:
         """The sections of integer candidates (m, NDIM), m."""
@@ -166,6 +167,30 @@ class Grid:
             elif n == "toe_hi":
                 g = replace(g, toe_half=False)
         return g
+
+
+def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
+               key_widths: tuple) -> np.ndarray:
+    """Mask of integer candidates (m, NDIM) of one lattice (``step``, key options)
+    inside the bounds ``lo``..``hi`` of base width, base thickness, stem base and stem
+    top ((4,), or (m, 4): a row's own) whose sections close: a toe from 0 (to B/2 where
+    ``toe_half``, a bool or (m,)), a heel of at least one step, the stem top no thicker
+    than the stem base and the base no thinner, a key of a listed depth and width that
+    fits under the base behind the toe."""
+    v = np.asarray(v, dtype=np.int64)
+    b, toe, tb, ts, tt, kd, kw = v.T
+    lo, hi = np.asarray(lo), np.asarray(hi)
+    ok = (b >= lo[..., 0]) & (b <= hi[..., 0]) & (tb >= lo[..., 1]) & (tb <= hi[..., 1])
+    ok &= (ts >= lo[..., 2]) & (ts <= hi[..., 2]) & (tt >= lo[..., 3]) & (tt <= hi[..., 3])
+    ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)
+    ok &= ~np.asarray(toe_half, dtype=bool) | (2 * toe <= b)
+    ok &= b - toe - ts >= 1  # a heel of at least one step
+    ok &= (kd >= 0) & (kd <= len(key_depths)) & (kw >= 0)
+    ok &= np.where(kd > 0, kw < max(len(key_widths), 1), kw == 0)
+    if key_widths:
+        w = np.asarray(key_widths)[np.clip(kw, 0, len(key_widths) - 1)]
+        ok &= (kd == 0) | (toe * step + w <= b * step + 1e-9)
+    return ok
 
 
 def codes(v: np.ndarray) -> np.ndarray:

@@ -53,7 +53,7 @@ from . import evaluate as ev_
 from .conditions import (Demand, Rows, beyond_reason, founding_level, seismic_reason,
                          steep_reason)
 from .evaluate import Costing, SizedDesign
-from .grid import NDIM, Grid, codes, grid_for
+from .grid import NDIM, Grid, codes, grid_for, valid_rows
 
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
@@ -111,17 +111,8 @@ class Store:
 
     def fresh(self, v) -> tuple[np.ndarray, np.ndarray]:
         """The valid candidates of ``v`` not checked yet, once each (in code order), and
-        their codes."""
-        v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
-        if not len(v):
-            return v, np.zeros(0, dtype=np.int64)
-        v = v[self.grid.valid(v)]
-        c, first = np.unique(codes(v), return_index=True)
-        v = v[first]
-        if len(self.codes):
-            new = ~np.isin(c, self.codes, assume_unique=True)
-            v, c = v[new], c[new]
-        return v, c
+        their codes (:func:`fresh_many` of this store alone)."""
+        return fresh_many([self], [v])[0]
 
     def commit(self, v, c, ok, cost, util) -> None:
         """Remember checked candidates ``v`` with their codes and results."""
@@ -145,6 +136,60 @@ class Store:
             idx = np.flatnonzero(self.ok)
             return idx[np.lexsort((self.util[idx], self.cost[idx]))[:m]]
         return np.argsort(self.util, kind="stable")[:m]
+
+
+def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarray]]:
+    """For each store and its integer candidates (m_k, NDIM): the valid ones not checked
+    there yet, once each in code order, and their codes; every store's candidates
+    filtered together (a few numpy calls for a whole step of the lockstep driver)."""
+    vs = [np.asarray(v, dtype=np.int64).reshape(-1, NDIM) for v in vs]
+    empty = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=np.int64))
+    out = [empty] * len(stores)
+    counts = np.array([len(v) for v in vs], dtype=np.int64)
+    if not counts.sum():
+        return out
+    V = np.concatenate(vs)
+    tid = np.repeat(np.arange(len(vs)), counts)
+    # validity, per run of stores on one lattice (rows of consecutive stores are one
+    # slice), each row against its own store's bounds
+    ok = np.empty(len(V), dtype=bool)
+    start = np.concatenate([[0], np.cumsum(counts)])
+    k = 0
+    while k < len(stores):
+        g = stores[k].grid
+        j = k + 1
+        while j < len(stores) and stores[j].grid.lattice == g.lattice:
+            j += 1
+        lo = np.array([st.grid.bounds()[0] for st in stores[k:j]])
+        hi = np.array([st.grid.bounds()[1] for st in stores[k:j]])
+        half = np.array([st.grid.toe_half for st in stores[k:j]])
+        rows = slice(start[k], start[j])
+        r = tid[rows] - k
+        ok[rows] = valid_rows(V[rows], lo[r], hi[r], half[r], g.step, g.key_depths,
+                              g.key_widths)
+        k = j
+    V, tid = V[ok], tid[ok]
+    c = codes(V)
+    # once each, per store in code order (the first of equal codes: equal vectors): a
+    # stable sort by code, then a stable one by store (a radix sort on 16 bits)
+    o = np.argsort(c, kind="stable")
+    o = o[np.argsort(tid[o].astype(np.int16 if len(stores) < 2 ** 15 else np.int64),
+                     kind="stable")]
+    V, tid, c = V[o], tid[o], c[o]
+    first = np.ones(len(c), dtype=bool)
+    first[1:] = (tid[1:] != tid[:-1]) | (c[1:] != c[:-1])
+    V, tid, c = V[first], tid[first], c[first]
+    cut = np.searchsorted(tid, np.arange(len(stores) + 1))
+    for k, st in enumerate(stores):
+        a, b = cut[k], cut[k + 1]
+        if a == b:
+            continue
+        vk, ck = V[a:b], c[a:b]
+        if len(st.codes):
+            new = ~np.isin(ck, st.codes, assume_unique=True)
+            vk, ck = vk[new], ck[new]
+        out[k] = (vk, ck)
+    return out
 
 
 # --- the moves ---------------------------------------------------------------------------
@@ -222,20 +267,23 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
             cur = nxt
 
 
+@dataclass(frozen=True)
+class Ask:
+    """Candidates a search asks to have checked (the driver keeps those valid and not
+    checked yet, :func:`fresh_many`; the search resumes at once when none is left);
+    ``prune``: drop those whose lower bound cannot beat the store's best first."""
+
+    v: np.ndarray
+    prune: bool = True
+
+
 @dataclass
 class Request:
-    """A batch of fresh candidates (and their codes) for the driver to check; ``prune``:
-    drop those whose lower bound cannot beat the store's best first."""
+    """A batch of fresh candidates (and their codes) for the driver to check."""
 
     v: np.ndarray
     c: np.ndarray
     prune: bool = True
-
-
-def _ask(store: Store, v, prune: bool = True):
-    v, c = store.fresh(v)
-    if len(v):
-        yield Request(v, c, prune)
 
 
 def cold_moves(store: Store, lower_bound):
@@ -244,10 +292,10 @@ def cold_moves(store: Store, lower_bound):
     v, _ = store.fresh(store.grid.every(store.grid.coarse_strides(COARSE)))
     if len(v):
         for part in best_first(store, v, lower_bound(v), SEEDS):
-            yield from _ask(store, part, prune=False)
+            yield Ask(part, prune=False)
     for i in store.ranked(SEEDS):
         for cand in descent(store, store.V[i].copy()):
-            yield from _ask(store, cand)
+            yield Ask(cand)
 
 
 def widen_moves(store: Store):
@@ -261,7 +309,7 @@ def widen_moves(store: Store):
             return
         store.grid = store.grid.widened(names)
         for cand in descent(store, store.V[b].copy()):
-            yield from _ask(store, cand)
+            yield Ask(cand)
 
 
 def search_moves(store: Store, lower_bound, starts=()):
@@ -271,7 +319,7 @@ def search_moves(store: Store, lower_bound, starts=()):
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
     if starts:
         for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
-            yield from _ask(store, cand)
+            yield Ask(cand)
     if store.best() is None:
         yield from cold_moves(store, lower_bound)
     yield from widen_moves(store)
@@ -284,17 +332,45 @@ class _Task:
     demand: Demand
     store: Store
     gen: object = None
+    ask: Ask | None = None
     req: Request | None = None
 
     def advance(self) -> None:
+        """The search's next ask (None: it is done)."""
+        self.req = None
         try:
-            self.req = next(self.gen)
+            self.ask = next(self.gen)
         except StopIteration:
-            self.req = None
+            self.ask = None
+
+
+def _take_fresh(tasks: list[_Task]) -> None:
+    """Turn every task's ask into its request of fresh candidates (:func:`fresh_many`, all
+    tasks at once); a task whose ask holds none resumes its search at once, until it
+    asks for some fresh ones or is done."""
+    todo = [t for t in tasks if t.ask is not None]
+    while todo:
+        again = []
+        for t, (v, c) in zip(todo, fresh_many([t.store for t in todo], [t.ask.v for t in todo])):
+            if len(v):
+                t.req, t.ask = Request(v, c, t.ask.prune), None
+            else:
+                t.advance()
+                if t.ask is not None:
+                    again.append(t)
+        todo = again
 
 
 def _joined(tasks, vs) -> SectionArrays:
-    parts = [t.store.grid.sections(v) for t, v in zip(tasks, vs)]
+    """The sections of the integer candidates ``vs`` of ``tasks``, joined in order: one
+    call per run of tasks on one lattice."""
+    parts, k = [], 0
+    while k < len(tasks):
+        j = k + 1
+        while j < len(tasks) and tasks[j].store.grid.lattice == tasks[k].store.grid.lattice:
+            j += 1
+        parts.append(tasks[k].store.grid.sections(np.concatenate(vs[k:j])))
+        k = j
     if len(parts) == 1:
         return parts[0]
     return SectionArrays(**{k: np.concatenate([np.asarray(getattr(p, k), dtype=float)
@@ -333,6 +409,7 @@ def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK)
     for t in tasks:
         t.advance()
     while True:
+        _take_fresh(tasks)
         act = [t for t in tasks if t.req is not None]
         if not act:
             return checked
