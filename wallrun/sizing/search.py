@@ -71,6 +71,9 @@ MAX_WIDEN = 4
 CHUNK = 60_000
 #: Candidates per batch of :func:`best_first`.
 BEST_FIRST_BATCH = 512
+#: Largest number of asked candidates filtered in one call of :func:`fresh_many` (memory:
+#: a few arrays of this many rows of seven integers).
+FRESH_CHUNK = 200_000
 
 
 # --- the candidates of one demand ---------------------------------------------------------
@@ -350,8 +353,11 @@ def _take_fresh(tasks: list[_Task]) -> None:
     asks for some fresh ones or is done."""
     todo = [t for t in tasks if t.ask is not None]
     while todo:
+        got = []
+        for c0, c1 in _chunks([len(t.ask.v) for t in todo], FRESH_CHUNK):
+            got += fresh_many([t.store for t in todo[c0:c1]], [t.ask.v for t in todo[c0:c1]])
         again = []
-        for t, (v, c) in zip(todo, fresh_many([t.store for t in todo], [t.ask.v for t in todo])):
+        for t, (v, c) in zip(todo, got):
             if len(v):
                 t.req, t.ask = Request(v, c, t.ask.prune), None
             else:
