@@ -145,6 +145,25 @@ def test_steel_floor_by_hand():
     assert float(structure.steel_mass_floor(sec, np.array([3.0]), BASIS)[0]) > float(got[0])
 
 
+def test_fresh_candidates_of_many_stores_are_each_stores_own():
+    # the joined filter against each store alone, written out: valid in its own bounds,
+    # once each in code order, none it has checked
+    g1, g2 = grid_for(demand(1.5), 0.05), grid_for(demand(3.5), 0.05).widened(("b_hi",))
+    s1, s2 = search.Store(g1), search.Store(g2)
+    rng = np.random.default_rng(5)
+    base = np.array([[40, 8, 7, 6, 5, 0, 0]])
+    asks = [np.vstack([base + rng.integers(-3, 4, (300, NDIM)), base]) for _ in range(2)]
+    done = asks[1][:40][g2.valid(asks[1][:40])]
+    s2.commit(done, codes(done), np.ones(len(done), bool), np.zeros(len(done)), np.zeros(len(done)))
+    got = search.fresh_many([s1, s2], asks)
+    for st, v, (gv, gc) in zip((s1, s2), asks, got):
+        v = v[st.grid.valid(v)]
+        c, first = np.unique(codes(v), return_index=True)
+        keep = ~np.isin(c, st.codes)
+        assert np.array_equal(gc, c[keep]) and np.array_equal(gv, v[first][keep])
+    assert len(got[0][0]) >= 5 and len(got[1][0]) >= 5  # both filters had work to do
+
+
 FLOOR_CASES = CASES + [
     ("no restraint steel 2.8 m", demand(2.8),
      Basis(factors=resolve("DA1"), design=Design(restraint_steel=False))),

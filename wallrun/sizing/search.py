@@ -31,7 +31,8 @@ The moves of one demand:
    lower utilization).
 
 Candidates whose lower bound of the cost (``evaluate.lower_bound``: the cost with the
-least steel a passing design carries) cannot beat the best found are never checked. The search is a heuristic, not a proof: its results are
+least steel a passing design carries) cannot beat the best found are never checked.
+The search is a heuristic, not a proof: its results are
 compared with :func:`cheapest_on_grid`, which checks every candidate of the grid (in
 increasing lower bound, stopping only where no unchecked candidate can be cheaper), in
 the tests and the benchmark.
