@@ -164,8 +164,7 @@ def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarr
         j = k + 1
         while j < len(stores) and stores[j].grid.lattice == g.lattice:
             j += 1
-        lo = np.array([st.grid.bounds()[0] for st in stores[k:j]])
-        hi = np.array([st.grid.bounds()[1] for st in stores[k:j]])
+        lo, hi = (np.array(x) for x in zip(*(st.grid.bounds() for st in stores[k:j])))
         half = np.array([st.grid.toe_half for st in stores[k:j]])
         rows = slice(start[k], start[j])
         r = tid[rows] - k
