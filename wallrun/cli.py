@@ -342,13 +342,15 @@ def worker_pool(jobs: int):
     ``forkserver`` (or ``spawn`` where there is none) beside this process, which works
     too (it searches a part of the sections itself and writes the outputs that are not
     drawings); None for one process. The command line owns it; the library only hands
-    it work (``pipeline.design(executor=..., parts=jobs)``, ``write_outputs(executor=...)``)."""
+    it work (``pipeline.design(executor=..., parts=jobs)``, ``write_outputs(executor=...)``).
+    Each worker tunes its allocator as this process does (:func:`tune_allocator`)."""
     if jobs <= 1:
         return None
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
     method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
-    return ProcessPoolExecutor(max_workers=jobs - 1, mp_context=mp.get_context(method))
+    return ProcessPoolExecutor(max_workers=jobs - 1, mp_context=mp.get_context(method),
+                               initializer=tune_allocator)
 
 
 def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
