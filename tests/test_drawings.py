@@ -439,3 +439,20 @@ def test_any_section_type_name_makes_a_valid_block(tmp_path):
     assert blocks == [BLOCK_PREFIX + "_HYPERLINK__x__", BLOCK_PREFIX + "_HYPERLINK__x__-2"]
     words = _all_text(doc)
     assert 'SECTION =HYPERLINK("x")' in words and "SECTION =HYPERLINK(<x>)" in words
+
+
+@pytest.mark.parametrize("name", ["elevation.dxf", "sections.dxf", "plan.dxf"])
+def test_viewport_extents_hold_ezdxfs_bounding_boxes(out, name):
+    # what a viewport draws is chosen by these boxes: each must hold the entity as
+    # ezdxf measures it (model space and every block; inserts go by their point)
+    from ezdxf import bbox
+    doc = _read(out / name)[0]
+    for lay in [doc.modelspace()] + list(doc.blocks):
+        es = [e for e in lay if e.dxftype() != "INSERT"]
+        if not es:
+            continue
+        ours = sheets_pdf.extents(es)
+        for e, o, b in zip(es, ours, bbox.multi_flat(es, fast=True)):
+            if b.has_data:
+                assert (o[0] <= b.extmin.x + 1e-9 and o[1] <= b.extmin.y + 1e-9
+                        and o[2] >= b.extmax.x - 1e-9 and o[3] >= b.extmax.y - 1e-9), e.dxftype()

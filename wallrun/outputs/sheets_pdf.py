@@ -245,13 +245,71 @@ def sheet_layouts(doc) -> list:
     return [doc.paperspace(n) for n in doc.layout_names_in_taborder() if n != "Model"]
 
 
+def mtext_box(e) -> tuple[float, float, float, float]:
+    """A box holding an MTEXT of wallrun's drawings (``conventions.add_lines_text``: a
+    column as wide as its longest line, so nothing wraps; lines at an exact pitch of
+    5/3 char height x the line spacing factor), from its attributes alone: the column
+    at its attachment point, turned by its rotation, with a margin of 0.75 char height
+    all round for descenders, the first line's ascent and glyph overhang (on the
+    drawings of the demo and of a 10 km run, ezdxf's own box of every MTEXT lies at
+    least 0.3 char height inside it; a test holds it to ezdxf's boxes)."""
+    d = e.dxf
+    h = float(d.char_height)
+    pitch = h * 5.0 / 3.0 * float(d.get("line_spacing_factor", 1.0))
+    lines = e.text.count("\\P") + 1
+    w, H = float(d.get("width", 0.0)), h + (lines - 1) * pitch
+    a = int(d.get("attachment_point", 1))
+    col, row = (a - 1) % 3, (a - 1) // 3
+    x0 = -0.5 * col * w
+    y1 = {0: 0.0, 1: 0.5 * H, 2: H}[row]
+    pad = 0.75 * h
+    t = math.radians(float(d.get("rotation", 0.0)))
+    c, sn = math.cos(t), math.sin(t)
+    ox, oy = d.insert[0], d.insert[1]
+    corners = [(ox + x * c - y * sn, oy + x * sn + y * c)
+               for x in (x0 - pad, x0 + w + pad) for y in (y1 - H - pad, y1 + pad)]
+    xs, ys = [p[0] for p in corners], [p[1] for p in corners]
+    return (min(xs), min(ys), max(xs), max(ys))
+
+
+def extents(entities) -> np.ndarray:
+    """(n, 4) boxes x0, y0, x1, y1 holding each entity as drawn, for choosing what a
+    viewport shows (a box may be larger than the entity, never smaller, but for an
+    insert): an INSERT by its insertion point (wallrun's section blocks lie around
+    their origin, on one sheet; measuring every block's contents costs more than
+    drawing it); an MTEXT by :func:`mtext_box`; an LWPOLYLINE in the xy plane without
+    arcs or widths by its vertices; everything else by ezdxf's fast bounding box (``ezdxf.bbox``)."""
+    from ezdxf import bbox
+
+    rows: list = [None] * len(entities)
+    others = []
+    for k, e in enumerate(entities):
+        kind = e.dxftype()
+        if kind == "INSERT":
+            x, y = e.dxf.insert[0], e.dxf.insert[1]
+            rows[k] = (x, y, x, y)
+        elif kind == "MTEXT" and e.dxf.get("width", 0.0) > 0:
+            rows[k] = mtext_box(e)
+        elif kind == "LWPOLYLINE" and len(e) and not e.dxf.hasattr("extrusion"):
+            # in the xy plane of the WCS; points x, y, start and end width, bulge
+            v = np.array(e.get_points("xyseb"), dtype=float)
+            if e.dxf.get("const_width", 0.0) or np.any(v[:, 2:]):
+                others.append(k)  # widths or arcs: ezdxf measures it
+            else:
+                rows[k] = (*v[:, :2].min(axis=0), *v[:, :2].max(axis=0))
+        else:
+            others.append(k)
+    for k, b in zip(others, bbox.multi_flat([entities[k] for k in others], fast=True)):
+        rows[k] = ((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
+                   else (np.inf, np.inf, -np.inf, -np.inf))
+    return np.array(rows, dtype=float).reshape(-1, 4)
+
+
 class SheetPainter:
     """Decomposes the sheets of one drawing (see the module's text): :meth:`page`
     gives a sheet's size and its parts, each (drawn, place, clip) for :func:`paint`."""
 
     def __init__(self, doc):
-        from ezdxf import bbox
-
         self.paper, self.model, self.notes = Collector(), Collector(), Collector()
         self.fe_paper = frontend(doc, self.paper)
         self.fe_notes = frontend(doc, self.notes)
@@ -261,22 +319,8 @@ class SheetPainter:
         self.fe_model.ctx.set_current_layout(msp)
         self.fe_model.set_background("#ffffff")
         self.entities = list(msp)
-        # where each entity is, to find what a viewport shows: an insert by its
-        # insertion point (wallrun's section blocks lie around their origin, on one
-        # sheet; measuring every block's contents costs more than drawing it),
-        # everything else by ezdxf's fast bounding box
-        rows = []
-        others = [e for e in self.entities if e.dxftype() != "INSERT"]
-        boxes = iter(bbox.multi_flat(others, fast=True))
-        for e in self.entities:
-            if e.dxftype() == "INSERT":
-                x, y = e.dxf.insert[0], e.dxf.insert[1]
-                rows.append((x, y, x, y))
-                continue
-            b = next(boxes)
-            rows.append((b.extmin.x, b.extmin.y, b.extmax.x, b.extmax.y) if b.has_data
-                        else (np.inf, np.inf, -np.inf, -np.inf))
-        self.boxes = np.array(rows, dtype=float).reshape(-1, 4)
+        # where each entity is, to find what a viewport shows (:func:`extents`)
+        self.boxes = extents(self.entities)
 
     def page(self, layout) -> tuple[tuple[float, float], list]:
         """((width, height) mm, parts) of paper-space ``layout``."""
