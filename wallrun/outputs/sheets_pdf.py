@@ -77,15 +77,24 @@ class Collector(Backend):
 
     def draw_path(self, path, properties) -> None:
         for sub in path.sub_paths():
-            v = np.array([(p.x, p.y) for p in sub.flattening(self.flatten)])
+            v = self._points(sub)
             if len(v) > 1:
                 self._stroke(properties, v)
 
     def draw_filled_paths(self, paths, properties) -> None:
         for path in paths:
             for sub in path.sub_paths():
-                self._fill(properties, np.array([(p.x, p.y)
-                                                 for p in sub.flattening(self.flatten)]))
+                self._fill(properties, self._points(sub))
+
+    def _points(self, sub) -> np.ndarray:
+        """(m, 2) points of one sub-path (``ezdxf.npshapes.NumpyPath2d``): its
+        vertices where it is straight lines only (what ``flattening`` gives there, read
+        as one array), else its flattening."""
+        if not len(sub):
+            return np.zeros((0, 2))
+        if not sub.has_curves:
+            return np.array(sub.np_vertices(), dtype=float).reshape(-1, 2)
+        return np.array([(p.x, p.y) for p in sub.flattening(self.flatten)]).reshape(-1, 2)
 
     def draw_filled_polygon(self, points, properties) -> None:
         self._fill(properties, np.array([(p.x, p.y) for p in points.vertices()]))
