@@ -71,15 +71,17 @@ def render_elevation_png(result, png_path) -> int:
         m = (chs >= lo) & (chs <= hi)
         ax.plot(chs[m], G[m], color="#7a5c2e", lw=0.8, ls="--", label="existing ground")
         ax.plot(chs[m], F[m], color="#2e7a3c", lw=0.8, label="finished level")
-        ax.add_collection(LineCollection(tops, colors="#1f3fbf", linewidths=1.2,
-                                         label="top of wall"), autolim=False)
-        ax.add_collection(LineCollection(unders, colors="#bf1f1f", linewidths=1.2,
-                                         label="underside of base"), autolim=False)
+        # only the lines that reach into the strip (the rest would be clipped away)
+        ax.add_collection(LineCollection(_within(tops, lo, hi), colors="#1f3fbf",
+                                         linewidths=1.2, label="top of wall"), autolim=False)
+        ax.add_collection(LineCollection(_within(unders, lo, hi), colors="#bf1f1f",
+                                         linewidths=1.2, label="underside of base"),
+                          autolim=False)
         if len(jx):
             seg = np.stack([np.column_stack([jx, jz[:, 0]]), np.column_stack([jx, jz[:, 1]])],
                            axis=1)
-            ax.add_collection(LineCollection(seg, colors="#9a3fb0", linewidths=0.5),
-                              autolim=False)
+            ax.add_collection(LineCollection(seg[(jx >= lo) & (jx <= hi)], colors="#9a3fb0",
+                                             linewidths=0.5), autolim=False)
         inside = [p for p in panels if p.ch_end_m >= lo and p.ch_start_m <= hi]
         zs = list(G[m]) + list(F[m]) + [p.founding_m for p in inside] + \
             [max(p.wall_top_start_m, p.wall_top_end_m) for p in inside]
@@ -98,8 +100,16 @@ def render_elevation_png(result, png_path) -> int:
     fig.text(0.01, 0.005, "PRELIMINARY - NOT FOR CONSTRUCTION. wallrun is a preliminary "
              "design aid; to be checked and signed by a qualified engineer.", fontsize=7)
     fig.subplots_adjust(left=0.05, right=0.99, top=0.96, bottom=0.05, hspace=0.35)
-    fig.savefig(str(png_path), format="png", facecolor="white")
+    # the quickest zlib level: a few per cent larger, written in about a fifth less time
+    fig.savefig(str(png_path), format="png", facecolor="white",
+                pil_kwargs={"compress_level": 1})
     return k
+
+
+def _within(lines: list, lo: float, hi: float) -> list:
+    """The polylines of ``lines`` ((m, 2) arrays, x increasing) that reach into
+    lo <= x <= hi."""
+    return [v for v in lines if v[0, 0] <= hi and v[-1, 0] >= lo]
 
 
 def _chainage_formatter():
