@@ -379,3 +379,38 @@ def test_crack_window_choice_equals_every_option(seed, wk):
     a = structure._choose_main(opt, t, cover, M, qp, extra, need, 32.0, basis)
     b = structure._choose_main_full(opt, t, cover, M, qp, extra, need, 32.0, basis)
     np.testing.assert_array_equal(a, b)
+
+
+@settings(max_examples=10, deadline=None)
+@given(seed=st.integers(0, 10_000))
+def test_shared_stems_give_each_candidate_its_own_design(seed):
+    # candidates sharing a stem (its thickness and moments) but not a base, in one call,
+    # get the bars and steel of each designed alone (the stem is designed once per
+    # distinct stem); random invented cases
+    sec0, acts0, qp0 = _random_case(seed)
+    rng = np.random.default_rng(seed + 1)
+    pick = rng.integers(0, 6, len(sec0))  # six distinct stems, shared at random
+    sec = replace(sec0, stem_base_m=np.asarray(sec0.stem_base_m)[pick])
+    acts = [MemberActions(a.member, a.combination, a.case,
+                          a.M_Ed[pick] if a.member == "stem" else a.M_Ed, a.V_Ed) for a in acts0]
+    qp = {**qp0, "stem": qp0["stem"][pick]}
+    res = structure.design_reinforcement(sec, acts, qp, BASIS, stem_height_m=4.0)
+    for i in range(0, len(sec), 7):
+        one = structure.design_reinforcement(
+            sec.subset([i]), [MemberActions(a.member, a.combination, a.case, a.M_Ed[[i]],
+                                            a.V_Ed[[i]]) for a in acts],
+            {k: v[[i]] for k, v in qp.items()}, BASIS, stem_height_m=4.0)
+        for face in structure.FACES:
+            assert res.bars[face].bar_mm[i] == one.bars[face].bar_mm[0], face
+            assert res.bars[face].spacing_mm[i] == one.bars[face].spacing_mm[0], face
+        assert res.steel_kg_per_m[i] == one.steel_kg_per_m[0]
+
+
+def test_distinct_rows():
+    a = np.array([1.0, 2.0, 1.0, np.nan, 2.0, np.nan])
+    b = np.array([5.0, 5.0, 5.0, 1.0, 6.0, 1.0])
+    first, inv = structure.distinct_rows(a, b)
+    np.testing.assert_array_equal(a[first][inv], a)
+    np.testing.assert_array_equal(b[first][inv], b)
+    # (1, 5) twice, (2, 5), (2, 6), and each nan row on its own
+    assert len(first) == 5 and inv[0] == inv[2] and inv[3] != inv[5]

@@ -511,6 +511,25 @@ def _full(x, n: int) -> np.ndarray:
     return np.broadcast_to(np.asarray(x, dtype=float), (n,))
 
 
+def distinct_rows(*columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The distinct rows of equal-length columns (exact equality of the values; nan is
+    never equal): (index of the first row of each distinct one, (m,); the distinct
+    row of every row, (n,)), so that ``col[first][inv]`` equals ``col``."""
+    cols = [np.asarray(c, dtype=float) for c in columns]
+    n = len(cols[0])
+    if n == 0:
+        return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    order = np.lexsort(cols[::-1])
+    new = np.zeros(n, dtype=bool)
+    new[0] = True
+    for c in cols:
+        v = c[order]
+        new[1:] |= v[1:] != v[:-1]
+    inv = np.empty(n, dtype=np.int64)
+    inv[order] = np.cumsum(new) - 1
+    return order[new], inv
+
+
 def _envelopes(actions: list[MemberActions], n: int):
     pos = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
     neg = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
@@ -564,19 +583,28 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     bot_M = np.maximum(pos["toe"], neg["heel"])
     top_qp = np.maximum(np.maximum(q_choice["heel"], -q_choice["toe"]), 0)
     bot_qp = np.maximum(np.maximum(q_choice["toe"], -q_choice["heel"]), 0)
+    # the stem's bars depend on its thickness and moments alone: they are chosen once
+    # for each distinct (thickness, ULS moments, quasi-permanent moment), which the
+    # candidates differing only in their base share
+    first, inv = distinct_rows(t_stem, pos["stem"], neg["stem"], q_choice["stem"])
+    m = len(first)
+    ts_u, ps_u, ns_u, qs_u = (v[first] for v in (t_stem, pos["stem"], neg["stem"],
+                                                 q_choice["stem"]))
     # the four main faces in one call (rows stacked face by face; every row is chosen
     # on its own, so the result is that of four separate calls)
     cat = np.concatenate
+    zm = np.zeros(m)
     i_back, i_front, i_top, i_bot = np.split(_choose_main(
-        opt, cat([t_stem, t_stem, t_base, t_base]),
-        cat([np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cv)), np.full(n, float(cg))]),
-        cat([pos["stem"], neg["stem"], top_M, bot_M]),
-        cat([np.maximum(q_choice["stem"], 0), np.maximum(-q_choice["stem"], 0), top_qp, bot_qp]),
-        cat([zero, 0.001 * 1000 * t_stem, zero, zero]),
-        cat([true, neg["stem"] > 0, true, true]), fck, basis), 4)
-    need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], t_stem)
+        opt, cat([ts_u, ts_u, t_base, t_base]),
+        cat([np.full(m, float(cv)), np.full(m, float(cv)), np.full(n, float(cv)), np.full(n, float(cg))]),
+        cat([ps_u, ns_u, top_M, bot_M]),
+        cat([np.maximum(qs_u, 0), np.maximum(-qs_u, 0), top_qp, bot_qp]),
+        cat([zm, 0.001 * 1000 * ts_u, zero, zero]),
+        cat([np.ones(m, dtype=bool), ns_u > 0, true, true]), fck, basis), [m, 2 * m, 2 * m + n])
+    need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], ts_u)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
-    i_hor, i_dist = np.split(_choose_secondary(opt, cat([t_stem, t_base]), cat([need_h, need_d]), basis), 2)
+    i_hor, i_dist = np.split(_choose_secondary(opt, cat([ts_u, t_base]), cat([need_h, need_d]), basis), [m])
+    i_back, i_front, i_hor = i_back[inv], i_front[inv], i_hor[inv]
     chosen = {f: (opt.phi[i], opt.s[i]) for f, i in
               zip(FACES, (i_back, i_front, i_top, i_bot, i_hor, i_dist))}
     return _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env)
