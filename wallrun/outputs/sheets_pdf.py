@@ -300,8 +300,9 @@ def extents(entities) -> np.ndarray:
         elif kind == "MTEXT" and e.dxf.get("width", 0.0) > 0:
             rows[k] = mtext_box(e)
         elif kind == "LWPOLYLINE" and len(e) and not e.dxf.hasattr("extrusion"):
-            # in the xy plane of the WCS; points x, y, start and end width, bulge
-            v = np.array(e.get_points("xyseb"), dtype=float)
+            # in the xy plane of the WCS; its points (iterating an LWPOLYLINE gives
+            # x, y, start and end width, bulge)
+            v = np.array(list(e), dtype=float).reshape(-1, 5)
             if e.dxf.get("const_width", 0.0) or np.any(v[:, 2:]):
                 others.append(k)  # widths or arcs: ezdxf measures it
             else:
