@@ -286,8 +286,9 @@ def extents(entities) -> np.ndarray:
     viewport shows (a box may be larger than the entity, never smaller, but for an
     insert): an INSERT by its insertion point (wallrun's section blocks lie around
     their origin, on one sheet; measuring every block's contents costs more than
-    drawing it); an MTEXT by :func:`mtext_box`; an LWPOLYLINE in the xy plane without
-    arcs or widths by its vertices; everything else by ezdxf's fast bounding box (``ezdxf.bbox``)."""
+    drawing it); a LINE without thickness by its end points; an MTEXT by
+    :func:`mtext_box`; an LWPOLYLINE in the xy plane without arcs or widths by its
+    vertices; everything else by ezdxf's fast bounding box (``ezdxf.bbox``)."""
     from ezdxf import bbox
 
     rows: list = [None] * len(entities)
