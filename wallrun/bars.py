@@ -133,18 +133,21 @@ def _l0(phi: float, fck: float, fyk: float, good_bond: bool) -> float:
 
 
 def _mark(section: str, part: str, phi: float, shape: str, dims: dict[str, float], number: int,
-          r: float | None = None, steel_type: str = "H") -> BarMark:
-    """One bar row of a panel (bar_mark and panels left to the caller): the dimensions
-    rounded up to whole mm, the cutting length by the shape's formula with radius r
-    (the standard r of BS 8666 Table 2 when None; straight bars have none)."""
+          r: float | None = None, steel_type: str = "H", panel: str = "") -> BarMark:
+    """One bar row of a panel (bar_mark left to the caller): the dimensions rounded up
+    to whole mm, the cutting length by the shape's formula with radius r (the standard
+    r of BS 8666 Table 2 when None; straight bars have none); with ``panel`` the row
+    is that panel's (member ``section part panel``), else the member is the part."""
     d = {k: int(math.ceil(round(v, 6))) for k, v in dims.items()}
     rr = None if shape == "00" else (float(shapes.min_radius(phi)) if r is None else float(r))
     L = cutting_length(shape, phi, d, rr)
-    return BarMark(section=section, member=part, bar_mark="", bar_mm=int(phi), shape_code=shape,
+    return BarMark(section=section, member=f"{section} {part} {panel}" if panel else part,
+                   bar_mark="", bar_mm=int(phi), shape_code=shape,
                    length_mm=L, number=int(number), total_length_m=L * number / 1000.0,
                    mass_kg=mass_kg(phi, L, number), dims_mm=d,
                    r_mm=None if rr is None else int(math.ceil(round(rr, 6))), part=part,
-                   no_in_each=int(number), steel_type=steel_type)
+                   panels=(panel,) if panel else (), no_in_each=int(number),
+                   steel_type=steel_type)
 
 
 def n_along(length_mm: float, cover_mm: float, spacing_mm: float) -> int:
@@ -160,10 +163,11 @@ def split_run(run_mm: float, lap_mm: float) -> tuple[int, float]:
     return k, (run_mm + (k - 1) * lap_mm) / k
 
 
-def _straight_runs(section, member, phi, run_mm, lap_mm, count, steel_type="H") -> list[BarMark]:
+def _straight_runs(section, member, phi, run_mm, lap_mm, count, steel_type="H",
+                   panel: str = "") -> list[BarMark]:
     pieces, piece = split_run(run_mm, lap_mm)
-    return ([_mark(section, member, phi, "00", {"A": piece}, count * pieces, steel_type=steel_type)]
-            if count > 0 else [])
+    return ([_mark(section, member, phi, "00", {"A": piece}, count * pieces,
+                   steel_type=steel_type, panel=panel)] if count > 0 else [])
 
 
 def steel_type(basis) -> str:
@@ -213,7 +217,7 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     out: list[BarMark] = []
 
     def mark(part, phi, shape, dims, number, rad=None):
-        return _mark(section_type, part, phi, shape, dims, number, rad, grade)
+        return _mark(section_type, part, phi, shape, dims, number, rad, grade, panel.panel)
 
     dt = t_bot - t_top
 
@@ -276,7 +280,8 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
         if ext > 0:
             run[ext] = run.get(ext, 0) + 2
     for ext, cnt in sorted(run.items()):
-        out += _straight_runs(section_type, "stem_horizontal", phi, ext, l0, cnt, grade)
+        out += _straight_runs(section_type, "stem_horizontal", phi, ext, l0, cnt, grade,
+                              panel.panel)
 
     # base mats across the full width, bent at their anchoring ends
     leg = tb - cv - cg
@@ -294,7 +299,7 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
     phi = float(db.bar_mm)
     l0 = _l0(phi, fck, fyk, False)  # top mat in poor bond: used for both mats
     out += _straight_runs(section_type, "base_distribution", phi, L - 2 * cv, l0,
-                          2 * n_along(B, cv, db.spacing_mm), grade)
+                          2 * n_along(B, cv, db.spacing_mm), grade, panel.panel)
 
     # shear key
     if section.key_depth_m > 0 and section.key_width_m > 0:
@@ -306,9 +311,8 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
                         n_along(L, cv, r.toe.spacing_mm)))
         phi_d = float(db.bar_mm)
         out += _straight_runs(section_type, "key", phi_d, L - 2 * cv,
-                              _l0(phi_d, fck, fyk, True), 2, grade)
-    return [replace(b, panels=(panel.panel,), member=f"{section_type} {b.part} {panel.panel}")
-            for b in out]
+                              _l0(phi_d, fck, fyk, True), 2, grade, panel.panel)
+    return out
 
 
 def _natural(name: str):
