@@ -31,7 +31,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import fresnel
 
 #: Curvatures closer than this are equal (an arc, not a clothoid), 1/m.
 _K_TOL = 1e-12
@@ -70,6 +69,8 @@ def clothoid_unit(c: float, u):
 
         x(u) = a C(u / a),   y(u) = sign(c) a S(u / a),   a = sqrt(pi / |c|).
     """
+    from scipy.special import fresnel  # only clothoids need scipy (its import is slow)
+
     a = math.sqrt(math.pi / abs(c))
     S, C = fresnel(np.asarray(u, dtype=float) / a)
     return a * C, math.copysign(1.0, c) * a * S
