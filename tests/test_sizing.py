@@ -355,3 +355,25 @@ def test_search_checks_fewer_than_the_grid():
     assert 0 < st[0].checked < n_grid
     assert search.reference_heights(2.0) == (2.0,)
     assert search.reference_heights(2.1) == (2.25, 2.0)
+
+
+@pytest.mark.parametrize("name, d, basis", CASES, ids=[c[0] for c in CASES])
+def test_priced_equals_evaluate(name, d, basis):
+    # the cost table of a rationalised set designs the structure only where stability
+    # passes: its ok, cost and bars must be those of the full evaluation, on a sample of
+    # a coarse grid mixing candidates that fail stability, fail the structure and pass
+    g = grid_for(d, 0.05, basis.design)
+    v = g.every(g.coarse_strides((8, 6, 4, 4, 2)))
+    v = v[np.random.default_rng(5).choice(len(v), min(len(v), 1500), replace=False)]
+    sec, rows = g.sections(v), Rows.of([d], [len(v)])
+    ev = ev_.evaluate(sec, rows, d, basis, Costing())
+    pr = ev_.priced(sec, rows, d, basis, Costing())
+    assert 0 < len(pr.rows) < len(v) and 0 < pr.ok.sum()
+    np.testing.assert_array_equal(pr.ok, ev.ok)
+    np.testing.assert_array_equal(pr.cost[ev.ok], ev.cost[ev.ok])
+    assert np.all(np.isinf(pr.cost[~ev.ok]))
+    for i in np.flatnonzero(ev.ok)[::25]:
+        assert pr.reinforcement(int(i)) == ev.structure.reinforcement(int(i))
+    failing = np.setdiff1d(np.arange(len(v)), pr.rows)
+    with pytest.raises(ValueError):
+        pr.reinforcement(int(failing[0]))

@@ -11,6 +11,8 @@ cut or joined anywhere and gives the same numbers.
 - :func:`evaluate` (a chosen section): every check in full, with the stem bars
   curtailed where the moment allows, as an :class:`Evaluation` from which
   :func:`sized` makes the :class:`SizedDesign` of a panel.
+- :func:`priced` (a cost table): ok and cost as :func:`evaluate` gives them, the
+  structure designed only for the candidates that pass stability.
 - :func:`lower_bound` of the cost (with the least steel a passing design carries): the
   search never checks a candidate that cannot beat the best one found.
 
@@ -381,6 +383,60 @@ def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costi
                       cost=cost, steel_kg_per_m=np.array(steel),
                       edge=np.asarray(allx.edge_pressure(), dtype=float).reshape(n),
                       z_found=np.array(zf))
+
+
+@dataclass(frozen=True)
+class Priced:
+    """ok and cost per metre of n candidates as :func:`evaluate` gives them, with the
+    structure designed only for the candidates that pass stability (``rows``, indices
+    into the n; ``structure`` their ``structure.StructureResult``, row k of it the
+    candidate ``rows[k]``)."""
+
+    ok: np.ndarray
+    cost: np.ndarray
+    structure: object
+    rows: np.ndarray
+
+    def reinforcement(self, i: int) -> Reinforcement:
+        """The bars of candidate i (one that passes stability), curtailment included."""
+        k = int(np.searchsorted(self.rows, i))
+        if k >= len(self.rows) or self.rows[k] != i:
+            raise ValueError(f"candidate {i} fails stability: it has no bars")
+        return self.structure.reinforcement(k)
+
+
+def priced(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
+           caps: np.ndarray | None = None) -> Priced:
+    """ok and cost per metre (stem bars curtailed) of n candidates, the same as
+    :func:`evaluate` gives, for a cost table: a candidate failing a stability check
+    fails whatever its bars, so the structure (and its curtailment) is designed only
+    for those that pass stability; each candidate's numbers depend on its own row only.
+    The cost of a candidate that fails is inf."""
+    n = len(sec)
+    cond = conditions_of(sec.base_thickness_m, rows, ground)
+    allx = Situations(sec, cond, basis)
+    bad = allx.bad()
+    lim, one = limit(basis), 1.0 + TOL
+    util = max_util(list(allx.checks) + _joint_pressure(allx, caps), n, lim)
+    idx = np.flatnonzero((util <= one) & ~bad)
+    ok = np.zeros(n, dtype=bool)
+    cost = np.full(n, np.inf)
+    sr = None
+    if len(idx):
+        # the survivors from their own geometry (the same values as their rows of all)
+        sub, s_rows = sec.subset(idx), rows.take(idx)
+        s_cond = conditions_of(sub.base_thickness_m, s_rows, ground)
+        s_allx = allx.subset(idx)
+        zf = np.broadcast_to(np.asarray(s_cond.z_found, dtype=float), (len(idx),))
+        h_c = s_cond.z_top - zf - np.asarray(sub.base_thickness_m, dtype=float)
+        sr = _structure_of(s_allx, sub, h_c, basis, None,
+                           stem_moment_at=_stem_moment_at(s_allx, sub, s_cond))
+        passed = max_util(sr.checks, len(idx), lim) <= one
+        hs, D = stem_heights(sub, s_cond, s_rows)
+        c = costing.per_metre(sub, hs, D, _full(sr.steel_kg_per_m, len(idx)))
+        ok[idx] = passed
+        cost[idx] = np.where(passed, c, np.inf)
+    return Priced(ok=ok, cost=cost, structure=sr, rows=idx)
 
 
 # --- a panel's design ------------------------------------------------------------------------

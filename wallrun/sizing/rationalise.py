@@ -524,16 +524,18 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
                                    for f in ("stem_top_m", "stem_base_m", "base_width_m",
                                              "toe_m", "base_thickness_m", "key_depth_m",
                                              "key_width_m")})
-            ev = ev_.evaluate(sec, Rows.of(ds, counts), ds[0], basis, costing,
-                              caps=ev_.caps_of(ds, counts))
-            cage = replace(ev.structure, checks=[])  # the bars only: the checks are freed
+            pr = ev_.priced(sec, Rows.of(ds, counts), ds[0], basis, costing,
+                            caps=ev_.caps_of(ds, counts))
+            # the bars only: the checks are freed
+            cage = (pr if pr.structure is None
+                    else replace(pr, structure=replace(pr.structure, checks=[])))
             for j, r in enumerate(rs):
                 sl = slice(j * len(cands), (j + 1) * len(cands))
-                okj = ev.ok[sl]
-                cost[r] = np.where(okj, ev.cost[sl] * L[ok_rows[r]], math.inf)
+                okj = pr.ok[sl]
+                cost[r] = np.where(okj, pr.cost[sl] * L[ok_rows[r]], math.inf)
                 for t in np.flatnonzero(okj):
                     bars[(r, int(t))] = (cage, j * len(cands) + int(t))
-            del ev
+            del pr
     order = np.argsort([own_of[d].cost_per_m for d in rows_d], kind="stable")
     cap = max_types if max_types != "auto" else practical_count(rows_d)
     ch = choose(cost, type_rate, cap, order=order)
