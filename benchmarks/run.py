@@ -10,7 +10,8 @@ The run is invented: a straight fill wall along a road on a gentle grade, a surv
 point every 0.5 m, and a retained height varying smoothly between 0.5 and 7 m (a sum
 of three sines of incommensurate wavelengths, rescaled), levels to the millimetre.
 It is designed in the default section mode of ``[design]``, in a process tuned as the
-command line tunes its own (``cli.tune_allocator``).
+command line tunes its own (``cli.tune_process``: the allocator and the garbage
+collector).
 
 Reported: the time of each stage (the pipeline's ``result.timings`` plus output
 writing), the peak memory of the process, the candidates checked by the search and
@@ -273,8 +274,8 @@ def main(argv=None) -> int:
                     help="processes for the search (this one and N - 1 workers, a worker "
                          "writing the drawings), as the command line's --jobs")
     a = ap.parse_args(argv)
-    from wallrun.cli import tune_allocator
-    tune_allocator()  # as the command line does (its process setting, not the library's)
+    from wallrun.cli import tune_process
+    tune_process()  # as the command line does (its process settings, not the library's)
     results = [run_one(km, write=not a.no_write, gap=a.gap, jobs=a.jobs) for km in a.km]
     if a.json:
         print(json.dumps(results[0] if len(results) == 1 else results, indent=2))

@@ -1,5 +1,6 @@
-"""The command line's allocator tuning (``wallrun.cli.tune_allocator``): it takes on glibc
-Linux and may be repeated; the library never tunes its host process."""
+"""The command line's process tuning (``wallrun.cli.tune_allocator``, ``tune_collector``,
+``tune_process``): it takes (the allocator on glibc Linux) and may be repeated; the
+library never tunes its host process."""
 
 import ast
 import sys
@@ -14,6 +15,18 @@ from wallrun import cli
 def test_tuning_takes_and_repeats():
     assert cli.tune_allocator() is True
     assert cli.tune_allocator() is True
+
+
+def test_collector_tuning_takes_and_repeats():
+    import gc
+    before = gc.get_threshold()
+    try:
+        assert cli.tune_collector() == cli.GC_THRESHOLDS == gc.get_threshold()
+        cli.tune_process()
+        assert gc.get_threshold() == cli.GC_THRESHOLDS
+        assert gc.isenabled()  # the collector still runs, less often
+    finally:
+        gc.set_threshold(*before)
 
 
 def test_no_process_tuning_in_the_library():
