@@ -170,15 +170,21 @@ FLOOR_CASES = CASES + [
     ("tall 6.5 m", demand(6.5), BASIS)]
 
 
+def coarse_sample(d, basis, n: int, seed: int):
+    """n candidates drawn at random from a coarse grid of ``d`` (mixing candidates that
+    fail stability, fail the structure and pass): (integer vectors, sections, rows)."""
+    g = grid_for(d, 0.05, basis.design)
+    v = g.every(g.coarse_strides((8, 6, 4, 4, 2)))
+    v = v[np.random.default_rng(seed).choice(len(v), min(len(v), n), replace=False)]
+    return v, g.sections(v), Rows.of([d], [len(v)])
+
+
 @pytest.mark.parametrize("name, d, basis", FLOOR_CASES, ids=[c[0] for c in FLOOR_CASES])
 def test_lower_bound_is_never_above_a_passing_cost(name, d, basis):
     # the search prunes and stops on the lower bound: it must hold for every candidate
     # that passes, in the search's costing (full-height stem bars) and the designs'
     # (curtailed)
-    g = grid_for(d, 0.05, basis.design)
-    v = g.every(g.coarse_strides((8, 6, 4, 4, 2)))
-    v = v[np.random.default_rng(3).choice(len(v), min(len(v), 3000), replace=False)]
-    sec, rows = g.sections(v), Rows.of([d], [len(v)])
+    v, sec, rows = coarse_sample(d, basis, 3000, 3)
     lb = ev_.lower_bound(sec, rows, d, Costing(), basis)
     ok, cost, _ = ev_.screen(sec, rows, d, basis, Costing(), np.zeros(len(v), dtype=int),
                              np.array([True]))
@@ -362,10 +368,7 @@ def test_priced_equals_evaluate(name, d, basis):
     # the cost table of a rationalised set designs the structure only where stability
     # passes: its ok, cost and bars must be those of the full evaluation, on a sample of
     # a coarse grid mixing candidates that fail stability, fail the structure and pass
-    g = grid_for(d, 0.05, basis.design)
-    v = g.every(g.coarse_strides((8, 6, 4, 4, 2)))
-    v = v[np.random.default_rng(5).choice(len(v), min(len(v), 1500), replace=False)]
-    sec, rows = g.sections(v), Rows.of([d], [len(v)])
+    v, sec, rows = coarse_sample(d, basis, 1500, 5)
     ev = ev_.evaluate(sec, rows, d, basis, Costing())
     pr = ev_.priced(sec, rows, d, basis, Costing())
     assert 0 < len(pr.rows) < len(v) and 0 < pr.ok.sum()
