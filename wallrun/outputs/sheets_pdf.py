@@ -358,7 +358,7 @@ class SheetPainter:
             b = self.boxes
             hit = ((b[:, 0] <= cx + hw) & (b[:, 2] >= cx - hw)
                    & (b[:, 1] <= cy + hh) & (b[:, 3] >= cy - hh))
-            self.fe_model.draw_entities([e for e, on in zip(self.entities, hit) if on])
+            self.fe_model.draw_entities([self.entities[i] for i in np.flatnonzero(hit)])
             px, py = vp.dxf.center[0], vp.dxf.center[1]
             clip = (px - vp.dxf.width / 2, py - vp.dxf.height / 2,
                     px + vp.dxf.width / 2, py + vp.dxf.height / 2)

@@ -31,6 +31,7 @@ previous sheet, a key, the notes and the title block.
 from __future__ import annotations
 
 import math
+from bisect import bisect_left, bisect_right
 
 import numpy as np
 from ezdxf.enums import TextEntityAlignment as A
@@ -144,24 +145,32 @@ def windows(result, length_m: float, clear_m: float = 0.0) -> list[tuple[float, 
     a joint or run end (a longer single panel: cut at ``length_m``), where there is one
     at least ``clear_m`` from its neighbours on both sides; windows holding no panel
     are left out."""
-    st = [ch for ch, _l, _r in stations(result)]
+    st = [ch for ch, _l, _r in stations(result)]  # by chainage
     if not st:
         return []
     gaps = np.diff(st)
     roomy = {x for i, x in enumerate(st)
              if (i == 0 or gaps[i - 1] >= clear_m) and (i == len(st) - 1 or gaps[i] >= clear_m)}
+    p0, p1 = _panel_extents(result)
     out = []
     a = st[0]
     end = st[-1]
     while a < end - 1e-9:
-        inside = [x for x in st if a + 1e-9 < x <= a + length_m + 1e-9]
+        inside = st[bisect_right(st, a + 1e-9):bisect_right(st, a + length_m + 1e-9)]
         good = [x for x in inside if x in roomy or x >= end - 1e-9]
         b = good[-1] if good else inside[-1] if inside else min(a + length_m, end)
-        if any(pr.panel.ch_start_m < b - 1e-9 and pr.panel.ch_end_m > a + 1e-9
-               for pr in result.panels):
+        if np.any((p0 < b - 1e-9) & (p1 > a + 1e-9)):
             out.append((a, b))
         a = b
     return out
+
+
+def _panel_extents(result) -> tuple[np.ndarray, np.ndarray]:
+    """Start and end chainage of every panel, m, in the result's order (a window's
+    panels are found among them in one numpy call, not a loop over the wall)."""
+    ps = [pr.panel for pr in result.panels]
+    return (np.array([p.ch_start_m for p in ps], dtype=float).reshape(-1),
+            np.array([p.ch_end_m for p in ps], dtype=float).reshape(-1))
 
 
 def _figure(v0, v1) -> str:
@@ -260,6 +269,11 @@ def write_elevation(result, path):
     # windows and their bands
     wins = windows(result, vp_w * m, clear_m=1.5 * COLUMN_MM * m)
     st_all = stations(result)
+    st_ch = [ch for ch, _l, _r in st_all]  # by chainage
+    p0, p1 = _panel_extents(result)
+    p_levels = np.array([(pr.panel.founding_m, pr.panel.wall_top_start_m,
+                          pr.panel.wall_top_end_m) for pr in result.panels],
+                        dtype=float).reshape(-1, 3)
     levels_of = [level_lines(prof, s_) for s_ in st_all]
     level_row = 2.0 + max([lt.width(t, LABEL_MM) for ls in levels_of for t in ls] + [10.0])
     band_h = BAND_GAP + level_row + CHAIN_ROW
@@ -269,9 +283,9 @@ def write_elevation(result, path):
         queue = [(w0, w1)]
         while queue:
             c0, c1 = queue.pop(0)
-            lo, hi = _window_levels(prof, result, c0, c1)
+            lo, hi = _window_levels(prof, p0, p1, p_levels, c0, c1)
             h = (Y(hi) - Y(lo)) * k + band_h + NAME_ROW + 2.0
-            inner = [x for x, _l, _r in stations(result) if c0 + 1e-9 < x < c1 - 1e-9]
+            inner = st_ch[bisect_right(st_ch, c0 + 1e-9):bisect_left(st_ch, c1 - 1e-9)]
             if h > area_h and inner:
                 mid = inner[len(inner) // 2]
                 queue[:0] = [(c0, mid), (mid, c1)]
@@ -284,9 +298,8 @@ def write_elevation(result, path):
         y_bottom = y_chain - P(CHAIN_ROW)
         y_names = float(Y(hi)) + P(2.0)
         y_top = y_names + P(NAME_ROW)
-        for (ch, left, right), lines in zip(st_all, levels_of):
-            if not (c0 - 1e-9 <= ch <= c1 + 1e-9):
-                continue
+        i0, i1 = bisect_left(st_ch, c0 - 1e-9), bisect_right(st_ch, c1 + 1e-9)
+        for (ch, left, right), lines in zip(st_all[i0:i1], levels_of[i0:i1]):
             x = ch
             if ch <= c0 + 1e-9:
                 x = c0 + P(COLUMN_MM / 2)
@@ -295,12 +308,12 @@ def write_elevation(result, path):
             d.add_lines_text(msp, lines, (x, y_lo - P(1.0)),
                              P(LABEL_MM), d.L_LEVEL_TEXT, P(2.6), attach=6,
                              rotation=90.0, lt=lt)
-        for pr in result.panels:
+        for i in np.flatnonzero((p0 >= c0 - 1e-9) & (p1 <= c1 + 1e-9)):
+            pr = result.panels[i]
             p = pr.panel
-            if p.ch_start_m >= c0 - 1e-9 and p.ch_end_m <= c1 + 1e-9:
-                label = [p.panel, type_label(pr)]
-                d.add_lines_text(msp, label, (0.5 * (p.ch_start_m + p.ch_end_m), y_names),
-                                 P(LABEL_MM), d.L_PANELS, P(3.0), attach=8, lt=lt)
+            label = [p.panel, type_label(pr)]
+            d.add_lines_text(msp, label, (0.5 * (p.ch_start_m + p.ch_end_m), y_names),
+                             P(LABEL_MM), d.L_PANELS, P(3.0), attach=8, lt=lt)
         _chainage_row(msp, c0, c1, y_chain, tick, scale, lt)
         views.append((c0, c1, lo, hi, y_bottom, y_top, level_row))
 
@@ -335,16 +348,17 @@ def write_elevation(result, path):
     return doc
 
 
-def _window_levels(prof, result, c0: float, c1: float) -> tuple[float, float]:
-    """Lowest and highest level drawn between chainages c0 and c1, m."""
+def _window_levels(prof, p0, p1, p_levels, c0: float, c1: float) -> tuple[float, float]:
+    """Lowest and highest level drawn between chainages c0 and c1, m: the ground and
+    finished levels there and the founding and wall-top levels (``p_levels``, (n, 3)) of
+    the panels whose extents ``p0``..``p1`` meet the window."""
     ch = d.sample_chainages(prof, max(c0, float(prof.ch_start)), min(c1, float(prof.ch_end)),
                             max_step=5.0)
-    zs = list(np.asarray(prof.ground(ch), float)) + list(np.asarray(prof.finished(ch), float))
-    for pr in result.panels:
-        p = pr.panel
-        if p.ch_end_m > c0 - 1e-9 and p.ch_start_m < c1 + 1e-9:
-            zs += [p.founding_m, p.wall_top_start_m, p.wall_top_end_m]
-    return float(min(zs)), float(max(zs))
+    zs = [np.asarray(prof.ground(ch), float).reshape(-1),
+          np.asarray(prof.finished(ch), float).reshape(-1),
+          p_levels[(p1 > c0 - 1e-9) & (p0 < c1 + 1e-9)].reshape(-1)]
+    z = np.concatenate(zs)
+    return float(z.min()), float(z.max())
 
 
 def _chainage_row(msp, c0, c1, y_top, tick, scale, lt) -> None:
