@@ -46,3 +46,23 @@ def test_no_process_tuning_in_the_library():
             found += [(path.name, n) for n in names
                       if n.split(".")[0] in ("ctypes", "multiprocessing", "gc")]
     assert found == []
+
+
+def _loaded(name: str) -> bool:
+    """Whether ``name`` is imported in the process running this (a pool's worker)."""
+    return name in sys.modules
+
+
+def test_worker_pool_imports_the_drawing_writers_behind_its_first_task():
+    # the command line's pool queues the drawing writers' imports behind the first task
+    # it is handed (one worker: tasks run in the order given), so a worker idle after
+    # its part of the search is ready to write the drawings
+    pool = cli.worker_pool(2)
+    try:
+        assert isinstance(pool, cli.WorkerPool)
+        assert pool.submit(_loaded, "ezdxf").result() is False  # the first task
+        assert pool.submit(_loaded, "ezdxf").result() is True
+        assert pool.submit(_loaded, "wallrun.outputs.sheets_pdf").result() is True
+    finally:
+        pool.shutdown()
+    assert cli.worker_pool(1) is None

@@ -132,3 +132,45 @@ def test_outputs_carry_both_situations(result, tmp_path):
         p.status != "ok" for p in res.panels)
     assert "seismic actions, kv up" in html and "seismic actions, kv down" in html
     assert "critical slip circle" in html
+
+
+def test_drawings_of_the_drawing_view_equal_those_of_the_whole_result(result, tmp_path,
+                                                                      monkeypatch):
+    # a worker process writing the drawings is sent ``drawing_view(result)`` (the check
+    # listings cut to what the drawings read); the slip circles drawn on the sections
+    # come from those entries, so the drawings must be the same as from the whole
+    # result: the same DXF entities and the same PDF bytes (dates fixed)
+    import ezdxf
+
+    from wallrun.outputs.dxf import DRAWN_CHECKS, drawing_view, write_drawings
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")
+    _, res = result
+    view = drawing_view(res)
+    assert any(e.check not in DRAWN_CHECKS for p in res.panels for e in p.checks)
+    assert all(e.check in DRAWN_CHECKS for p in view.panels for e in p.checks)
+    outs = []
+    for k, r in enumerate((res, view)):
+        d = tmp_path / f"d{k}"
+        d.mkdir()
+        write_drawings(r, d, quick_look=False)
+        outs.append(d)
+
+    def entities(path):
+        """Every entity of every block (the layouts included), without handles."""
+        out = []
+        for b in ezdxf.readfile(path).blocks:
+            for e in b:
+                attribs = {k: str(v) for k, v in e.dxf.all_existing_dxf_attribs().items()
+                           if k not in ("handle", "owner")}
+                extra = (str(list(e.get_points())) if e.dxftype() == "LWPOLYLINE"
+                         else e.text if e.dxftype() == "MTEXT" else "")
+                out.append((e.dxftype(), sorted(attribs.items()), extra))
+        return out
+
+    slip = [e for b in ezdxf.readfile(outs[0] / "sections.dxf").blocks for e in b
+            if e.dxf.layer == "WALLRUN-SLIP-CIRCLE"]
+    assert slip, "the sections draw no slip circle: the test would not see a cut listing"
+    for name in ("elevation.dxf", "sections.dxf"):
+        assert entities(outs[0] / name) == entities(outs[1] / name), name
+    for name in ("sheets.pdf", "sections.pdf"):
+        assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name

@@ -48,12 +48,13 @@ def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
     or None) writes the drawings meanwhile (but for ``elevation.png``, which this process
     draws)."""
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
-    from wallrun.outputs.dxf import write_drawings
+    from wallrun.outputs.dxf import drawing_view, write_drawings
     from wallrun.outputs.previews import render_elevation_png
     folder = Path(folder)
-    # with a worker: the drawings there, their quick look (from the result alone) here
+    # with a worker: the drawings there (sent what they read of the result), their
+    # quick look (from the result alone) here
     drawings = (None if executor is None
-                else executor.submit(write_drawings, result, folder, False))
+                else executor.submit(write_drawings, drawing_view(result), folder, False))
     try:
         for name, render in tables.TABLES.items():
             _write_text(folder / name, render(result))

@@ -1,6 +1,24 @@
 """DXF drawings of a design: conventions, the developed elevation, the cross-sections,
 the plan and the paper-space sheets, written through ezdxf's public API."""
 
+#: The checks of a panel the drawings read: the overall-stability entries, whose
+#: critical circles the sections draw (:func:`wallrun.outputs.dxf.sections.slip_arc`).
+DRAWN_CHECKS = frozenset({"overall"})
+
+
+def drawing_view(result):
+    """``result`` as the drawings read it: each panel's check listing cut to the
+    entries of :data:`DRAWN_CHECKS` (nothing else of a listing is drawn; sections,
+    levels, bars, types and governing values are read from elsewhere in the result).
+    What is sent to a worker process that writes the drawings: at 10 km 3 MB to pickle
+    instead of 17 MB, 0.06 s to unpickle instead of 0.6 s. The drawings of the view and
+    of the whole result are the same (a test holds them to it)."""
+    from dataclasses import replace
+
+    return replace(result, panels=tuple(
+        replace(pr, checks=tuple(e for e in pr.checks if e.check in DRAWN_CHECKS))
+        for pr in result.panels))
+
 
 def write_drawings(result, folder, quick_look: bool = True) -> list[str]:
     """Write every drawing of ``result`` into ``folder``: ``elevation.dxf``,
