@@ -152,7 +152,7 @@ def test_drawings_of_the_drawing_view_equal_those_of_the_whole_result(result, tm
     for k, r in enumerate((res, view)):
         d = tmp_path / f"d{k}"
         d.mkdir()
-        write_drawings(r, d, quick_look=False)
+        write_drawings(r, d)
         outs.append(d)
 
     def entities(path):
@@ -172,5 +172,5 @@ def test_drawings_of_the_drawing_view_equal_those_of_the_whole_result(result, tm
     assert slip, "the sections draw no slip circle: the test would not see a cut listing"
     for name in ("elevation.dxf", "sections.dxf"):
         assert entities(outs[0] / name) == entities(outs[1] / name), name
-    for name in ("sheets.pdf", "sections.pdf"):
+    for name in ("sheets.pdf", "sections.pdf", "elevation.png"):
         assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name

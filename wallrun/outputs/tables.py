@@ -357,7 +357,12 @@ def design_dict(result: DesignResult) -> dict:
 def design_json(result: DesignResult) -> str:
     """``design.json``: the top-level keys one per line, and each entry of a long list
     (panels, joints, sections, bar schedule) as one compact line, so that the file
-    stays readable and diffable and the C encoder does the work."""
+    stays readable and diffable. The entries are encoded by orjson (a 10 km job's
+    27 MB in about 0.05 s instead of 0.5 s with the standard library's encoder); every
+    number in them has passed :func:`num` or :func:`rounded`, so none is NaN or
+    infinite (which orjson would write as null)."""
+    import orjson
+
     d = design_dict(result)
 
     def enc(v, **kw):
@@ -366,8 +371,9 @@ def design_json(result: DesignResult) -> str:
     parts = []
     for k, v in d.items():
         if isinstance(v, list) and v and isinstance(v[0], dict):
-            body = ",\n".join("  " + enc(x, separators=(", ", ": ")) for x in v)
-            parts.append(f" {enc(k)}: [\n{body}\n ]")
+            body = b",\n  ".join(orjson.dumps(x, option=orjson.OPT_SERIALIZE_NUMPY)
+                                  for x in v).decode("utf-8")
+            parts.append(f" {enc(k)}: [\n  {body}\n ]")
         else:
             parts.append(f" {enc(k)}: " + enc(v, indent=1).replace("\n", "\n "))
     return "{\n" + ",\n".join(parts) + "\n}\n"

@@ -4,9 +4,12 @@ Everything is written into a temporary folder beside the target and moved into p
 only when complete, so a failed or killed run leaves the previous output untouched.
 The inputs are only ever read. By default this process writes every file, one after
 the other; a caller that owns a process pool (the command line's ``--jobs``) may pass
-it as ``executor``, and the drawings (the slowest writer) are then written by one of
-its workers while this process writes the rest: the same files either way, each
-writer rendering the result alone. No state is kept between calls, so two threads may
+it as ``executor``, and the drawings (the slowest writer, with ``elevation.png``) are
+then written by one of its workers, from what they read of the result
+(``dxf.drawing_view``), while this process writes the rest: the same files either way,
+each writer rendering the result alone. At 10 km the two shares take about 4 s each
+(the drawings about 3.5 s and the quick look 0.5 s; ``model.ifc`` 2 s and the tables,
+workbook and report 2 s). No state is kept between calls, so two threads may
 write two results at once (into two different folders).
 """
 
@@ -45,24 +48,20 @@ def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
     """Write every output file of ``result`` into ``folder`` (which exists and is
     empty); returns the names written. Each writer renders ``result`` only and writes
     files of its own; ``executor`` (a ``concurrent.futures`` executor the caller owns,
-    or None) writes the drawings meanwhile (but for ``elevation.png``, which this process
-    draws)."""
+    or None) writes the drawings meanwhile."""
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook
     from wallrun.outputs.dxf import drawing_view, write_drawings
-    from wallrun.outputs.previews import render_elevation_png
     folder = Path(folder)
-    # with a worker: the drawings there (sent what they read of the result), their
-    # quick look (from the result alone) here
+    # with a worker: the drawings and their quick look there (sent what they read of
+    # the result), the rest here
     drawings = (None if executor is None
-                else executor.submit(write_drawings, drawing_view(result), folder, False))
+                else executor.submit(write_drawings, drawing_view(result), folder))
     try:
         for name, render in tables.TABLES.items():
             _write_text(folder / name, render(result))
         workbook.write_workbook(result, folder / "schedule.xlsx")
         if drawings is None:
             write_drawings(result, folder)
-        else:
-            render_elevation_png(result, folder / "elevation.png")
         report.write_report(result, folder / "report.html")
         profiles_csv.write_profiles_csv(result, folder / "profiles.csv")
         ifc.write_ifc(result, folder / "model.ifc")
