@@ -215,11 +215,13 @@ class _Model:
 
         def make():
             f = self.f
-            curve = f.createIfcIndexedPolyCurve(f.createIfcCartesianPointList2D(pts), None,
-                                                False)
+            curve = f.create_entity("IfcIndexedPolyCurve",
+                                    Points=f.createIfcCartesianPointList2D(pts),
+                                    SelfIntersect=False)
             # the closing segment: the index list returns to the first point
             curve.Segments = [f.createIfcLineIndex(list(range(1, len(pts) + 1)) + [1])]
-            return f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+            return f.create_entity("IfcArbitraryClosedProfileDef", ProfileType="AREA",
+                                   OuterCurve=curve)
         return self.once(("profile", pts), make)
 
     def extrusion(self, profile, origin, along, across, depth):
@@ -240,20 +242,25 @@ class _Model:
         half = self.f.createIfcHalfSpaceSolid(plane, False)  # material below the plane
         return self.f.createIfcBooleanClippingResult("DIFFERENCE", solid, half)
 
+    # Entities are made with the attributes they have by name: an attribute left out
+    # stays unset ($), as one given None would, without the call that sets it.
+
     def properties(self, values: dict) -> list:
         """IfcPropertySingleValue of each (IFC type, value) that is not None."""
         f = self.f
         return [self.once(("prop", name, kind, v),
-                          lambda n=name, k=kind, v=v: f.createIfcPropertySingleValue(
-                              n, None, f.create_entity(k, v), None))
+                          lambda n=name, k=kind, v=v: f.create_entity(
+                              "IfcPropertySingleValue", Name=n,
+                              NominalValue=f.create_entity(k, v)))
                 for name, (kind, v) in values.items() if v is not None]
 
     def quantities(self, values: dict) -> list:
-        """IfcQuantityLength/Area/Volume of each (kind, value), finite ones only."""
+        """IfcQuantityLength/Area/Volume of each (kind, value), finite ones only (the
+        value in its ``LengthValue``, ``AreaValue`` or ``VolumeValue``)."""
         f = self.f
         return [self.once(("qty", name, kind, float(v)),
                           lambda n=name, k=kind, v=v: f.create_entity(
-                              f"IfcQuantity{k}", n, None, None, float(v), None))
+                              f"IfcQuantity{k}", Name=n, **{f"{k}Value": float(v)}))
                 for name, (kind, v) in values.items() if v is not None and math.isfinite(v)]
 
 
@@ -438,7 +445,7 @@ def _panel(m, body, line, site_placement, pr, joint_at_start: bool, joint_at_end
         kind = "Clipping" if any(i.is_a("IfcBooleanClippingResult") for i in items) \
             else "SweptSolid"
         rep = f.createIfcShapeRepresentation(body, "Body", kind, items)
-        shape = f.createIfcProductDefinitionShape(None, None, [rep])
+        shape = f.create_entity("IfcProductDefinitionShape", Representations=[rep])
         e = m.create(ifc_class, f"{pn.panel}/{what}", Name=f"{pn.panel} {what}",
                      Description=desc, ObjectPlacement=placement, Representation=shape,
                      Tag=pn.panel, **({"ObjectType": "retaining wall stem",
