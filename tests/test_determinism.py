@@ -131,3 +131,9 @@ def test_height_ranges_cut_the_batch_into_contiguous_parts_of_equal_work():
         share = sum(h) / parts
         for p in got[:-1]:
             assert abs(sum(h[k] for k in p) - share) <= max(h) + 1e-9
+        # the first part (this process's) may take more: first / (first + parts - 1)
+        got = height_ranges(h, parts, first=1.5)
+        assert sorted(k for p in got for k in p) == list(range(len(h)))
+        if parts > 1:
+            first = sum(h[k] for k in got[0])
+            assert abs(first - 1.5 * sum(h) / (parts + 0.5)) <= max(h) + 1e-9
