@@ -137,3 +137,45 @@ def test_height_ranges_cut_the_batch_into_contiguous_parts_of_equal_work():
         if parts > 1:
             first = sum(h[k] for k in got[0])
             assert abs(first - 1.5 * sum(h) / (parts + 0.5)) <= max(h) + 1e-9
+
+
+def test_solver_is_loaded_while_the_workers_search(monkeypatch):
+    """With an executor, a rationalised design loads the integer program's solver once,
+    after this process's part of the parallel search and before the workers' parts are
+    collected; the result is the same as without an executor (hillside-cut demo, the
+    pool used from the first batch)."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    from wallrun import pipeline
+    from wallrun.site import load_site
+    from wallrun.sizing import rationalise
+
+    site = load_site(ROOT / "sites" / "hillside-cut")
+    assert site.design.sections == "rationalised"
+    plain = pipeline.design(site)
+    monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
+    events = []
+    part = pipeline._bespoke_part
+    monkeypatch.setattr(pipeline, "_bespoke_part",
+                        lambda *a: events.append("part") or part(*a))
+    monkeypatch.setattr(rationalise, "load_solver", lambda: events.append("solver"))
+    class Collected:  # a future that notes when its result is collected
+        def __init__(self, f):
+            self.f = f
+
+        def result(self):
+            events.append("collected")
+            return self.f.result()
+
+        def cancel(self):
+            return self.f.cancel()
+
+    with ThreadPoolExecutor(1) as pool:
+        orig = pool.submit
+        pool.submit = lambda fn, *a: Collected(orig(fn, *a))
+        got = pipeline.design(site, executor=pool)
+    assert events.count("solver") == 1
+    k = events.index("solver")
+    assert "part" in events[:k] and "collected" not in events[:k]
+    strip = lambda r: [(p.panel, p.section, p.section_type, p.cost) for p in r.panels]  # noqa: E731
+    assert strip(got) == strip(plain)

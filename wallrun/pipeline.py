@@ -31,9 +31,10 @@ PARALLEL_FROM = 48
 #: The work of this process's part of a batch split over workers, relative to each
 #: worker's part: a worker starts its part later (its process and imports, about
 #: 0.3 s) and its designs come back pickled (about 0.3 s at 10 km, in proportion to its
-#: part), so this process takes a little more (at 10 km with ``--jobs 2`` the parallel
-#: search ended 0.14 s sooner, median of five runs, than with equal parts). The
-#: results do not depend on it.
+#: part), so this process takes a little more; in rationalised mode it then also loads
+#: the integer program's solver (``Sizer.meanwhile``) while the workers finish. At
+#: 10 km with ``--jobs 2`` 1.0, 0.9 and 1.15 gave the same design time within the
+#: machine's noise (three alternating runs each). The results do not depend on it.
 FIRST_PART = 1.15
 
 
@@ -45,9 +46,12 @@ class Sizer:
     every demand's design depends on that demand only, so the results are the same."""
 
     def __init__(self, site: Site, mode: str, types=None, tick=None, executor=None,
-                 fallback=None, known=None, parts: int = 2):
+                 fallback=None, known=None, parts: int = 2, meanwhile=None):
         self.site, self.mode, self.types, self.tick = site, mode, types, tick
         self.executor, self.fallback, self.parts = executor, fallback, max(1, int(parts))
+        # called (once) after this process's part of a parallel search, while the
+        # workers finish theirs: work the next stage needs anyway
+        self.meanwhile = meanwhile
         self.basis, self.costing = site.basis, Costing.of(site)
         self.step = site.design.dimension_step_m
         # designs already made in this call for these demands in this way
@@ -84,6 +88,9 @@ class Sizer:
         got: list[SizedDesign | None] = [None] * len(new)
         try:
             done = [_bespoke_part([new[k] for k in parts[0]], *args)]
+            if self.meanwhile is not None:
+                self.meanwhile()
+                self.meanwhile = None
         except BaseException:
             for f in futures:
                 f.cancel()
@@ -163,8 +170,11 @@ def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignRe
 
     t0 = time.perf_counter()
     mode = site.design.sections
+    # rationalising solves an integer program: its solver is imported while the
+    # workers finish their parts of the search (this process's part is the smaller)
     sizer = Sizer(site, "catalogue" if mode == "catalogue" else "bespoke", tick=tick,
-                  executor=executor, parts=parts)
+                  executor=executor, parts=parts,
+                  meanwhile=rat_mod.load_solver if mode == "rationalised" else None)
     laid = lay_out(profiles, runs, site, sizer)
     seconds, stats = sizer.seconds, list(sizer.stats)
     rational = None

@@ -175,6 +175,14 @@ def enumerate_sets(cost: np.ndarray, rate: float, max_types: int) -> tuple[float
     return best, best_set
 
 
+def load_solver() -> None:
+    """Import the integer program's solver (``scipy.optimize``, about 0.5 s on the
+    benchmark machine) ahead of :func:`milp_sets`; nothing else. A caller with idle
+    time before rationalising (``pipeline.Sizer`` waiting for its workers) calls it
+    then."""
+    import scipy.optimize  # noqa: F401
+
+
 def milp_sets(cost: np.ndarray, rate: float, max_types: int):
     """The least total by an integer program (facility location, ``scipy.optimize.milp``
     with HiGHS): x_t in {0, 1} (type t used), y_rt in [0, 1] (row r served by t), minimise
