@@ -285,6 +285,12 @@ class Panel:
         return self.retained_top_m - self.founding_m
 
 
+def largest(worst: dict[str, float], checks) -> float:
+    """The largest of ``worst`` (``PanelResult.worst_by_check``) over ``checks``; 0.0
+    where none of them is listed."""
+    return max((worst[c] for c in checks if c in worst), default=0.0)
+
+
 @dataclass(frozen=True)
 class PanelResult:
     """A designed panel: one row of ``panels.csv`` and one entry of ``design.json``."""
@@ -303,9 +309,17 @@ class PanelResult:
     steel_kg: float | None = 0.0
     cost: float | None = 0.0
 
+    def worst_by_check(self) -> dict[str, float]:
+        """The largest utilization of each check of the listing, by check name."""
+        worst: dict[str, float] = {}
+        for c in self.checks:
+            if c.check not in worst or c.utilization > worst[c.check]:
+                worst[c.check] = c.utilization
+        return worst
+
     def util(self, *checks: str) -> float:
-        us = [c.utilization for c in self.checks if c.check in checks]
-        return max(us) if us else 0.0
+        """The largest utilization of ``checks`` (0.0 where none is listed)."""
+        return largest(self.worst_by_check(), checks)
 
     @property
     def governing(self) -> str:

@@ -53,6 +53,7 @@ import uuid
 import numpy as np
 
 from wallrun.outputs.tables import STRUCTURAL_CHECKS
+from wallrun.results import largest
 
 #: The gap between neighbouring panels at a movement joint, m.
 JOINT_GAP_M = 0.010
@@ -466,6 +467,7 @@ def _design_pset(m, elements, pr) -> None:
     """The property set ``Wallrun_PanelDesign`` of a panel, shared by its wall and
     footing."""
     pn = pr.panel
+    worst = pr.worst_by_check()
 
     def ratio(v):
         return ("IfcRatioMeasure", float(v) if math.isfinite(v) else None)
@@ -481,10 +483,10 @@ def _design_pset(m, elements, pr) -> None:
         "RetainedTop": length(pn.retained_top_m), "FrontMin": length(pn.front_min_m),
         "Founding": length(pn.founding_m), "WallTopStart": length(pn.wall_top_start_m),
         "WallTopEnd": length(pn.wall_top_end_m),
-        "UtilOverturning": ratio(pr.util("overturning")),
-        "UtilSliding": ratio(pr.util("sliding")),
-        "UtilBearing": ratio(pr.util("bearing")),
-        "UtilStructural": ratio(pr.util(*STRUCTURAL_CHECKS)),
+        "UtilOverturning": ratio(largest(worst, ("overturning",))),
+        "UtilSliding": ratio(largest(worst, ("sliding",))),
+        "UtilBearing": ratio(largest(worst, ("bearing",))),
+        "UtilStructural": ratio(largest(worst, STRUCTURAL_CHECKS)),
         "Governing": ("IfcLabel", pr.governing or "none"),
         "Status": ("IfcLabel", pr.status),
         "Reason": ("IfcText", pr.reason or None)})

@@ -20,7 +20,7 @@ import numpy as np
 
 from wallrun import __version__
 from wallrun.cautions import CAUTION, not_checked
-from wallrun.results import DesignResult, PanelResult
+from wallrun.results import DesignResult, PanelResult, largest
 from wallrun.takeoff import DEMO_RATES_NOTE
 
 SCHEMA = "wallrun-design/1"
@@ -123,13 +123,12 @@ def panel_row(p: PanelResult) -> dict:
     util_seismic are empty where the site does not check overall stability or seismic
     actions."""
     pa, s = p.panel, p.section
-    overall = seismic = None  # empty where not checked
+    worst = p.worst_by_check()
+    overall = worst.get("overall")  # empty where not checked
+    seismic = None
     for c in p.checks:
-        u = c.utilization
-        if c.check == "overall" and (overall is None or u > overall):
-            overall = u
-        if c.combination == SEISMIC and (seismic is None or u > seismic):
-            seismic = u
+        if c.combination == SEISMIC and (seismic is None or c.utilization > seismic):
+            seismic = c.utilization
     designed = p.status == "ok"  # a flagged panel reports its reason, no utilization
     if not designed:
         overall = seismic = None
@@ -140,10 +139,10 @@ def panel_row(p: PanelResult) -> dict:
         "wall_top_start_m": pa.wall_top_start_m, "wall_top_end_m": pa.wall_top_end_m,
         "retained_height_m": pa.retained_height_m, "total_height_m": pa.total_height_m,
         "section": p.section_type,
-        "util_overturning": p.util("overturning") if designed else None,
-        "util_sliding": p.util("sliding") if designed else None,
-        "util_bearing": p.util("bearing") if designed else None,
-        "util_structural": p.util(*STRUCTURAL_CHECKS) if designed else None,
+        "util_overturning": largest(worst, ("overturning",)) if designed else None,
+        "util_sliding": largest(worst, ("sliding",)) if designed else None,
+        "util_bearing": largest(worst, ("bearing",)) if designed else None,
+        "util_structural": largest(worst, STRUCTURAL_CHECKS) if designed else None,
         "util_overall": overall, "util_seismic": seismic,
         "governing": p.governing if designed else "", "status": p.status, "reason": p.reason,
         "concrete_m3": p.concrete_m3, "steel_kg": p.steel_kg, "cost": p.cost,
