@@ -48,6 +48,12 @@ def test_no_process_tuning_in_the_library():
     assert found == []
 
 
+def _registered_fonts() -> set:
+    from reportlab.pdfbase import pdfmetrics
+
+    return set(pdfmetrics.getRegisteredFontNames())
+
+
 def _loaded(name: str) -> bool:
     """Whether ``name`` is imported in the process running this (a pool's worker)."""
     return name in sys.modules
@@ -63,6 +69,9 @@ def test_worker_pool_imports_the_drawing_writers_behind_its_first_task():
         assert pool.submit(_loaded, "ezdxf").result() is False  # the first task
         assert pool.submit(_loaded, "ezdxf").result() is True
         assert pool.submit(_loaded, "wallrun.outputs.sheets_pdf").result() is True
+        # and the drawings' fonts are loaded there: ReportLab has both registered
+        assert pool.submit(_registered_fonts).result() >= {"wallrun-DejaVuSans",
+                                                           "wallrun-DejaVuSansMono"}
     finally:
         pool.shutdown()
     assert cli.worker_pool(1) is None

@@ -387,12 +387,16 @@ def worker_pool(jobs: int):
 
 def import_drawing_writers() -> None:
     """Import the modules a worker needs to write the drawings (ezdxf, ReportLab and
-    wallrun's drawing writers: about 0.5 to 0.8 s of CPU)."""
+    wallrun's drawing writers: about 0.5 to 0.8 s of CPU) and load their fonts
+    (``wallrun.outputs.dxf.load_fonts``, about 0.1 s)."""
     import wallrun.outputs.dxf.elevation  # noqa: F401
     import wallrun.outputs.dxf.plan  # noqa: F401
     import wallrun.outputs.dxf.sections  # noqa: F401
     import wallrun.outputs.previews  # noqa: F401
     import wallrun.outputs.sheets_pdf  # noqa: F401
+    from wallrun.outputs.dxf import load_fonts
+
+    load_fonts()
 
 
 class WorkerPool(ProcessPoolExecutor):

@@ -20,6 +20,28 @@ def drawing_view(result):
         for pr in result.panels))
 
 
+def load_fonts() -> None:
+    """Load the drawings' fonts (DejaVu Sans and DejaVu Sans Mono, the fonts of
+    wallrun's text styles) into the caches the libraries keep for their process:
+    ezdxf's font files (text widths, and the drawing add-on's text placement),
+    ReportLab's font registry (``sheets.pdf``) and matplotlib's font cache
+    (``elevation.png``). Nothing of wallrun keeps them and no output depends on it: the
+    first drawing of a process otherwise loads them on its way, about 0.15 s; the
+    command line's workers call this while they would wait for the design."""
+    from ezdxf.fonts import fonts
+    from matplotlib import font_manager
+
+    from wallrun.outputs.dxf.conventions import Lettering
+    from wallrun.outputs.sheets_pdf import Fonts
+
+    Lettering()
+    pdf_fonts = Fonts()
+    pdf_fonts.get(None)
+    pdf_fonts.get(fonts.get_font_face("DejaVuSansMono.ttf"))
+    font_manager.get_font(font_manager.findfont(font_manager.FontProperties(
+        family="DejaVu Sans")))
+
+
 def write_drawings(result, folder, quick_look: bool = True) -> list[str]:
     """Write every drawing of ``result`` into ``folder``: ``elevation.dxf``,
     ``sections.dxf``, and with plan coordinates ``plan.dxf`` and ``setting_out.csv``;
