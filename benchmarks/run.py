@@ -204,7 +204,10 @@ def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
     cpu0 = time.process_time()
     t0 = time.perf_counter()
     try:
-        result = pipeline.design(site, executor=pool, parts=jobs)
+        # as the command line: the writers are loaded while the workers search
+        from wallrun.outputs.write import load_writers
+        result = pipeline.design(site, executor=pool, parts=jobs,
+                                 meanwhile=load_writers if write else None)
         t_design = time.perf_counter() - t0
         stages.update({k: float(v) for k, v in result.timings.items()})
         stages["design_other"] = max(t_design - sum(stages.values()), 0.0)

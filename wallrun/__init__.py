@@ -20,12 +20,15 @@ def load_site(path):
     return _load(path)
 
 
-def design(site, progress=None, executor=None, parts=2):
+def design(site, progress=None, executor=None, parts=2, meanwhile=None):
     """Design the whole wall of a loaded site; returns a ``DesignResult``. ``executor``:
     a process pool the caller owns for the large bespoke searches, cut into ``parts``
-    (best: its number of workers); None: this process does all. The result is the same."""
+    (best: its number of workers); None: this process does all. The result is the same.
+    ``meanwhile``: a callable run once in this process while the workers finish their
+    parts of the search (see ``wallrun.pipeline.design``)."""
     from wallrun.pipeline import design as _design
-    return _design(site, progress=progress, executor=executor, parts=parts)
+    return _design(site, progress=progress, executor=executor, parts=parts,
+                   meanwhile=meanwhile)
 
 
 def write_outputs(result, out_dir, executor=None):

@@ -434,7 +434,10 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
     pool = worker_pool(jobs)
     try:
         try:
-            result = pipeline.design(site, progress=cb, executor=pool, parts=jobs)
+            # while the workers finish their parts of the search, this process loads
+            # the writers it runs after the design
+            result = pipeline.design(site, progress=cb, executor=pool, parts=jobs,
+                                     meanwhile=write.load_writers)
         finally:
             cb.close()
         write.write_outputs(result, out_dir, executor=pool)

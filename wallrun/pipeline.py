@@ -29,13 +29,14 @@ from wallrun.sizing.conditions import Rows, conditions_of, water_level
 #: Fewest new demands worth sending to worker processes.
 PARALLEL_FROM = 48
 #: The work of this process's part of a batch split over workers, relative to each
-#: worker's part: a worker starts its part later (its process and imports, about
-#: 0.3 s) and its designs come back pickled (about 0.3 s at 10 km, in proportion to its
-#: part), so this process takes a little more; in rationalised mode it then also loads
-#: the integer program's solver (``Sizer.meanwhile``) while the workers finish. At
-#: 10 km with ``--jobs 2`` 1.0, 0.9 and 1.15 gave the same design time within the
-#: machine's noise (three alternating runs each). The results do not depend on it.
-FIRST_PART = 1.15
+#: worker's part. A worker starts its part later (its process and imports, about
+#: 0.3 s) and its designs come back pickled (about 0.2 s at 10 km); this process, after
+#: its part, loads the integer program's solver in rationalised mode and runs the
+#: caller's ``meanwhile`` (the command line's writers: together about 0.8 s). At 10 km
+#: with ``--jobs 2`` and the writers loaded, 1.15, 1.0 and 0.9 gave the same design
+#: time within the machine's noise (three runs each); equal parts are kept. The results
+#: do not depend on it.
+FIRST_PART = 1.0
 
 
 class Sizer:
@@ -151,7 +152,8 @@ def _bespoke_part(demands, basis, costing, step):
     return search.bespoke(demands, basis, costing, step, stats=stats), stats[0]
 
 
-def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignResult:
+def design(site: Site, progress=None, executor=None, parts: int = 2,
+           meanwhile=None) -> DesignResult:
     """Design the whole wall of ``site`` (design-basis sections 1 to 7).
 
     ``executor``: a ``concurrent.futures`` executor of worker processes the caller owns
@@ -160,7 +162,10 @@ def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignRe
     and the others by the executor (best: one part per process, the executor's workers
     and this one; each part searches the reference demands of its range, and a cut
     makes a few of them twice); None designs in this process. The result is the same
-    either way."""
+    either way. ``meanwhile``: a callable of the caller's, called once in this process
+    after its part of the first parallel search, while the workers finish theirs (the
+    command line loads its output writers there); not called when nothing is searched
+    in parallel."""
     tick = progress or (lambda stage, done, total: None)
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
@@ -170,11 +175,13 @@ def design(site: Site, progress=None, executor=None, parts: int = 2) -> DesignRe
 
     t0 = time.perf_counter()
     mode = site.design.sections
-    # rationalising solves an integer program: its solver is imported while the
-    # workers finish their parts of the search (this process's part is the smaller)
+    # rationalising solves an integer program: its solver is loaded while the workers
+    # finish their parts of the search, before the caller's own work
+    waits = ([rat_mod.load_solver] if mode == "rationalised" else []) + (
+        [meanwhile] if meanwhile is not None else [])
     sizer = Sizer(site, "catalogue" if mode == "catalogue" else "bespoke", tick=tick,
                   executor=executor, parts=parts,
-                  meanwhile=rat_mod.load_solver if mode == "rationalised" else None)
+                  meanwhile=(lambda: [w() for w in waits]) if waits else None)
     laid = lay_out(profiles, runs, site, sizer)
     seconds, stats = sizer.seconds, list(sizer.stats)
     rational = None

@@ -50,6 +50,18 @@ import itertools
 import math
 import uuid
 
+import ifcopenshell
+import ifcopenshell.api.aggregate
+import ifcopenshell.api.context
+import ifcopenshell.api.geometry
+import ifcopenshell.api.georeference
+import ifcopenshell.api.material
+import ifcopenshell.api.project
+import ifcopenshell.api.pset
+import ifcopenshell.api.root
+import ifcopenshell.api.unit
+import ifcopenshell.guid
+import ifcopenshell.util.pset
 import numpy as np
 
 from wallrun.outputs.tables import STRUCTURAL_CHECKS
@@ -61,6 +73,13 @@ JOINT_GAP_M = 0.010
 MODEL_CHORD_M = 0.010
 PSET = "Wallrun_PanelDesign"
 _GUID_NS = uuid.UUID("5b0f6f0e-8a53-4c55-9c1e-3f0f6f2a4d71")  # wallrun's own namespace
+
+
+def load() -> None:
+    """Load what ifcopenshell's api loads on its first property set: the IFC4
+    property-set templates (``ifcopenshell.util.pset.get_template``, kept by
+    ifcopenshell for its process; about 0.06 s). No output depends on it."""
+    ifcopenshell.util.pset.get_template("IFC4")
 
 
 def retained_left(site, side: str) -> bool:
@@ -157,17 +176,6 @@ class _Model:
     look-ups per call cost more than the entity itself; hundreds of panels)."""
 
     def __init__(self, result):
-        import ifcopenshell
-        import ifcopenshell.api.aggregate
-        import ifcopenshell.api.context
-        import ifcopenshell.api.geometry
-        import ifcopenshell.api.georeference
-        import ifcopenshell.api.material
-        import ifcopenshell.api.project
-        import ifcopenshell.api.pset
-        import ifcopenshell.api.root
-        import ifcopenshell.api.unit
-        import ifcopenshell.guid
         self.ifc = ifcopenshell
         self.api = ifcopenshell.api
         self.result = result

@@ -44,6 +44,20 @@ def _write_text(path: Path, text: str) -> None:
         f.write(text)
 
 
+def load_writers() -> None:
+    """Import the writers :func:`write_all` runs in this process beside a worker (all
+    but the drawings) and load what their libraries load on first use: matplotlib
+    (the report's long section, drawn by its Agg back end) and ifcopenshell with its
+    api and property-set templates. Nothing of wallrun keeps them and no output
+    depends on it; the first write of a process otherwise pays for them (about 0.5 s).
+    The command line calls it while its workers finish their parts of the search."""
+    import matplotlib.backends.backend_agg  # noqa: F401  (savefig's PNG)
+
+    from wallrun.outputs import ifc, profiles_csv, report, tables, workbook  # noqa: F401
+
+    ifc.load()
+
+
 def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
     """Write every output file of ``result`` into ``folder`` (which exists and is
     empty); returns the names written. Each writer renders ``result`` only and writes

@@ -19,6 +19,10 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from matplotlib import colormaps
+from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.figure import Figure
+from matplotlib.patches import Patch
 
 from wallrun.section import base_vertices, key_vertices, soil_vertices, stem_vertices
 
@@ -230,10 +234,6 @@ def slip_arc(p, x_lo: float, x_hi: float, z_lo: float, n: int = 64):
 def run_png(result) -> bytes | None:
     """The long section along chainage as PNG bytes (see the module docstring); None
     when there is nothing to draw."""
-    from matplotlib.collections import LineCollection, PolyCollection
-    from matplotlib.figure import Figure
-    from matplotlib.patches import Patch
-
     prof, panels = result.profiles, result.panels
     ch = G = F = None
     if prof is not None:
@@ -317,5 +317,4 @@ def run_png(result) -> bytes | None:
 
 def _tab20():
     """The 20 colours of matplotlib's ``tab20`` colour map."""
-    from matplotlib import colormaps
     return colormaps["tab20"](np.arange(20))
