@@ -139,11 +139,12 @@ def test_height_ranges_cut_the_batch_into_contiguous_parts_of_equal_work():
             assert abs(first - 1.5 * sum(h) / (parts + 0.5)) <= max(h) + 1e-9
 
 
-def test_solver_is_loaded_while_the_workers_search(monkeypatch):
-    """With an executor, a rationalised design loads the integer program's solver once,
-    after this process's part of the parallel search and before the workers' parts are
-    collected; the result is the same as without an executor (hillside-cut demo, the
-    pool used from the first batch)."""
+def test_solver_and_callers_work_run_while_the_workers_search(monkeypatch):
+    """With an executor, a rationalised design loads the integer program's solver and
+    then runs the caller's ``meanwhile`` once each, after this process's part of the
+    parallel search and before the workers' parts are collected; the result is the
+    same as without an executor, where ``meanwhile`` is not called (hillside-cut demo,
+    the pool used from the first batch)."""
     from concurrent.futures import ThreadPoolExecutor
 
     from wallrun import pipeline
@@ -152,9 +153,10 @@ def test_solver_is_loaded_while_the_workers_search(monkeypatch):
 
     site = load_site(ROOT / "sites" / "hillside-cut")
     assert site.design.sections == "rationalised"
-    plain = pipeline.design(site)
-    monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
     events = []
+    plain = pipeline.design(site, meanwhile=lambda: events.append("caller"))
+    assert events == []
+    monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
     part = pipeline._bespoke_part
     monkeypatch.setattr(pipeline, "_bespoke_part",
                         lambda *a: events.append("part") or part(*a))
@@ -173,9 +175,11 @@ def test_solver_is_loaded_while_the_workers_search(monkeypatch):
     with ThreadPoolExecutor(1) as pool:
         orig = pool.submit
         pool.submit = lambda fn, *a: Collected(orig(fn, *a))
-        got = pipeline.design(site, executor=pool)
-    assert events.count("solver") == 1
+        got = pipeline.design(site, executor=pool,
+                              meanwhile=lambda: events.append("caller"))
+    assert events.count("solver") == 1 and events.count("caller") == 1
     k = events.index("solver")
     assert "part" in events[:k] and "collected" not in events[:k]
+    assert events[k + 1] == "caller"
     strip = lambda r: [(p.panel, p.section, p.section_type, p.cost) for p in r.panels]  # noqa: E731
     assert strip(got) == strip(plain)

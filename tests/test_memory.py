@@ -75,3 +75,18 @@ def test_worker_pool_imports_the_drawing_writers_behind_its_first_task():
     finally:
         pool.shutdown()
     assert cli.worker_pool(1) is None
+
+
+def test_load_writers_loads_the_writers_and_their_libraries():
+    # what the command line loads while its workers search (a fresh interpreter: this
+    # one has imported most of it already)
+    import subprocess
+
+    code = ("import sys; from wallrun.outputs.write import load_writers; load_writers(); "
+            "names = ['wallrun.outputs.workbook', 'wallrun.outputs.report', "
+            "'wallrun.outputs.ifc', 'matplotlib.figure', 'matplotlib.backends.backend_agg', "
+            "'ifcopenshell.api.pset', 'xlsxwriter', 'jinja2']; "
+            "print([n for n in names if n not in sys.modules])")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip() == "[]"
