@@ -205,7 +205,7 @@ def fake_engine(monkeypatch):
     write = types.ModuleType("wallrun.outputs.write")
     from wallrun.errors import InputError
 
-    def design(site, progress=None, executor=None, parts=2):
+    def design(site, progress=None, executor=None, parts=2, meanwhile=None):
         calls.append("design")
         progress("panels", 1, 2)
         progress("panels", 2, 2)
@@ -225,6 +225,7 @@ def fake_engine(monkeypatch):
     pipeline.design = design
     write.check_writable = check_writable
     write.write_outputs = write_outputs
+    write.load_writers = lambda: None  # loads nothing: no writer is real here
     import wallrun
     import wallrun.outputs
     monkeypatch.setitem(sys.modules, "wallrun.pipeline", pipeline)
