@@ -7,6 +7,7 @@ The output files are plain renderings of these objects: ``panels.csv`` rows are
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from operator import attrgetter
 
 import numpy as np
 
@@ -326,7 +327,7 @@ class PanelResult:
         """Largest utilization overall as ``check combination``."""
         if not self.checks:
             return ""
-        c = max(self.checks, key=lambda c: c.utilization)
+        c = max(self.checks, key=attrgetter("utilization"))
         return f"{c.check} {c.combination}"
 
 
