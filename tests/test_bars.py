@@ -302,3 +302,25 @@ def test_stem_bars_match_the_per_bar_rule(top_start, top_end, length, spacing):
     for b in _by(rows, "stem", "00"):
         got[b.length_mm] = got.get(b.length_mm, 0) + b.number
     assert got == expect
+
+
+def test_lengths_of_a_job_are_those_of_their_formulas():
+    # a job's remembered lengths (bars.Lengths) give the bars each panel gets on its own,
+    # whatever the panels before it; and each length is its formula's (EN 1992-1-1
+    # 8.7.3 lap, 8.4.4 anchorage, BS 8666 Table 3 cutting length)
+    panels = [PANEL, replace(PANEL, panel="P002", ch_start_m=107.5, ch_end_m=115.0),
+              replace(PANEL, panel="P004", ch_start_m=115.0, ch_end_m=120.0,
+                      wall_top_end_m=PANEL.wall_top_end_m - 0.3)]
+    job = bars.Lengths()
+    for p in panels + panels[::-1]:
+        assert bars.panel_bars("S01", SEC, R, p, BASIS, job) == bars.panel_bars(
+            "S01", SEC, R, p, BASIS)
+    assert len(job.known) > 0
+    fck, fyk = BASIS.concrete.fck_mpa, BASIS.steel.fyk_mpa
+    for phi in (10.0, 16.0, 25.0):
+        for good in (True, False):
+            assert job.lap(phi, fck, fyk, good) == float(ec2.lap_length(phi, fck, fyk, good))
+            assert job.anchorage(phi, fck, fyk, good) == float(
+                ec2.anchorage_length(phi, fck, fyk, good))
+    assert job.cutting("21", 12.0, {"A": 275, "B": 2500, "C": 275}, 45.0) == \
+        bars.cutting_length("21", 12.0, {"A": 275, "B": 2500, "C": 275}, 45.0) == 3000

@@ -352,9 +352,10 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
     # utilization to report: only its reason (its nominal levels are still drawn on the
     # elevation, marked FLAGGED)
     per_panel_bars, all_bars = [], []
+    lengths = bars_mod.Lengths()  # the wall's bars recur: each length worked out once
     for panel, d, _, _ in rows:
         b = (bars_mod.panel_bars(type_names[_type_key(d)], d.section, d.reinforcement, panel,
-                                 site.basis) if d.status == "ok" else [])
+                                 site.basis, lengths) if d.status == "ok" else [])
         per_panel_bars.append(b)
         all_bars.extend(b)
     schedule = bars_mod.schedule(all_bars)
