@@ -179,9 +179,14 @@ def design(site: Site, progress=None, executor=None, parts: int = 2,
     # finish their parts of the search, before the caller's own work
     waits = ([rat_mod.load_solver] if mode == "rationalised" else []) + (
         [meanwhile] if meanwhile is not None else [])
+
+    def while_waiting():
+        for w in waits:
+            w()
+
     sizer = Sizer(site, "catalogue" if mode == "catalogue" else "bespoke", tick=tick,
                   executor=executor, parts=parts,
-                  meanwhile=(lambda: [w() for w in waits]) if waits else None)
+                  meanwhile=while_waiting if waits else None)
     laid = lay_out(profiles, runs, site, sizer)
     seconds, stats = sizer.seconds, list(sizer.stats)
     rational = None
