@@ -343,7 +343,7 @@ def test_catalogue_type_failing_only_structurally_is_not_chosen():
     d = demand(2.8)
     ev = ev_.evaluate_at([cat_mod.catalogue_section(light)], d, BASIS, Costing(),
                          given=cat_mod.catalogue_bars(light, BASIS))
-    failing = {e.check for e in ev.entries(0) if e.utilization > 1.0}
+    failing = {e.check for e in ev.listing(0) if e.utilization > 1.0}
     assert failing and failing <= STRUCTURAL, failing  # only structural checks fail
     got = cat_mod.catalogue_designs([d, demand(1.2), demand(5.0)], BASIS, Costing(),
                                     (light, heavy), 0.05)
@@ -380,3 +380,50 @@ def test_priced_equals_evaluate(name, d, basis):
     failing = np.setdiff1d(np.arange(len(v)), pr.rows)
     with pytest.raises(ValueError):
         pr.reinforcement(int(failing[0]))
+
+
+# --- check listings -----------------------------------------------------------------------
+
+def test_listing_is_the_entries_of_each_check_read_one_at_a_time():
+    # Evaluation.listing (columns, made into entries when read) against results.entries,
+    # which reads each CheckArray of candidate i on its own: the same entries, the same
+    # governing rows (the worst of each check and combination)
+    from wallrun.results import entries
+
+    d = demand(3.2, water=Water(height_above_base_m=0.8))
+    g = grid_for(d, 0.1)
+    v = g.every(40)
+    ev = ev_.evaluate(g.sections(v), Rows.of([d], [len(v)]), d, BASIS, Costing())
+    assert len(v) >= 5
+    for i in range(len(v)):
+        lst = ev.listing(i)
+        ref = entries(ev.checks, i)
+        assert lst == ref and ref == lst and tuple(lst) == ref
+        assert len(lst) == len(ref) and lst[0] == ref[0] and lst[1:] == ref[1:]
+        assert hash(lst) == hash(ref)
+        assert lst.max_utilization() == max(e.utilization for e in ref)
+        assert sum(e.governs for e in lst) == len({(e.check, e.combination) for e in ref})
+
+
+def test_listing_named_checks_unmade_and_pickled_without_its_entries():
+    import pickle
+
+    from wallrun.results import CheckListing, max_listed, named_checks
+
+    d = demand(2.6)
+    ev = ev_.evaluate_at([Section(0.25, 0.35, 2.4, 0.6, 0.35, 0.0, 0.0)], d, BASIS, Costing())
+    fresh = ev.listing(0)
+    sent = pickle.dumps(fresh)
+    full = tuple(ev.listing(0))
+    for names in ({"sliding"}, {"bearing", "stem_bending"}, {"no such check"},
+                  {e.check for e in full}):
+        want = tuple(e for e in full if e.check in names)
+        assert named_checks(ev.listing(0), names) == want  # made from the columns
+        assert named_checks(full, names) == want
+    read = ev.listing(0)
+    tuple(read)  # its entries are made and kept
+    assert pickle.dumps(read) == sent  # ... and not sent
+    back = pickle.loads(sent)
+    assert isinstance(back, CheckListing) and back == full
+    assert max_listed(back) == max_listed(full) == max(e.utilization for e in full)
+    assert back + () == full and () + back == full

@@ -6,6 +6,7 @@ The output files are plain renderings of these objects: ``panels.csv`` rows are
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from operator import attrgetter
 
@@ -76,6 +77,107 @@ class CheckEntry:
     circle: Circle | None = None
 
 
+def governing_rows(kinds, u) -> set[int]:
+    """The rows that govern: in each (check, combination) of ``kinds`` (rows of
+    ``(check, combination, ...)``), the first row of the largest utilization ``u``."""
+    worst: dict[tuple[str, str], int] = {}
+    for k, kind in enumerate(kinds):
+        key = (kind[0], kind[1])
+        if key not in worst or u[k] > u[worst[key]]:
+            worst[key] = k
+    return set(worst.values())
+
+
+class CheckListing(Sequence):
+    """One design's check listing (``design.json`` ``panels[].checks``), a sequence of
+    :class:`CheckEntry`, held as columns until it is read.
+
+    ``kinds``: per row ``(check, combination, case, unit, clause)`` (one tuple shared by
+    every listing of an evaluation); ``values``: array (3, rows) of effect, resistance
+    and utilization in the row's unit. The entries (``governs`` on the worst row of each
+    check and combination, :func:`governing_rows`) are made when the listing is first
+    read and kept with it. A search lists every design it finishes and a rationalised
+    set replaces most of them: those are never read, nor sent between processes as
+    10^5 objects. Equal to any sequence of the same entries."""
+
+    __slots__ = ("kinds", "values", "_entries")
+
+    def __init__(self, kinds: tuple, values: np.ndarray):
+        self.kinds = kinds
+        self.values = values
+        self._entries: tuple[CheckEntry, ...] | None = None
+
+    def entries(self) -> tuple[CheckEntry, ...]:
+        """The entries, as a tuple."""
+        out = self._entries
+        if out is None:
+            e, r, u = self.values.tolist()
+            gov = governing_rows(self.kinds, u)
+            out = self._entries = tuple(
+                CheckEntry(c, comb, case, e[k], r[k], unit, u[k], clause, k in gov)
+                for k, (c, comb, case, unit, clause) in enumerate(self.kinds))
+        return out
+
+    def named(self, names) -> tuple[CheckEntry, ...]:
+        """The entries of the checks ``names``, in order, the others left unmade."""
+        rows = [k for k, kind in enumerate(self.kinds) if kind[0] in names]
+        if self._entries is not None or len(rows) == len(self.kinds):
+            return tuple(e for e in self.entries() if e.check in names)
+        if not rows:
+            return ()
+        sub = CheckListing(tuple(self.kinds[k] for k in rows), self.values[:, rows])
+        return sub.entries()  # (check, combination) groups lie within a check
+
+    def max_utilization(self) -> float:
+        """The largest utilization of the listing (0.0 for none)."""
+        return float(self.values[2].max()) if len(self.kinds) else 0.0
+
+    def __len__(self) -> int:
+        return len(self.kinds)
+
+    def __getitem__(self, i):
+        return self.entries()[i]
+
+    def __iter__(self):
+        return iter(self.entries())
+
+    def __eq__(self, other) -> bool:
+        if isinstance(other, (tuple, CheckListing)):
+            return self.entries() == tuple(other)
+        return NotImplemented
+
+    def __hash__(self) -> int:
+        return hash(self.entries())
+
+    def __add__(self, other) -> tuple[CheckEntry, ...]:
+        return self.entries() + tuple(other)
+
+    def __radd__(self, other) -> tuple[CheckEntry, ...]:
+        return tuple(other) + self.entries()
+
+    def __reduce__(self):
+        return (CheckListing, (self.kinds, self.values))
+
+    def __repr__(self) -> str:
+        return f"CheckListing({list(self.entries())!r})"
+
+
+def max_listed(checks) -> float:
+    """The largest utilization of a check listing (a :class:`CheckListing` without
+    making its entries), 0.0 for none."""
+    if isinstance(checks, CheckListing):
+        return checks.max_utilization()
+    return max((c.utilization for c in checks), default=0.0)
+
+
+def named_checks(checks, names) -> tuple[CheckEntry, ...]:
+    """The entries of a check listing whose check is one of ``names``, in order (of a
+    :class:`CheckListing` without making the others)."""
+    if isinstance(checks, CheckListing):
+        return checks.named(names)
+    return tuple(e for e in checks if e.check in names)
+
+
 def max_utilization(checks: list[CheckArray] | tuple[CheckArray, ...]) -> np.ndarray:
     """Largest utilization of every candidate over all ``checks``, shape (n,)."""
     return np.max(np.vstack([np.broadcast_to(c.utilization, np.shape(checks[0].effect))
@@ -91,12 +193,7 @@ def entries(checks, i: int) -> tuple[CheckEntry, ...]:
         r = float(np.broadcast_to(c.resistance, np.shape(checks[0].effect))[i])
         out.append(CheckEntry(c.check, c.combination, c.case, e, r, c.unit,
                               float(utilization(e, r)), c.clause))
-    worst: dict[tuple[str, str], int] = {}
-    for k, e in enumerate(out):
-        key = (e.check, e.combination)
-        if key not in worst or e.utilization > out[worst[key]].utilization:
-            worst[key] = k
-    gov = set(worst.values())
+    gov = governing_rows([(e.check, e.combination) for e in out], [e.utilization for e in out])
     return tuple(CheckEntry(**{**e.__dict__, "governs": k in gov}) for k, e in enumerate(out))
 
 
@@ -300,7 +397,7 @@ class PanelResult:
     section_type: str
     section: Section
     reinforcement: Reinforcement
-    checks: tuple[CheckEntry, ...]
+    checks: Sequence[CheckEntry]  # a tuple or a CheckListing
     status: str  # ok | flagged
     reason: str = ""
     quantities: dict[str, float] = field(default_factory=dict)  # per-panel take-off

@@ -24,13 +24,14 @@ money units of the rate table, per metre run of wall.
 from __future__ import annotations
 
 import functools
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
 from wallrun import stability, structure, takeoff
 from wallrun.members import MemberActions
-from wallrun.results import CheckArray, CheckEntry, Reinforcement, utilization
+from wallrun.results import CheckArray, CheckEntry, CheckListing, Reinforcement, utilization
 from wallrun.section import Section, SectionArrays
 from wallrun.settings import Basis, Rate, Takeoff
 
@@ -323,19 +324,17 @@ class Evaluation:
             E[k], R[k] = _full(c.effect, n), _full(c.resistance, n)
         return E, R, utilization(E, R)
 
-    def entries(self, i: int) -> tuple[CheckEntry, ...]:
-        """The checks of candidate i as ``design.json`` entries, ``governs`` on the worst
-        entry of each (check, combination)."""
+    @functools.cached_property
+    def _kinds(self) -> tuple[tuple[str, str, str, str, str], ...]:
+        """(check, combination, case, unit, clause) of every check, shared by the
+        listings of the evaluation."""
+        return tuple((c.check, c.combination, c.case, c.unit, c.clause) for c in self.checks)
+
+    def listing(self, i: int) -> CheckListing:
+        """The checks of candidate i as ``design.json`` entries (``results.CheckListing``:
+        ``governs`` on the worst entry of each check and combination)."""
         E, R, U = self._matrices
-        e, r, u = E[:, i].tolist(), R[:, i].tolist(), U[:, i].tolist()
-        worst: dict[tuple[str, str], int] = {}
-        for k, c in enumerate(self.checks):
-            key = (c.check, c.combination)
-            if key not in worst or u[k] > u[worst[key]]:
-                worst[key] = k
-        gov = set(worst.values())
-        return tuple(CheckEntry(c.check, c.combination, c.case, e[k], r[k], c.unit, u[k],
-                                c.clause, k in gov) for k, c in enumerate(self.checks))
+        return CheckListing(self._kinds, np.stack((E[:, i], R[:, i], U[:, i])))
 
     def stem_stop(self, i: int) -> float | None:
         """Height above the top of the base where half the stem main bars of candidate i
@@ -445,7 +444,7 @@ def priced(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
 class SizedDesign:
     """A section with its bars and its checks at one demand.
 
-    checks: every check (``Evaluation.entries``); cost_per_m: ``takeoff.cost_per_metre``
+    checks: every check (``Evaluation.listing``); cost_per_m: ``takeoff.cost_per_metre``
     with the stem drawn up to the demand's wall top, money per metre run; z_found:
     underside of base, m; edge_pressure_sls_kpa: largest characteristic edge pressure
     (joint pressure ratio), kPa; status ``ok`` or ``flagged`` (with ``reason``);
@@ -456,7 +455,7 @@ class SizedDesign:
 
     section: Section
     reinforcement: Reinforcement | None
-    checks: tuple[CheckEntry, ...]
+    checks: Sequence[CheckEntry]  # a tuple or a results.CheckListing
     cost_per_m: float
     z_found: float
     edge_pressure_sls_kpa: float
@@ -477,7 +476,7 @@ def sized(ev: Evaluation, i: int, status: str | None = None, reason: str = "",
         if status == "flagged" and not reason:
             reason = f"fails {chk} {comb} ({u:.2f})"
     return SizedDesign(section=ev.sec.take(i), reinforcement=ev.structure.reinforcement(i),
-                       checks=ev.entries(i), cost_per_m=float(ev.cost[i]),
+                       checks=ev.listing(i), cost_per_m=float(ev.cost[i]),
                        z_found=float(ev.z_found[i]), edge_pressure_sls_kpa=float(ev.edge[i]),
                        status=status, reason=reason, utilization=float(ev.utilization[i]),
                        governing=f"{chk} {comb}".strip(), section_type=section_type)

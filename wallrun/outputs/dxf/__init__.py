@@ -15,9 +15,10 @@ def drawing_view(result):
     of the whole result are the same (a test holds them to it)."""
     from dataclasses import replace
 
-    return replace(result, panels=tuple(
-        replace(pr, checks=tuple(e for e in pr.checks if e.check in DRAWN_CHECKS))
-        for pr in result.panels))
+    from wallrun.results import named_checks
+
+    return replace(result, panels=tuple(replace(pr, checks=named_checks(pr.checks, DRAWN_CHECKS))
+                                        for pr in result.panels))
 
 
 def load_fonts() -> None:
