@@ -11,7 +11,7 @@ concrete of the site's strength class, each with
   ``IfcBooleanClippingResult`` of the stem with a half space through the top line;
 - the property set ``Wallrun_PanelDesign`` (one for the panel's wall and footing):
   panel, run, side, section type, chainages, length along the wall line, levels,
-  utilizations, governing check, status and reason;
+  utilizations (to 3 decimals, as ``panels.csv``), governing check, status and reason;
 - an ``IfcElementQuantity``: ``Qto_WallBaseQuantities`` (length, width, height, side
   areas, volumes) or ``Qto_FootingBaseQuantities`` (length, width, height,
   cross-section area, volumes), from the take-off;
@@ -64,7 +64,7 @@ import ifcopenshell.guid
 import ifcopenshell.util.pset
 import numpy as np
 
-from wallrun.outputs.tables import STRUCTURAL_CHECKS
+from wallrun.outputs.tables import STRUCTURAL_CHECKS, num
 from wallrun.results import largest
 
 #: The gap between neighbouring panels at a movement joint, m.
@@ -369,8 +369,7 @@ def _section_types(m, result) -> dict:
                             "KeyDepth": ("IfcLengthMeasure", float(s.key_depth_m)),
                             "KeyWidth": ("IfcLengthMeasure", float(s.key_width_m)),
                             "Governing": ("IfcLabel", st.governing or "none"),
-                            "Utilization": ("IfcRatioMeasure", float(st.utilization)
-                                            if math.isfinite(st.utilization) else None)}))
+                            "Utilization": ("IfcRatioMeasure", num(st.utilization))}))
         wt = m.create("IfcWallType", f"type/{st.section_type}/stem", Name=st.section_type,
                       Description="retaining wall stem", HasPropertySets=[pset],
                       ElementType="retaining wall stem", PredefinedType="USERDEFINED")
@@ -477,8 +476,8 @@ def _design_pset(m, elements, pr) -> None:
     pn = pr.panel
     worst = pr.worst_by_check()
 
-    def ratio(v):
-        return ("IfcRatioMeasure", float(v) if math.isfinite(v) else None)
+    def ratio(v):  # as panels.csv gives it (3 decimals): equal values are one property
+        return ("IfcRatioMeasure", num(v))
 
     def length(v):
         return ("IfcLengthMeasure", float(v))
