@@ -208,3 +208,37 @@ def test_dominated_columns_are_left_out_without_changing_the_least_total():
     assert not keep[4] and not keep[5] and keep[0] and keep[1]
     ch = rat.choose(C, 10.0, "auto")
     assert ch.total == pytest.approx(rat.enumerate_sets(C, 10.0, 6)[0])
+
+
+def test_several_cages_in_one_evaluation_give_each_row_its_own_numbers():
+    # type_evaluations checks every type at every demand in one evaluation, a cage per
+    # row: each row equals that type checked alone with its cage (evaluate_at), its
+    # listing, cost, bars and the stop its own curtailment needs included; a cage with
+    # no front-face bars (a catalogue's) and one with a bend radius to keep mix freely
+    from dataclasses import replace
+
+    ds = [demand(h) for h in (1.6, 2.4, 3.3)] + [
+        demand(2.0, foundation=Foundation(friction_angle_deg=27.0))]
+    own = bespoke(ds, BASIS, Costing(), 0.1)
+    bare = replace(own[1].reinforcement, stem_front=None)
+    heel = own[2].reinforcement.heel
+    bent = replace(own[2].reinforcement, heel=replace(heel, bend_r_mm=(heel.bend_r_mm or 0) + 40))
+    types = rat.SectionSet(("S01", "S02", "S03"), (own[0].section, own[1].section,
+                                                   own[2].section),
+                           (own[0].reinforcement, bare, bent))
+    evs = rat.type_evaluations(types, ds, BASIS, Costing())
+    assert sorted(k for ks, _ in evs for k in ks) == list(range(len(ds))) and len(evs) == 2
+    for ks, ev in evs:
+        for t, (sec, cage) in enumerate(zip(types.sections, types.cages)):
+            for j, k in enumerate(ks):
+                row = t * len(ks) + j
+                alone = ev_.evaluate_at([sec], ds[k], BASIS, Costing(), given=cage)
+                assert bool(ev.ok[row]) == bool(alone.ok[0])
+                assert ev.cost[row] == alone.cost[0]
+                assert ev.listing(row) == alone.listing(0)
+                assert ev.stem_stop(row) == alone.stem_stop(0)
+                assert ev.structure.reinforcement(row) == alone.structure.reinforcement(0)
+    # the kept radius is the larger one, where a row has it
+    (ks, ev), = [e for e in evs if 2 in e[0]]
+    r = ev.structure.reinforcement(2 * len(ks) + ks.index(2))
+    assert r.heel.bend_r_mm >= (heel.bend_r_mm or 0) + 40

@@ -493,8 +493,8 @@ def _bends(sec, basis, phi, s, d, MRd, pos, neg, floors):
         R = np.where(m <= shapes.min_former(phi[f]) + 1e-9, r_std,
                      np.maximum(r_std, np.ceil(np.round(m / 10.0, 6)) * 5.0))
         floor = floors.get((f, end))
-        if floor is not None:
-            R = np.maximum(R, floor)
+        if floor is not None:  # per row, nan where the row has none
+            R = np.where(np.isnan(floor), R, np.maximum(R, floor))
         if end == "bend":
             radii[f] = [R, None]
         else:
@@ -611,27 +611,37 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
 
 
 def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: dict[str, np.ndarray],
-                        basis: Basis, given: Reinforcement, stem_moment_at=None,
-                        stem_height_m=None) -> StructureResult:
-    """Check given bars (a catalogue type) with the checks of :func:`design_reinforcement`.
+                        basis: Basis, given, stem_moment_at=None,
+                        stem_height_m=None, cage_of=None) -> StructureResult:
+    """Check given bars (a catalogue type, a type of a rationalised set) with the checks of
+    :func:`design_reinforcement`.
 
-    Where ``given.stem_front`` is None (the catalogue lists no front-face bars) the
-    front face is designed as in :func:`design_reinforcement`. Starters, laps and bends
-    are detailed for the given bars as in :func:`design_reinforcement`; a bend radius
-    the given bars carry (``bend_r_mm``, ``far_bend_r_mm``, of the heel and toe bars
-    and the starters) is kept where it is larger than the one needed.
+    ``given``: one :class:`Reinforcement` for every row; or, with ``cage_of`` (the index
+    into ``given`` of each row's cage), a sequence of them (several types checked in
+    one call; each row's numbers depend on its own row and cage only). Where a cage's
+    ``stem_front`` is None (the catalogue lists no front-face bars) the front face is
+    designed as in :func:`design_reinforcement`. Starters, laps and bends are detailed
+    for the given bars as in :func:`design_reinforcement`; a bend radius the given bars
+    carry (``bend_r_mm``, ``far_bend_r_mm``, of the heel and toe bars and the starters)
+    is kept where it is larger than the one needed. A cage's ``stem_curtail_m`` is not
+    read: the curtailment is worked out for each row.
     """
     n = len(sec)
-    full = lambda v: np.full(n, float(v))  # noqa: E731
-    chosen = {"stem": (full(given.stem.bar_mm), full(given.stem.spacing_mm)),
-              "heel": (full(given.heel.bar_mm), full(given.heel.spacing_mm)),
-              "toe": (full(given.toe.bar_mm), full(given.toe.spacing_mm)),
-              "stem_horizontal": (full(given.stem_horizontal.bar_mm), full(given.stem_horizontal.spacing_mm)),
-              "base_distribution": (full(given.base_distribution.bar_mm),
-                                    full(given.base_distribution.spacing_mm))}
-    if given.stem_front is not None:
-        chosen["stem_front"] = (full(given.stem_front.bar_mm), full(given.stem_front.spacing_mm))
-    else:
+    cages = (given,) if cage_of is None else tuple(given)
+    pick = (np.zeros(n, dtype=np.intp) if cage_of is None
+            else np.asarray(cage_of, dtype=np.intp))
+
+    def col(get):  # each row's value of its cage, float (nan where get gives None)
+        return np.array([np.nan if get(c) is None else float(get(c)) for c in cages])[pick]
+
+    chosen = {f: (col(lambda c, f=f: getattr(c, f).bar_mm),
+                  col(lambda c, f=f: getattr(c, f).spacing_mm))
+              for f in ("stem", "heel", "toe", "stem_horizontal", "base_distribution")}
+    front = np.array([c.stem_front is not None for c in cages])[pick]
+    if front.any():
+        chosen["stem_front"] = (col(lambda c: c.stem_front and c.stem_front.bar_mm),
+                                col(lambda c: c.stem_front and c.stem_front.spacing_mm))
+    if not front.all():
         fck = basis.concrete.fck_mpa
         opt = _options(basis)
         t_stem = np.asarray(sec.stem_base_m, dtype=float) * 1000.0
@@ -639,14 +649,18 @@ def check_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: di
         q = _qp(qp, n)
         i = _choose_main(opt, t_stem, basis.concrete.cover_mm, neg["stem"], np.maximum(-q["stem"], 0),
                          0.001 * 1000 * t_stem, neg["stem"] > 0, fck, basis)
-        chosen["stem_front"] = (opt.phi[i], opt.s[i])
+        designed = (opt.phi[i], opt.s[i])
+        chosen["stem_front"] = (designed if not front.any() else
+                                tuple(np.where(front, g, d_)
+                                      for g, d_ in zip(chosen["stem_front"], designed)))
     floors = {}
-    for f, b in (("heel", given.heel), ("toe", given.toe), ("stem", given.starter),
-                 ("stem_front", given.starter_front)):
-        if b is not None and b.bend_r_mm is not None:
-            floors[(f, "bend")] = float(b.bend_r_mm)
-        if b is not None and b.far_bend_r_mm is not None:
-            floors[(f, "far")] = float(b.far_bend_r_mm)
+    for f, part in (("heel", "heel"), ("toe", "toe"), ("stem", "starter"),
+                    ("stem_front", "starter_front")):
+        for end, attr in (("bend", "bend_r_mm"), ("far", "far_bend_r_mm")):
+            v = col(lambda c: getattr(getattr(c, part), attr, None)
+                    if getattr(c, part) is not None else None)
+            if not np.isnan(v).all():
+                floors[(f, end)] = v  # nan: no floor in that row
     return _evaluate(sec, actions, _qp(qp, n), basis, chosen, stem_moment_at, stem_height_m,
                      floors=floors)
 

@@ -192,7 +192,8 @@ class Situations:
 
 
 def _structure_of(allx, sec: SectionArrays, h_c: np.ndarray, basis: Basis, idx,
-                  given: Reinforcement | None = None, stem_moment_at=None):
+                  given: Reinforcement | Sequence[Reinforcement] | None = None,
+                  stem_moment_at=None, cage_of=None):
     # the bars of a design are chosen for the margin asked for (design.max_utilization)
     """The structural design (or check of ``given`` bars) of the candidates ``idx``
     (None: all). The member actions of a few survivors come from their own geometry
@@ -214,7 +215,8 @@ def _structure_of(allx, sec: SectionArrays, h_c: np.ndarray, basis: Basis, idx,
                                               stem_moment_at=stem_moment_at,
                                               stem_height_m=s_hc, limit=limit(basis))
     return structure.check_reinforcement(s_sec, s_act, s_qp, basis, given,
-                                         stem_moment_at=stem_moment_at, stem_height_m=s_hc)
+                                         stem_moment_at=stem_moment_at, stem_height_m=s_hc,
+                                         cage_of=cage_of)
 
 
 def _stem_moment_at(allx, sec: SectionArrays, cond):
@@ -354,13 +356,16 @@ class Evaluation:
 
 
 def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
-             given: Reinforcement | None = None, caps: np.ndarray | None = None) -> Evaluation:
+             given: Reinforcement | Sequence[Reinforcement] | None = None,
+             caps: np.ndarray | None = None,
+             cage_of: np.ndarray | None = None) -> Evaluation:
     """Every stability and structural check of n candidates at their own levels, in full.
 
     Stability: ``stability.evaluate_all`` (design-basis section 4). Structure:
     ``structure.design_reinforcement`` chooses the bars of each candidate, or
     ``structure.check_reinforcement`` checks ``given`` bars (design-basis section 5),
-    with the stem bars curtailed where the moment allows. Cost:
+    with the stem bars curtailed where the moment allows; with ``cage_of`` (row ->
+    index), ``given`` is a sequence of cages, one per row by that index. Cost:
     ``takeoff.cost_per_metre`` with the resulting steel. ``caps``: edge-pressure caps
     per row (``joint_pressure``), inf or None for none.
     """
@@ -371,7 +376,7 @@ def evaluate(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costi
     zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
     h_c = cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float)
     sr = _structure_of(allx, sec, h_c, basis, None, given=given,
-                       stem_moment_at=_stem_moment_at(allx, sec, cond))
+                       stem_moment_at=_stem_moment_at(allx, sec, cond), cage_of=cage_of)
     checks = tuple(allx.checks) + tuple(_joint_pressure(allx, caps)) + tuple(sr.checks)
     util = max_util(checks, n)
     ok = (max_util(checks, n, limit(basis)) <= 1.0 + TOL) & ~bad

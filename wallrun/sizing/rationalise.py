@@ -425,24 +425,43 @@ class Option:
         return sd
 
 
-def designs_with(types: SectionSet, demands: list[Demand], basis: Basis,
-                 costing: Costing) -> list[list[Option]]:
-    """Every type at every demand with its own cage: per demand, per type, an
-    :class:`Option` whose ``ok`` includes the shared curtailment (:func:`curtail_check`)."""
-    out = [[None] * len(types) for _ in demands]
+def type_evaluations(types: SectionSet, demands: list[Demand], basis: Basis,
+                     costing: Costing) -> list[tuple[list[int], ev_.Evaluation]]:
+    """Every type of the set at every demand with its own cage, one evaluation per
+    ground (``evaluate`` with a cage per row): (the indices ks of the demands in it, the
+    evaluation), the row of type t at demand ks[j] being t len(ks) + j. A cage's stop
+    height does not enter an evaluation (``structure.check_reinforcement``)."""
+    out = []
     groups: dict[tuple, list[int]] = {}
     for k, d in enumerate(demands):
         groups.setdefault(d.ground_key, []).append(k)
+    m = len(types)
     for ks in groups.values():
         ds = [demands[k] for k in ks]
-        rows = Rows.of(ds, [1] * len(ds))
-        caps = ev_.caps_of(ds, [1] * len(ds))
-        for t, (name, sec, cage) in enumerate(zip(types.names, types.sections, types.cages)):
-            ev = ev_.evaluate(SectionArrays.of([sec] * len(ds)), rows, ds[0], basis, costing,
-                              given=cage, caps=caps)
+        rows = Rows.of(ds * m, [1] * (len(ds) * m))
+        caps = ev_.caps_of(ds * m, [1] * (len(ds) * m))
+        sec = SectionArrays.of([s for s in types.sections for _ in ds])
+        ev = ev_.evaluate(sec, rows, ds[0], basis, costing, given=types.cages, caps=caps,
+                          cage_of=np.repeat(np.arange(m), len(ds)))
+        out.append((ks, ev))
+    return out
+
+
+def designs_with(types: SectionSet, demands: list[Demand], basis: Basis,
+                 costing: Costing, evaluations=None) -> list[list[Option]]:
+    """Every type at every demand with its own cage: per demand, per type, an
+    :class:`Option` whose ``ok`` includes the shared curtailment (:func:`curtail_check`).
+    ``evaluations``: :func:`type_evaluations` of these types and demands when made
+    already (the cages' stop heights aside)."""
+    out = [[None] * len(types) for _ in demands]
+    if evaluations is None:
+        evaluations = type_evaluations(types, demands, basis, costing)
+    for ks, ev in evaluations:
+        for t, (name, cage) in enumerate(zip(types.names, types.cages)):
             for j, k in enumerate(ks):
-                why = curtail_check(ev, j, cage)
-                out[k][t] = Option(name, cage, ev, j, bool(ev.ok[j]) and not why, why)
+                row = t * len(ks) + j
+                why = curtail_check(ev, row, cage)
+                out[k][t] = Option(name, cage, ev, row, bool(ev.ok[row]) and not why, why)
     return out
 
 
@@ -549,20 +568,22 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
     ch = choose(cost, type_rate, cap, order=order)
     # 4. one cage per type, named by size
     chosen = sorted(ch.columns, key=lambda t: size_key(cands[t]))
-    names, sections, cages = [], [], []
+    names, sections, cages, served_by = [], [], [], []
     for j, t in enumerate(chosen):
         served = [r for r in range(len(rows_d)) if ch.assign[r] == t]
         if not served:
             continue
+        served_by.append([ok_rows[r] for r in served])  # as indices into uniq
         names.append(f"S{len(names) + 1:02d}")
         sections.append(cands[t])
         cages.append(envelope_bars([bars[(r, t)][0].reinforcement(bars[(r, t)][1])
                                     for r in served]))
     types = SectionSet(tuple(names), tuple(sections), tuple(cages))
-    types = with_stops(types, rows_d, [ch.assign[r] for r in range(len(rows_d))], chosen,
-                       basis, costing)
-    # every demand with its best type (a demand no type serves keeps its own, flagged)
-    opts = designs_with(types, uniq, basis, costing) if len(types) else None
+    # every type at every demand, then the types' stop heights, then every demand with
+    # its best type (a demand no type serves keeps its own, flagged)
+    evs = type_evaluations(types, uniq, basis, costing) if len(types) else []
+    types = with_stops(types, served_by, evs)
+    opts = designs_with(types, uniq, basis, costing, evs) if len(types) else None
     total = type_rate * len(types)
     for k, d in enumerate(uniq):
         if own_of[d].status != "ok":
@@ -574,25 +595,21 @@ def rationalise(demands: list[Demand], lengths: list[float], own: list[SizedDesi
                         ch.exact, ch.method, len(cands))
 
 
-def with_stops(types: SectionSet, rows_d: list[Demand], assign: list[int], chosen: list[int],
-               basis: Basis, costing: Costing) -> SectionSet:
+def with_stops(types: SectionSet, served: list[list[int]],
+               evaluations: list[tuple[list[int], ev_.Evaluation]]) -> SectionSet:
     """The stop height of each type's curtailed stem bars: the highest its panels need
-    with the type's cage (None, full height, when any of them cannot curtail)."""
+    with the type's cage (None, full height, when any of them cannot curtail).
+    ``served[t]``: the indices of the demands type t serves, in the demands of
+    ``evaluations`` (:func:`type_evaluations`)."""
+    where = {k: (ev, j, len(ks)) for ks, ev in evaluations for j, k in enumerate(ks)}
     cages = list(types.cages)
-    for j, (sec, cage) in enumerate(zip(types.sections, types.cages)):
-        t = chosen[j]
-        served = [rows_d[r] for r in range(len(rows_d)) if assign[r] == t]
+    for t, cage in enumerate(types.cages):
         stops = []
-        groups: dict[tuple, list[Demand]] = {}
-        for d in served:
-            groups.setdefault(d.ground_key, []).append(d)
-        for ds in groups.values():
-            ev = ev_.evaluate(SectionArrays.of([sec] * len(ds)), Rows.of(ds, [1] * len(ds)),
-                              ds[0], basis, costing, given=cage,
-                              caps=ev_.caps_of(ds, [1] * len(ds)))
-            stops += [ev.stem_stop(i) for i in range(len(ds))]
+        for k in served[t]:
+            ev, j, m = where[k]
+            stops.append(ev.stem_stop(t * m + j))
         stop = None if (not stops or any(s is None for s in stops)) else max(stops)
-        cages[j] = replace(cage, stem_curtail_m=stop)
+        cages[t] = replace(cage, stem_curtail_m=stop)
     return SectionSet(types.names, types.sections, tuple(cages))
 
 
