@@ -486,6 +486,31 @@ def sample_chainages(profiles, a: float, b: float, extra=(), max_step: float = 2
     return pts[keep]
 
 
+def line_chainages(profiles, line: str, a: float, b: float, extra=(),
+                   max_step: float = 2.0) -> np.ndarray:
+    """Chainages to draw ``line`` ("ground" or "finished") of ``profiles`` through, from
+    ``a`` to ``b``, m: the line's own points inside (the ground is linear between its
+    survey points, the finished level between its points or, on an alignment, its
+    intersection points without a curve), the ends, the start, end and turning point
+    of each vertical curve and a grid inside it (step <= ``max_step``, so the parabola
+    draws smoothly), and ``extra``; sorted and unique. Drawn through these the line is
+    the profile's own (no vertex of the other line is added to it)."""
+    if line == "ground":
+        own, curves = np.asarray(profiles.ground_ch, dtype=float), ()
+    else:
+        own, curves = np.asarray(profiles.finished_ch, dtype=float), profiles.curves
+    parts = [[a, b], own, np.asarray(list(extra), dtype=float)]
+    for c in curves:
+        n = max(2, math.ceil((c.evc - c.bvc) / max_step) + 1)
+        parts.append(np.linspace(c.bvc, c.evc, n))
+        if c.turning_ch is not None:
+            parts.append([c.turning_ch])
+    pts = np.unique(np.concatenate([np.asarray(p, dtype=float) for p in parts]))
+    pts = pts[(pts >= a) & (pts <= b)]
+    keep = np.concatenate([[True], np.diff(pts) > 1e-9])
+    return pts[keep]
+
+
 def chainage_label(ch: float) -> str:
     """Chainage as km+m, e.g. 1+240 (metres rounded to a millimetre when not whole)."""
     neg = ch < 0

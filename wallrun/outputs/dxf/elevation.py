@@ -8,12 +8,12 @@ properties ``WALLRUN_DATUM_M`` and ``WALLRUN_VERTICAL_EXAGGERATION`` and stated 
 the notes, and :func:`level_of` converts back.
 
 Model space holds the developed elevation as one drawing: existing ground and
-finished level sampled at the profile breakpoints (plus a regular grid, so vertical
-curves draw smoothly); per run the top of wall (stepped or sloped per panel from
-``wall_top_start_m`` / ``wall_top_end_m``), the underside of base (a polyline whose
-vertex levels are the panels' ``founding_m``), the top of base (dashed), the end
-faces; one LINE per joint. Long lines are drawn in pieces of at most 50 m of
-chainage joined end to end.
+finished level, each through its own points (and a regular grid on the vertical
+curves, so they draw smoothly: ``conventions.line_chainages``); per run the top of
+wall (stepped or sloped per panel from ``wall_top_start_m`` / ``wall_top_end_m``), the
+underside of base (a polyline whose vertex levels are the panels' ``founding_m``),
+the top of base (dashed), the end faces; one LINE per joint. Long lines are drawn in
+pieces of at most 50 m of chainage between their points, joined end to end.
 
 The run is cut into windows of chainage, each shown on a sheet by a viewport at the
 horizontal scale 1:N (100, 200, 250 or 500: the smallest-numbered... see
@@ -225,10 +225,10 @@ def write_elevation(result, path):
     panels = [pr.panel for pr in result.panels]
 
     a, b = float(prof.ch_start), float(prof.ch_end)
-    ends = [p.ch_start_m for p in panels] + [p.ch_end_m for p in panels]
-    chs = d.sample_chainages(prof, a, b, extra=ends)
-    G = np.asarray(prof.ground(chs), dtype=float)
-    F = np.asarray(prof.finished(chs), dtype=float)
+    # each line through its own points (the lowest of each is one of them)
+    gch, fch = (d.line_chainages(prof, line, a, b) for line in ("ground", "finished"))
+    G = np.asarray(prof.ground(gch), dtype=float)
+    F = np.asarray(prof.finished(fch), dtype=float)
     lows = [G.min(), F.min()] + [p.founding_m for p in panels]
     zmin = float(min(lows))
     step = level_step(scale, ve)
@@ -241,8 +241,8 @@ def write_elevation(result, path):
     msp = doc.modelspace()
 
     # the elevation itself, continuous along the chainage
-    _polyline(msp, np.column_stack([chs, Y(G)]), d.L_GROUND)
-    _polyline(msp, np.column_stack([chs, Y(F)]), d.L_FINISHED)
+    _polyline(msp, np.column_stack([gch, Y(G)]), d.L_GROUND)
+    _polyline(msp, np.column_stack([fch, Y(F)]), d.L_FINISHED)
     for prs in d.runs_of(result):
         for piece in d.pieces(prs):
             ch = np.array([(pr.panel.ch_start_m, pr.panel.ch_end_m) for pr in piece]).ravel()
@@ -266,8 +266,8 @@ def write_elevation(result, path):
             z1 = max([by_name[j.left].wall_top_end_m] if j.left in by_name else []
                      + [by_name[j.right].wall_top_start_m] if j.right in by_name else [])
         else:
-            z0 = float(np.interp(j.ch_m, chs, np.minimum(G, F)))
-            z1 = float(np.interp(j.ch_m, chs, np.maximum(G, F)))
+            g, f = float(prof.ground(j.ch_m)), float(prof.finished(j.ch_m))
+            z0, z1 = min(g, f), max(g, f)
         msp.add_line((j.ch_m, Y(z0)), (j.ch_m, Y(z1)), dxfattribs={"layer": d.L_JOINTS})
 
     # windows and their bands
