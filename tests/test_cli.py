@@ -185,10 +185,19 @@ def test_python_dash_m(tmp_path):
 
 # --- design: the command's own logic, with stand-in engine modules ------------------------
 
+def _listing(u: float):
+    """A one-entry check listing of utilization u (invented)."""
+    from wallrun.results import CheckEntry, CheckListing
+
+    return CheckListing.of((CheckEntry("sliding", "DA1-2", "", u, 1.0, "kN/m", u,
+                                       "EN 1997-1 6.5.3", True),))
+
+
 def _fake_result(site, ok=True):
     chk = SimpleNamespace(utilization=0.91)
     panel = SimpleNamespace(panel="P003", ch_start_m=12.0, ch_end_m=18.0, length_m=40.0)
-    pr = SimpleNamespace(panel=panel, section_type="S01", checks=(chk,), status="ok" if ok else "flagged",
+    pr = SimpleNamespace(panel=panel, section_type="S01", checks=_listing(chk.utilization),
+                         status="ok" if ok else "flagged",
                          reason="" if ok else "no section passes", governing="sliding DA1-2")
     return SimpleNamespace(
         site=site, runs=(SimpleNamespace(length_m=40.0),), panels=(pr,), joints=(),
@@ -298,7 +307,8 @@ def test_console_summary_of_a_thousand_panel_job_stays_short(capsys):
         p = SimpleNamespace(panel=f"P{k + 1:04d}", ch_start_m=8.0 * k, ch_end_m=8.0 * (k + 1),
                             length_m=8.0)
         panels.append(SimpleNamespace(panel=p, section_type=f"S{k % 40 + 1:02d}",
-                                      checks=(chk,), status="flagged" if k % 33 == 0 else "ok",
+                                      checks=_listing(chk.utilization),
+                                      status="flagged" if k % 33 == 0 else "ok",
                                       reason="no section passes" if k % 33 == 0 else "",
                                       governing="bearing DA1-2"))
     res = SimpleNamespace(

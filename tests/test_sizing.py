@@ -405,12 +405,15 @@ def test_listing_is_the_entries_of_each_check_read_one_at_a_time():
         assert sum(e.governs for e in lst) == len({(e.check, e.combination) for e in ref})
 
 
-def test_listing_named_checks_unmade_and_pickled_without_its_entries():
+def test_listing_columns_read_as_its_entries_and_pickled_without_them():
+    # what the writers read of a listing's columns (largest_by, governing, named, rows)
+    # is what its entries say; a listing made of entries (CheckListing.of) keeps their
+    # governs flags and circles; the made entries are not pickled
     import pickle
 
-    from wallrun.results import CheckListing, max_listed, named_checks
+    from wallrun.results import CheckEntry, CheckListing, Circle
 
-    d = demand(2.6)
+    d = demand(2.6, water=Water(height_above_base_m=0.5))
     ev = ev_.evaluate_at([Section(0.25, 0.35, 2.4, 0.6, 0.35, 0.0, 0.0)], d, BASIS, Costing())
     fresh = ev.listing(0)
     sent = pickle.dumps(fresh)
@@ -418,12 +421,26 @@ def test_listing_named_checks_unmade_and_pickled_without_its_entries():
     for names in ({"sliding"}, {"bearing", "stem_bending"}, {"no such check"},
                   {e.check for e in full}):
         want = tuple(e for e in full if e.check in names)
-        assert named_checks(ev.listing(0), names) == want  # made from the columns
-        assert named_checks(full, names) == want
+        assert ev.listing(0).named(names) == want
+    for field, attr in ((0, "check"), (1, "combination")):
+        want = {}
+        for e in full:
+            key = getattr(e, attr)
+            want[key] = max(want.get(key, e.utilization), e.utilization)
+        assert ev.listing(0).largest_by(field) == want
+    top = max(full, key=lambda e: e.utilization)
+    assert ev.listing(0).governing() == (top.check, top.combination)
+    assert [CheckEntry(*r) for r in ev.listing(0).rows()] == list(full)
     read = ev.listing(0)
     tuple(read)  # its entries are made and kept
     assert pickle.dumps(read) == sent  # ... and not sent
     back = pickle.loads(sent)
     assert isinstance(back, CheckListing) and back == full
-    assert max_listed(back) == max_listed(full) == max(e.utilization for e in full)
+    assert back.max_utilization() == max(e.utilization for e in full)
     assert back + () == full and () + back == full
+    # of entries: the flags and circles as given (an overall entry appended)
+    extra = CheckEntry("overall", "DA1-2", "circle", 10.0, 20.0, "kNm/m", 0.5, "EN 1997-1 11",
+                       True, Circle(1.0, 2.0, 3.0))
+    mixed = CheckListing.of(full + (extra,))
+    assert tuple(mixed) == full + (extra,) and mixed.named({"overall"}) == (extra,)
+    assert CheckListing.of(mixed) is mixed and len(CheckListing.of(())) == 0

@@ -498,7 +498,7 @@ def print_design_summary(result, out_dir) -> None:
         print(DEMO_RATES_NOTE)
     designed = [p for p in panels if p.checks and p.status == "ok"]
     if designed:
-        u, p = max(((max(c.utilization for c in p.checks), p) for p in designed),
+        u, p = max(((p.checks.max_utilization(), p) for p in designed),
                    key=lambda t: t[0])
         print(f"Governing: {p.panel.panel} (ch {p.panel.ch_start_m:.2f} to "
               f"{p.panel.ch_end_m:.2f}), {p.governing} at {u:.3f}")

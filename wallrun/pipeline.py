@@ -17,7 +17,7 @@ from wallrun import stability, takeoff
 from wallrun.layout import RunLayout, lay_out
 from wallrun.profile import build_profiles, find_runs
 from wallrun.results import (DesignResult, Joint, Panel, PanelResult, Quantity,
-                             SectionType, max_listed)
+                             SectionType)
 from wallrun.settings import Site
 from wallrun.sizing import Costing, Demand, SizedDesign
 from wallrun.sizing import catalogue as cat_mod
@@ -398,10 +398,10 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
     for key in sorted(type_names, key=lambda k: type_names[k]):
         name = type_names[key]
         members = by_type[name]
-        worst_r, worst_d, worst_dem = max(members, key=lambda m: max_listed(m[0].checks))
+        worst_r, worst_d, worst_dem = max(members, key=lambda m: m[0].checks.max_utilization())
         section_types.append(SectionType(
             section_type=name, section=worst_d.section, reinforcement=worst_d.reinforcement,
-            governing=worst_r.governing, utilization=max_listed(worst_r.checks),
+            governing=worst_r.governing, utilization=worst_r.checks.max_utilization(),
             panels=tuple(m[0].panel.panel for m in members)))
         if worst_d.checks:
             cond = conditions_of([worst_d.section.base_thickness_m],

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from operator import attrgetter
 
 import numpy as np
 
@@ -90,47 +89,98 @@ def governing_rows(kinds, u) -> set[int]:
 
 class CheckListing(Sequence):
     """One design's check listing (``design.json`` ``panels[].checks``), a sequence of
-    :class:`CheckEntry`, held as columns until it is read.
+    :class:`CheckEntry` held as columns.
 
     ``kinds``: per row ``(check, combination, case, unit, clause)`` (one tuple shared by
     every listing of an evaluation); ``values``: array (3, rows) of effect, resistance
-    and utilization in the row's unit. The entries (``governs`` on the worst row of each
-    check and combination, :func:`governing_rows`) are made when the listing is first
-    read and kept with it. A search lists every design it finishes and a rationalised
-    set replaces most of them: those are never read, nor sent between processes as
-    10^5 objects. Equal to any sequence of the same entries."""
+    and utilization in the row's unit; ``governs``: per row whether it governs, or None
+    for the worst row of each check and combination (:func:`governing_rows`);
+    ``circles``: per row the critical circle of an ``overall`` entry, or None for none.
 
-    __slots__ = ("kinds", "values", "_entries")
+    The writers read the columns (:meth:`largest_by`, :meth:`governing`, :meth:`rows`);
+    the entries are made only where a listing is read as a sequence, and then kept with
+    it. A search lists every design it finishes and a rationalised set replaces most of
+    them: those are never made, nor sent between processes as 10^5 objects. Equal to
+    any sequence of the same entries; :meth:`of` makes one of entries."""
 
-    def __init__(self, kinds: tuple, values: np.ndarray):
+    __slots__ = ("kinds", "values", "governs", "circles", "_entries")
+
+    def __init__(self, kinds: tuple, values: np.ndarray, governs: tuple | None = None,
+                 circles: tuple | None = None):
         self.kinds = kinds
         self.values = values
+        self.governs = governs
+        self.circles = circles
         self._entries: tuple[CheckEntry, ...] | None = None
 
+    @classmethod
+    def of(cls, entries) -> CheckListing:
+        """The listing of a sequence of entries (itself when it is one)."""
+        if isinstance(entries, CheckListing):
+            return entries
+        entries = tuple(entries)
+        values = np.array([[c.effect for c in entries], [c.resistance for c in entries],
+                           [c.utilization for c in entries]], dtype=float).reshape(3, -1)
+        circles = tuple(c.circle for c in entries)
+        return cls(tuple((c.check, c.combination, c.case, c.unit, c.clause) for c in entries),
+                   values, tuple(bool(c.governs) for c in entries),
+                   circles if any(c is not None for c in circles) else None)
+
+    def governing_flags(self) -> tuple[bool, ...]:
+        """Per row whether it governs."""
+        if self.governs is not None:
+            return self.governs
+        gov = governing_rows(self.kinds, self.values[2].tolist())
+        return tuple(k in gov for k in range(len(self.kinds)))
+
+    def rows(self):
+        """(check, combination, case, effect, resistance, unit, utilization, clause,
+        governs, circle) of each row: what a :class:`CheckEntry` holds, unmade."""
+        e, r, u = self.values.tolist()
+        circles = self.circles or (None,) * len(self.kinds)
+        return [(c, comb, case, e[k], r[k], unit, u[k], clause, g, circle)
+                for k, ((c, comb, case, unit, clause), g, circle) in enumerate(
+                    zip(self.kinds, self.governing_flags(), circles))]
+
     def entries(self) -> tuple[CheckEntry, ...]:
-        """The entries, as a tuple."""
+        """The entries, as a tuple (made on the first call and kept)."""
         out = self._entries
         if out is None:
-            e, r, u = self.values.tolist()
-            gov = governing_rows(self.kinds, u)
-            out = self._entries = tuple(
-                CheckEntry(c, comb, case, e[k], r[k], unit, u[k], clause, k in gov)
-                for k, (c, comb, case, unit, clause) in enumerate(self.kinds))
+            out = self._entries = tuple(CheckEntry(*row) for row in self.rows())
         return out
 
-    def named(self, names) -> tuple[CheckEntry, ...]:
-        """The entries of the checks ``names``, in order, the others left unmade."""
-        rows = [k for k, kind in enumerate(self.kinds) if kind[0] in names]
-        if self._entries is not None or len(rows) == len(self.kinds):
-            return tuple(e for e in self.entries() if e.check in names)
-        if not rows:
-            return ()
-        sub = CheckListing(tuple(self.kinds[k] for k in rows), self.values[:, rows])
-        return sub.entries()  # (check, combination) groups lie within a check
+    def largest_by(self, field: int = 0) -> dict[str, float]:
+        """The largest utilization of the rows of each check name (``field`` 0) or
+        combination (1), in order of first appearance."""
+        worst: dict[str, float] = {}
+        for kind, u in zip(self.kinds, self.values[2].tolist()):
+            key = kind[field]
+            if key not in worst or u > worst[key]:
+                worst[key] = u
+        return worst
+
+    def governing(self) -> tuple[str, str] | None:
+        """(check, combination) of the row of largest utilization (the first of equal
+        ones), None for an empty listing."""
+        if not self.kinds:
+            return None
+        u = self.values[2].tolist()
+        k = max(range(len(u)), key=u.__getitem__)
+        return self.kinds[k][0], self.kinds[k][1]
 
     def max_utilization(self) -> float:
         """The largest utilization of the listing (0.0 for none)."""
-        return float(self.values[2].max()) if len(self.kinds) else 0.0
+        return max(self.values[2].tolist(), default=0.0)
+
+    def named(self, names) -> CheckListing:
+        """The rows of the checks ``names``, in order (a check's governing rows are its
+        own, so they govern in the part as in the whole)."""
+        rows = [k for k, kind in enumerate(self.kinds) if kind[0] in names]
+        if len(rows) == len(self.kinds):
+            return self
+        pick = lambda t: None if t is None else tuple(t[k] for k in rows)  # noqa: E731
+        return CheckListing(tuple(self.kinds[k] for k in rows), self.values[:, rows],
+                            pick(self.governs), pick(self.circles))
 
     def __len__(self) -> int:
         return len(self.kinds)
@@ -156,26 +206,10 @@ class CheckListing(Sequence):
         return tuple(other) + self.entries()
 
     def __reduce__(self):
-        return (CheckListing, (self.kinds, self.values))
+        return (CheckListing, (self.kinds, self.values, self.governs, self.circles))
 
     def __repr__(self) -> str:
         return f"CheckListing({list(self.entries())!r})"
-
-
-def max_listed(checks) -> float:
-    """The largest utilization of a check listing (a :class:`CheckListing` without
-    making its entries), 0.0 for none."""
-    if isinstance(checks, CheckListing):
-        return checks.max_utilization()
-    return max((c.utilization for c in checks), default=0.0)
-
-
-def named_checks(checks, names) -> tuple[CheckEntry, ...]:
-    """The entries of a check listing whose check is one of ``names``, in order (of a
-    :class:`CheckListing` without making the others)."""
-    if isinstance(checks, CheckListing):
-        return checks.named(names)
-    return tuple(e for e in checks if e.check in names)
 
 
 def max_utilization(checks: list[CheckArray] | tuple[CheckArray, ...]) -> np.ndarray:
@@ -397,7 +431,7 @@ class PanelResult:
     section_type: str
     section: Section
     reinforcement: Reinforcement
-    checks: Sequence[CheckEntry]  # a tuple or a CheckListing
+    checks: CheckListing  # (entries given are held as one: CheckListing.of)
     status: str  # ok | flagged
     reason: str = ""
     quantities: dict[str, float] = field(default_factory=dict)  # per-panel take-off
@@ -407,13 +441,13 @@ class PanelResult:
     steel_kg: float | None = 0.0
     cost: float | None = 0.0
 
+    def __post_init__(self):
+        if not isinstance(self.checks, CheckListing):
+            object.__setattr__(self, "checks", CheckListing.of(self.checks))
+
     def worst_by_check(self) -> dict[str, float]:
         """The largest utilization of each check of the listing, by check name."""
-        worst: dict[str, float] = {}
-        for c in self.checks:
-            if c.check not in worst or c.utilization > worst[c.check]:
-                worst[c.check] = c.utilization
-        return worst
+        return self.checks.largest_by(0)
 
     def util(self, *checks: str) -> float:
         """The largest utilization of ``checks`` (0.0 where none is listed)."""
@@ -422,10 +456,8 @@ class PanelResult:
     @property
     def governing(self) -> str:
         """Largest utilization overall as ``check combination``."""
-        if not self.checks:
-            return ""
-        c = max(self.checks, key=attrgetter("utilization"))
-        return f"{c.check} {c.combination}"
+        g = self.checks.governing()
+        return "" if g is None else f"{g[0]} {g[1]}"
 
 
 @dataclass(frozen=True)

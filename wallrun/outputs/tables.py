@@ -125,10 +125,7 @@ def panel_row(p: PanelResult) -> dict:
     pa, s = p.panel, p.section
     worst = p.worst_by_check()
     overall = worst.get("overall")  # empty where not checked
-    seismic = None
-    for c in p.checks:
-        if c.combination == SEISMIC and (seismic is None or c.utilization > seismic):
-            seismic = c.utilization
+    seismic = p.checks.largest_by(1).get(SEISMIC)
     designed = p.status == "ok"  # a flagged panel reports its reason, no utilization
     if not designed:
         overall = seismic = None
@@ -250,16 +247,18 @@ def _bar_json(b):
 
 
 def _checks_json(checks, values) -> list[dict]:
-    """The entries of ``panels[].checks``: ``values`` the rounded effect, resistance and
-    utilization of each in turn; an ``overall`` entry carries its critical ``circle``."""
-    out = [{"check": c.check, "combination": c.combination, "case": c.case,
-            "effect": values[3 * i], "resistance": values[3 * i + 1], "unit": c.unit,
-            "utilization": values[3 * i + 2], "clause": c.clause, "governs": c.governs}
-           for i, c in enumerate(checks)]
-    for d, c in zip(out, checks):
-        if c.circle is not None:
-            d["circle"] = {"x_m": num(c.circle.x_m), "z_m": num(c.circle.z_m),
-                           "radius_m": num(c.circle.radius_m)}
+    """The entries of ``panels[].checks`` (a ``results.CheckListing``, read by its
+    columns): ``values`` the rounded effect, resistance and utilization of each in
+    turn; an ``overall`` entry carries its critical ``circle``."""
+    out = [{"check": c, "combination": comb, "case": case, "effect": values[3 * i],
+            "resistance": values[3 * i + 1], "unit": unit, "utilization": values[3 * i + 2],
+            "clause": clause, "governs": g}
+           for i, ((c, comb, case, unit, clause), g) in enumerate(
+               zip(checks.kinds, checks.governing_flags()))]
+    for d, circle in zip(out, checks.circles or ()):
+        if circle is not None:
+            d["circle"] = {"x_m": num(circle.x_m), "z_m": num(circle.z_m),
+                           "radius_m": num(circle.radius_m)}
     return out
 
 
@@ -267,8 +266,8 @@ def panels_json(panels) -> list[dict]:
     """The entries of ``design.json`` ``panels`` (shared/interfaces.md): numbers rounded
     by :func:`num`, the checks' effect, resistance and utilization of all panels by one
     call of :func:`rounded` (some 300,000 values on a 10 km job)."""
-    values = rounded([v for p in panels for c in p.checks
-                      for v in (c.effect, c.resistance, c.utilization)])
+    values = rounded(np.concatenate([p.checks.values.T.ravel() for p in panels]
+                                    or [np.zeros(0)]))
     out, k = [], 0
     for p in panels:
         n = 3 * len(p.checks)

@@ -154,10 +154,11 @@ def _checks(book: _Book, result: DesignResult) -> None:
     per_panel = []
     for p in result.panels:
         u = {}
-        for c in p.checks:
-            if c.governs:
-                k = (c.check, c.combination)
-                u[k] = c.utilization
+        lst = p.checks
+        for kind, g, ut in zip(lst.kinds, lst.governing_flags(), lst.values[2].tolist()):
+            if g:
+                k = (kind[0], kind[1])
+                u[k] = ut
                 keys.setdefault(k, None)
         per_panel.append(u)
     cols = list(keys)

@@ -15,9 +15,7 @@ def drawing_view(result):
     of the whole result are the same (a test holds them to it)."""
     from dataclasses import replace
 
-    from wallrun.results import named_checks
-
-    return replace(result, panels=tuple(replace(pr, checks=named_checks(pr.checks, DRAWN_CHECKS))
+    return replace(result, panels=tuple(replace(pr, checks=pr.checks.named(DRAWN_CHECKS))
                                         for pr in result.panels))
 
 

@@ -473,7 +473,7 @@ def slip_arc(pr, z_front: float, z_top: float, n: int = 48):
     ``z_top`` (the drawing's simplification of the ground surfaces), with a label naming
     its combination and utilization; None where overall stability was not checked or
     no circle was found. The worst ``overall`` entry of the panel is drawn."""
-    ov = [e for e in pr.checks if e.check == "overall" and getattr(e, "circle", None)]
+    ov = [e for e in pr.checks.named({"overall"}) if e.circle is not None]
     if not ov:
         return None
     e = max(ov, key=lambda e: e.utilization)

@@ -78,7 +78,7 @@ def governing_panels(result: DesignResult) -> dict[str, PanelResult]:
     """{section type: its governing panel} (see the module docstring)."""
     best: dict = {}
     for p in result.panels:
-        u = max((c.utilization for c in p.checks), default=0.0)
+        u = p.checks.max_utilization()
         cur = best.get(p.section_type)
         if cur is None or u > cur[0]:
             best[p.section_type] = (u, p)

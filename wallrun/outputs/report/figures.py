@@ -215,7 +215,7 @@ def slip_arc(p, x_lo: float, x_hi: float, z_lo: float, n: int = 64):
     (x from ``x_lo`` to ``x_hi``, above ``z_lo``; section coordinates, m, z above the
     underside of the base) and its label, or None: the worst ``overall`` entry's circle
     (design-basis section 9)."""
-    ov = [e for e in p.checks if e.check == "overall" and getattr(e, "circle", None)]
+    ov = [e for e in p.checks.named({"overall"}) if e.circle is not None]
     if not ov:
         return None
     e = max(ov, key=lambda e: e.utilization)

@@ -146,18 +146,21 @@ def _over_checks(panels) -> dict:
     utilization of each panel (``umax``), the highest of all (``highest``: panel name and
     entry, the first on a tie), the combinations and each check's clauses."""
     umax, best, combinations, clauses = [], None, set(), {}
+    seen: set[int] = set()  # the kinds of a listing are shared by those of one evaluation
     for p in panels:
-        top = None
-        for c in p.checks:
-            if top is None or c.utilization > top.utilization:
-                top = c
-            combinations.add(c.combination)
-            clauses.setdefault(c.check, set()).add(c.clause)
-        umax.append(0.0 if top is None else top.utilization)
-        if top is not None and (best is None or top.utilization > best[1].utilization):
-            best = (p.panel.panel, top)
+        lst = p.checks  # read by its columns (results.CheckListing)
+        if id(lst.kinds) not in seen:
+            seen.add(id(lst.kinds))
+            for c, comb, _case, _unit, clause in lst.kinds:
+                combinations.add(comb)
+                clauses.setdefault(c, set()).add(clause)
+        u = lst.values[2].tolist()
+        top = max(range(len(u)), key=u.__getitem__) if u else None  # the first on a tie
+        umax.append(0.0 if top is None else u[top])
+        if top is not None and (best is None or u[top] > best[2]):
+            best = (p.panel.panel, lst, u[top], top)
     return {"umax": umax, "combinations": combinations, "clauses": clauses,
-            "highest": None if best is None else {"panel": best[0], "entry": best[1]}}
+            "highest": None if best is None else {"panel": best[0], "entry": best[1][best[3]]}}
 
 
 def _factors(site) -> dict:
