@@ -7,10 +7,9 @@ the other; a caller that owns a process pool (the command line's ``--jobs``) may
 it as ``executor``, and the drawings (the slowest writer, with ``elevation.png``) are
 then written by one of its workers, from what they read of the result
 (``dxf.drawing_view``), while this process writes the rest: the same files either way,
-each writer rendering the result alone. At 10 km the two shares take about 3.0 to
-3.4 s each once their libraries are loaded (the drawings about 2.9 s and the quick
-look 0.4 s; ``model.ifc`` 1.5 s and the tables, workbook and report 1.5 s, the check
-entries made from their columns included); the
+each writer rendering the result alone. At 10 km the two shares take about 3.3 and
+3.0 s once their libraries are loaded (the drawings about 2.9 s and the quick
+look 0.4 s; ``model.ifc`` 1.5 s and the tables, workbook and report 1.4 s); the
 command line loads them beforehand (:func:`load_writers` here, the drawings' in its
 workers). No state is kept between calls, so two threads may
 write two results at once (into two different folders).
