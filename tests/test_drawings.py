@@ -365,6 +365,38 @@ def test_previews_non_empty_and_sized(out, result):
     assert pages((out / "sheets.pdf").read_bytes()) == sum(sheets.values())
 
 
+def test_dashed_line_arrives_whole_with_the_dashes_ezdxf_cuts(out):
+    """A dashed line (the surveyed ground) reaches the sheets' back end as one stroke
+    with its dash pattern, which the PDF draws; ezdxf's own linetype stage
+    (``LinePolicy.ACCURATE``) cuts the same line into dashes of those lengths."""
+    from ezdxf.addons.drawing import RenderContext
+    from ezdxf.addons.drawing.config import LinePolicy
+    from ezdxf.addons.drawing.frontend import UniversalFrontend
+
+    doc, msp = _read(out / "elevation.dxf")
+    line = max((e for e in msp if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == c.L_GROUND),
+               key=lambda e: len(e))
+    pts = np.array(line.get_points("xy"))
+    col = sheets_pdf.Collector()
+    fe = sheets_pdf.frontend(doc, col)
+    fe.ctx.set_current_layout(msp)
+    fe.draw_entities([line])
+    ((_colr, _w, dash), segs), = col.strokes.items()
+    assert len(dash) == 2 and len(segs) == 1 and np.allclose(segs[0], pts)
+    cut = sheets_pdf.Collector()
+    ref = UniversalFrontend(RenderContext(doc), sheets_pdf.TextPipeline(cut),
+                            config=replace(sheets_pdf.frontend(doc, col).config,
+                                           line_policy=LinePolicy.ACCURATE))
+    ref.ctx.set_current_layout(msp)
+    ref.draw_entities([line])
+    pieces = [np.asarray(s) for ss in cut.strokes.values() for s in ss]
+    drawn = sum(float(np.hypot(*(p[-1] - p[0]))) for p in pieces)
+    total = float(np.sum(np.hypot(*np.diff(pts, axis=0).T)))
+    starts = sum(1 for a, b in zip(pieces, pieces[1:]) if not np.allclose(a[-1], b[0])) + 1
+    assert drawn / total == pytest.approx(dash[0] / sum(dash), abs=0.02)
+    assert abs(starts - total / sum(dash)) <= 1.5
+
+
 def test_collector_draws_what_the_dxf_holds(out):
     """The sheets' back end receives the section's strokes: the concrete outline's
     corners are among the collected vertices (black, ACI 7 on white); its texts arrive
@@ -379,7 +411,7 @@ def test_collector_draws_what_the_dxf_holds(out):
     outline = [v for v in ins.virtual_entities() if v.dxftype() == "LWPOLYLINE"
                and v.dxf.layer == c.L_CONCRETE][0]
     corners = np.array(outline.get_points("xy"))
-    black = np.concatenate([np.asarray(s) for (colr, _w), segs in col.strokes.items()
+    black = np.concatenate([np.asarray(s) for (colr, _w, _dash), segs in col.strokes.items()
                             if colr == "#000000" for s in segs])
     for p in corners:
         assert np.min(np.hypot(*(black - p).T)) < 1e-6
