@@ -210,7 +210,8 @@ def test_dominated_columns_are_left_out_without_changing_the_least_total():
     assert ch.total == pytest.approx(rat.enumerate_sets(C, 10.0, 6)[0])
 
 
-def test_several_cages_in_one_evaluation_give_each_row_its_own_numbers():
+@pytest.mark.parametrize("chunk", [None, 4])
+def test_several_cages_in_one_evaluation_give_each_row_its_own_numbers(chunk, monkeypatch):
     # type_evaluations checks every type at every demand in one evaluation, a cage per
     # row: each row equals that type checked alone with its cage (evaluate_at), its
     # listing, cost, bars and the stop its own curtailment needs included; a cage with
@@ -226,8 +227,11 @@ def test_several_cages_in_one_evaluation_give_each_row_its_own_numbers():
     types = rat.SectionSet(("S01", "S02", "S03"), (own[0].section, own[1].section,
                                                    own[2].section),
                            (own[0].reinforcement, bare, bent))
+    if chunk is not None:  # at most 4 rows an evaluation: one demand each
+        monkeypatch.setattr(rat, "CHUNK", chunk)
     evs = rat.type_evaluations(types, ds, BASIS, Costing())
-    assert sorted(k for ks, _ in evs for k in ks) == list(range(len(ds))) and len(evs) == 2
+    assert sorted(k for ks, _ in evs for k in ks) == list(range(len(ds)))
+    assert len(evs) == (2 if chunk is None else len(ds))
     for ks, ev in evs:
         for t, (sec, cage) in enumerate(zip(types.sections, types.cages)):
             for j, k in enumerate(ks):

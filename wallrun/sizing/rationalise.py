@@ -428,15 +428,17 @@ class Option:
 def type_evaluations(types: SectionSet, demands: list[Demand], basis: Basis,
                      costing: Costing) -> list[tuple[list[int], ev_.Evaluation]]:
     """Every type of the set at every demand with its own cage, one evaluation per
-    ground (``evaluate`` with a cage per row): (the indices ks of the demands in it, the
-    evaluation), the row of type t at demand ks[j] being t len(ks) + j. A cage's stop
-    height does not enter an evaluation (``structure.check_reinforcement``)."""
+    ground and at most ``CHUNK`` rows (``evaluate`` with a cage per row): (the indices
+    ks of the demands in it, the evaluation), the row of type t at demand ks[j] being
+    t len(ks) + j. A cage's stop height does not enter an evaluation
+    (``structure.check_reinforcement``)."""
     out = []
     groups: dict[tuple, list[int]] = {}
     for k, d in enumerate(demands):
         groups.setdefault(d.ground_key, []).append(k)
     m = len(types)
-    for ks in groups.values():
+    per_call = max(1, CHUNK // max(m, 1))  # demands per evaluation: bounded memory
+    for ks in (g[a:a + per_call] for g in groups.values() for a in range(0, len(g), per_call)):
         ds = [demands[k] for k in ks]
         rows = Rows.of(ds * m, [1] * (len(ds) * m))
         caps = ev_.caps_of(ds * m, [1] * (len(ds) * m))
