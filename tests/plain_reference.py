@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 from wallrun.conditions import Conditions
 from wallrun.factors import SLS
 from wallrun.results import CheckEntry, utilization
@@ -239,3 +241,22 @@ def _subcase(fs, unfav, on, Wc, Mc, Ws, xs, U, xU, Qh, xQ, B, thrust_list):
         M += fs.gQ * Qh * xQ
     e = B / 2 - M / V if V > 1e-9 else math.inf
     return V, Hs, M, e
+
+
+def entries(checks, i: int) -> tuple[CheckEntry, ...]:
+    """The ``CheckArray`` checks of candidate ``i`` as entries, one check at a time,
+    ``governs`` set on the first of the largest utilization of each (check,
+    combination): the reading ``results.CheckListing`` is held to."""
+    out = []
+    for c in checks:
+        e = float(np.broadcast_to(c.effect, np.shape(checks[0].effect))[i])
+        r = float(np.broadcast_to(c.resistance, np.shape(checks[0].effect))[i])
+        out.append(CheckEntry(c.check, c.combination, c.case, e, r, c.unit,
+                              float(utilization(e, r)), c.clause))
+    worst: dict[tuple[str, str], int] = {}
+    for k, e in enumerate(out):
+        key = (e.check, e.combination)
+        if key not in worst or e.utilization > out[worst[key]].utilization:
+            worst[key] = k
+    gov = set(worst.values())
+    return tuple(CheckEntry(**{**e.__dict__, "governs": k in gov}) for k, e in enumerate(out))

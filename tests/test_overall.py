@@ -15,11 +15,12 @@ from wallrun import factors
 from wallrun import overall as ov
 from wallrun.codes import bishop
 from wallrun.conditions import Conditions
-from wallrun.results import CheckEntry, entries
+from wallrun.results import CheckEntry
 from wallrun.section import Section, polygons
 from wallrun.settings import Basis, Backfill, Design, Foundation, GroundModel
 
 from overall_reference import bishop_panel
+from plain_reference import entries
 
 import pyslope  # noqa: E402  (a test dependency, pyproject.toml [test])
 

@@ -6,8 +6,7 @@ from hypothesis import given, settings, strategies as st
 
 from wallrun.conditions import Conditions
 from wallrun.factors import resolve
-from plain_reference import plain_stability_checks
-from wallrun.results import entries
+from plain_reference import entries, plain_stability_checks
 from wallrun.section import Section, SectionArrays
 from wallrun.settings import Backfill, Basis, Design, Foundation
 from wallrun.stability import stability_checks

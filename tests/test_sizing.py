@@ -385,10 +385,11 @@ def test_priced_equals_evaluate(name, d, basis):
 # --- check listings -----------------------------------------------------------------------
 
 def test_listing_is_the_entries_of_each_check_read_one_at_a_time():
-    # Evaluation.listing (columns, made into entries when read) against results.entries,
+    # Evaluation.listing (columns, made into entries when read) against the plain
+    # reference's entries,
     # which reads each CheckArray of candidate i on its own: the same entries, the same
     # governing rows (the worst of each check and combination)
-    from wallrun.results import entries
+    from plain_reference import entries
 
     d = demand(3.2, water=Water(height_above_base_m=0.8))
     g = grid_for(d, 0.1)

@@ -8,10 +8,10 @@ from hypothesis import given, settings, strategies as st
 
 from wallrun.conditions import Conditions
 from wallrun.factors import resolve
-from wallrun.results import entries
 from wallrun.section import Section, SectionArrays, polygons
 from wallrun.settings import Backfill, Basis, Design, Foundation, Loads
 from wallrun import stability as stab
+from plain_reference import entries
 
 # --- a section worked by hand (invented) -------------------------------------------------
 # Section: B = 2.4, toe 0.6, base 0.4 thick, stem 0.3 constant, no key.

@@ -736,7 +736,7 @@ def check_model(model: SlipModel, cases: list[Case]) -> list[OverallResult]:
 
 def check_arrays(results: list[OverallResult]) -> list[CheckArray]:
     """The results as ``CheckArray`` of one candidate each (check ``overall``, unit
-    kNm/m), for the lists the sizing and ``results.entries`` take."""
+    kNm/m), for the lists the sizing and ``results.CheckListing`` take."""
     return [CheckArray(CHECK, r.combination, r.case, UNIT, CLAUSE, np.array([r.effect]),
                        np.array([r.resistance])) for r in results]
 

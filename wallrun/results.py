@@ -159,14 +159,16 @@ class CheckListing(Sequence):
                 worst[key] = u
         return worst
 
+    def top(self) -> int | None:
+        """The row of largest utilization (the first of equal ones), None for none."""
+        u = self.values[2].tolist()
+        return max(range(len(u)), key=u.__getitem__) if u else None
+
     def governing(self) -> tuple[str, str] | None:
         """(check, combination) of the row of largest utilization (the first of equal
         ones), None for an empty listing."""
-        if not self.kinds:
-            return None
-        u = self.values[2].tolist()
-        k = max(range(len(u)), key=u.__getitem__)
-        return self.kinds[k][0], self.kinds[k][1]
+        k = self.top()
+        return None if k is None else (self.kinds[k][0], self.kinds[k][1])
 
     def max_utilization(self) -> float:
         """The largest utilization of the listing (0.0 for none)."""
@@ -216,19 +218,6 @@ def max_utilization(checks: list[CheckArray] | tuple[CheckArray, ...]) -> np.nda
     """Largest utilization of every candidate over all ``checks``, shape (n,)."""
     return np.max(np.vstack([np.broadcast_to(c.utilization, np.shape(checks[0].effect))
                              for c in checks]), axis=0)
-
-
-def entries(checks, i: int) -> tuple[CheckEntry, ...]:
-    """The checks of candidate ``i`` as entries, ``governs`` set on the worst entry of
-    each (check, combination)."""
-    out = []
-    for c in checks:
-        e = float(np.broadcast_to(c.effect, np.shape(checks[0].effect))[i])
-        r = float(np.broadcast_to(c.resistance, np.shape(checks[0].effect))[i])
-        out.append(CheckEntry(c.check, c.combination, c.case, e, r, c.unit,
-                              float(utilization(e, r)), c.clause))
-    gov = governing_rows([(e.check, e.combination) for e in out], [e.utilization for e in out])
-    return tuple(CheckEntry(**{**e.__dict__, "governs": k in gov}) for k, e in enumerate(out))
 
 
 # --- reinforcement -------------------------------------------------------------------

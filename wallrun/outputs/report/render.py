@@ -154,11 +154,11 @@ def _over_checks(panels) -> dict:
             for c, comb, _case, _unit, clause in lst.kinds:
                 combinations.add(comb)
                 clauses.setdefault(c, set()).add(clause)
-        u = lst.values[2].tolist()
-        top = max(range(len(u)), key=u.__getitem__) if u else None  # the first on a tie
-        umax.append(0.0 if top is None else u[top])
-        if top is not None and (best is None or u[top] > best[2]):
-            best = (p.panel.panel, lst, u[top], top)
+        top = lst.top()  # the first on a tie
+        u = None if top is None else float(lst.values[2, top])
+        umax.append(0.0 if u is None else u)
+        if u is not None and (best is None or u > best[2]):
+            best = (p.panel.panel, lst, u, top)
     return {"umax": umax, "combinations": combinations, "clauses": clauses,
             "highest": None if best is None else {"panel": best[0], "entry": best[1][best[3]]}}
 
