@@ -15,6 +15,8 @@ import ezdxf
 import matplotlib.image as mpimg
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).parent))
 from sample_result import sample_result  # noqa: E402
@@ -488,3 +490,53 @@ def test_viewport_extents_hold_ezdxfs_bounding_boxes(out, name):
             if b.has_data:
                 assert (o[0] <= b.extmin.x + 1e-9 and o[1] <= b.extmin.y + 1e-9
                         and o[2] >= b.extmax.x - 1e-9 and o[3] >= b.extmax.y - 1e-9), e.dxftype()
+
+
+def _on_line(line, pts, tol):
+    """Largest distance (y) of the points ``pts`` from the open line ``line`` (x
+    increasing), by linear interpolation between its vertices."""
+    return float(np.max(np.abs(np.interp(pts[:, 0], line[:, 0], line[:, 1]) - pts[:, 1])))
+
+
+def test_straight_stretches_drawn_by_their_ends():
+    """A grade sampled every 0.5 m (hand data: 60 m + 0.4 %, then -1.0 % from 0+100)
+    keeps its ends and its change of grade; a 1 mm zigzag is kept whole."""
+    ch = np.arange(0.0, 200.0 + 1e-9, 0.5)
+    z = np.where(ch <= 100.0, 60.0 + 0.004 * ch, 60.4 - 0.010 * (ch - 100.0))
+    kept = c.straight_vertices(np.column_stack([ch, z]))
+    assert kept[:, 0].tolist() == [0.0, 100.0, 200.0]
+    assert _on_line(kept, np.column_stack([ch, z]), 0) < 1e-9
+    zig = np.column_stack([ch[:9], 60.0 + 0.001 * (np.arange(9) % 2)])
+    assert np.array_equal(c.straight_vertices(zig), zig)
+
+
+@given(st.lists(st.tuples(st.integers(1, 40), st.integers(-30, 30)), min_size=1, max_size=8),
+       st.floats(0.1, 2.0))
+@settings(max_examples=60, deadline=None)
+def test_straight_vertices_keep_the_line(grades, step):
+    """Grades of whole per mille on a regular step, levels to the millimetre: what is
+    kept is a subset of the points in order, and every point lies on the line drawn
+    through it (within 1e-6 m)."""
+    ch, z = [0.0], [50.0]
+    for n, permille in grades:
+        for _ in range(n):
+            ch.append(ch[-1] + step)
+            z.append(round(z[-1] + permille / 1000.0 * step, 3))
+    xy = np.column_stack([ch, z])
+    kept = c.straight_vertices(xy)
+    assert kept[0].tolist() == xy[0].tolist() and kept[-1].tolist() == xy[-1].tolist()
+    assert np.isin(kept[:, 0], xy[:, 0]).all() and (np.diff(kept[:, 0]) > 0).all()
+    assert _on_line(kept, xy, 0) <= 1e-6
+
+
+def test_finished_level_drawn_through_its_points(out, result):
+    """Every finished-level point of the sample lies on the drawn finished line (a
+    straight stretch by its ends)."""
+    doc, msp = _read(out / "elevation.dxf")
+    datum, ve = read_transform(doc)
+    line = np.vstack([np.array(e.get_points("xy"))
+                      for e in msp.query(f'LWPOLYLINE[layer=="{c.L_FINISHED}"]')])
+    prof = result.profiles
+    pts = np.column_stack([prof.finished_ch, prof.finished_level])
+    drawn = np.column_stack([line[:, 0], level_of(line[:, 1], datum, ve)])
+    assert _on_line(drawn, pts, 0) < 1e-6

@@ -511,6 +511,34 @@ def line_chainages(profiles, line: str, a: float, b: float, extra=(),
     return pts[keep]
 
 
+def straight_vertices(xy, tol: float = 1e-6) -> np.ndarray:
+    """The vertices of the open line ``xy`` ((n, 2), x increasing) that are not on a
+    straight stretch: of each run of vertices whose segments share one slope, the two
+    ends are kept and the inner ones left out when each lies within ``tol`` (drawing
+    units) of the straight line between the ends; otherwise the whole run is kept.
+    Drawn through what is kept the line is the same to ``tol`` (a finished grade
+    sampled at every survey point is two vertices a grade, not one a point)."""
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    if len(xy) < 3:
+        return xy
+    dx, dy = np.diff(xy[:, 0]), np.diff(xy[:, 1])
+    slope = dy / np.where(dx > 0, dx, np.inf)
+    same = np.abs(np.diff(slope)) <= 1e-9 * np.maximum(1.0, np.abs(slope[1:]))
+    same &= (dx[1:] > 0) & (dx[:-1] > 0)
+    inner = np.concatenate([[False], same, [False]])  # vertex i between two like segments
+    if not inner.any():
+        return xy
+    # runs of inner vertices: [s, e) each, checked against the chord of s-1 and e
+    edges = np.diff(inner.astype(np.int8))
+    starts, ends = np.flatnonzero(edges == 1) + 1, np.flatnonzero(edges == -1) + 1
+    for s, e in zip(starts, ends):
+        p, q = xy[s - 1], xy[e]
+        t = (xy[s:e, 0] - p[0]) / (q[0] - p[0])
+        if np.max(np.abs(p[1] + t * (q[1] - p[1]) - xy[s:e, 1])) > tol:
+            inner[s:e] = False
+    return xy[~inner]
+
+
 def chainage_label(ch: float) -> str:
     """Chainage as km+m, e.g. 1+240 (metres rounded to a millimetre when not whole)."""
     neg = ch < 0
