@@ -68,8 +68,9 @@ def test_jobs_2_same_files_as_jobs_1(tmp_path, monkeypatch):
     # demand's design depends on that demand only, so the files are the same byte for
     # byte (the pool is used from the first batch here: PARALLEL_FROM lowered to 1); a
     # worker of the pool writes the drawings: the same file names, and the previews,
-    # report and workbook the same bytes (their dates fixed by SOURCE_DATE_EPOCH; a DXF
-    # carries its own creation time and GUIDs)
+    # report, workbook and model the same bytes (their dates fixed by SOURCE_DATE_EPOCH,
+    # the model's GlobalIds from the project and element; a DXF carries its own
+    # creation time and GUIDs)
     from wallrun import pipeline
     from wallrun.cli import main
     monkeypatch.setattr(pipeline, "PARALLEL_FROM", 1)
@@ -84,7 +85,8 @@ def test_jobs_2_same_files_as_jobs_1(tmp_path, monkeypatch):
     a, b = data(outs[0]), data(outs[1])
     assert a and a == b
     assert sorted(p.name for p in outs[0].iterdir()) == sorted(p.name for p in outs[1].iterdir())
-    for name in ("sheets.pdf", "sections.pdf", "elevation.png", "report.html", "schedule.xlsx"):
+    for name in ("sheets.pdf", "sections.pdf", "elevation.png", "report.html", "schedule.xlsx",
+                 "model.ifc"):
         assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name
 
 

@@ -274,3 +274,24 @@ def test_csv_site_without_plan_positions_lies_along_chainage(tmp_path):
         v = us.get_vertices(ifcopenshell.geom.create_shape(s, f).geometry)
         assert v[:, 1].max() == pytest.approx(pr.section.base_width_m - pr.section.toe_m)
         assert v[:, 1].min() == pytest.approx(-pr.section.toe_m)
+
+
+def test_the_same_design_gives_the_same_file(job, tmp_path, monkeypatch):
+    """Written twice with SOURCE_DATE_EPOCH (the reproducible-builds convention) the
+    model is the same bytes: every GlobalId comes from the project and the element,
+    the api-made relations' too (a random one each time otherwise), and the header
+    carries the file's name and the fixed time of issue."""
+    import wallrun
+    from wallrun.outputs.ifc import write_ifc
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")  # 2023-11-14T22:13:20Z
+    r = wallrun.design(wallrun.load_site(job[1].parent / "site"))
+    a, b = tmp_path / "a.ifc", tmp_path / "b.ifc"
+    write_ifc(r, a)
+    write_ifc(r, b)
+    assert a.read_bytes() == b.read_bytes()
+    m = ifcopenshell.open(str(a))
+    assert m.header.file_name.name == "model.ifc"
+    assert m.header.file_name.time_stamp == "2023-11-14T22:13:20+00:00"
+    ids = [e.GlobalId for e in m.by_type("IfcRoot")]
+    assert len(ids) == len(set(ids))

@@ -18,6 +18,11 @@ concrete of the site's strength class, each with
 - its type: an ``IfcWallType`` and an ``IfcFootingType`` per section type, named like
   it, with the section's dimensions in the property set ``Wallrun_SectionType``.
 
+Every GlobalId is a name-based UUID (RFC 4122 version 5) of the project and the
+element, those of the relations an api call makes too, and the header's time stamp is
+the outputs' time of issue (``stamp.issue_time``): with ``SOURCE_DATE_EPOCH`` set, the
+same design gives the same file, byte for byte.
+
 The project's frame is made through ``ifcopenshell.api``; the per-panel entities
 through ``ifcopenshell.file.create_entity`` (an api call's checks and look-ups cost
 many times the entity it makes, and a long wall has hundreds of panels).
@@ -64,6 +69,7 @@ import ifcopenshell.guid
 import ifcopenshell.util.pset
 import numpy as np
 
+from wallrun.outputs.stamp import issue_time
 from wallrun.outputs.tables import STRUCTURAL_CHECKS, num
 from wallrun.results import largest
 
@@ -180,6 +186,10 @@ class _Model:
         self.api = ifcopenshell.api
         self.result = result
         self.f = ifcopenshell.api.project.create_file(version="IFC4")
+        # the header: the file's own name and the outputs' time of issue (fixed by
+        # SOURCE_DATE_EPOCH, as the report's and the workbook's dates)
+        self.f.header.file_name.name = "model.ifc"
+        self.f.header.file_name.time_stamp = issue_time().isoformat(timespec="seconds")
         self.key = result.site.project.name + "/" + result.site.project.reference
         self.shared: dict = {}  # equal items made once and referenced (this file only)
         self.up = self.direction((0.0, 0.0, 1.0))
@@ -192,6 +202,12 @@ class _Model:
         e = self.api.root.create_entity(self.f, ifc_class=ifc_class, name=name, **kw)
         e.GlobalId = self.guid(what)
         return e
+
+    def claim(self, entity, what: str):
+        """``entity`` (made by an api call, which gives it a random GlobalId) with the
+        GlobalId of ``what`` instead: the same design gives the same file."""
+        entity.GlobalId = self.guid(what)
+        return entity
 
     def create(self, ifc_class: str, what: str, **attributes):
         """A rooted entity (GlobalId from ``what``) with ``attributes``."""
@@ -291,7 +307,8 @@ def write_ifc(result, path) -> None:
                                    target_view="MODEL_VIEW", parent=model)
     line = _Line(result.profiles)
     site = m.entity("IfcSite", site_s.project.name, "site")
-    api.aggregate.assign_object(f, products=[site], relating_object=proj)
+    m.claim(api.aggregate.assign_object(f, products=[site], relating_object=proj),
+            "site/aggregate")
     api.geometry.edit_object_placement(f, product=site)
     if line.plan:
         crs = site_s.crs or "site grid (unnamed)"
@@ -312,7 +329,9 @@ def write_ifc(result, path) -> None:
         "increasing chainage" for s in sides)
     if not (site_s.profile_files.landxml and site_s.profile_files.offset_m != 0):
         side_rule += " (assumed: the profiles do not say on which side the ground is retained)"
-    cautions = api.pset.add_pset(f, product=proj, name="Wallrun_Cautions")
+    cautions = m.claim(api.pset.add_pset(f, product=proj, name="Wallrun_Cautions"),
+                       "project/cautions")
+    m.claim(cautions.DefinesOccurrence[0], "project/cautions/rel")
     api.pset.edit_pset(f, pset=cautions, properties={
         "Caution": f.createIfcText(CAUTION),
         "NotChecked": f.createIfcText("; ".join(not_checked(site_s))),
