@@ -199,9 +199,9 @@ class _Model:
         return self.ifc.guid.compress(uuid.uuid5(_GUID_NS, self.key + "/" + what).hex)
 
     def entity(self, ifc_class: str, name: str, what: str, **kw):
-        e = self.api.root.create_entity(self.f, ifc_class=ifc_class, name=name, **kw)
-        e.GlobalId = self.guid(what)
-        return e
+        """A rooted entity made by the api (GlobalId from ``what``)."""
+        return self.claim(self.api.root.create_entity(self.f, ifc_class=ifc_class, name=name,
+                                                      **kw), what)
 
     def claim(self, entity, what: str):
         """``entity`` (made by an api call, which gives it a random GlobalId) with the
