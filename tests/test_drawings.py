@@ -492,7 +492,7 @@ def test_viewport_extents_hold_ezdxfs_bounding_boxes(out, name):
                         and o[2] >= b.extmax.x - 1e-9 and o[3] >= b.extmax.y - 1e-9), e.dxftype()
 
 
-def _on_line(line, pts, tol):
+def _on_line(line, pts):
     """Largest distance (y) of the points ``pts`` from the open line ``line`` (x
     increasing), by linear interpolation between its vertices."""
     return float(np.max(np.abs(np.interp(pts[:, 0], line[:, 0], line[:, 1]) - pts[:, 1])))
@@ -505,7 +505,7 @@ def test_straight_stretches_drawn_by_their_ends():
     z = np.where(ch <= 100.0, 60.0 + 0.004 * ch, 60.4 - 0.010 * (ch - 100.0))
     kept = c.straight_vertices(np.column_stack([ch, z]))
     assert kept[:, 0].tolist() == [0.0, 100.0, 200.0]
-    assert _on_line(kept, np.column_stack([ch, z]), 0) < 1e-9
+    assert _on_line(kept, np.column_stack([ch, z])) < 1e-9
     zig = np.column_stack([ch[:9], 60.0 + 0.001 * (np.arange(9) % 2)])
     assert np.array_equal(c.straight_vertices(zig), zig)
 
@@ -526,7 +526,7 @@ def test_straight_vertices_keep_the_line(grades, step):
     kept = c.straight_vertices(xy)
     assert kept[0].tolist() == xy[0].tolist() and kept[-1].tolist() == xy[-1].tolist()
     assert np.isin(kept[:, 0], xy[:, 0]).all() and (np.diff(kept[:, 0]) > 0).all()
-    assert _on_line(kept, xy, 0) <= 1e-6
+    assert _on_line(kept, xy) <= 1e-6
 
 
 def test_finished_level_drawn_through_its_points(out, result):
@@ -539,4 +539,4 @@ def test_finished_level_drawn_through_its_points(out, result):
     prof = result.profiles
     pts = np.column_stack([prof.finished_ch, prof.finished_level])
     drawn = np.column_stack([line[:, 0], level_of(line[:, 1], datum, ve)])
-    assert _on_line(drawn, pts, 0) < 1e-6
+    assert _on_line(drawn, pts) < 1e-6

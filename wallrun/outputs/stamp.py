@@ -2,7 +2,7 @@
 ``model.ifc``'s header).
 
 ``SOURCE_DATE_EPOCH`` (the reproducible-builds convention, seconds since 1970 UTC) when
-it is set, so that a rebuild gives the same files; else today's date (UTC).
+it is set, so that a rebuild gives the same files; else the present time (UTC).
 """
 
 from __future__ import annotations
