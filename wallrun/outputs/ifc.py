@@ -299,9 +299,12 @@ def write_ifc(result, path) -> None:
     proj = m.entity("IfcProject", site_s.project.name, "project")
     proj.LongName = site_s.project.reference or None
     proj.Description = CAUTION
-    api.unit.assign_unit(f, length={"is_metric": True, "raw": "METERS"},
-                         area={"is_metric": True, "raw": "SQUARE_METERS"},
-                         volume={"is_metric": True, "raw": "CUBIC_METERS"})
+    units = api.unit.assign_unit(f, length={"is_metric": True, "raw": "METERS"},
+                                 area={"is_metric": True, "raw": "SQUARE_METERS"},
+                                 volume={"is_metric": True, "raw": "CUBIC_METERS"})
+    # the api gathers the units in a Python set, whose order follows where the instances
+    # lie in memory: written in the order they were made, so that one design is one file
+    units.Units = sorted(units.Units, key=lambda u: u.id())
     model = api.context.add_context(f, context_type="Model")
     body = api.context.add_context(f, context_type="Model", context_identifier="Body",
                                    target_view="MODEL_VIEW", parent=model)
