@@ -4,7 +4,13 @@
     python benchmarks/run.py --km 1 10 100    # how the cost grows with length
     python benchmarks/run.py --km 10 --json   # one JSON object (a list for several km)
     python benchmarks/run.py --km 1 --gap 4   # and the optimality gap of 4 panels
-    python benchmarks/run.py --km 10 --jobs 2 # the search and the drawings on two workers
+    python benchmarks/run.py --km 10 --jobs 1 # in one process, the command line's default
+
+By default the run uses the cores this process may use (``--jobs`` set to their
+number, as one would give the command line's ``--jobs`` on the machine: the search in
+parts on that many processes, the drawings written on a worker); ``--jobs 1`` measures
+one process, as ``wallrun design`` runs without ``--jobs``. The table's first line says
+which.
 
 The run is invented: a straight fill wall along a road on a gentle grade, a survey
 point every 0.5 m, and a retained height varying smoothly between 0.5 and 7 m (a sum
@@ -183,6 +189,14 @@ def optimality_gap(site: Site, result, n: int, h_max: float = 4.5) -> list[dict]
     return out
 
 
+def machine_cores() -> int:
+    """The number of cores this process may run on (its CPU affinity where the system
+    tells it, else the machine's count)."""
+    if hasattr(os, "sched_getaffinity"):
+        return len(os.sched_getaffinity(0))
+    return os.cpu_count() or 1
+
+
 def _cost_per_m(site: Site, section: Section, d: Demand) -> float:
     """``section`` with its bars at demand ``d``, priced per metre as the search prices
     them."""
@@ -240,8 +254,16 @@ def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
             "speedup_vs_plain": tp["speedup_vs_plain"], "throughput": tp, "gap": gaps}
 
 
+def _jobs_note(jobs: int) -> str:
+    """What ``jobs`` means on this machine, for the table's first line."""
+    if jobs == 1:
+        return ": one process, as the command line without --jobs"
+    return f" of {machine_cores()} cores: as the command line with --jobs {jobs}"
+
+
 def _table(r: dict) -> str:
-    lines = [f"run {r['km']:g} km ({r['mode']}, jobs {r['jobs']}): {r['panels']} panels, "
+    lines = [f"run {r['km']:g} km ({r['mode']}, jobs {r['jobs']}{_jobs_note(r['jobs'])}): "
+             f"{r['panels']} panels, "
              f"{r['section_types']} section types, {r['flagged_panels']} flagged, "
              f"total {r['seconds_total']:.2f} s ({r['cpu_seconds']:.2f} s of this process's "
              f"CPU), peak memory {r['peak_memory_mb']:.0f} MB"]
@@ -273,10 +295,14 @@ def main(argv=None) -> int:
     ap.add_argument("--no-write", action="store_true", help="skip writing the outputs")
     ap.add_argument("--gap", type=int, default=0, metavar="N",
                     help="compare N sampled panels with the exhaustive reference")
-    ap.add_argument("--jobs", type=int, default=1, metavar="N",
+    ap.add_argument("--jobs", type=int, default=machine_cores(), metavar="N",
                     help="processes for the search (this one and N - 1 workers, a worker "
-                         "writing the drawings), as the command line's --jobs")
+                         "writing the drawings), as the command line's --jobs; default: "
+                         "the cores this process may use (here %(default)s); 1 for one "
+                         "process, the command line's default")
     a = ap.parse_args(argv)
+    if a.jobs < 1:
+        ap.error(f"--jobs {a.jobs}: give 1 or more")
     from wallrun.cli import tune_process
     tune_process()  # as the command line does (its process settings, not the library's)
     results = [run_one(km, write=not a.no_write, gap=a.gap, jobs=a.jobs) for km in a.km]
