@@ -120,6 +120,39 @@ def test_search_within_half_a_percent_of_the_grids_cheapest(name, d, basis):
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def test_search_reaches_a_cheapest_section_beyond_single_steps():
+    # On a 5 cm grid over undrained clay (DA2, invented ground), the cheapest section
+    # has a thinner base with the stem moved along it, several steps from where single
+    # steps settle: found by the search's jumps, checked against every candidate. Before
+    # the jumps and the curtailed ranking the search settled 2.3 % above it.
+    basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"))
+    d = Demand(z_top=23.2, z_front=20.0,
+               backfill=Backfill(unit_weight_kn_m3=21.0, friction_angle_deg=30.0),
+               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=27.0,
+                                     cohesion_kpa=3.0, undrained_strength_kpa=60.0),
+               surcharge_kpa=20.0, water=None, wall_top_m=23.2, min_founding_depth_m=0.8,
+               founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
+    assert sd.status == "ok" and ref is not None
+    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
+def test_jumps_reach_across_the_base_and_every_thickness():
+    # the jump candidates of a settled section: the stem moved along the base (heel kept
+    # within HEEL_BAND) with a base up to two steps thinner, every thickness on its own
+    g = grid_for(demand(3.0), 0.05)
+    cur = np.array([60, 10, 8, 7, 5, 0, 0])
+    j = search.jumps(cur, g, reach=6)
+    heel = lambda v: v[:, 0] - v[:, 1] - v[:, 3]  # noqa: E731
+    moved = j[(j[:, 2] == 6) & (j[:, 3] == 7)]
+    assert {(60 + k, 10 + k) for k in range(-6, 7)} <= set(map(tuple, moved[:, :2]))
+    assert np.all(np.abs(heel(moved) - heel(cur[None, :])) <= search.HEEL_BAND)
+    for k, axis in ((2, g.axes()[2]), (3, g.axes()[3]), (4, g.axes()[4])):
+        line = j[np.all(np.delete(j, k, axis=1) == np.delete(cur, k), axis=1)]
+        assert set(axis) <= set(line[:, k])
+
+
 # --- the lower bound of the cost ---------------------------------------------------------
 
 def test_steel_floor_by_hand():
@@ -273,8 +306,8 @@ def test_edge_pressure_cap_is_a_check():
 
 def test_screened_evaluation_decides_like_the_full_one():
     # screening (structure only for candidates passing stability) changes no decision:
-    # the same candidates pass, with the same utilization (the full evaluation curtails
-    # the stem bars, so its cost is the screened cost or less)
+    # the same candidates pass, with the same utilization and the same cost (the stem
+    # bars curtailed in both)
     d = demand(3.0)
     g = grid_for(d, 0.1)
     v = g.every(3)
@@ -286,7 +319,7 @@ def test_screened_evaluation_decides_like_the_full_one():
     assert full.ok.any() and (~full.ok).any()
     assert np.array_equal(full.ok, ok)
     assert np.allclose(full.utilization[ok], util[ok], rtol=1e-12)
-    assert np.all(full.cost[ok] <= cost[ok] + 1e-9)
+    assert np.allclose(full.cost[ok], cost[ok], rtol=1e-12)
 
 
 def test_stem_moment_table_is_conservative_and_close():

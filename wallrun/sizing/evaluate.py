@@ -252,9 +252,9 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     margin of :func:`limit`: it passes at <= 1).
 
     Stability is checked for every candidate and the structure designed for those that
-    pass it (every stem bar full height: the search ranks by that steel, which only
-    overstates the mass; the chosen sections are evaluated again with curtailment).
-    A candidate failing stability has its stability utilization and cost nan. ``seg``
+    pass it, stem bars curtailed as :func:`evaluate` curtails them (the search ranks by
+    the cost a design is given, not by a full-height steel whose excess varies from one
+    section to the next). A candidate failing stability has its stability utilization and cost nan. ``seg``
     (n,) numbers the batch (demand) of each row; ``complete`` (per batch) asks, when no
     candidate of that batch passes, for the structure of all its candidates too (the
     descent then follows complete utilizations). ``caps`` (n,): an edge-pressure cap per
@@ -272,7 +272,14 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     steel = np.full(n, np.nan)
     idx = np.flatnonzero((util <= one) & ~bad)
     if len(idx):
-        part = _structure_of(allx, sec, h_c, basis, None if len(idx) == n else idx)
+        if len(idx) == n:
+            s_allx, s_sec, s_cond = allx, sec, cond
+        else:  # the survivors from their own geometry (the same values as their rows)
+            s_sec = sec.subset(idx)
+            s_cond = conditions_of(s_sec.base_thickness_m, rows.take(idx), ground)
+            s_allx = allx.subset(idx)
+        part = _structure_of(s_allx, s_sec, h_c[idx], basis, None,
+                             stem_moment_at=_stem_moment_at(s_allx, s_sec, s_cond))
         util[idx] = np.maximum(util[idx], max_util(part.checks, len(idx), lim))
         steel[idx] = part.steel_kg_per_m
     ok = (util <= one) & ~bad

@@ -24,11 +24,17 @@ The moves of one demand:
 3. The descent (:func:`descent`) from the taller reference's section (a section that
    passes at a taller wall nearly always passes here, and a descent that starts from a
    passing section keeps to passing ones), the lower reference's section tried too.
+   Where the descent settles, its :func:`jumps` are checked: the stem moved along the
+   base with a base up to two steps thinner or one thicker and a stem one step either
+   way, every thickness on its own, every key; a cheaper section lies there where
+   single steps cross sections that fail or cost more (the bars of a member make its
+   cost jump with its thickness). The descent goes on from any better one.
 4. Widening: where the best section sits on a bound that a wider grid could move
    (:meth:`Grid.binding`), the bound is moved and the descent resumes.
-5. The ``FINALISTS`` cheapest passing candidates are checked in full with curtailed
-   stem bars (``evaluate.evaluate``), and the cheapest passing is the design (ties: the
-   lower utilization).
+5. The ``FINALISTS`` cheapest passing candidates are checked in full
+   (``evaluate.evaluate``), and the cheapest passing is the design (ties: the lower
+   utilization). The search ranks by the same cost: its stem bars are curtailed as the
+   design's are (``evaluate.screen``).
 
 Candidates whose lower bound of the cost (``evaluate.lower_bound``: the cost with the
 least steel a passing design carries) cannot beat the best found are never checked.
@@ -54,7 +60,7 @@ from . import evaluate as ev_
 from .conditions import (Demand, Rows, beyond_reason, founding_level, seismic_reason,
                          steep_reason)
 from .evaluate import Costing, SizedDesign
-from .grid import NDIM, Grid, codes, grid_for, valid_rows
+from .grid import B, KD, KW, NDIM, TB, TOE, TS, TT, Grid, codes, grid_for, valid_rows
 
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
@@ -67,6 +73,14 @@ SEEDS = 3
 FINALISTS = 4
 #: Bound moves a search may make.
 MAX_WIDEN = 4
+#: Base-width reach, in steps, of :func:`jumps` from a cold start's section.
+JUMP_HALF = 8
+#: Heel change, in steps, either way, of :func:`jumps`.
+HEEL_BAND = 2
+#: Half-width of the window of a descent from a reference's section (near the optimum).
+SEEDED_REACH = 4
+#: Jumps a descent may make.
+MAX_JUMPS = 3
 #: Largest number of candidates checked in one call (memory: every check is an array of
 #: this length, several hundred of them live at once).
 CHUNK = 60_000
@@ -224,7 +238,38 @@ _SMALL[:, :4] = _offsets(4)
 _FULL = _offsets(NDIM)
 
 
-def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True):
+def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_HALF) -> np.ndarray:
+    """Candidates beyond single steps from ``cur``, where a cheaper section lies across
+    sections that fail or cost more. A thinner base or stem that passes only with the
+    stem elsewhere on the base: base thickness -2..+1 steps and stem base -1..+1 steps
+    from cur's, each with the base width moved by up to ``reach`` steps either way and
+    the heel kept within ``HEEL_BAND`` steps of cur's (the toe takes the rest). Then the
+    whole range of base thickness, stem base and stem top, each with the rest as cur's
+    (the bars chosen for a member make its cost jump, not grow, with its thickness), and
+    every key with the rest as cur's. Invalid vectors are dropped by the driver."""
+    cur = np.asarray(cur, dtype=np.int64)
+    dz, ds, db, dh = (a.ravel() for a in np.meshgrid(
+        (-2, -1, 0, 1), (-1, 0, 1), np.arange(-reach, reach + 1),
+        np.arange(-HEEL_BAND, HEEL_BAND + 1), indexing="ij"))
+    win = np.repeat(cur[None, :], len(db), axis=0)
+    win[:, TB] += dz
+    win[:, TS] += ds
+    win[:, B] += db
+    win[:, TOE] += db - ds - dh  # heel = B - toe - stem base, moved by dh
+    axes = grid.axes()
+    lines = []
+    for k in (TB, TS, TT):
+        ln = np.repeat(cur[None, :], len(axes[k]), axis=0)
+        ln[:, k] = axes[k]
+        lines.append(ln)
+    kd, kw = (a.ravel() for a in np.meshgrid(axes[KD], axes[KW], indexing="ij"))
+    keys = np.repeat(cur[None, :], len(kd), axis=0)
+    keys[:, KD], keys[:, KW] = kd, kw
+    return np.vstack([win] + lines + [keys])
+
+
+def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True,
+            reach: int = JUMP_HALF):
     """The moves of the local search from ``start``, as neighbourhoods to check.
 
     A step checks a neighbourhood and moves to the cheapest passing candidate (while
@@ -232,12 +277,15 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     combination of -1..1 steps in base width, toe, base thickness and stem base, with
     (feasibility in the toe length is not convex) the whole toe range at the same base
     width and one step narrower; once that settles, the full one, -1..1 in all seven
-    entries, then the small one again; until nothing improves. ``extra`` candidates are
-    checked with the first neighbourhood. ``polish=False`` (a start near a known
-    optimum) takes the full neighbourhood first.
+    entries, then the small one again; until nothing improves. Then (at most
+    ``MAX_JUMPS`` times) the :func:`jumps` within ``reach`` of the settled candidate, and the descent
+    goes on from any better one they find. ``extra`` candidates are checked with the
+    first neighbourhood. ``polish=False`` (a start near a known optimum) takes the full
+    neighbourhood first.
     """
     cur = np.asarray(start, dtype=np.int64)
     use_full = not polish
+    jumped = 0
     for _ in range(max_iter):
         if use_full:
             cand = cur[None, :] + _FULL
@@ -263,7 +311,15 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 if use_full and not polish:
                     polish, use_full = True, False  # then the small one until it settles
                     continue
-                return
+                if jumped == MAX_JUMPS or store.best() is None:
+                    return
+                jumped += 1
+                yield jumps(cur, store.grid, reach)
+                b = store.best()
+                if np.array_equal(store.V[b], cur):
+                    return
+                cur, use_full = store.V[b].copy(), False
+                continue
             use_full = True
         else:
             use_full = False
@@ -321,7 +377,8 @@ def search_moves(store: Store, lower_bound, starts=()):
     passing (or there are no starts), then the widening."""
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
     if starts:
-        for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
+        for cand in descent(store, starts[0], extra=np.array(starts), polish=False,
+                            reach=SEEDED_REACH):
             yield Ask(cand)
     if store.best() is None:
         yield from cold_moves(store, lower_bound)
@@ -508,9 +565,9 @@ def nominal_section(demand: Demand, step: float, basis: Basis) -> Section:
     H = max(demand.h, 0.0) + demand.min_founding_depth_m
     r = lambda x: max(round(x / step) * step, step)  # noqa: E731
     t = max(r(max(basis.design.min_stem_m, H / 10)), r(basis.design.min_base_m))
-    B = max(r(0.7 * H), round(t + 2 * step, 6))
-    return Section(stem_top_m=r(basis.design.min_stem_m), stem_base_m=t, base_width_m=B,
-                   toe_m=min(r(0.25 * B), round(B - t - step, 6)), base_thickness_m=t)
+    width = max(r(0.7 * H), round(t + 2 * step, 6))
+    return Section(stem_top_m=r(basis.design.min_stem_m), stem_base_m=t, base_width_m=width,
+                   toe_m=min(r(0.25 * width), round(width - t - step, 6)), base_thickness_m=t)
 
 
 def flagged(demand: Demand, basis: Basis, costing: Costing, step: float, reason: str,
