@@ -116,29 +116,30 @@ def test_two_threads_design_and_write_as_one_after_the_other(tmp_path):
 
 def test_height_ranges_cut_the_batch_into_contiguous_parts_of_equal_work():
     """``--jobs N`` hands N ranges of retained height to the workers: every demand in
-    exactly one part, the parts contiguous in height, their weights (the heights)
-    within one demand's weight of an equal share (invented heights)."""
+    exactly one part, the parts contiguous in height, their weights (``search_work`` of
+    the heights) within one demand's weight of an equal share (invented heights)."""
     import numpy as np
 
-    from wallrun.pipeline import height_ranges
+    from wallrun.pipeline import height_ranges, search_work
 
     rng = np.random.default_rng(7)
     h = list(np.round(rng.uniform(0.5, 7.0, 301), 3))
+    w = [search_work(x) for x in h]
     for parts in (1, 2, 3, 8):
         got = height_ranges(h, parts)
         assert 1 <= len(got) <= parts
         assert sorted(k for p in got for k in p) == list(range(len(h)))
         for a, b in zip(got[:-1], got[1:]):
             assert max(h[k] for k in a) <= min(h[k] for k in b)
-        share = sum(h) / parts
+        share = sum(w) / parts
         for p in got[:-1]:
-            assert abs(sum(h[k] for k in p) - share) <= max(h) + 1e-9
+            assert abs(sum(w[k] for k in p) - share) <= max(w) + 1e-9
         # the first part (this process's) may take more: first / (first + parts - 1)
         got = height_ranges(h, parts, first=1.5)
         assert sorted(k for p in got for k in p) == list(range(len(h)))
         if parts > 1:
-            first = sum(h[k] for k in got[0])
-            assert abs(first - 1.5 * sum(h) / (parts + 0.5)) <= max(h) + 1e-9
+            first = sum(w[k] for k in got[0])
+            assert abs(first - 1.5 * sum(w) / (parts + 0.5)) <= max(w) + 1e-9
 
 
 def test_solver_and_callers_work_run_while_the_workers_search(monkeypatch):

@@ -192,6 +192,19 @@ def _stem_pressure_per_k(g, h, hw, q):
     return S, Sm, q * h, 0.5 * q * h ** 2, Pw, Pw * hw / 3.0
 
 
+def _stem_moments_per_k(g, h, hw, q):
+    """The moments of :func:`_stem_pressure_per_k` alone, about the bottom of a stem
+    length h (m) with water hw above that bottom: (Sm soil per unit K, Sqm surcharge per
+    unit K, Mw water), kNm/m. Where no water reaches the stem (hw = 0 everywhere) these
+    are g h^3 / 6, q h^2 / 2 and 0 (the integrals of :func:`stress_integrals` with
+    hw = 0), for the many depths of a curtailment table."""
+    if not np.any(hw):
+        hh = h * h
+        return g * (hh * h) / 6.0, 0.5 * q * hh, 0.0
+    (_, _, _), (m1, m2, m3) = stress_integrals(g, h, hw)
+    return m1 + m2 + m3, 0.5 * q * h ** 2, GAMMA_W * hw ** 3 / 6.0
+
+
 # --- factored actions of one set ---------------------------------------------------------------
 
 class _SetActions:
@@ -796,7 +809,7 @@ def _stem_moment(ctx: _Actions, y) -> np.ndarray:
     y = np.clip(y, 0.0, g.hc)
     # water on the stem above the section at depth y: level above the section
     hw = np.clip(g.w_stem_rel - (g.H - y), 0.0, y)
-    S, Sm, Sq, Sqm, Pw, Mw = _stem_pressure_per_k(g.gb, y, hw, g.q)
+    Sm, Sqm, Mw = _stem_moments_per_k(g.gb, y, hw, g.q)
     best = np.full(y.shape, -np.inf)
     for name, fs in _sets(basis):
         K = _stem_K(cond, basis, fs)

@@ -750,7 +750,9 @@ def _curtailment(sec, basis, fck, phi, s, As, h_s, stem_moment_at, M_base, qp_ba
         return tt + (tb - tt) * frac - c - phi / 2.0
 
     lo, hi = np.zeros(n), hs.copy()
-    for _ in range(24):  # g(y) = M(y) - MRd,half(y) grows with depth y
+    # g(y) = M(y) - MRd,half(y) grows with depth y; bisection to 1/65,536 of the stem
+    # height, keeping lo (g <= 0): the cut is never taken deeper than it is
+    for _ in range(16):
         mid = 0.5 * (lo + hi)
         g = (np.asarray(stem_moment_at(mid / 1000.0), dtype=float)
              - ec2.moment_resistance(half, d_at_depth(mid), fck, fyk, basis.concrete.alpha_cc))
