@@ -139,15 +139,16 @@ def test_search_reaches_a_cheapest_section_beyond_single_steps():
 
 
 def test_jumps_reach_across_the_base_and_every_thickness():
-    # the jump candidates of a settled section: the stem moved along the base (heel kept
-    # within HEEL_BAND) with a base up to two steps thinner, every thickness on its own
+    # the jump candidates of a settled section: the stem moved along the base (the heel
+    # by each of JUMP_HEEL steps) with a base up to two steps thinner, every thickness
+    # on its own
     g = grid_for(demand(3.0), 0.05)
     cur = np.array([60, 10, 8, 7, 5, 0, 0])
     j = search.jumps(cur, g, reach=6)
     heel = lambda v: v[:, 0] - v[:, 1] - v[:, 3]  # noqa: E731
     moved = j[(j[:, 2] == 6) & (j[:, 3] == 7)]
     assert {(60 + k, 10 + k) for k in range(-6, 7)} <= set(map(tuple, moved[:, :2]))
-    assert np.all(np.abs(heel(moved) - heel(cur[None, :])) <= search.HEEL_BAND)
+    assert set(heel(moved) - heel(cur[None, :])) <= set(search.JUMP_HEEL)
     for k, axis in ((2, g.axes()[2]), (3, g.axes()[3]), (4, g.axes()[4])):
         line = j[np.all(np.delete(j, k, axis=1) == np.delete(cur, k), axis=1)]
         assert set(axis) <= set(line[:, k])

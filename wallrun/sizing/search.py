@@ -25,8 +25,8 @@ The moves of one demand:
    passes at a taller wall nearly always passes here, and a descent that starts from a
    passing section keeps to passing ones), the lower reference's section tried too.
    Where the descent settles, its :func:`jumps` are checked: the stem moved along the
-   base with a base up to two steps thinner or one thicker and a stem one step either
-   way, every thickness on its own, every key; a cheaper section lies there where
+   base with a base up to two steps thinner and a stem one step either way, every
+   thickness on its own, every key; a cheaper section lies there where
    single steps cross sections that fail or cost more (the bars of a member make its
    cost jump with its thickness). The descent goes on from any better one.
 4. Widening: where the best section sits on a bound that a wider grid could move
@@ -73,12 +73,15 @@ SEEDS = 3
 FINALISTS = 4
 #: Bound moves a search may make.
 MAX_WIDEN = 4
-#: Base-width reach, in steps, of :func:`jumps` from a cold start's section.
-JUMP_HALF = 8
-#: Heel change, in steps, either way, of :func:`jumps`.
-HEEL_BAND = 2
-#: Half-width of the window of a descent from a reference's section (near the optimum).
-SEEDED_REACH = 4
+#: Base-width reach, in steps, of :func:`jumps`.
+JUMP_REACH = 8
+#: Base and stem thickness changes and heel changes, in steps, of :func:`jumps`. On 64
+#: sampled demands of unseen ground these found the exhaustive reference's cheapest
+#: within 0.5 % every time; a stem one step thicker, a heel three steps longer and a
+#: base width eight steps away were each needed by one of them.
+JUMP_BASE = (-2, -1, 0)
+JUMP_STEM = (-1, 0, 1)
+JUMP_HEEL = (-2, -1, 0, 1, 2, 3)
 #: Jumps a descent may make.
 MAX_JUMPS = 3
 #: Largest number of candidates checked in one call (memory: every check is an array of
@@ -238,19 +241,19 @@ _SMALL[:, :4] = _offsets(4)
 _FULL = _offsets(NDIM)
 
 
-def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_HALF) -> np.ndarray:
+def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     """Candidates beyond single steps from ``cur``, where a cheaper section lies across
-    sections that fail or cost more. A thinner base or stem that passes only with the
-    stem elsewhere on the base: base thickness -2..+1 steps and stem base -1..+1 steps
-    from cur's, each with the base width moved by up to ``reach`` steps either way and
-    the heel kept within ``HEEL_BAND`` steps of cur's (the toe takes the rest). Then the
-    whole range of base thickness, stem base and stem top, each with the rest as cur's
-    (the bars chosen for a member make its cost jump, not grow, with its thickness), and
-    every key with the rest as cur's. Invalid vectors are dropped by the driver."""
+    sections that fail or cost more. A thinner base or a thinner or thicker stem that
+    passes only with the stem elsewhere on the base: base thickness changed by each of
+    ``JUMP_BASE`` steps and stem base by each of ``JUMP_STEM``, each with the base width
+    moved by up to ``reach`` steps either way and the heel by each of ``JUMP_HEEL``
+    steps (the toe takes the rest). Then the whole range of base thickness, stem base and stem
+    top, each with the rest as cur's (the bars chosen for a member make its cost jump,
+    not grow, with its thickness), and every key with the rest as cur's. Invalid
+    vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
     dz, ds, db, dh = (a.ravel() for a in np.meshgrid(
-        (-2, -1, 0, 1), (-1, 0, 1), np.arange(-reach, reach + 1),
-        np.arange(-HEEL_BAND, HEEL_BAND + 1), indexing="ij"))
+        JUMP_BASE, JUMP_STEM, np.arange(-reach, reach + 1), JUMP_HEEL, indexing="ij"))
     win = np.repeat(cur[None, :], len(db), axis=0)
     win[:, TB] += dz
     win[:, TS] += ds
@@ -268,8 +271,7 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_HALF) -> np.ndarray:
     return np.vstack([win] + lines + [keys])
 
 
-def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True,
-            reach: int = JUMP_HALF):
+def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True):
     """The moves of the local search from ``start``, as neighbourhoods to check.
 
     A step checks a neighbourhood and moves to the cheapest passing candidate (while
@@ -278,7 +280,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     (feasibility in the toe length is not convex) the whole toe range at the same base
     width and one step narrower; once that settles, the full one, -1..1 in all seven
     entries, then the small one again; until nothing improves. Then (at most
-    ``MAX_JUMPS`` times) the :func:`jumps` within ``reach`` of the settled candidate, and the descent
+    ``MAX_JUMPS`` times) the :func:`jumps` of the settled candidate, and the descent
     goes on from any better one they find. ``extra`` candidates are checked with the
     first neighbourhood. ``polish=False`` (a start near a known optimum) takes the full
     neighbourhood first.
@@ -314,7 +316,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 if jumped == MAX_JUMPS or store.best() is None:
                     return
                 jumped += 1
-                yield jumps(cur, store.grid, reach)
+                yield jumps(cur, store.grid)
                 b = store.best()
                 if np.array_equal(store.V[b], cur):
                     return
@@ -377,8 +379,7 @@ def search_moves(store: Store, lower_bound, starts=()):
     passing (or there are no starts), then the widening."""
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
     if starts:
-        for cand in descent(store, starts[0], extra=np.array(starts), polish=False,
-                            reach=SEEDED_REACH):
+        for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
             yield Ask(cand)
     if store.best() is None:
         yield from cold_moves(store, lower_bound)
