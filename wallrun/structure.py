@@ -751,7 +751,8 @@ def _curtailment(sec, basis, fck, phi, s, As, h_s, stem_moment_at, M_base, qp_ba
 
     lo, hi = np.zeros(n), hs.copy()
     # g(y) = M(y) - MRd,half(y) grows with depth y; bisection to 1/65,536 of the stem
-    # height, keeping lo (g <= 0): the cut is never taken deeper than it is
+    # height, keeping lo (g <= 0): the cut taken is never below the true one, so the
+    # bars stop no lower than they may
     for _ in range(16):
         mid = 0.5 * (lo + hi)
         g = (np.asarray(stem_moment_at(mid / 1000.0), dtype=float)

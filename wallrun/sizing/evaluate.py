@@ -254,8 +254,8 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     Stability is checked for every candidate and the structure designed for those that
     pass it, stem bars curtailed as :func:`evaluate` curtails them (the search ranks by
     the cost a design is given, not by a full-height steel whose excess varies from one
-    section to the next). A candidate failing stability has its stability utilization and cost nan. ``seg``
-    (n,) numbers the batch (demand) of each row; ``complete`` (per batch) asks, when no
+    section to the next). A candidate failing stability has its stability utilization
+    and cost nan. ``seg`` (n,) numbers the batch (demand) of each row; ``complete`` (per batch) asks, when no
     candidate of that batch passes, for the structure of all its candidates too (the
     descent then follows complete utilizations). ``caps`` (n,): an edge-pressure cap per
     row (``joint_pressure``), inf for none.

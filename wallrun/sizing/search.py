@@ -26,9 +26,9 @@ The moves of one demand:
    passing section keeps to passing ones), the lower reference's section tried too.
    Where the descent settles, its :func:`jumps` are checked: the stem moved along the
    base with a base up to two steps thinner and a stem one step either way, every
-   thickness on its own, every key; a cheaper section lies there where
-   single steps cross sections that fail or cost more (the bars of a member make its
-   cost jump with its thickness). The descent goes on from any better one.
+   thickness on its own, every key; a cheaper section lies there where single steps
+   cross sections that fail or cost more (the bars of a member make its cost jump
+   with its thickness). The descent goes on from any better one.
 4. Widening: where the best section sits on a bound that a wider grid could move
    (:meth:`Grid.binding`), the bound is moved and the descent resumes.
 5. The ``FINALISTS`` cheapest passing candidates are checked in full
@@ -76,8 +76,8 @@ MAX_WIDEN = 4
 #: Base-width reach, in steps, of :func:`jumps`.
 JUMP_REACH = 8
 #: Base and stem thickness changes and heel changes, in steps, of :func:`jumps`. On 64
-#: sampled demands of unseen ground these found the exhaustive reference's cheapest
-#: within 0.5 % every time; a stem one step thicker, a heel three steps longer and a
+#: sampled demands of unseen ground (``benchmarks/optimality.py`` draws 28 of them)
+#: these found the exhaustive reference's cheapest within 0.5 % every time; a stem one step thicker, a heel three steps longer and a
 #: base width eight steps away were each needed by one of them.
 JUMP_BASE = (-2, -1, 0)
 JUMP_STEM = (-1, 0, 1)
@@ -247,10 +247,10 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     passes only with the stem elsewhere on the base: base thickness changed by each of
     ``JUMP_BASE`` steps and stem base by each of ``JUMP_STEM``, each with the base width
     moved by up to ``reach`` steps either way and the heel by each of ``JUMP_HEEL``
-    steps (the toe takes the rest). Then the whole range of base thickness, stem base and stem
-    top, each with the rest as cur's (the bars chosen for a member make its cost jump,
-    not grow, with its thickness), and every key with the rest as cur's. Invalid
-    vectors are dropped by the driver."""
+    steps (the toe takes the rest). Then the whole range of base thickness, stem base
+    and stem top, each with the rest as cur's (the bars chosen for a member make its
+    cost jump, not grow, with its thickness), and every key with the rest as cur's.
+    Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
     dz, ds, db, dh = (a.ravel() for a in np.meshgrid(
         JUMP_BASE, JUMP_STEM, np.arange(-reach, reach + 1), JUMP_HEEL, indexing="ij"))
