@@ -252,6 +252,13 @@ def test_design_order_summary_and_exit(fake_engine, tmp_path, capsys):
     s = capsys.readouterr().out
     assert "12.3 m3" in s and "987 kg" in s and "sliding DA1-2 at 0.910" in s and "P003" in s
     assert "5,000 cost units, 125 cost units per metre" in s
+    # what is not checked (each item in a few words), before the caution
+    from wallrun import load_site
+    from wallrun.cautions import CAUTION, SHORT, not_checked
+    items = not_checked(load_site(SITES / "platform-edge"))
+    line = next(x for x in s.splitlines() if x.startswith("Not checked"))
+    assert all(SHORT[i] in line for i in items) and line.count(";") == len(items) - 1
+    assert s.rstrip().endswith(CAUTION)
     state["ok"] = False
     calls.clear()
     assert main(["design", str(SITES / "platform-edge"), "--out", str(tmp_path / "o2"), "--quiet"]) == 3
@@ -300,7 +307,10 @@ def test_console_summary_of_a_thousand_panel_job_stays_short(capsys):
     from wallrun.cli import print_design_summary
     site = SimpleNamespace(project=SimpleNamespace(name="Long invented wall"),
                            takeoff=SimpleNamespace(money="EUR"),
-                           design=SimpleNamespace(sections="rationalised"))
+                           design=SimpleNamespace(sections="rationalised",
+                                                  restraint_steel=False),
+                           ground_model=SimpleNamespace(overall_stability=False),
+                           seismic=None)
     panels = []
     for k in range(1000):
         chk = SimpleNamespace(utilization=0.5 + (k % 97) / 200)

@@ -52,3 +52,24 @@ def not_checked(site) -> tuple[str, ...]:
 
 #: The list for a site with every optional check off (tests and documentation).
 NOT_CHECKED = (OVERALL, SEISMIC, RESTRAINT) + ALWAYS
+
+
+#: A few words for each item of :func:`not_checked`, for the console's one line.
+SHORT = {
+    OVERALL: "overall stability",
+    SEISMIC: "seismic actions",
+    RESTRAINT: "restraint steel",
+    ALWAYS[0]: "settlement and tilt",
+    ALWAYS[1]: "compaction pressures",
+    ALWAYS[2]: "frost",
+    ALWAYS[3]: "chemical attack",
+    ALWAYS[4]: "shear links",
+    ALWAYS[5]: "the key's bars",
+}
+
+
+def not_checked_line(site) -> str:
+    """:func:`not_checked` of ``site`` in one short line (each item in a few words,
+    the full texts in the report, the workbook and ``design.json``)."""
+    items = not_checked(site)
+    return "Not checked (see report.html): " + "; ".join(SHORT[i] for i in items) + "."

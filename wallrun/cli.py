@@ -470,7 +470,7 @@ def print_design_summary(result, out_dir) -> None:
     """What a practitioner reads first, in at most about 25 lines whatever the job: the
     runs, panels, types with their panel counts, concrete, steel (and kg per m3), cost
     and cost per metre in the site's currency, the governing panel, what is flagged."""
-    from wallrun.cautions import CAUTION
+    from wallrun.cautions import CAUTION, not_checked_line
     from wallrun.takeoff import DEMO_RATES_NOTE
 
     site = result.site
@@ -522,4 +522,5 @@ def print_design_summary(result, out_dir) -> None:
     if len(result.warnings) > 3:
         print(f"  ... and {len(result.warnings) - 3} more warnings (see report.html)")
     print(f"Outputs in {out_dir}")
+    print(not_checked_line(site))
     print(CAUTION)
