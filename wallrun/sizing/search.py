@@ -76,7 +76,7 @@ MAX_WIDEN = 4
 #: Base-width reach, in steps, of :func:`jumps`.
 JUMP_REACH = 8
 #: Base and stem thickness changes and heel changes, in steps, of :func:`jumps`. On 64
-#: sampled demands of unseen ground (``benchmarks/optimality.py`` draws 28 of them)
+#: sampled demands of invented ground (``benchmarks/optimality.py`` draws 28 of them)
 #: these found the exhaustive reference's cheapest within 0.5 % every time; a stem one step thicker, a heel three steps longer and a
 #: base width eight steps away were each needed by one of them.
 JUMP_BASE = (-2, -1, 0)
