@@ -243,6 +243,24 @@ def _stem_moment_at(allx, sec: SectionArrays, cond):
     return at
 
 
+def _curtailed_structure(allx, sec: SectionArrays, rows: Rows, cond, ground: Demand,
+                         basis: Basis, idx):
+    """The structural design, stem bars curtailed, of the candidates ``idx`` (those
+    that pass stability), from their own geometry (the same values as their rows of
+    all): (``structure.StructureResult``, their sections, rows and conditions)."""
+    if len(idx) == len(sec):
+        s_allx, s_sec, s_rows, s_cond = allx, sec, rows, cond
+    else:
+        s_sec, s_rows = sec.subset(idx), rows.take(idx)
+        s_cond = conditions_of(s_sec.base_thickness_m, s_rows, ground)
+        s_allx = allx.subset(idx)
+    zf = np.broadcast_to(np.asarray(s_cond.z_found, dtype=float), (len(idx),))
+    h_c = s_cond.z_top - zf - np.asarray(s_sec.base_thickness_m, dtype=float)
+    sr = _structure_of(s_allx, s_sec, h_c, basis, None,
+                       stem_moment_at=_stem_moment_at(s_allx, s_sec, s_cond))
+    return sr, s_sec, s_rows, s_cond
+
+
 # --- the search's evaluation -----------------------------------------------------------------
 
 def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
@@ -272,14 +290,7 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     steel = np.full(n, np.nan)
     idx = np.flatnonzero((util <= one) & ~bad)
     if len(idx):
-        if len(idx) == n:
-            s_allx, s_sec, s_cond = allx, sec, cond
-        else:  # the survivors from their own geometry (the same values as their rows)
-            s_sec = sec.subset(idx)
-            s_cond = conditions_of(s_sec.base_thickness_m, rows.take(idx), ground)
-            s_allx = allx.subset(idx)
-        part = _structure_of(s_allx, s_sec, h_c[idx], basis, None,
-                             stem_moment_at=_stem_moment_at(s_allx, s_sec, s_cond))
+        part = _curtailed_structure(allx, sec, rows, cond, ground, basis, idx)[0]
         util[idx] = np.maximum(util[idx], max_util(part.checks, len(idx), lim))
         steel[idx] = part.steel_kg_per_m
     ok = (util <= one) & ~bad
@@ -434,14 +445,8 @@ def priced(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     cost = np.full(n, np.inf)
     sr = None
     if len(idx):
-        # the survivors from their own geometry (the same values as their rows of all)
-        sub, s_rows = sec.subset(idx), rows.take(idx)
-        s_cond = conditions_of(sub.base_thickness_m, s_rows, ground)
-        s_allx = allx.subset(idx)
-        zf = np.broadcast_to(np.asarray(s_cond.z_found, dtype=float), (len(idx),))
-        h_c = s_cond.z_top - zf - np.asarray(sub.base_thickness_m, dtype=float)
-        sr = _structure_of(s_allx, sub, h_c, basis, None,
-                           stem_moment_at=_stem_moment_at(s_allx, sub, s_cond))
+        sr, sub, s_rows, s_cond = _curtailed_structure(allx, sec, rows, cond, ground, basis,
+                                                       idx)
         passed = max_util(sr.checks, len(idx), lim) <= one
         hs, D = stem_heights(sub, s_cond, s_rows)
         c = costing.per_metre(sub, hs, D, _full(sr.steel_kg_per_m, len(idx)))
