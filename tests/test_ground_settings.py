@@ -68,3 +68,9 @@ def test_slope_resistance_factor(tmp_path):
     toml = TOML + "[design]\napproach = \"DA2\"\n[factors.DA2]\ngR_slope = 1.2\n"
     s = load_site(make_site(tmp_path, toml=toml))
     assert s.factors["DA2"].gR_slope == 1.2
+
+
+def test_every_item_not_checked_has_its_few_words_for_the_console():
+    # the console's one line names each item of the list in a few words
+    assert set(cautions.SHORT) == set(cautions.NOT_CHECKED)
+    assert len(set(cautions.SHORT.values())) == len(cautions.SHORT)

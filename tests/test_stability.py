@@ -341,3 +341,18 @@ def test_levels_as_arrays_equal_one_panel_at_a_time():
         assert all(np.allclose(qp[k][i], q1[k], rtol=1e-12, atol=1e-12) for k in q1)
         assert np.allclose(edge[i], stab.edge_pressure_sls(s1, one, basis), rtol=1e-12)
         assert np.allclose(sm[i], stab.stem_moment(s1, one, basis, 1.2), rtol=1e-12)
+
+
+def test_stem_moments_by_hand_and_as_the_full_integrals():
+    # Dry stem of length h under soil of unit weight g and a surcharge q, per unit K:
+    # Sm = g h^3 / 6 (a triangle of pressure, resultant at h / 3) and Sqm = q h^2 / 2
+    # (hand calculation from design-basis section 3): g = 19 kN/m3, h = 3 m, q = 10 kPa
+    # give 85.5 and 45.0 kNm/m; with water the moments are those of the full integrals
+    Sm, Sqm, Mw = stab._stem_moments_per_k(19.0, np.array([3.0]), np.array([0.0]), 10.0)
+    assert Sm[0] == pytest.approx(85.5) and Sqm[0] == pytest.approx(45.0) and Mw == 0.0
+    h = np.array([1.0, 2.5, 4.0])
+    hw = np.array([0.0, 1.0, 4.0])
+    Sm, Sqm, Mw = stab._stem_moments_per_k(20.0, h, hw, 15.0)
+    _, Sm_f, _, Sqm_f, _, Mw_f = stab._stem_pressure_per_k(20.0, h, hw, 15.0)
+    assert np.allclose(Sm, Sm_f, rtol=1e-12) and np.allclose(Sqm, Sqm_f, rtol=1e-12)
+    assert np.allclose(Mw, Mw_f, rtol=1e-12)
