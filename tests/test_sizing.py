@@ -338,6 +338,43 @@ def test_stem_moment_table_is_conservative_and_close():
         assert np.all(ap <= ex * 1.01 + 0.05)
 
 
+def test_shared_stem_moment_columns_give_each_candidate_its_own_curtailment():
+    # candidates of equal stem height, base thickness and water share one column of the
+    # stem moment table (and one curtailment per distinct stem and bars): the table's
+    # moments, the stop heights and the steel equal those of a table with a column of
+    # its own for every candidate; two demands (water on one), a grid sample
+    from wallrun import stability, structure
+    water = Water(level_m=41.6)  # founding 0.45 m apart, the stem heights equal
+    ds = [demand(3.0, water=water), demand(3.0, z_front=40.45, water=water)]
+    g = grid_for(ds[0], 0.1)
+    v = g.every(3)
+    sec = g.sections(np.vstack([v, v]))
+    rows = Rows.of(ds, [len(v), len(v)])
+    cond = conditions_of(sec.base_thickness_m, rows, ds[0])
+    allx = stability.evaluate_all(sec, cond, BASIS)
+    shared = ev_._stem_moment_at(allx, sec, cond)
+    assert shared.M.shape[1] < len(sec) // 20  # columns are shared widely
+    n = len(sec)
+    own_M = np.asarray(allx.stem_moment(shared.frac[:, None] * shared.hc[shared.column][None, :]))
+    own = structure.StemMomentTable(own_M, shared.frac, shared.hc[shared.column], np.arange(n))
+    np.testing.assert_array_equal(shared.M[:, shared.column], own.M)
+    for y in (0.3, 1.1, 2.7):
+        np.testing.assert_array_equal(shared(np.full(n, y)), own(np.full(n, y)))
+    h_c = shared.hc[shared.column]
+    kw = dict(stem_height_m=h_c, limit=ev_.limit(BASIS))
+    a = structure.design_reinforcement(sec, allx.member_actions(), allx.qp(), BASIS,
+                                       stem_moment_at=shared, **kw)
+    b = structure.design_reinforcement(sec, allx.member_actions(), allx.qp(), BASIS,
+                                       stem_moment_at=own, **kw)
+    assert np.isfinite(a.stem_curtail_m).sum() > 10
+    np.testing.assert_array_equal(a.stem_curtail_m, b.stem_curtail_m)
+    np.testing.assert_array_equal(a.steel_kg_per_m, b.steel_kg_per_m)
+    # and a plain function of the depth (no table) curtails alike where it agrees
+    plain = structure.design_reinforcement(sec, allx.member_actions(), allx.qp(), BASIS,
+                                           stem_moment_at=lambda y: own(y), **kw)
+    np.testing.assert_array_equal(plain.stem_curtail_m, a.stem_curtail_m)
+
+
 def test_steep_backfill_is_flagged_not_raised():
     # phi'_k = 35 deg: phi'_d = atan(tan 35 / 1.25) = 29.26 deg in EQU and DA1-2 (hand
     # calculation of EN 1997-1 2.4.6.2 Eq. 2.2); a slope of 30 deg reaches it: no

@@ -530,6 +530,38 @@ def distinct_rows(*columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return order[new], inv
 
 
+@dataclass(frozen=True)
+class StemMomentTable:
+    """The ULS stem moment envelope of n candidates tabulated at k depths, for the
+    curtailment: ``M`` (k, m) kNm/m, column j at the depths ``frac`` (k,) x ``hc[j]``
+    below the top of the checked stem (``hc`` (m,), m); ``column`` (n,): the column of
+    each candidate (candidates whose stem moments are equal share one). Called with
+    depths y (m, (n,)) it gives the moment by linear interpolation in the table.
+
+    Conservative: the stem moment is convex in the depth (its second derivative is the
+    pressure on the stem, >= 0), so a chord lies on or above it and the interpolated
+    moment is never below the true one (bars only ever stop later)."""
+
+    M: np.ndarray
+    frac: np.ndarray
+    hc: np.ndarray
+    column: np.ndarray
+
+    def __call__(self, y) -> np.ndarray:
+        n, k = len(self.column), len(self.frac)
+        hc = self.hc[self.column]
+        y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
+        i = np.minimum(np.floor(t).astype(int), k - 2)
+        a = t - i
+        return (1.0 - a) * self.M[i, self.column] + a * self.M[i + 1, self.column]
+
+    def take(self, rows) -> "StemMomentTable":
+        """The table of the candidates ``rows`` only."""
+        return dataclasses.replace(self, column=self.column[rows])
+
+
 def _envelopes(actions: list[MemberActions], n: int):
     pos = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
     neg = {m: np.zeros(n) for m in ("stem", "heel", "toe")}
@@ -897,7 +929,16 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     else:
         h_s = _full(stem_height_m, n)
     curtail = None
-    if stem_moment_at is not None:
+    if isinstance(stem_moment_at, StemMomentTable):
+        # once for each distinct stem: the candidates sharing a moment column, stem
+        # thicknesses, stem bars, height and base moments share the curtailment
+        first, inv = distinct_rows(stem_moment_at.column, sec.stem_base_m, sec.stem_top_m,
+                                   phi["stem"], s["stem"], h_s, pos["stem"], q["stem"])
+        curtail = _curtailment(sec.subset(first), basis, fck, phi["stem"][first],
+                               s["stem"][first], As["stem"][first], h_s[first],
+                               stem_moment_at.take(first), pos["stem"][first],
+                               q["stem"][first])[inv]
+    elif stem_moment_at is not None:
         curtail = _curtailment(sec, basis, fck, phi["stem"], s["stem"], As["stem"], h_s, stem_moment_at,
                                pos["stem"], q["stem"])
     kg = _steel_mass(sec, basis, fck, phi, s, h_s, curtail, starters, np.isfinite(radii["heel"][1]),

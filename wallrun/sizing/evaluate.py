@@ -185,6 +185,15 @@ class Situations:
         m = self.allx.stem_moment(y)
         return np.maximum(m, self.sx.stem_moment(y)) if self.sx is not None else m
 
+    def stem_columns(self) -> tuple[np.ndarray, np.ndarray]:
+        """The candidates whose stem moments are equal at every depth
+        (``stability.AllActions.stem_columns``); in the seismic situation every
+        candidate is its own."""
+        if self.sx is not None:
+            n = self.allx.ctx.g.n
+            return np.arange(n), np.arange(n)
+        return self.allx.stem_columns()
+
     def subset(self, idx) -> "Situations":
         a = self.allx.subset(idx)
         return Situations(None, None, None, allx=a,
@@ -219,28 +228,19 @@ def _structure_of(allx, sec: SectionArrays, h_c: np.ndarray, basis: Basis, idx,
                                          cage_of=cage_of)
 
 
-def _stem_moment_at(allx, sec: SectionArrays, cond):
-    """``stem_moment_at(y)`` for the curtailment: the ULS stem moment envelope tabulated
-    at ``CURTAIL_DEPTHS`` depths 0..h_c of every candidate, linear between (kNm/m, y in
-    m below z_top). Conservative: the stem moment is convex in the depth (its second
-    derivative is the pressure on the stem, >= 0), so a chord lies on or above it and
-    the interpolated moment is never below the true one (bars only ever stop later)."""
+def _stem_moment_at(allx, sec: SectionArrays, cond) -> structure.StemMomentTable:
+    """The ULS stem moment envelope for the curtailment, tabulated at ``CURTAIL_DEPTHS``
+    depths 0..h_c (m below z_top) of every candidate (``structure.StemMomentTable``:
+    kNm/m, linear between the depths, never below the true moment), one column for the
+    candidates whose stem moments are equal (``Situations.stem_columns``)."""
     n, k = len(sec), CURTAIL_DEPTHS
     zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
     hc = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
+    first, column = allx.stem_columns()
+    src = allx if len(first) == n else allx.subset(first)
     frac = np.linspace(0.0, 1.0, k)
-    M = np.asarray(allx.stem_moment(frac[:, None] * hc[None, :]), dtype=float)
-    cols = np.arange(n)
-
-    def at(y):
-        y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t = np.where(hc > 0, np.clip(y / np.where(hc > 0, hc, 1.0), 0.0, 1.0), 0.0) * (k - 1)
-        i = np.minimum(np.floor(t).astype(int), k - 2)
-        a = t - i
-        return (1.0 - a) * M[i, cols] + a * M[i + 1, cols]
-
-    return at
+    M = np.asarray(src.stem_moment(frac[:, None] * hc[first][None, :]), dtype=float)
+    return structure.StemMomentTable(M, frac, hc[first], column)
 
 
 def _curtailed_structure(allx, sec: SectionArrays, rows: Rows, cond, ground: Demand,
