@@ -663,8 +663,9 @@ def linear_integral(c0, c1, s0, s1, a, b, p):
     moment about x = p with arm x - p)."""
     lo = np.maximum(a, s0)
     hi = np.maximum(np.minimum(b, s1), lo)
-    F = c0 * (hi - lo) + c1 * (hi ** 2 - lo ** 2) / 2.0
-    Mx = c0 * (hi ** 2 - lo ** 2) / 2.0 + c1 * (hi ** 3 - lo ** 3) / 3.0
+    h2, l2 = hi * hi, lo * lo  # powers as products: numpy's x ** 3 calls pow, 7 x slower
+    F = c0 * (hi - lo) + c1 * (h2 - l2) / 2.0
+    Mx = c0 * (h2 - l2) / 2.0 + c1 * (h2 * hi - l2 * lo) / 3.0
     return F, Mx - p * F
 
 

@@ -80,8 +80,9 @@ def passive_force(kp, gamma, z_surface, z_low, z_high):
     zs = np.asarray(z_surface, dtype=float)
     a = np.maximum(zs - np.asarray(z_low, dtype=float), 0.0)  # depth of the bottom
     b = np.maximum(zs - np.asarray(z_high, dtype=float), 0.0)  # depth of the top
-    P = 0.5 * kp * gamma * (a ** 2 - b ** 2)
-    m = kp * gamma * (a ** 3 - b ** 3) / 3.0  # first moment of depth
+    a2, b2 = a * a, b * b
+    P = 0.5 * kp * gamma * (a2 - b2)
+    m = kp * gamma * (a2 * a - b2 * b) / 3.0  # first moment of depth
     with np.errstate(divide="ignore", invalid="ignore"):
         depth = np.where(P > 0, m / np.where(P > 0, P, 1.0), a)
     return P, zs - depth
