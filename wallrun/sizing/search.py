@@ -99,17 +99,19 @@ FRESH_CHUNK = 200_000
 class Store:
     """The checked candidates of one demand: integer vectors, ok, cost, utilization.
 
-    A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones.
+    A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones. The
+    codes checked are kept sorted (membership by binary search) and the best candidate
+    is kept up to date as candidates are committed.
     """
 
     def __init__(self, grid: Grid):
         self.grid = grid
-        self.codes = np.zeros(0, dtype=np.int64)
+        self.codes = np.zeros(0, dtype=np.int64)  # sorted
         self.V = np.zeros((0, NDIM), dtype=np.int64)
         self.ok = np.zeros(0, dtype=bool)
         self.cost = np.zeros(0)
         self.util = np.zeros(0)
-        self._best, self._best_n = None, -1
+        self._best: int | None = None
 
     @property
     def checked(self) -> int:
@@ -118,16 +120,10 @@ class Store:
     def best(self) -> int | None:
         """Index of the cheapest passing candidate (ties: lower utilization, then the
         first checked), None when none passes."""
-        if self._best_n != len(self.ok):
-            b = None
-            if self.ok.any():
-                idx = np.flatnonzero(self.ok)
-                b = int(idx[np.lexsort((self.util[idx], self.cost[idx]))[0]])
-            self._best, self._best_n = b, len(self.ok)
         return self._best
 
     def best_cost(self) -> float:
-        b = self.best()
+        b = self._best
         return math.inf if b is None else float(self.cost[b])
 
     def fresh(self, v) -> tuple[np.ndarray, np.ndarray]:
@@ -135,13 +131,28 @@ class Store:
         their codes (:func:`fresh_many` of this store alone)."""
         return fresh_many([self], [v])[0]
 
+    def known(self, c: np.ndarray) -> np.ndarray:
+        """Mask of the codes ``c`` checked already."""
+        s = self.codes
+        if not len(s):
+            return np.zeros(len(c), dtype=bool)
+        return s[np.minimum(np.searchsorted(s, c), len(s) - 1)] == c
+
     def commit(self, v, c, ok, cost, util) -> None:
-        """Remember checked candidates ``v`` with their codes and results."""
+        """Remember checked candidates ``v`` (not checked before) with their codes and
+        results."""
+        n0 = len(self.ok)
         self.V = np.vstack([self.V, v])
-        self.codes = np.concatenate([self.codes, c])
+        self.codes = np.sort(np.concatenate([self.codes, c]))
         self.ok = np.concatenate([self.ok, ok])
         self.cost = np.concatenate([self.cost, cost])
         self.util = np.concatenate([self.util, util])
+        if np.any(ok):
+            idx = np.flatnonzero(ok)
+            j = int(idx[np.lexsort((util[idx], cost[idx]))[0]]) + n0
+            b = self._best
+            if b is None or (self.cost[j], self.util[j]) < (self.cost[b], self.util[b]):
+                self._best = j
 
     def nth_passing_cost(self, m: int) -> float:
         """Cost of the m-th cheapest passing candidate (inf: fewer pass)."""
@@ -206,7 +217,7 @@ def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarr
             continue
         vk, ck = V[a:b], c[a:b]
         if len(st.codes):
-            new = ~np.isin(ck, st.codes, assume_unique=True)
+            new = ~st.known(ck)
             vk, ck = vk[new], ck[new]
         out[k] = (vk, ck)
     return out
@@ -239,6 +250,16 @@ def _offsets(dims: int, radius: int = 1) -> np.ndarray:
 _SMALL = np.zeros((3 ** 4, NDIM), dtype=np.int64)
 _SMALL[:, :4] = _offsets(4)
 _FULL = _offsets(NDIM)
+
+
+def _keys_close(v: np.ndarray, grid: Grid) -> np.ndarray:
+    """Mask of the integer candidates ``v`` whose key entries are a listed option (no
+    key, or a listed depth with a listed width): two thirds of a full neighbourhood
+    are not, and are dropped before the driver's validity filter (which would drop
+    them too)."""
+    kd, kw = v[:, KD], v[:, KW]
+    return (kd >= 0) & (kd <= len(grid.key_depths)) & np.where(
+        kd > 0, (kw >= 0) & (kw < max(len(grid.key_widths), 1)), kw == 0)
 
 
 def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
@@ -291,6 +312,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     for _ in range(max_iter):
         if use_full:
             cand = cur[None, :] + _FULL
+            cand = cand[_keys_close(cand, store.grid)]
         else:
             toes = np.arange(0, cur[0] + 1)
             line = np.repeat(cur[None, :], 2 * len(toes), axis=0)
