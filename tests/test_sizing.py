@@ -250,6 +250,26 @@ def test_result_independent_of_order_and_of_what_else_is_designed():
         assert _key(a) == _key(b) == _key(c) == _key(e)
 
 
+def test_known_references_are_not_searched_again_and_change_nothing():
+    # a design call's later batches reuse the reference searches of its earlier ones:
+    # the same designs as searched afresh, no reference checked twice
+    ds = [demand(h, z_front=40.0 + 0.037 * k) for k, h in enumerate((1.2, 2.9, 1.9))]
+    refs: dict = {}
+    first = bespoke(ds[:2], BASIS, Costing(), 0.1, references=refs)
+    assert refs and all(search.reference(d, h) in refs for d in ds[:2]
+                        for h in search.reference_heights(d.h))
+    st: list = []
+    again = bespoke(ds, BASIS, Costing(), 0.1, stats=st, references=refs)
+    fresh = bespoke(ds, BASIS, Costing(), 0.1)
+    # 1.9 m: the references at 2.0 and 1.75 m are new, those of 1.2 and 2.9 m known
+    assert st[0].references == 2
+    bespoke(ds, BASIS, Costing(), 0.1, stats=st, references=refs)
+    assert st[1].references == 0 and st[1].checked_references == 0
+    for a, b in zip(again, fresh):
+        assert _key(a) == _key(b)
+    assert [_key(x) for x in first] == [_key(x) for x in fresh[:2]]
+
+
 def test_two_threads_design_as_one_after_the_other():
     ds1 = [demand(h) for h in (1.4, 2.6)]
     ds2 = [demand(h, foundation=Foundation(friction_angle_deg=26.0)) for h in (1.8, 3.1)]

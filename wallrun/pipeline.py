@@ -59,6 +59,8 @@ class Sizer:
         self.designs: dict[Demand, SizedDesign] = dict(known or {})
         self.seconds = 0.0
         self.stats: list = []
+        # the reference searches made so far in this call (search.bespoke's references)
+        self.references: dict = {}
 
     def __call__(self, demands) -> list[SizedDesign]:
         new = [d for d in dict.fromkeys(demands) if d not in self.designs]
@@ -80,15 +82,16 @@ class Sizer:
     def _bespoke(self, new: list[Demand]) -> list[SizedDesign]:
         args = (self.basis, self.costing, self.step)
         if self.executor is None or len(new) < PARALLEL_FROM:
-            return search.bespoke(new, *args, stats=self.stats)
+            return search.bespoke(new, *args, stats=self.stats, references=self.references)
         parts = height_ranges([d.h for d in new], self.parts, FIRST_PART)
         # the executor searches every part but the first, which this process searches
         # meanwhile
-        futures = [self.executor.submit(_bespoke_part, [new[k] for k in p], *args)
+        futures = [self.executor.submit(_bespoke_part, [new[k] for k in p], *args,
+                                        self.references)
                    for p in parts[1:]]
         got: list[SizedDesign | None] = [None] * len(new)
         try:
-            done = [_bespoke_part([new[k] for k in parts[0]], *args)]
+            done = [_bespoke_part([new[k] for k in parts[0]], *args, self.references)]
             if self.meanwhile is not None:
                 self.meanwhile()
                 self.meanwhile = None
@@ -97,8 +100,9 @@ class Sizer:
                 f.cancel()
             raise
         done += [f.result() for f in futures]
-        for p, (designs, st) in zip(parts, done):
+        for p, (designs, st, refs) in zip(parts, done):
             self.stats.append(st)
+            self.references.update(refs)
             for k, sd in zip(p, designs):
                 got[k] = sd
         return got
@@ -152,11 +156,13 @@ def height_ranges(heights, parts: int, first: float = 1.0) -> list[list[int]]:
     return out
 
 
-def _bespoke_part(demands, basis, costing, step):
+def _bespoke_part(demands, basis, costing, step, references=None):
     """One share of a bespoke batch (a worker's, or this process's): (designs, search
-    stats)."""
+    stats, the reference searches known after it: those given and those made)."""
     stats: list = []
-    return search.bespoke(demands, basis, costing, step, stats=stats), stats[0]
+    refs = dict(references or {})
+    return search.bespoke(demands, basis, costing, step, stats=stats, references=refs), \
+        stats[0], refs
 
 
 def design(site: Site, progress=None, executor=None, parts: int = 2,

@@ -642,10 +642,14 @@ class SearchStats:
 
 
 def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | None = None,
-            stats: list | None = None) -> list[SizedDesign]:
+            stats: list | None = None, references: dict | None = None) -> list[SizedDesign]:
     """The bespoke design of each of ``demands`` (in their order), each distinct demand
     searched once (see the module docstring). ``stats``: a list to which a
-    :class:`SearchStats` is appended."""
+    :class:`SearchStats` is appended. ``references``: the reference searches already
+    made with this basis, costing and step (reference demand -> its best integer vector,
+    None where nothing passed), which are not searched again; those searched here are
+    added to it (a reference's search depends on the reference demand alone, so the
+    designs are the same with or without it)."""
     step = float(step if step is not None else basis.design.dimension_step_m)
     uniq = list(dict.fromkeys(demands))
     out: dict[Demand, SizedDesign] = {}
@@ -662,23 +666,25 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
         return lambda v: ev_.lower_bound(g.sections(v), rows1(len(v)), d, costing, basis)
 
     # 1. the references, searched cold
+    known = {} if references is None else references
     refs = list(dict.fromkeys(reference(d, h) for d in todo for h in reference_heights(d.h)))
     ref_tasks = {}
     for r in refs:
+        if r in known:
+            continue
         s = Store(grid_for(r, step, basis.design))
         ref_tasks[r] = _Task(r, s, cold_moves(s, lb_of(r, s.grid)))
     checked_refs = _run_by_ground(list(ref_tasks.values()), basis, costing)
+    for r, t in ref_tasks.items():
+        b = t.store.best()
+        known[r] = None if b is None else t.store.V[b].copy()
 
     # 2. the demands, from their references' best sections
     tasks = []
     for d in todo:
         s = Store(grid_for(d, step, basis.design))
-        starts = []
-        for h in reference_heights(d.h):
-            rs = ref_tasks[reference(d, h)].store
-            b = rs.best()
-            if b is not None:
-                starts.append(rs.V[b].copy())
+        starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
+                  if known[reference(d, h)] is not None]
         tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
 
@@ -686,7 +692,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     for d, sd in zip(todo, finish(tasks, basis, costing)):
         out[d] = sd
     if stats is not None:
-        stats.append(SearchStats(checked=checked, demands=len(todo), references=len(refs),
+        stats.append(SearchStats(checked=checked, demands=len(todo), references=len(ref_tasks),
                                  checked_references=checked_refs))
     return [out[d] for d in demands]
 
