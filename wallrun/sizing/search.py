@@ -100,22 +100,38 @@ class Store:
     """The checked candidates of one demand: integer vectors, ok, cost, utilization.
 
     A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones. The
-    codes checked are kept sorted (membership by binary search) and the best candidate
-    is kept up to date as candidates are committed.
+    codes checked are kept sorted (membership by binary search), the best candidate is
+    kept up to date as batches are committed, and the batches are joined only when the
+    whole record is read (``V``, ``ok``, ``cost``, ``util``).
     """
 
     def __init__(self, grid: Grid):
         self.grid = grid
         self.codes = np.zeros(0, dtype=np.int64)  # sorted
-        self.V = np.zeros((0, NDIM), dtype=np.int64)
-        self.ok = np.zeros(0, dtype=bool)
-        self.cost = np.zeros(0)
-        self.util = np.zeros(0)
+        self._parts: list[tuple] = []
+        self._joined: tuple | None = None
+        self._n = 0
         self._best: int | None = None
+        self._best_of: tuple | None = None  # (cost, util, vector) of the best
 
     @property
     def checked(self) -> int:
-        return len(self.ok)
+        return self._n
+
+    def _record(self) -> tuple:
+        if self._joined is None:
+            if self._parts:
+                self._joined = tuple(np.concatenate(c) for c in zip(*self._parts))
+            else:
+                self._joined = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
+                                np.zeros(0), np.zeros(0))
+            self._parts = [self._joined] if self._parts else []
+        return self._joined
+
+    V = property(lambda self: self._record()[0], doc="Integer vectors checked, (n, NDIM).")
+    ok = property(lambda self: self._record()[1], doc="Passes every check, (n,).")
+    cost = property(lambda self: self._record()[2], doc="Cost per metre, (n,).")
+    util = property(lambda self: self._record()[3], doc="Utilization (passes at <= 1), (n,).")
 
     def best(self) -> int | None:
         """Index of the cheapest passing candidate (ties: lower utilization, then the
@@ -123,8 +139,11 @@ class Store:
         return self._best
 
     def best_cost(self) -> float:
-        b = self._best
-        return math.inf if b is None else float(self.cost[b])
+        return math.inf if self._best is None else float(self._best_of[0])
+
+    def best_vector(self) -> np.ndarray:
+        """The integer vector of the best candidate (a copy)."""
+        return self._best_of[2].copy()
 
     def fresh(self, v) -> tuple[np.ndarray, np.ndarray]:
         """The valid candidates of ``v`` not checked yet, once each (in code order), and
@@ -139,20 +158,20 @@ class Store:
         return s[np.minimum(np.searchsorted(s, c), len(s) - 1)] == c
 
     def commit(self, v, c, ok, cost, util) -> None:
-        """Remember checked candidates ``v`` (not checked before) with their codes and
-        results."""
-        n0 = len(self.ok)
-        self.V = np.vstack([self.V, v])
-        self.codes = np.sort(np.concatenate([self.codes, c]))
-        self.ok = np.concatenate([self.ok, ok])
-        self.cost = np.concatenate([self.cost, cost])
-        self.util = np.concatenate([self.util, util])
+        """Remember checked candidates ``v`` (not checked before) with their codes (in
+        increasing order) and results."""
+        n0 = self._n
+        self._parts.append((np.asarray(v, dtype=np.int64).reshape(-1, NDIM),
+                            np.asarray(ok, dtype=bool), np.asarray(cost, dtype=float),
+                            np.asarray(util, dtype=float)))
+        self._joined = None
+        self._n += len(ok)
+        self.codes = np.insert(self.codes, np.searchsorted(self.codes, c), c)
         if np.any(ok):
             idx = np.flatnonzero(ok)
-            j = int(idx[np.lexsort((util[idx], cost[idx]))[0]]) + n0
-            b = self._best
-            if b is None or (self.cost[j], self.util[j]) < (self.cost[b], self.util[b]):
-                self._best = j
+            j = int(idx[np.lexsort((util[idx], cost[idx]))[0]])
+            if self._best is None or (cost[j], util[j]) < self._best_of[:2]:
+                self._best, self._best_of = n0 + j, (cost[j], util[j], v[j].copy())
 
     def nth_passing_cost(self, m: int) -> float:
         """Cost of the m-th cheapest passing candidate (inf: fewer pass)."""
@@ -314,7 +333,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
             cand = cur[None, :] + _FULL
             cand = cand[_keys_close(cand, store.grid)]
         else:
-            toes = np.arange(0, cur[0] + 1)
+            # (toes beyond the grid's toe bound are dropped by the driver anyway)
+            toes = np.arange(0, max(cur[B] // 2 if store.grid.toe_half
+                                    else cur[B] - cur[TS] - 1, 0) + 1)
             line = np.repeat(cur[None, :], 2 * len(toes), axis=0)
             line[len(toes):, 0] -= 1
             line[:, 1] = np.tile(toes, 2)
@@ -325,7 +346,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
         yield cand
         b = store.best()
         if b is not None:
-            nxt = store.V[b]
+            nxt = store.best_vector()
         elif store.checked:
             nxt = store.V[int(np.argmin(store.util))]
         else:
@@ -340,9 +361,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 jumped += 1
                 yield jumps(cur, store.grid)
                 b = store.best()
-                if np.array_equal(store.V[b], cur):
+                if np.array_equal(store.best_vector(), cur):
                     return
-                cur, use_full = store.V[b].copy(), False
+                cur, use_full = store.best_vector(), False
                 continue
             use_full = True
         else:
@@ -387,11 +408,11 @@ def widen_moves(store: Store):
         b = store.best()
         if b is None:
             return
-        names = store.grid.binding(store.V[b])
+        names = store.grid.binding(store.best_vector())
         if not names:
             return
         store.grid = store.grid.widened(names)
-        for cand in descent(store, store.V[b].copy()):
+        for cand in descent(store, store.best_vector()):
             yield Ask(cand)
 
 
@@ -523,7 +544,7 @@ def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK)
             dems = [t.demand for t, _, _ in part]
             rows = Rows.of(dems, cnt)
             seg = np.repeat(np.arange(len(part)), cnt)
-            complete = np.array([not t.store.ok.any() for t, _, _ in part])
+            complete = np.array([t.store.best() is None for t, _, _ in part])
             ok, cost, util = ev_.screen(sec, rows, ground, basis, costing, seg, complete,
                                         caps=ev_.caps_of(dems, cnt))
             checked += len(sec)
@@ -677,7 +698,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked_refs = _run_by_ground(list(ref_tasks.values()), basis, costing)
     for r, t in ref_tasks.items():
         b = t.store.best()
-        known[r] = None if b is None else t.store.V[b].copy()
+        known[r] = None if b is None else t.store.best_vector()
 
     # 2. the demands, from their references' best sections
     tasks = []
