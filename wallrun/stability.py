@@ -766,13 +766,16 @@ def base_member_actions(g: Geometry, V, e, f_concrete, f_soil, f_heel_load, down
     down_M = (f_concrete * GAMMA_C * g.t * Lh ** 2 / 2 + f_soil * g.W_s_heel * (g.x_s_heel - xh)
               + f_heel_load * g.q * Lh ** 2 / 2 + P_B * Lh)
     cF, cM = linear_integral(c0, c1, s0, s1, xh, B, xh)
-    uc1 = f_uplift * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
-    uF, uM = linear_integral(0.0, uc1, 0.0, B, xh, B, xh)
+    cF2, cM2 = linear_integral(c0, c1, s0, s1, 0.0, toe, toe)
+    if np.any(g.hw):
+        uc1 = f_uplift * GAMMA_W * g.hw / B  # uplift gamma_w hw x / B
+        uF, uM = linear_integral(0.0, uc1, 0.0, B, xh, B, xh)
+        uF2, uM2 = linear_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
+    else:  # no water under the base: no uplift (the integrals are zero)
+        uF = uM = uF2 = uM2 = 0.0
     M_heel = down_M - cM - uM
     V_heel = np.abs(down_F - cF - uF)
     # toe, about the front face of the stem x = toe (arm toe - x)
-    cF2, cM2 = linear_integral(c0, c1, s0, s1, 0.0, toe, toe)
-    uF2, uM2 = linear_integral(0.0, uc1, 0.0, B, 0.0, toe, toe)
     wF = f_concrete * GAMMA_C * g.t * toe
     M_toe = -(cM2 + uM2) - wF * toe / 2.0
     V_toe = np.abs(cF2 + uF2 - wF)
