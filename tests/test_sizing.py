@@ -395,6 +395,29 @@ def test_shared_stem_moment_columns_give_each_candidate_its_own_curtailment():
     np.testing.assert_array_equal(plain.stem_curtail_m, a.stem_curtail_m)
 
 
+def test_stem_moment_table_of_distinct_stems_out_of_order():
+    # every stem its own and the batch not in the order of the distinct stems (the
+    # taller wall first): each candidate's column is its own, at its own depths; the
+    # stability module's own stem_moment at the same depths is the check value
+    from wallrun import stability
+    ds = [demand(4.0), demand(2.0)]
+    sec = SectionArrays.of([Section(0.25, 0.40, 2.8, 0.7, 0.40),
+                            Section(0.25, 0.30, 1.6, 0.4, 0.30)])
+    rows = Rows.of(ds, [1, 1])
+    cond = conditions_of(sec.base_thickness_m, rows, ds[0])
+    allx = stability.evaluate_all(sec, cond, BASIS)
+    assert list(allx.stem_columns()[0]) == [1, 0]  # the distinct stems, sorted
+    at = ev_._stem_moment_at(allx, sec, cond)
+    for y in ([3.0, 1.0], [0.5, 0.5], [4.0, 2.0]):
+        exact = stability.stem_moment(sec, cond, BASIS, np.array(y))
+        got = at(np.array(y))
+        assert np.all(got >= exact - 1e-9) and np.all(got <= exact * 1.01 + 0.05)
+    # and a candidate's design is the same in any batch order
+    fwd = ev_.evaluate(sec, rows, ds[0], BASIS, Costing())
+    rev = ev_.evaluate(sec.subset([1, 0]), Rows.of(ds[::-1], [1, 1]), ds[0], BASIS, Costing())
+    assert fwd.cost[0] == rev.cost[1] and fwd.cost[1] == rev.cost[0]
+
+
 def test_steep_backfill_is_flagged_not_raised():
     # phi'_k = 35 deg: phi'_d = atan(tan 35 / 1.25) = 29.26 deg in EQU and DA1-2 (hand
     # calculation of EN 1997-1 2.4.6.2 Eq. 2.2); a slope of 30 deg reaches it: no

@@ -138,11 +138,9 @@ def height_ranges(heights, parts: int, first: float = 1.0) -> list[list[int]]:
     reference demands), the first ``first`` times the work of each other and those of
     about equal work. A demand's search work grows faster than its retained height
     (its grid has more values, its cold references more candidates): each weighs
-    :func:`search_work`, max(h, 0.1 m)^1.5 (at 10 km the parts of this process and the
-    worker, searched one after the other, took 3.00 and 3.33 s, against 2.70 and
-    3.56 s weighed by h; with the search's jumps, about 3.0 and 4.2 s, and with
-    ``--jobs 2`` the worker's part ends about when this process has also loaded the
-    solver and the writers, 2026-12-03)."""
+    :func:`search_work`, max(h, 0.1 m)^1.5 (at 10 km with ``--jobs 2`` the worker's
+    part ends about when this process has searched its own and loaded the solver and
+    the writers; weighed by h, the worker's part was the longer by about 0.9 s)."""
     order = sorted(range(len(heights)), key=lambda k: (heights[k], k))
     w = [search_work(heights[k]) for k in order]
     total, out, cur, acc = sum(w), [], [], 0.0

@@ -237,6 +237,8 @@ def _stem_moment_at(allx, sec: SectionArrays, cond) -> structure.StemMomentTable
     zf = np.broadcast_to(np.asarray(cond.z_found, dtype=float), (n,))
     hc = np.maximum(cond.z_top - zf - np.asarray(sec.base_thickness_m, dtype=float), 0.0)
     first, column = allx.stem_columns()
+    if len(first) == n:  # every stem its own: a column per candidate, in their order
+        first = column = np.arange(n)
     src = allx if len(first) == n else allx.subset(first)
     frac = np.linspace(0.0, 1.0, k)
     M = np.asarray(src.stem_moment(frac[:, None] * hc[first][None, :]), dtype=float)
