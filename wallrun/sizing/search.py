@@ -281,6 +281,22 @@ def _keys_close(v: np.ndarray, grid: Grid) -> np.ndarray:
         kd > 0, (kw >= 0) & (kw < max(len(grid.key_widths), 1)), kw == 0)
 
 
+def _jump_window(reach: int) -> np.ndarray:
+    """The moves of :func:`jumps`' window: base thickness by each of ``JUMP_BASE``
+    steps and stem base by each of ``JUMP_STEM``, each with the base width moved by up
+    to ``reach`` steps either way and the heel by each of ``JUMP_HEEL`` steps (the toe
+    takes the rest: heel = B - toe - stem base), (m, NDIM)."""
+    dz, ds, db, dh = (a.ravel() for a in np.meshgrid(
+        JUMP_BASE, JUMP_STEM, np.arange(-reach, reach + 1), JUMP_HEEL, indexing="ij"))
+    out = np.zeros((len(db), NDIM), dtype=np.int64)
+    out[:, TB], out[:, TS], out[:, B] = dz, ds, db
+    out[:, TOE] = db - ds - dh
+    return out
+
+
+_JUMP_WINDOW = _jump_window(JUMP_REACH)
+
+
 def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     """Candidates beyond single steps from ``cur``, where a cheaper section lies across
     sections that fail or cost more. A thinner base or a thinner or thicker stem that
@@ -292,13 +308,7 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     cost jump, not grow, with its thickness), and every key with the rest as cur's.
     Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
-    dz, ds, db, dh = (a.ravel() for a in np.meshgrid(
-        JUMP_BASE, JUMP_STEM, np.arange(-reach, reach + 1), JUMP_HEEL, indexing="ij"))
-    win = np.repeat(cur[None, :], len(db), axis=0)
-    win[:, TB] += dz
-    win[:, TS] += ds
-    win[:, B] += db
-    win[:, TOE] += db - ds - dh  # heel = B - toe - stem base, moved by dh
+    win = cur[None, :] + (_JUMP_WINDOW if reach == JUMP_REACH else _jump_window(reach))
     axes = grid.axes()
     lines = []
     for k in (TB, TS, TT):
