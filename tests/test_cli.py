@@ -262,7 +262,37 @@ def test_design_order_summary_and_exit(fake_engine, tmp_path, capsys):
     state["ok"] = False
     calls.clear()
     assert main(["design", str(SITES / "platform-edge"), "--out", str(tmp_path / "o2"), "--quiet"]) == 3
-    assert "P003: no section passes" in capsys.readouterr().out
+    s = capsys.readouterr().out
+    assert "P003: no section passes" in s
+    # its only panel flagged: no cost is given, only why
+    assert "Cost: none; no panel could be designed" in s and "per metre" not in s
+
+
+def test_design_with_no_designable_panel_gives_no_cost(tmp_path, capsys):
+    # a backfill slope of 29 deg under phi'_k = 33 deg is accepted (below phi'_k) but
+    # above phi'_d = atan(tan 33 / 1.25) = 27.45 deg (EN 1997-1 2.4.6.2, hand
+    # calculation): no active limit state, every panel flagged. The console, cost.csv,
+    # the workbook and the report say there is no cost, not a total of zero
+    import csv
+    import shutil
+
+    from wallrun.cautions import NOTHING_DESIGNED
+    site = tmp_path / "steep"
+    shutil.copytree(SITES / "hillside-cut", site)
+    toml = (site / "site.toml").read_text()
+    assert "slope_deg = 15.0" in toml
+    (site / "site.toml").write_text(toml.replace("slope_deg = 15.0", "slope_deg = 29.0"))
+    out = tmp_path / "out"
+    assert main(["design", str(site), "--out", str(out), "--quiet"]) == 3
+    s = capsys.readouterr().out
+    assert f"Cost: none; {NOTHING_DESIGNED}" in s and "per metre" not in s
+    rows = list(csv.DictReader((out / "cost.csv").open(encoding="utf-8")))
+    assert rows[-1]["item"] == "total" and rows[-1]["note"].startswith(NOTHING_DESIGNED)
+    assert f"none: {NOTHING_DESIGNED}" in (out / "report.html").read_text(encoding="utf-8")
+    import openpyxl
+    wb = openpyxl.load_workbook(out / "schedule.xlsx", read_only=True)
+    cautions = [r for r in wb["cautions"].iter_rows(values_only=True) if r[0] == "cost"]
+    assert cautions and cautions[0][1].lower().startswith(NOTHING_DESIGNED[:30])
 
 
 def test_design_refuses_unwritable_out_before_work(fake_engine, tmp_path, capsys):

@@ -11,6 +11,10 @@ CAUTION = ("wallrun is a preliminary design aid. Every result is to be checked, 
            "design signed, by a qualified engineer under the local codes and the national "
            "annex in force.")
 
+#: Said, in place of a cost, where no panel could be designed.
+NOTHING_DESIGNED = ("no panel could be designed, so nothing is measured or priced; the "
+                    "reasons are in panels.csv")
+
 OVERALL = "overall (deep-seated) stability of the slope and wall together (EN 1997-1 11.5.1)"
 SEISMIC = "seismic actions (EN 1998-5)"
 RESTRAINT = ("minimum reinforcement for crack control of restrained early-age and shrinkage "

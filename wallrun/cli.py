@@ -491,7 +491,10 @@ def print_design_summary(result, out_dir) -> None:
         print(f"Concrete {conc:.1f} {cu}, reinforcement {steel:,.0f} {su} "
               f"({steel / conc:.0f} kg/m3)")
     cost = result.cost
-    if length > 0:
+    if panels and not any(p.status == "ok" for p in panels):  # result.nothing_designed
+        from wallrun.cautions import NOTHING_DESIGNED
+        print(f"Cost: none; {NOTHING_DESIGNED}")
+    elif length > 0:
         note = "" if cost.complete else " (incomplete: some items have no rate)"
         print(f"Cost {cost.total:,.0f} {money}, {cost.total / length:,.0f} {money} per metre{note}")
     if cost.demo_rates:

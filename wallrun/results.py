@@ -557,3 +557,9 @@ class DesignResult:
     def ok(self) -> bool:
         return all(p.status == "ok" for p in self.panels) and all(
             j.status == "ok" for j in self.joints)
+
+    @property
+    def nothing_designed(self) -> bool:
+        """No panel could be designed: nothing is measured or priced, and the zero
+        totals are no estimate (the outputs say so instead of giving a cost)."""
+        return not any(p.status == "ok" for p in self.panels)

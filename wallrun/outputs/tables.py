@@ -222,6 +222,9 @@ def cost_csv_rows(result: DesignResult) -> list[dict]:
                      "rate": r.rate if r.rate is not None else "unpriced",
                      "amount": r.amount, "note": note})
     notes = []
+    if result.nothing_designed:
+        from wallrun.cautions import NOTHING_DESIGNED
+        notes.append(NOTHING_DESIGNED)
     if not c.complete:
         notes.append("incomplete: unpriced items left out")
     if c.demo_rates:

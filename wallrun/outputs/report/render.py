@@ -21,7 +21,7 @@ import jinja2
 import markupsafe
 
 import wallrun
-from wallrun.cautions import CAUTION, not_checked
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
 from wallrun.codes import ec2
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED
 from wallrun.outputs.report import calc, figures
@@ -299,6 +299,7 @@ def context(result, date: str | None = None) -> dict:
         "umax": seen["umax"],
         "type_length": type_length, "calcs": calcs,
         "cost_rows": cost_csv_rows(result),
+        "nothing_designed": NOTHING_DESIGNED,
     }
 
 
