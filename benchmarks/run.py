@@ -5,6 +5,7 @@
     python benchmarks/run.py --km 10 --json   # one JSON object (a list for several km)
     python benchmarks/run.py --km 1 --gap 4   # and the optimality gap of 4 panels
     python benchmarks/run.py --km 10 --jobs 1 # in one process, the command line's default
+    python benchmarks/run.py --km 10 --repeat 5  # five runs and their median
 
 By default the run uses the cores this process may use (``--jobs`` set to their
 number, as one would give the command line's ``--jobs`` on the machine: the search in
@@ -204,8 +205,27 @@ def _cost_per_m(site: Site, section: Section, d: Demand) -> float:
     return float(ev.cost[0])
 
 
-def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
-    """Design the synthetic run of ``km`` km end to end; figures as a dict."""
+def run_repeated(km: float, repeat: int = 1, write: bool = True, gap: int = 0,
+                 jobs: int = 1) -> dict:
+    """:func:`run_one` ``repeat`` times (the batch figures and the gap measured once,
+    with the last): its figures, with ``repeats`` (the total, sizing and writing seconds
+    of every run, in order) and ``seconds_total_median``. On a shared machine whose
+    speed drifts, the median of a few runs is the figure to quote."""
+    runs = [run_one(km, write=write, jobs=jobs, measure=False) for _ in range(repeat - 1)]
+    last = run_one(km, write=write, gap=gap, jobs=jobs)
+    runs.append(last)
+    keep = ("seconds_total", "sizing", "write_outputs")
+    last["repeats"] = [{k: (r["seconds_total"] if k == "seconds_total"
+                            else r["seconds_by_stage"].get(k, 0.0)) for k in keep}
+                       for r in runs]
+    last["seconds_total_median"] = float(np.median([r["seconds_total"] for r in runs]))
+    return last
+
+
+def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1,
+            measure: bool = True) -> dict:
+    """Design the synthetic run of ``km`` km end to end; figures as a dict (without
+    ``measure``, the batch throughput and the gap are left out: only the run)."""
     from wallrun import pipeline
 
     site = synthetic_site(km)
@@ -239,6 +259,8 @@ def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1) -> dict:
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     searched = int(result.search.get("candidates", 0))
     sizing_s = stages.get("sizing", 0.0)
+    if not measure:
+        return {"km": km, "seconds_total": total, "seconds_by_stage": stages}
     tp = throughput(site)
     gaps = optimality_gap(site, result, gap)
     return {"km": km, "mode": site.design.sections, "jobs": jobs,
@@ -280,6 +302,12 @@ def _table(r: dict) -> str:
               f"{tp['bulk_unscreened_candidates_per_second']:,.0f}/s",
               f"  plain per-candidate path             {tp['plain_candidates_per_second']:,.0f}/s"
               f"   speed-up {r['speedup_vs_plain']:,.0f} x"]
+    if len(r.get("repeats", ())) > 1:
+        rs = r["repeats"]
+        lines.append(f"  {len(rs)} runs, end to end (sizing, writing): "
+                     + ", ".join(f"{x['seconds_total']:.2f} ({x['sizing']:.2f}, "
+                                 f"{x['write_outputs']:.2f})" for x in rs)
+                     + f" s; median {r['seconds_total_median']:.2f} s")
     for g in r["gap"]:
         lines.append(f"  gap {g['panel']} (h {g['h_m']:.2f} m): search {g['search']:.2f}, "
                      f"exhaustive {g['exhaustive']:.2f} per m: {g['gap_percent']:+.3f} % "
@@ -295,6 +323,9 @@ def main(argv=None) -> int:
     ap.add_argument("--no-write", action="store_true", help="skip writing the outputs")
     ap.add_argument("--gap", type=int, default=0, metavar="N",
                     help="compare N sampled panels with the exhaustive reference")
+    ap.add_argument("--repeat", type=int, default=1, metavar="N",
+                    help="run each length N times and print every run's total and the "
+                         "median (the table's stages are the last run's)")
     ap.add_argument("--jobs", type=int, default=machine_cores(), metavar="N",
                     help="processes for the search (this one and N - 1 workers, a worker "
                          "writing the drawings), as the command line's --jobs; default: "
@@ -303,9 +334,12 @@ def main(argv=None) -> int:
     a = ap.parse_args(argv)
     if a.jobs < 1:
         ap.error(f"--jobs {a.jobs}: give 1 or more")
+    if a.repeat < 1:
+        ap.error(f"--repeat {a.repeat}: give 1 or more")
     from wallrun.cli import tune_process
     tune_process()  # as the command line does (its process settings, not the library's)
-    results = [run_one(km, write=not a.no_write, gap=a.gap, jobs=a.jobs) for km in a.km]
+    results = [run_repeated(km, a.repeat, write=not a.no_write, gap=a.gap, jobs=a.jobs)
+               for km in a.km]
     if a.json:
         print(json.dumps(results[0] if len(results) == 1 else results, indent=2))
     else:
@@ -313,11 +347,13 @@ def main(argv=None) -> int:
             print(_table(r))
         if len(results) > 1:
             base = results[0]
-            print("\n km   panels   seconds   s/km    x first")
+            key = "seconds_total_median"  # the last run's where there is one run
+            print("\n km   panels   seconds   s/km    x first"
+                  + ("   (medians)" if a.repeat > 1 else ""))
             for r in results:
-                print(f"{r['km']:4g} {r['panels']:8d} {r['seconds_total']:9.2f} "
-                      f"{r['seconds_total'] / r['km']:6.2f} "
-                      f"{r['seconds_total'] / base['seconds_total']:8.2f}")
+                print(f"{r['km']:4g} {r['panels']:8d} {r[key]:9.2f} "
+                      f"{r[key] / r['km']:6.2f} "
+                      f"{r[key] / base[key]:8.2f}")
     return 0
 
 
