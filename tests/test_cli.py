@@ -204,7 +204,7 @@ def _fake_result(site, ok=True):
         quantities=(SimpleNamespace(item="concrete_total", unit="m3", quantity=12.34),
                     SimpleNamespace(item="reinforcement_total", unit="kg", quantity=987.0)),
         cost=SimpleNamespace(total=5000.0, complete=True, demo_rates=False),
-        warnings=(), ok=ok)
+        warnings=(), ok=ok, nothing_designed=not ok)
 
 
 @pytest.fixture
@@ -356,7 +356,8 @@ def test_console_summary_of_a_thousand_panel_job_stays_short(capsys):
         quantities=(SimpleNamespace(item="concrete_total", unit="m3", quantity=20000.0),
                     SimpleNamespace(item="reinforcement_total", unit="kg", quantity=1.9e6)),
         cost=SimpleNamespace(total=1.2e7, complete=True, demo_rates=True),
-        warnings=tuple(f"warning number {k}" for k in range(12)), ok=False)
+        warnings=tuple(f"warning number {k}" for k in range(12)), ok=False,
+        nothing_designed=False)
     print_design_summary(res, "out")
     out = capsys.readouterr().out.splitlines()
     assert len(out) <= 25, out

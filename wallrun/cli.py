@@ -470,7 +470,7 @@ def print_design_summary(result, out_dir) -> None:
     """What a practitioner reads first, in at most about 25 lines whatever the job: the
     runs, panels, types with their panel counts, concrete, steel (and kg per m3), cost
     and cost per metre in the site's currency, the governing panel, what is flagged."""
-    from wallrun.cautions import CAUTION, not_checked_line
+    from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked_line
     from wallrun.takeoff import DEMO_RATES_NOTE
 
     site = result.site
@@ -491,8 +491,7 @@ def print_design_summary(result, out_dir) -> None:
         print(f"Concrete {conc:.1f} {cu}, reinforcement {steel:,.0f} {su} "
               f"({steel / conc:.0f} kg/m3)")
     cost = result.cost
-    if panels and not any(p.status == "ok" for p in panels):  # result.nothing_designed
-        from wallrun.cautions import NOTHING_DESIGNED
+    if panels and result.nothing_designed:
         print(f"Cost: none; {NOTHING_DESIGNED}")
     elif length > 0:
         note = "" if cost.complete else " (incomplete: some items have no rate)"

@@ -19,7 +19,7 @@ import math
 import numpy as np
 
 from wallrun import __version__
-from wallrun.cautions import CAUTION, not_checked
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
 from wallrun.results import DesignResult, PanelResult, largest
 from wallrun.takeoff import DEMO_RATES_NOTE
 
@@ -223,7 +223,6 @@ def cost_csv_rows(result: DesignResult) -> list[dict]:
                      "amount": r.amount, "note": note})
     notes = []
     if result.nothing_designed:
-        from wallrun.cautions import NOTHING_DESIGNED
         notes.append(NOTHING_DESIGNED)
     if not c.complete:
         notes.append("incomplete: unpriced items left out")
