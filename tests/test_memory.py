@@ -59,14 +59,21 @@ def _loaded(name: str) -> bool:
     return name in sys.modules
 
 
+def _loaded_all(names) -> list[bool]:
+    return [_loaded(n) for n in names]
+
+
 def test_worker_pool_imports_the_drawing_writers_behind_its_first_task():
-    # the command line's pool queues the drawing writers' imports behind the first task
-    # it is handed (one worker: tasks run in the order given), so a worker idle after
-    # its part of the search is ready to write the drawings
+    # the command line's pool starts its worker at once, which imports the search
+    # (cli.start_worker) before any task; it queues the drawing writers' imports behind
+    # the first task it is handed (one worker: tasks run in the order given), so a
+    # worker idle after its part of the search is ready to write the drawings
     pool = cli.worker_pool(2)
     try:
         assert isinstance(pool, cli.WorkerPool)
-        assert pool.submit(_loaded, "ezdxf").result() is False  # the first task
+        # the first task: the search imported, the drawing writers not yet
+        assert pool.submit(_loaded_all, ("wallrun.pipeline", "ezdxf")).result() == [True,
+                                                                                  False]
         assert pool.submit(_loaded, "ezdxf").result() is True
         assert pool.submit(_loaded, "wallrun.outputs.sheets_pdf").result() is True
         # and the drawings' fonts are loaded there: ReportLab has both registered
