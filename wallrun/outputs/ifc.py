@@ -9,6 +9,9 @@ concrete of the site's strength class, each with
 - a ``Body`` made of ``IfcExtrudedAreaSolid``: the panel's cross-section (design-basis
   section 2) extruded along the wall line; a sloped wall top is an
   ``IfcBooleanClippingResult`` of the stem with a half space through the top line;
+  elements with the same solids (the footings of equal panels of a type, the stems of
+  panels of equal heights) share one ``IfcProductDefinitionShape``, each placed by its
+  own ``ObjectPlacement`` (at 10 km, 2,500 elements have about 1,050 bodies);
 - the property set ``Wallrun_PanelDesign`` (one for the panel's wall and footing):
   panel, run, side, section type, chainages, length along the wall line, levels,
   utilizations (to 3 decimals, as ``panels.csv``), governing check, status and reason;
@@ -252,9 +255,27 @@ class _Model:
     def extrusion(self, profile, origin, along, across, depth):
         """``profile`` (p, z) swept ``depth`` along the unit vector ``along`` from
         ``origin``, p running along ``across`` (horizontal unit vectors, element
-        coordinates; the profile's y is up)."""
+        coordinates; the profile's y is up). Equal solids are one instance."""
         pos = self.axes(origin, (along[0], along[1], 0.0), (across[0], across[1], 0.0))
-        return self.f.createIfcExtrudedAreaSolid(profile, pos, self.up, float(depth))
+        depth = round(float(depth), 9) + 0.0
+        return self.once(("solid", profile.id(), pos.id(), depth),
+                         lambda: self.f.createIfcExtrudedAreaSolid(profile, pos, self.up,
+                                                                   depth))
+
+    def body(self, context, items):
+        """The ``Body`` of an element made of ``items`` (solids in its own coordinates):
+        an IfcProductDefinitionShape holding one IfcShapeRepresentation. Elements whose
+        solids are the same instances share it (IFC4: a product definition shape may
+        be the representation of many products, each placing it by its own
+        ObjectPlacement; a shape representation belongs to one of them), as the
+        footings of equal panels of a type do."""
+        kind = "Clipping" if any(i.is_a("IfcBooleanClippingResult") for i in items) \
+            else "SweptSolid"
+
+        def make():
+            rep = self.f.createIfcShapeRepresentation(context, "Body", kind, items)
+            return self.f.create_entity("IfcProductDefinitionShape", Representations=[rep])
+        return self.once(("body", context.id(), tuple(i.id() for i in items)), make)
 
     def clip_above(self, solid, point, normal):
         """``solid`` less the half space above the plane through ``point`` with the
@@ -472,10 +493,7 @@ def _panel(m, body, line, site_placement, pr, joint_at_start: bool, joint_at_end
                 "Length": ("Length", L), "Width": ("Length", B), "Height": ("Length", tb),
                 "CrossSectionArea": ("Area", B * tb + dk * wk),
                 "GrossVolume": ("Volume", v_foot), "NetVolume": ("Volume", v_foot)})):
-        kind = "Clipping" if any(i.is_a("IfcBooleanClippingResult") for i in items) \
-            else "SweptSolid"
-        rep = f.createIfcShapeRepresentation(body, "Body", kind, items)
-        shape = f.create_entity("IfcProductDefinitionShape", Representations=[rep])
+        shape = m.body(body, items)
         e = m.create(ifc_class, f"{pn.panel}/{what}", Name=f"{pn.panel} {what}",
                      Description=desc, ObjectPlacement=placement, Representation=shape,
                      Tag=pn.panel, **({"ObjectType": "retaining wall stem",
