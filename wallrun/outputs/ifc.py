@@ -17,7 +17,8 @@ concrete of the site's strength class, each with
   utilizations (to 3 decimals, as ``panels.csv``), governing check, status and reason;
 - an ``IfcElementQuantity``: ``Qto_WallBaseQuantities`` (length, width, height, side
   areas, volumes) or ``Qto_FootingBaseQuantities`` (length, width, height,
-  cross-section area, volumes), from the take-off;
+  cross-section area, volumes), from the take-off; elements with equal quantities
+  share one set, related to them all by one ``IfcRelDefinesByProperties``;
 - its type: an ``IfcWallType`` and an ``IfcFootingType`` per section type, named like
   it, with the section's dimensions in the property set ``Wallrun_SectionType``.
 
@@ -195,6 +196,7 @@ class _Model:
         self.f.header.file_name.time_stamp = issue_time().isoformat(timespec="seconds")
         self.key = result.site.project.name + "/" + result.site.project.reference
         self.shared: dict = {}  # equal items made once and referenced (this file only)
+        self.measures: dict = {}  # quantity sets: (set, GlobalId name, elements)
         self.up = self.direction((0.0, 0.0, 1.0))
 
     def guid(self, what: str) -> str:
@@ -288,6 +290,27 @@ class _Model:
         half = self.f.createIfcHalfSpaceSolid(plane, False)  # material below the plane
         return self.f.createIfcBooleanClippingResult("DIFFERENCE", solid, half)
 
+    def measured(self, element, name: str, values: dict, what: str) -> None:
+        """``element`` measured by the IfcElementQuantity ``name`` of ``values``
+        (:meth:`quantities`): equal quantity sets are one instance, related to all
+        their elements by one IfcRelDefinesByProperties (:meth:`relate_measured`; its
+        GlobalId from ``what`` of the first element)."""
+        key = (name, tuple((k, kind, None if v is None else float(v))
+                           for k, (kind, v) in values.items()))
+        got = self.measures.get(key)
+        if got is None:
+            eq = self.create("IfcElementQuantity", what, Name=name,
+                             MethodOfMeasurement="wallrun take-off (net, along the wall line)",
+                             Quantities=self.quantities(values))
+            got = self.measures[key] = (eq, what, [])
+        got[2].append(element)
+
+    def relate_measured(self) -> None:
+        """The IfcRelDefinesByProperties of each quantity set of :meth:`measured`."""
+        for eq, what, elements in self.measures.values():
+            self.create("IfcRelDefinesByProperties", what + "/rel", RelatedObjects=elements,
+                        RelatingPropertyDefinition=eq)
+
     # Entities are made with the attributes they have by name: an attribute left out
     # stays unset ($), as one given None would, without the call that sets it.
 
@@ -378,6 +401,7 @@ def write_ifc(result, path) -> None:
                                pr.panel.panel in ends)
         products += [wall, footing]
         typed.setdefault(pr.section_type, []).append((wall, footing))
+    m.relate_measured()
     for name, pairs in typed.items():
         wt, ft = types[name]
         m.create("IfcRelDefinesByType", f"type/{name}/stem/rel",
@@ -500,11 +524,7 @@ def _panel(m, body, line, site_placement, pr, joint_at_start: bool, joint_at_end
                                       "PredefinedType": "USERDEFINED"}
                                      if ifc_class == "IfcWall"
                                      else {"PredefinedType": "STRIP_FOOTING"}))
-        eq = m.create("IfcElementQuantity", f"{pn.panel}/{what}/qto", Name=qto,
-                      MethodOfMeasurement="wallrun take-off (net, along the wall line)",
-                      Quantities=m.quantities(values))
-        m.create("IfcRelDefinesByProperties", f"{pn.panel}/{what}/qto/rel",
-                 RelatedObjects=[e], RelatingPropertyDefinition=eq)
+        m.measured(e, qto, values, f"{pn.panel}/{what}/qto")
         out.append(e)
     _design_pset(m, out, pr)
     return out
