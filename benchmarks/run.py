@@ -246,10 +246,12 @@ def run_one(km: float, write: bool = True, gap: int = 0, jobs: int = 1,
         stages.update({k: float(v) for k, v in result.timings.items()})
         stages["design_other"] = max(t_design - sum(stages.values()), 0.0)
         if write:
+            from wallrun.cli import result_frozen
             from wallrun.outputs.write import write_outputs
             with tempfile.TemporaryDirectory() as tmp:
                 t0 = time.perf_counter()
-                write_outputs(result, os.path.join(tmp, "out"), executor=pool)
+                with result_frozen():  # as the command line writes
+                    write_outputs(result, os.path.join(tmp, "out"), executor=pool)
                 stages["write_outputs"] = time.perf_counter() - t0
     finally:
         if pool is not None:

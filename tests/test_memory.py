@@ -48,6 +48,16 @@ def test_no_process_tuning_in_the_library():
     assert found == []
 
 
+def test_result_frozen_keeps_the_objects_out_of_collection_within_it_only():
+    import gc
+    assert gc.get_freeze_count() == 0
+    kept = [[] for _ in range(1000)]
+    with cli.result_frozen():
+        assert gc.get_freeze_count() >= len(kept)  # the objects existing on entering
+        assert gc.isenabled()
+    assert gc.get_freeze_count() == 0
+
+
 def _registered_fonts() -> set:
     from reportlab.pdfbase import pdfmetrics
 

@@ -8,6 +8,7 @@ nothing written); 1 internal error (one line and a hint; the traceback with --de
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
 import math
 import os
@@ -66,6 +67,25 @@ def tune_collector() -> tuple[int, int, int]:
 
     gc.set_threshold(*GC_THRESHOLDS)
     return gc.get_threshold()
+
+
+@contextlib.contextmanager
+def result_frozen():
+    """Within it, the cyclic garbage collector leaves alone every object that exists
+    when it is entered (``gc.freeze``; ``gc.unfreeze`` on leaving): the command line
+    enters it once the design is made, so that the collections the writers cause do not
+    traverse the result's hundreds of thousands of objects again, which stay alive
+    until the outputs are written (a 10 km design, written by one process: 0.24 s of
+    collection in writing, 0.11 s with it; timed by ``gc.callbacks``). Objects are still
+    freed by reference counting the moment they are dropped. A process setting, the
+    command line's (and the benchmark's) only."""
+    import gc
+
+    gc.freeze()
+    try:
+        yield
+    finally:
+        gc.unfreeze()
 
 
 def tune_process() -> None:
@@ -455,7 +475,8 @@ def cmd_design(site_dir: str, out: str | None = None, quiet: bool = False,
                                      meanwhile=write.load_writers)
         finally:
             cb.close()
-        write.write_outputs(result, out_dir, executor=pool)
+        with result_frozen():
+            write.write_outputs(result, out_dir, executor=pool)
     finally:
         if pool is not None:
             pool.shutdown(cancel_futures=True)
