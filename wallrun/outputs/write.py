@@ -48,16 +48,14 @@ def _write_text(path: Path, text: str) -> None:
 
 def load_writers() -> None:
     """Import the writers :func:`write_all` runs in this process beside a worker (all
-    but the drawings) and load what their libraries load on first use: matplotlib
-    (the report's long section, drawn by its Agg back end) and ifcopenshell with its
-    api and property-set templates. Nothing of wallrun keeps them and no output
+    but the drawings) and what their libraries load on first use: matplotlib (the
+    report's long section, drawn by its Agg back end) and ifcopenshell with the api
+    modules the model's frame is made with. Nothing of wallrun keeps them and no output
     depends on it; the first write of a process otherwise pays for them (about 0.5 s).
     The command line calls it while its workers finish their parts of the search."""
     import matplotlib.backends.backend_agg  # noqa: F401  (savefig's PNG)
 
     from wallrun.outputs import ifc, profiles_csv, report, tables, workbook  # noqa: F401
-
-    ifc.load()
 
 
 def write_all(result: DesignResult, folder: Path, executor=None) -> list[str]:
