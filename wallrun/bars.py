@@ -50,6 +50,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
+from collections import Counter
 from dataclasses import replace
 
 import numpy as np
@@ -256,8 +257,9 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
 
     def stem_lengths(hloc, step):  # along the tapered back face from the kicker to the top less cover
         m = np.minimum(hs_checked, hloc)
-        uniq, inv = np.unique(m, return_inverse=True)  # few distinct: one hypot each
-        hyp = np.array([math.hypot(v, dt) for v in uniq.tolist()])[inv.reshape(-1)]
+        ml = m.tolist()
+        hyps = {v: math.hypot(v, dt) for v in set(ml)}  # few distinct: one hypot each
+        hyp = np.array([hyps[v] for v in ml], dtype=float)
         return round_up_many(np.maximum(hloc - cv - kicker, 0.0) + (hyp - m), step, True)
 
     def heights(spacing):  # local drawn stem height at each bar position along the panel
@@ -287,9 +289,9 @@ def panel_bars(section_type: str, section: Section, reinforcement: Reinforcement
                 if k:
                     out.append(mark(part, phi, "00", {"A": round_up(stop - kicker)}, k))
             keep = keep & ~short
-        kept, counts = np.unique(bar_len[keep], return_counts=True)  # sorted lengths
+        kept = Counter(bar_len[keep].tolist())  # the bars of each length
         l0 = lengths.lap(phi, fck, fyk, True)
-        for Lb, cnt in zip(kept.tolist(), counts.tolist()):
+        for Lb, cnt in sorted(kept.items()):  # by length
             pieces, piece = split_run(Lb, l0)
             out.append(mark(part, phi, "00", {"A": piece}, cnt * pieces))
 

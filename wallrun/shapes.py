@@ -81,7 +81,15 @@ _BY_SIZE = np.array([[TABLE_2[i][k] if i in TABLE_2 else float(_rule(k, float(i)
                       for i in range(65)] for k in range(4)])
 
 
+#: The same, as plain floats (a look-up for one bar size).
+_BY_SIZE_ROWS = tuple(tuple(float(v) for v in row) for row in _BY_SIZE)
+
+
 def _column(d, k: int):
+    if isinstance(d, (float, int)) and not isinstance(d, bool):  # one size: a look-up
+        i = int(d)
+        if i == d and 0 <= i < len(_BY_SIZE_ROWS[k]):
+            return _BY_SIZE_ROWS[k][i]
     d = np.asarray(d, dtype=float)
     di = np.rint(d).astype(np.int64)
     whole = (di == d) & (di >= 0) & (di < _BY_SIZE.shape[1])
