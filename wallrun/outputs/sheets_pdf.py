@@ -39,9 +39,11 @@ FLATTEN_MM = 0.01  # curve flattening distance, drawing units
 
 class Collector(Backend):
     """An ezdxf drawing back end that collects what the front end draws: polylines by
-    (colour, line weight in mm, dash pattern), filled polygons by colour, and lines of
-    text (from :class:`TextPipeline`) as (text, x, y, angle in degrees, cap height,
-    colour, font face), all in drawing units. ``dash``: the on-off lengths of the line
+    (colour, line weight in mm, dash pattern), filled polygons by colour, each a list
+    of (x, y) points (plain floats: the page's path is made point by point, and a list
+    is read three times faster than the rows of an array), and lines of text (from
+    :class:`TextPipeline`) as (text, x, y, angle in degrees, cap height, colour, font
+    face), all in drawing units. ``dash``: the on-off lengths of the line
     being drawn (set by :class:`TextPipeline`; () for a continuous line)."""
 
     def __init__(self, flatten: float = FLATTEN_MM):
@@ -71,14 +73,14 @@ class Collector(Backend):
         pass
 
     def draw_point(self, pos, properties) -> None:
-        self._stroke(properties, np.array([[pos.x, pos.y], [pos.x, pos.y]]))
+        self._stroke(properties, [(pos.x, pos.y), (pos.x, pos.y)])
 
     def draw_line(self, start, end, properties) -> None:
-        self._stroke(properties, np.array([[start.x, start.y], [end.x, end.y]]))
+        self._stroke(properties, [(start.x, start.y), (end.x, end.y)])
 
     def draw_solid_lines(self, lines, properties) -> None:
         for s, e in lines:
-            self._stroke(properties, np.array([[s.x, s.y], [e.x, e.y]]))
+            self._stroke(properties, [(s.x, s.y), (e.x, e.y)])
 
     def draw_path(self, path, properties) -> None:
         for sub in path.sub_paths():
@@ -91,18 +93,18 @@ class Collector(Backend):
             for sub in path.sub_paths():
                 self._fill(properties, self._points(sub))
 
-    def _points(self, sub) -> np.ndarray:
-        """(m, 2) points of one sub-path (``ezdxf.npshapes.NumpyPath2d``): its
+    def _points(self, sub) -> list:
+        """The (x, y) points of one sub-path (``ezdxf.npshapes.NumpyPath2d``): its
         vertices where it is straight lines only (what ``flattening`` gives there, read
         as one array), else its flattening."""
         if not len(sub):
-            return np.zeros((0, 2))
+            return []
         if not sub.has_curves:
-            return np.array(sub.np_vertices(), dtype=float).reshape(-1, 2)
-        return np.array([(p.x, p.y) for p in sub.flattening(self.flatten)]).reshape(-1, 2)
+            return np.asarray(sub.np_vertices(), dtype=float).reshape(-1, 2).tolist()
+        return [(p.x, p.y) for p in sub.flattening(self.flatten)]
 
     def draw_filled_polygon(self, points, properties) -> None:
-        self._fill(properties, np.array([(p.x, p.y) for p in points.vertices()]))
+        self._fill(properties, [(p.x, p.y) for p in points.vertices()])
 
     def draw_image(self, image_data, properties) -> None:
         pass  # wallrun's drawings hold no images
@@ -224,13 +226,14 @@ def _rgb(color: str) -> tuple[float, float, float]:
 
 
 def _path(canvas, lines, closed: bool):
-    """One ReportLab path of the vertex arrays ``lines`` ((m, 2) each), each closed or
-    open."""
+    """One ReportLab path of the polylines ``lines`` (each a list of (x, y) points),
+    each closed or open."""
     path = canvas.beginPath()
+    move, line = path.moveTo, path.lineTo
     for v in lines:
-        path.moveTo(*v[0])
+        move(*v[0])
         for x, y in v[1:]:
-            path.lineTo(x, y)
+            line(x, y)
         if closed:
             path.close()
     return path
