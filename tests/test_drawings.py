@@ -540,3 +540,54 @@ def test_finished_level_drawn_through_its_points(out, result):
     pts = np.column_stack([prof.finished_ch, prof.finished_level])
     drawn = np.column_stack([line[:, 0], level_of(line[:, 1], datum, ve)])
     assert _on_line(drawn, pts) < 1e-6
+
+
+def _bezier(p0, piece, t):
+    """A point at t of the cubic Bezier curve from p0 with (x1, y1, x2, y2, x, y)."""
+    x1, y1, x2, y2, x, y = piece
+    u = 1.0 - t
+    return (u ** 3 * p0[0] + 3 * u * u * t * x1 + 3 * u * t * t * x2 + t ** 3 * x,
+            u ** 3 * p0[1] + 3 * u * u * t * y1 + 3 * u * t * t * y2 + t ** 3 * y)
+
+
+def test_a_circle_reaches_the_sheets_as_curves_on_the_circle():
+    """A CIRCLE arrives at the sheets' back end as cubic Bezier curves, not flattened:
+    every point of them lies on the circle within 3e-4 of its radius (the usual cubic
+    approximation of a circle's quarter departs from it by 2.7e-4 r at most: common
+    practice, the figure from memory), and the page draws them as curves."""
+    doc = ezdxf.new()
+    msp = doc.modelspace()
+    circle = msp.add_circle((12.0, -3.0), radius=4.0)
+    col = sheets_pdf.Collector()
+    fe = sheets_pdf.frontend(doc, col)
+    fe.ctx.set_current_layout(msp)
+    fe.draw_entities([circle])
+    assert col.strokes == {}
+    (items,) = col.curves.values()
+    (start, pieces), = items
+    assert len(pieces) >= 4 and all(len(p) == 6 for p in pieces)
+    p0 = start
+    for piece in pieces:
+        for t in np.linspace(0.0, 1.0, 9):
+            x, y = _bezier(p0, piece, t)
+            assert abs(math.hypot(x - 12.0, y + 3.0) - 4.0) <= 3e-4 * 4.0
+        p0 = piece[4:]
+    assert p0 == pytest.approx(start)  # closed
+
+
+def test_a_quadratic_curve_is_raised_to_the_same_cubic():
+    """A quadratic Bezier piece becomes the cubic through the same points (degree
+    elevation: control points p0 + 2/3 (q - p0) and p + 2/3 (q - p))."""
+    from ezdxf.npshapes import NumpyPath2d
+    from ezdxf.path import Path as DxfPath
+
+    p = DxfPath((1.0, 2.0))
+    p.curve3_to((7.0, 2.0), (3.0, 6.0))
+    p.line_to((7.0, -1.0))
+    start, pieces = sheets_pdf.bezier_pieces(NumpyPath2d(p))
+    assert start == (1.0, 2.0) and pieces[1] == (7.0, -1.0)
+    for t in np.linspace(0.0, 1.0, 11):
+        u = 1.0 - t  # the quadratic from (1, 2) through control (3, 6) to (7, 2)
+        qx = u * u * 1.0 + 2 * u * t * 3.0 + t * t * 7.0
+        qy = u * u * 2.0 + 2 * u * t * 6.0 + t * t * 2.0
+        assert _bezier(start, pieces[0], t) == pytest.approx((qx, qy), abs=1e-12)
