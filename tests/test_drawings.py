@@ -591,3 +591,50 @@ def test_a_quadratic_curve_is_raised_to_the_same_cubic():
         qx = u * u * 1.0 + 2 * u * t * 3.0 + t * t * 7.0
         qy = u * u * 2.0 + 2 * u * t * 6.0 + t * t * 2.0
         assert _bezier(start, pieces[0], t) == pytest.approx((qx, qy), abs=1e-12)
+
+
+def _collected(col):
+    """What a Collector holds: per kind, (key, numbers) of every item, sorted by the
+    numbers rounded to 1e-6 (the order of items aside)."""
+    strokes = [(k, [c for p in v for c in p]) for k, items in col.strokes.items()
+               for v in items]
+    curves = [(k, list(s) + [c for p in pieces for c in p])
+              for k, items in col.curves.items() for s, pieces in items]
+    texts = [((t[0],), list(t[1:5])) for t in col.texts]
+    return [sorted(kind, key=lambda e: (e[0], [round(v, 6) for v in e[1]]))
+            for kind in (strokes, curves, texts)]
+
+
+def test_a_grid_insert_is_drawn_as_ezdxf_draws_it_cell_by_cell():
+    """The sheets' front end draws a grid insert (MINSERT) as its first cell moved to
+    each other cell; ezdxf's own front end (``UniversalFrontend``) decomposes every
+    cell. Both give the same strokes, curves and texts, for a rotated grid of a block
+    of a circle, a line and a text, nested in a scaled and rotated insert."""
+    from ezdxf.addons.drawing import RenderContext
+    from ezdxf.addons.drawing.frontend import UniversalFrontend
+
+    doc = ezdxf.new()
+    cell = doc.blocks.new("CELL")
+    cell.add_circle((0.0, 0.0), 0.2)
+    cell.add_line((0.0, 0.0), (0.5, 0.1))
+    cell.add_text("x", height=0.1, dxfattribs={"insert": (0.1, -0.3)})
+    outer = doc.blocks.new("OUTER")
+    grid = outer.add_blockref("CELL", (1.0, 2.0), dxfattribs={"rotation": 30.0})
+    grid.grid(size=(2, 3), spacing=(0.7, 1.1))
+    msp = doc.modelspace()
+    ins = msp.add_blockref("OUTER", (5.0, -1.0),
+                           dxfattribs={"rotation": 15.0, "xscale": 2.0, "yscale": 2.0})
+    got, ref = sheets_pdf.Collector(), sheets_pdf.Collector()
+    fe = sheets_pdf.frontend(doc, got)
+    fe.ctx.set_current_layout(msp)
+    fe.draw_entities([ins])
+    fe_ref = UniversalFrontend(RenderContext(doc), sheets_pdf.TextPipeline(ref),
+                               config=fe.config)
+    fe_ref.ctx.set_current_layout(msp)
+    fe_ref.draw_entities([ins])
+    a, b = _collected(got), _collected(ref)
+    assert [len(kind) for kind in a] == [6, 6, 6]  # a line, a circle, a text a cell
+    for kind_a, kind_b in zip(a, b):
+        assert [k for k, _ in kind_a] == [k for k, _ in kind_b]
+        for (_, va), (_, vb) in zip(kind_a, kind_b):
+            assert np.allclose(va, vb, rtol=0.0, atol=1e-9)

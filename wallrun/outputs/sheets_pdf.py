@@ -22,7 +22,8 @@ A viewport's model-space content is drawn from the entities whose extents meet i
 window (ezdxf's fast bounding boxes, measured once per drawing; an insert by its
 insertion point), then placed at the viewport's scale and position and clipped to its
 box. The notes (the MTEXTs of a sheet, alike on every sheet of a drawing) are
-decomposed once per drawing.
+decomposed once per drawing, and a grid insert's first cell once per grid
+(:class:`GridFrontend`: its other cells are copies moved, the same pages).
 """
 
 from __future__ import annotations
@@ -32,6 +33,7 @@ from pathlib import Path
 
 import numpy as np
 from ezdxf.addons.drawing.backend import Backend
+from ezdxf.addons.drawing.frontend import UniversalFrontend
 from ezdxf.addons.drawing.pipeline import RenderPipeline2d
 
 PT_PER_MM = 72.0 / 25.4
@@ -125,6 +127,34 @@ class Collector(Backend):
     def finalize(self) -> None:
         pass
 
+    def mark(self) -> tuple:
+        """Where the collection stands (for :meth:`replicate`)."""
+        return ({k: len(v) for k, v in self.strokes.items()},
+                {k: len(v) for k, v in self.curves.items()},
+                {k: len(v) for k, v in self.fills.items()}, len(self.texts))
+
+    def replicate(self, mark: tuple, offsets) -> None:
+        """Add, for each (dx, dy) of ``offsets`` (drawing units), a copy of everything
+        collected since ``mark`` (:meth:`mark`) moved by it."""
+        strokes0, curves0, fills0, n_texts = mark
+        new_strokes = {k: v[strokes0.get(k, 0):] for k, v in self.strokes.items()}
+        new_curves = {k: v[curves0.get(k, 0):] for k, v in self.curves.items()}
+        new_fills = {k: v[fills0.get(k, 0):] for k, v in self.fills.items()}
+        new_texts = self.texts[n_texts:]
+        for dx, dy in offsets:
+            for k, items in new_strokes.items():
+                self.strokes[k].extend([[(x + dx, y + dy) for x, y in v] for v in items])
+            for k, items in new_fills.items():
+                self.fills[k].extend([[(x + dx, y + dy) for x, y in v] for v in items])
+            for k, items in new_curves.items():
+                self.curves[k].extend(
+                    [((x0 + dx, y0 + dy),
+                      [(p[0] + dx, p[1] + dy) if len(p) == 2 else
+                       (p[0] + dx, p[1] + dy, p[2] + dx, p[3] + dy, p[4] + dx, p[5] + dy)
+                       for p in pieces])
+                     for (x0, y0), pieces in items])
+            self.texts.extend([(t[0], t[1] + dx, t[2] + dy) + t[3:] for t in new_texts])
+
     def taken(self) -> tuple:
         """What was collected, as (strokes, curves, fills, texts); the collector is
         emptied."""
@@ -211,13 +241,46 @@ def _config():
                          line_policy=LinePolicy.SOLID)  # dashes drawn by the PDF
 
 
+class GridFrontend(UniversalFrontend):
+    """ezdxf's drawing front end (``UniversalFrontend``), a grid insert (MINSERT) drawn
+    as its first cell moved: every cell of a grid is the same block at the same
+    rotation and scale, only its insertion point moves (``Insert.multi_insert``), so
+    ezdxf decomposes the first cell and :class:`Collector` copies what it drew to each
+    other cell, moved by the difference of the cells' block origins in the WCS
+    (``Insert.matrix44().origin``). A grid with attributes or a clipping boundary is
+    drawn cell by cell, as ezdxf draws it. The sections' bar dots are such grids: at
+    10 km, 2,070 dots in about 150 rows, whose decomposition was two thirds of the
+    section sheets' time."""
+
+    def __init__(self, ctx, pipeline, out: Collector, config):
+        super().__init__(ctx, pipeline, config=config)
+        self.out = out
+
+    def draw_composite_entity(self, entity, properties) -> None:
+        from ezdxf import xclip
+        from ezdxf.entities import Insert
+
+        if not (isinstance(entity, Insert) and entity.mcount > 1 and not entity.attribs
+                and not xclip.XClip(entity).has_clipping_path):
+            super().draw_composite_entity(entity, properties)
+            return
+        cells = list(entity.multi_insert())
+        mark = self.out.mark()
+        super().draw_composite_entity(cells[0], properties)
+        o0 = cells[0].matrix44().origin
+        offsets = []
+        for cell in cells[1:]:
+            o = cell.matrix44().origin
+            offsets.append((o.x - o0.x, o.y - o0.y))
+        self.out.replicate(mark, offsets)
+
+
 def frontend(doc, out: Collector):
     """ezdxf's drawing front end for ``doc`` feeding ``out`` through
-    :class:`TextPipeline` (white background)."""
+    :class:`TextPipeline` (white background; grid inserts by :class:`GridFrontend`)."""
     from ezdxf.addons.drawing import RenderContext
-    from ezdxf.addons.drawing.frontend import UniversalFrontend
 
-    return UniversalFrontend(RenderContext(doc), TextPipeline(out), config=_config())
+    return GridFrontend(RenderContext(doc), TextPipeline(out), out, _config())
 
 
 # --- fonts ---------------------------------------------------------------------------------
