@@ -366,3 +366,14 @@ def test_console_summary_of_a_thousand_panel_job_stays_short(capsys):
                for line in out)
     assert any("EUR per metre" in line for line in out)
     assert any("95 kg/m3" in line for line in out)
+
+
+def test_design_with_workers_refuses_a_bad_site_with_nothing_written(tmp_path, capsys):
+    # with --jobs the pool starts before the site is read: a site refused on reading
+    # still exits 2, names the file and key, and writes nothing
+    site = Path(__file__).parent / "malformed" / "alignment-curves-overlap"
+    out = tmp_path / "out"
+    assert main(["design", str(site), "--jobs", "2", "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert "site.toml" in err and "curve_length_m" in err
+    assert not out.exists() and list(tmp_path.iterdir()) == []
