@@ -350,7 +350,7 @@ def test_stem_moment_table_is_conservative_and_close():
     d = demand(3.0, water=Water(height_above_base_m=1.0))
     sec = SectionArrays.of([Section(0.25, 0.3, 2.8, 0.7, 0.3), Section(0.25, 0.4, 3.0, 0.8, 0.45)])
     cond = conditions_of(sec.base_thickness_m, Rows.of([d], [2]), d)
-    at = ev_._stem_moment_at(stability.evaluate_all(sec, cond, BASIS), sec, cond)
+    at = ev_._stem_moment_at(ev_.Situations(sec, cond, BASIS), sec, cond)
     for y in np.linspace(0.05, 2.6, 23):
         ex = stability.stem_moment(sec, cond, BASIS, np.full(2, y))
         ap = at(np.full(2, y))
@@ -371,7 +371,7 @@ def test_shared_stem_moment_columns_give_each_candidate_its_own_curtailment():
     sec = g.sections(np.vstack([v, v]))
     rows = Rows.of(ds, [len(v), len(v)])
     cond = conditions_of(sec.base_thickness_m, rows, ds[0])
-    allx = stability.evaluate_all(sec, cond, BASIS)
+    allx = ev_.Situations(sec, cond, BASIS)
     shared = ev_._stem_moment_at(allx, sec, cond)
     assert shared.M.shape[1] < len(sec) // 20  # columns are shared widely
     n = len(sec)
@@ -405,7 +405,7 @@ def test_stem_moment_table_of_distinct_stems_out_of_order():
                             Section(0.25, 0.30, 1.6, 0.4, 0.30)])
     rows = Rows.of(ds, [1, 1])
     cond = conditions_of(sec.base_thickness_m, rows, ds[0])
-    allx = stability.evaluate_all(sec, cond, BASIS)
+    allx = ev_.Situations(sec, cond, BASIS)
     assert list(allx.stem_columns()[0]) == [1, 0]  # the distinct stems, sorted
     at = ev_._stem_moment_at(allx, sec, cond)
     for y in ([3.0, 1.0], [0.5, 0.5], [4.0, 2.0]):

@@ -860,16 +860,13 @@ class AllActions:
         depths of every candidate), kNm/m of the same shape."""
         return _stem_moment(self.ctx, y)
 
-    def stem_columns(self) -> tuple[np.ndarray, np.ndarray]:
-        """The candidates whose stem moments are equal at every depth: those of equal
-        total height H, base thickness t and water on the stem, the only inputs of
-        :func:`stem_moment` that differ from one candidate to the next (Ka, the unit
-        weight and the surcharge are the ground's). (index of the first candidate of each
-        distinct one, (m,); the distinct one of every candidate, (n,)): see
-        ``structure.distinct_rows``."""
-        from wallrun.structure import distinct_rows
+    def stem_inputs(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The inputs of :func:`stem_moment` that differ from one candidate to the next:
+        the total height H, the base thickness t and the water on the stem, (n,) each
+        (Ka, the unit weight and the surcharge are the ground's). Candidates equal in
+        all three have equal stem moments at every depth."""
         g = self.ctx.g
-        return distinct_rows(g.H, g.t, g.w_stem_rel)
+        return g.H, g.t, g.w_stem_rel
 
 
 def evaluate_all(sec: SectionArrays, cond: Conditions, basis: Basis) -> AllActions:

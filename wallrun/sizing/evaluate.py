@@ -186,13 +186,15 @@ class Situations:
         return np.maximum(m, self.sx.stem_moment(y)) if self.sx is not None else m
 
     def stem_columns(self) -> tuple[np.ndarray, np.ndarray]:
-        """The candidates whose stem moments are equal at every depth
-        (``stability.AllActions.stem_columns``); in the seismic situation every
-        candidate is its own."""
+        """The candidates whose stem moments are equal at every depth, those equal in
+        ``stability.AllActions.stem_inputs``: (index of the first candidate of each
+        distinct stem, (m,); the distinct stem of every candidate, (n,)), as
+        ``structure.distinct_rows``; in the seismic situation every candidate is its
+        own."""
         if self.sx is not None:
             n = self.allx.ctx.g.n
             return np.arange(n), np.arange(n)
-        return self.allx.stem_columns()
+        return structure.distinct_rows(*self.allx.stem_inputs())
 
     def subset(self, idx) -> "Situations":
         a = self.allx.subset(idx)
