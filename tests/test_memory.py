@@ -58,6 +58,29 @@ def test_result_frozen_keeps_the_objects_out_of_collection_within_it_only():
     assert gc.get_freeze_count() == 0
 
 
+def _env(name: str):
+    import os
+    return os.environ.get(name)
+
+
+def test_workers_have_the_environment_of_when_the_pool_is_made(monkeypatch):
+    # a fork server outlives the pools of a process: a worker forked from it takes the
+    # caller's environment as it is when its pool is made (ReportLab dates the drawings'
+    # PDF by SOURCE_DATE_EPOCH, which a test sets between two runs in one process)
+    first = cli.worker_pool(2)
+    try:
+        assert first.submit(_env, "WALLRUN_TEST_MARK").result() is None
+    finally:
+        first.shutdown()
+    monkeypatch.setenv("WALLRUN_TEST_MARK", "set after the fork server started")
+    second = cli.worker_pool(2)
+    try:
+        assert second.submit(_env, "WALLRUN_TEST_MARK").result() == \
+            "set after the fork server started"
+    finally:
+        second.shutdown()
+
+
 def _registered_fonts() -> set:
     from reportlab.pdfbase import pdfmetrics
 

@@ -403,13 +403,20 @@ def worker_pool(jobs: int):
     import multiprocessing as mp
     method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
     return WorkerPool(max_workers=jobs - 1, mp_context=mp.get_context(method),
-                      initializer=start_worker)
+                      initializer=start_worker, initargs=(dict(os.environ),))
 
 
-def start_worker() -> None:
-    """A worker's start: :func:`tune_process`, then the modules its part of a search
+def start_worker(environ: dict | None = None) -> None:
+    """A worker's start: this process's environment as it was when the pool was made
+    (``environ``; a ``forkserver`` worker would otherwise have the environment of the
+    moment the process's fork server started, which in a process that makes several
+    pools may be older: ReportLab, for one, dates the drawings' PDF by
+    ``SOURCE_DATE_EPOCH``), :func:`tune_process`, then the modules its part of a search
     runs (``wallrun.pipeline`` and what it imports: numpy and the search, about 0.25 s
     of CPU), which the first task would otherwise import on the critical path."""
+    if environ is not None:
+        os.environ.clear()
+        os.environ.update(environ)
     tune_process()
     import wallrun.pipeline  # noqa: F401
 
