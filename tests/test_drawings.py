@@ -638,3 +638,11 @@ def test_a_grid_insert_is_drawn_as_ezdxf_draws_it_cell_by_cell():
         assert [k for k, _ in kind_a] == [k for k, _ in kind_b]
         for (_, va), (_, vb) in zip(kind_a, kind_b):
             assert np.allclose(va, vb, rtol=0.0, atol=1e-9)
+
+
+def test_title_block_dated_by_the_outputs_issue_date(monkeypatch):
+    # as the report and the workbook: SOURCE_DATE_EPOCH 1700000000 is 2023-11-14
+    # 22:13:20 UTC (the reproducible-builds convention: seconds since 1970 UTC)
+    from wallrun.outputs.dxf import titles
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")
+    assert titles.fields(None, "t", "s", "1:50", "1 of 1")["DATE"] == "2023-11-14"

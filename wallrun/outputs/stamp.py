@@ -1,5 +1,5 @@
-"""The issue date shown on the outputs (report front page, workbook properties,
-``model.ifc``'s header).
+"""The issue date shown on the outputs (report front page, workbook properties, the
+drawings' title blocks, ``model.ifc``'s header).
 
 ``SOURCE_DATE_EPOCH`` (the reproducible-builds convention, seconds since 1970 UTC) when
 it is set, so that a rebuild gives the same files; else the present time (UTC).

@@ -26,9 +26,8 @@ Layout (mm, x from the left edge of the block, y from its bottom)::
 
 from __future__ import annotations
 
-import datetime as dt
-
 from wallrun.outputs.dxf import conventions as c
+from wallrun.outputs.stamp import issue_date
 
 B_TITLE = "WALLRUN-TITLE-PANEL"
 WIDTH_MM = 180.0
@@ -66,12 +65,13 @@ def define(doc) -> None:
 
 
 def fields(site, title: str, subtitle: str, scale_text: str, sheet: str) -> dict:
-    """The attribute values of a title block."""
+    """The attribute values of a title block (the date: the outputs' date of issue,
+    ``stamp.issue_date``, as the report's and the workbook's)."""
     project = getattr(site, "project", None)
     return {"PROJECT": getattr(project, "name", "") or "(unnamed project)",
             "REFERENCE": "reference " + (getattr(project, "reference", "") or "-"),
             "TITLE": title, "SUBTITLE": subtitle, "SCALE": scale_text,
-            "DATE": dt.date.today().isoformat(), "SHEET": sheet, "STATUS": c.STATUS}
+            "DATE": issue_date().isoformat(), "SHEET": sheet, "STATUS": c.STATUS}
 
 
 def add_title_block(layout, lower_right, values: dict, k: float = 1.0, layer=c.L_FRAME):
