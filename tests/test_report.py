@@ -394,6 +394,16 @@ def test_unpriced_items_and_incomplete_cost():
     assert "incomplete" in cost["total"][5]
 
 
+def test_costs_name_the_sites_currency():
+    """``[takeoff] currency`` heads the rate and amount columns and follows the total."""
+    r = own_sample_result()
+    r = replace(r, site=replace(r.site, takeoff=replace(r.site.takeoff, currency="CHF")))
+    doc = parse(report.render_report(r, date="2031-04-02"))
+    head = doc.get_element_by_id("quantities").xpath(".//table[@class='cost']//tr")[0]
+    assert [th.text_content() for th in head][3:5] == ["rate (CHF per unit)", "amount (CHF)"]
+    assert f"{r.cost.total:.2f} CHF" in doc.get_element_by_id("summary").text_content()
+
+
 # --- a real design: the terms of the resistances --------------------------------------------
 
 @pytest.mark.parametrize("site", ["platform-edge", "hillside-cut"])

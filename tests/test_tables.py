@@ -1,5 +1,6 @@
 """Output table rendering: rounding, formula neutralisation, column order."""
 
+import json
 import math
 
 from wallrun.outputs import tables
@@ -67,10 +68,21 @@ def test_cost_csv_unpriced_and_incomplete():
                  CostRow("joint_seal", "m", 6.5, None, None)), 4320.0, False, False)
     rows = _cost_rows(replace(r, cost=cost))
     assert rows[0]["note"] == "" and rows[0]["rate"] == "180.00"
-    assert rows[1]["rate"] == "unpriced" and rows[1]["amount"] == ""
+    assert rows[1]["rate"] == "" and rows[1]["amount"] == ""  # numbers only
     assert "unpriced" in rows[1]["note"]
     assert rows[2]["item"] == "total" and "incomplete" in rows[2]["note"]
     assert DEMO_RATES_NOTE not in rows[2]["note"]
+
+
+def test_the_currency_is_beside_every_cost():
+    """``[takeoff] currency`` (interfaces.md: shown beside every cost): cost.csv's total
+    row carries it as its unit, design.json's cost names it; empty gives "cost units"."""
+    from wallrun.settings import Takeoff
+    r = sample_result()
+    assert _cost_rows(r)[-1]["unit"] == "cost units"
+    r = replace(r, site=replace(r.site, takeoff=Takeoff(currency=" NZD ")))
+    assert _cost_rows(r)[-1]["unit"] == "NZD"
+    assert json.loads(tables.design_json(r))["cost"]["currency"] == "NZD"
 
 
 def test_design_json_lists_what_is_not_checked_for_the_site():

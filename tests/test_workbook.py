@@ -32,7 +32,7 @@ def _reinf():
     return Reinforcement(stem=b, heel=b, toe=b, stem_horizontal=d, base_distribution=d)
 
 
-def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand"):
+def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand", currency=""):
     qa = panel_quantities(STRAIGHT, STRAIGHT_SEC, BARS, Takeoff(), joint_seals=1)
     qb = panel_quantities(SLOPED, SLOPED_SEC, BARS[:2], Takeoff(), joint_seals=0)
     checks = (CheckEntry("sliding", "DA1-2", "drained", 61.2, 70.4, "kN/m", 0.87,
@@ -47,7 +47,8 @@ def _result(rates=None, name="=cmd|' /C calc'!A0", reason="-flagged by hand"):
                                            (SLOPED, SLOPED_SEC, qb, "flagged", reason)))
     quantities = totals([qa, qb])
     site = SimpleNamespace(project=SimpleNamespace(name=name, reference="R-1"),
-                           ground_model=GroundModel(), seismic=None, design=Design())
+                           ground_model=GroundModel(), seismic=None, design=Design(),
+                           takeoff=Takeoff(currency=currency))
     return DesignResult(
         site=site, profiles=None, runs=(), panels=panels,
         joints=(Joint("J001", 6.0, "P001", "P002", 0.15, 0.6, 1.1, "ok", ""),),
@@ -172,13 +173,26 @@ def test_cost_sheet_marks_demo_and_incomplete(tmp_path):
     rows = [[c.value for c in r] for r in openpyxl.load_workbook(
         write_workbook(res, tmp_path / "b.xlsx"))["cost"].iter_rows()]
     exc = next(r for r in rows if r[0] == "excavation")
-    assert exc[3] == "unpriced" and exc[4] is None and "unpriced" in exc[5]
+    assert exc[3] is None and exc[4] is None and "unpriced" in exc[5]  # numbers only
     total = rows[-1]
     assert total[0] == "total" and "incomplete" in total[5]
     assert "demo" not in total[5].lower()
     assert total[4] == pytest.approx(res.cost.total)
     priced = [r[4] for r in rows[1:-1] if isinstance(r[4], (int, float))]
     assert total[4] == pytest.approx(sum(priced))
+
+
+def test_costs_are_headed_by_the_sites_currency(tmp_path):
+    """``[takeoff] currency`` is shown beside every cost (interfaces.md): the schedule's
+    cost column, the cost sheet's rate and amount; empty gives "cost units"."""
+    book = openpyxl.load_workbook(write_workbook(_result(currency="EUR"), tmp_path / "e.xlsx"))
+    heads = [c.value for c in next(book["cost"].iter_rows())]
+    assert heads[3:5] == ["rate (EUR per unit)", "amount (EUR)"]
+    assert "cost (EUR)" in [c.value for c in next(book["schedule"].iter_rows())]
+    rows = [[c.value for c in r] for r in book["cost"].iter_rows()]
+    assert rows[-1][:2] == ["total", "EUR"]
+    plain = openpyxl.load_workbook(write_workbook(_result(), tmp_path / "p.xlsx"))
+    assert "cost (cost units)" in [c.value for c in next(plain["schedule"].iter_rows())]
 
 
 def test_user_rates_unit_row(tmp_path):

@@ -204,23 +204,26 @@ def quantities_csv(result: DesignResult) -> str:
 COST_COLUMNS = ("item", "unit", "quantity", "rate", "amount", "note")
 #: The note of a row priced at an invented demo rate.
 DEMO_RATE = "invented demo rate, not a market price"
+#: The note of an item with no rate.
+UNPRICED = "unpriced: no rate, not in the total"
 
 
 def cost_csv_rows(result: DesignResult) -> list[dict]:
     """The rows of ``cost.csv`` (and of the workbook's cost sheet) keyed by
-    :data:`COST_COLUMNS`: one an item, then the total. The ``note`` says which rates are
-    invented demo rates (with ``takeoff.DEMO_RATES_NOTE`` on the total) and which items
-    are unpriced (left out of an incomplete total)."""
+    :data:`COST_COLUMNS`: one an item, then the total, whose ``unit`` is the money the
+    amounts are in (``[takeoff] currency``, else ``cost units``). The ``note`` says
+    which rates are invented demo rates (with ``takeoff.DEMO_RATES_NOTE`` on the total)
+    and which items are unpriced: no rate and no amount (left out of an incomplete
+    total), so that the rate and amount columns hold numbers only."""
     c = result.cost
     rows = []
     for r in c.rows:
         if r.rate is None:
-            note = "unpriced: no rate, not in the total"
+            note = UNPRICED
         else:
             note = DEMO_RATE if c.demo_rates else ""
         rows.append({"item": r.item, "unit": r.unit, "quantity": r.quantity,
-                     "rate": r.rate if r.rate is not None else "unpriced",
-                     "amount": r.amount, "note": note})
+                     "rate": r.rate, "amount": r.amount, "note": note})
     notes = []
     if result.nothing_designed:
         notes.append(NOTHING_DESIGNED)
@@ -228,7 +231,8 @@ def cost_csv_rows(result: DesignResult) -> list[dict]:
         notes.append("incomplete: unpriced items left out")
     if c.demo_rates:
         notes.append(DEMO_RATES_NOTE)
-    rows.append({"item": "total", "unit": "", "quantity": None, "rate": None,
+    rows.append({"item": "total", "unit": result.site.takeoff.money, "quantity": None,
+                 "rate": None,
                  "amount": c.total, "note": "; ".join(notes)})
     return rows
 
@@ -348,7 +352,8 @@ def design_dict(result: DesignResult) -> dict:
         "cost": {"rows": [{"item": r.item, "unit": r.unit, "quantity": num(r.quantity),
                            "rate": num(r.rate, 2), "amount": num(r.amount, 2)}
                           for r in c.rows],
-                 "total": num(c.total, 2), "complete": c.complete,
+                 "total": num(c.total, 2), "currency": site.takeoff.money,
+                 "complete": c.complete,
                  "demo_rates": c.demo_rates},
         "warnings": list(result.warnings),
     }

@@ -47,16 +47,17 @@ _SUFFIXES = (("_mm2_per_m", "mm2/m"), ("_kn_m3", "kN/m3"), ("_kpa", "kPa"), ("_d
 _DIMENSIONLESS = ("util_", "utilization", "pressure_ratio")
 
 
-def header(column: str) -> str:
+def header(column: str, money: str = "cost units") -> str:
     """Column name -> header with its unit: ``length_m`` -> ``length (m)``,
-    ``util_sliding`` -> ``util_sliding (-)``; names without a unit are unchanged."""
+    ``util_sliding`` -> ``util_sliding (-)``, ``cost`` -> ``cost (<money>)`` (the site's
+    currency, ``[takeoff] currency``); names without a unit are unchanged."""
     for suffix, unit in _SUFFIXES:
         if column.endswith(suffix) and len(column) > len(suffix):
             return f"{column[:-len(suffix)]} ({unit})"
     if column.startswith(_DIMENSIONLESS):
         return f"{column} (-)"
     if column == "cost":
-        return "cost (cost units)"
+        return f"cost ({money})"
     return column
 
 
@@ -184,11 +185,12 @@ def _panel_quantities(book: _Book, result: DesignResult) -> None:
     book.table("panel quantities", heads, rows, [None] + ["0.000"] * len(items))
 
 
-def _columns(book: _Book, name: str, columns, dict_rows, formats: dict | None = None) -> None:
-    """A table of dict rows keyed by ``columns``, headers with units, floats shown to
-    3 decimals unless ``formats`` says otherwise."""
+def _columns(book: _Book, name: str, columns, dict_rows, formats: dict | None = None,
+             money: str = "cost units") -> None:
+    """A table of dict rows keyed by ``columns``, headers with units (costs in
+    ``money``), floats shown to 3 decimals unless ``formats`` says otherwise."""
     formats = formats or {}
-    book.table(name, [header(c) for c in columns],
+    book.table(name, [header(c, money) for c in columns],
                ([row.get(c) for c in columns] for row in dict_rows),
                [formats.get(c, "0.000") for c in columns])
 
@@ -196,10 +198,11 @@ def _columns(book: _Book, name: str, columns, dict_rows, formats: dict | None = 
 def write_workbook(result: DesignResult, path) -> Path:
     """Write ``schedule.xlsx`` for ``result`` at ``path``; returns the path."""
     path = Path(path)
+    money = result.site.takeoff.money
     book = _Book(path)
     _cautions(book, result)
     _columns(book, "schedule", PANEL_COLUMNS, (panel_row(p) for p in result.panels),
-             {"cost": "0.00", "steel_kg": "0.0"})
+             {"cost": "0.00", "steel_kg": "0.0"}, money)
     _checks(book, result)
     _panel_quantities(book, result)
     _columns(book, "joints", JOINT_COLUMNS, (dataclasses.asdict(j) for j in result.joints))
@@ -208,8 +211,8 @@ def write_workbook(result: DesignResult, path) -> Path:
              (bar_schedule_row(b) for b in result.bar_schedule), {"mass_kg": "0.00"})
     book.table("quantities", ["item", "unit", "quantity (in unit)"],
                ((q.item, q.unit, q.quantity) for q in result.quantities), [None, None, "0.000"])
-    book.table("cost", ["item", "unit", "quantity (in unit)", "rate (cost units per unit)",
-                        "amount (cost units)", "note"],
+    book.table("cost", ["item", "unit", "quantity (in unit)", f"rate ({money} per unit)",
+                        f"amount ({money})", "note"],
                ([row[c] for c in COST_COLUMNS] for row in cost_csv_rows(result)),
                [None, None, "0.000", "0.00", "0.00", None], widths=[22, 8, 18, 26, 20, 60])
     book.close(result)

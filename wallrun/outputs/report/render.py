@@ -298,7 +298,7 @@ def context(result, date: str | None = None) -> dict:
         "data:image/png;base64," + base64.b64encode(png).decode("ascii"),
         "umax": seen["umax"],
         "type_length": type_length, "calcs": calcs,
-        "cost_rows": cost_csv_rows(result),
+        "cost_rows": cost_csv_rows(result), "money": site.takeoff.money,
         "nothing_designed": NOTHING_DESIGNED,
     }
 
