@@ -15,7 +15,7 @@ import ezdxf
 import matplotlib.image as mpimg
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).parent))
@@ -141,12 +141,10 @@ def _all_text(doc) -> str:
     for lay in layouts:
         for e in lay:
             t = e.dxftype()
-            if t in ("TEXT", "ATTRIB"):
-                out.append(e.dxf.text)
-            elif t == "MTEXT":
+            if t in ("TEXT", "ATTRIB", "MTEXT"):
                 out.append(e.plain_text())
             if t == "INSERT":
-                out += [a.dxf.text for a in e.attribs]
+                out += [a.plain_text() for a in e.attribs]
     return "\n".join(out)
 
 
@@ -473,6 +471,51 @@ def test_any_section_type_name_makes_a_valid_block(tmp_path):
     assert blocks == [BLOCK_PREFIX + "_HYPERLINK__x__", BLOCK_PREFIX + "_HYPERLINK__x__-2"]
     words = _all_text(doc)
     assert 'SECTION =HYPERLINK("x")' in words and "SECTION =HYPERLINK(<x>)" in words
+
+
+@settings(max_examples=50, deadline=None)
+@given(st.text(alphabet=st.sampled_from(list("%^\\{}dcpuoJ PI0-9ab\n\t°")), max_size=24))
+def test_text_escape_is_read_back_as_given(text):
+    """A name written through ``text_escape`` (TEXT, ATTRIB) or ``mtext_escape`` (MTEXT)
+    reads back by ezdxf's ``plain_text()`` as given: no %%d, %%c, %%u or caret code is
+    read into it (DXF special-character codes and caret notation); a line break or tab,
+    which one line of text cannot hold, reads back as a space. (A caret that ends the
+    text is dropped by ezdxf's reading, ``fix_one_line_text``; not tested.)"""
+    assume(not text.endswith("^"))
+    doc = ezdxf.new("R2013")
+    msp = doc.modelspace()
+    shown = "".join(ch if ch.isprintable() else " " for ch in text)
+    assert msp.add_text(c.text_escape(text)).plain_text() == shown
+    assert msp.add_mtext(c.mtext_escape(text)).plain_text() == shown
+
+
+def test_names_with_dxf_codes_are_drawn_as_given(tmp_path):
+    """A project name and a section type name holding %%d, %%u, %%c and ^J (DXF codes
+    for degree, underline, diameter and a line feed) are shown as written, in the
+    title-block attributes, the section titles and sheets.pdf's text."""
+    pypdf = pytest.importorskip("pypdf")
+    name = "Yard 50%%d %%u under %%c dia ^J caret 7%"
+    tname = "T%%c1^J"
+    r = sample_result()
+    first = r.section_types[0].section_type
+
+    def rename(t):
+        return tname if t == first else t
+    r = replace(r, site=replace(r.site, project=replace(r.site.project, name=name)),
+                section_types=tuple(replace(t, section_type=rename(t.section_type))
+                                    for t in r.section_types),
+                panels=tuple(replace(p, section_type=rename(p.section_type)) for p in r.panels),
+                bar_schedule=tuple(replace(b, section=rename(b.section))
+                                   for b in r.bar_schedule))
+    names = write_drawings(r, tmp_path)
+    assert "sheets.pdf" in names
+    for f in ("elevation.dxf", "sections.dxf"):
+        doc = ezdxf.readfile(str(tmp_path / f))
+        assert not doc.audit().has_errors
+        assert name in _all_text(doc).splitlines()
+    assert f"SECTION {tname}" in _all_text(ezdxf.readfile(str(tmp_path / "sections.dxf")))
+    words = " ".join(p.extract_text() for p in pypdf.PdfReader(str(tmp_path / "sheets.pdf")).pages)
+    assert name in words and "°" not in words and "Ø" not in words
 
 
 @pytest.mark.parametrize("name", ["elevation.dxf", "sections.dxf", "plan.dxf"])

@@ -273,7 +273,8 @@ def add_text(layout, text: str, xy, height: float, layer: str,
     attribs = {"layer": layer, "style": style, "insert": p}
     if h or v:
         attribs.update(halign=h, valign=v, align_point=p)
-    return layout.add_text(str(text), height=float(height), rotation=float(rotation),
+    return layout.add_text(text_escape(str(text)), height=float(height),
+                           rotation=float(rotation),
                            dxfattribs=attribs)
 
 
@@ -300,9 +301,26 @@ def add_lines_text(layout, lines, xy, height: float, layer: str, pitch: float,
         "width": 1.02 * width + 0.01 * height})
 
 
+def text_escape(s: str) -> str:
+    """Text shown as given in a TEXT or ATTRIB value (a project name, a section type).
+
+    A character that is not printable (a line break) becomes a space: one line of text
+    holds none. A caret is written ``^ `` (DXF caret notation: ``^J`` would be read as
+    a line feed). Where ``%%`` occurs, every ``%`` is written ``%%%``, the code of one
+    percent sign, so that no ``%%c``, ``%%d``, ``%%p``, ``%%u`` or ``%%nnn`` code (the
+    special-character codes of DXF TEXT) is read into it. ezdxf's ``plain_text()``
+    gives ``s`` back, but for a caret that ends it, which ezdxf's reading drops."""
+    if not s.isprintable():
+        s = "".join(ch if ch.isprintable() else " " for ch in s)
+    if "^" in s:
+        s = s.replace("^", "^ ")
+    return s.replace("%", "%%%") if "%%" in s else s
+
+
 def mtext_escape(s: str) -> str:
-    """Plain text for MTEXT content: backslashes and braces escaped."""
-    return s.replace("\\", "\\\\").replace("{", "\\{").replace("}", "\\}")
+    """Plain text for MTEXT content: backslashes and braces escaped, then as
+    :func:`text_escape` (MTEXT reads the carets and ``%%`` codes too)."""
+    return text_escape(s.replace("\\", "\\\\").replace("{", "\\{").replace("}", "\\}"))
 
 
 def add_polyline(layout, pts, layer: str, close: bool = False):

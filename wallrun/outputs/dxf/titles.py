@@ -80,7 +80,7 @@ def add_title_block(layout, lower_right, values: dict, k: float = 1.0, layer=c.L
     its attributes set from ``values``."""
     ref = layout.add_blockref(B_TITLE, lower_right, dxfattribs={
         "layer": layer, "xscale": k, "yscale": k})
-    ref.add_auto_attribs(values)
+    ref.add_auto_attribs({tag: c.text_escape(str(v)) for tag, v in values.items()})
     for a in ref.attribs:
         a.dxf.layer = layer
     return ref
