@@ -531,3 +531,15 @@ def test_numeric_cells_refuse_text():
     assert cells((1.0, None, -0.0001, float("inf")), 2, 2, 2, 0) == "1.00<td><td>0.00<td>inf"
     with pytest.raises(TypeError):
         cells(("<script>",), 2)
+
+
+def test_clauses_under_their_group_head():
+    """A check's clause in the report leaves out what the head of its group names: the
+    code (EN 1997-1 under EN 1997-1) and, for a seismic check, the basis of the seismic
+    situation (``seismic.CLAUSE``: EN 1998-5 7.3.2, Annex E, named in the head)."""
+    from wallrun import seismic
+    from wallrun.outputs.report.render import clause
+    assert clause("EN 1997-1 6.5.3 Eq. 6.3a", "EN 1997-1") == "6.5.3 Eq. 6.3a"
+    assert clause(seismic.CLAUSE["bearing drained"], "EN 1997-1") == "6.5.2, Annex D.4"
+    assert clause("Bishop (1955)", "EN 1997-1") == "Bishop (1955)"
+    assert clause("EN 1992-1-1 6.1", "EN 1997-1") == "EN 1992-1-1 6.1"

@@ -14,7 +14,7 @@ from overall_reference import bishop_panel
 from seismic_reference import plain_seismic
 
 import wallrun
-from wallrun import cautions
+from wallrun import cautions, seismic
 from wallrun.conditions import Conditions
 
 TOML = """[project]
@@ -114,7 +114,7 @@ def test_overall_entries_confirmed_by_independent_bishop(result):
 def test_outputs_carry_both_situations(result, tmp_path):
     # panels.csv gains util_overall and util_seismic; design.json's overall entries their
     # critical circle; the report a seismic block (kh, kv, theta, K and the actions of
-    # each sign of kv) in every type's calculation
+    # each sign of kv, side by side) in every type's calculation
     import csv
     import json
     site, res = result
@@ -130,8 +130,39 @@ def test_outputs_carry_both_situations(result, tmp_path):
     n_types = len([t for t in res.section_types if t.panels])
     assert html.count("Seismic design situation") >= n_types - sum(
         p.status != "ok" for p in res.panels)
-    assert "seismic actions, kv up" in html and "seismic actions, kv down" in html
+    assert "<th>V, kv up<th>H<th>M<th>V, kv down<th>H<th>M" in html
+    assert "SEIS: EN 1998-5 7.3.2, Annex E" in html
     assert "critical slip circle" in html
+
+
+def test_report_seismic_rows_are_each_signs_actions(result):
+    # the report's seismic table puts the signs of kv side by side: every row of it is
+    # the same action of each sign's table (seismic.seismic_action_table), at the same
+    # point of application, with that sign's V, H and M; the sums are each sign's sums
+    from wallrun.outputs.report import calc
+    site, res = result
+    seen = 0
+    for c in calc.type_calcs(res):
+        if c.seismic is None:
+            continue
+        p = c.panel.panel
+        cond = Conditions(z_top=p.retained_top_m, z_front=p.front_min_m, z_found=p.founding_m,
+                          backfill=p.backfill, foundation=p.foundation,
+                          surcharge_kpa=p.surcharge_kpa, water_level_m=p.water_level_m)
+        basis = replace(site.basis, seismic=site.seismic)
+        tables = seismic.seismic_action_table(c.panel.section, cond, basis, site.seismic)
+        assert c.seismic["labels"] == list(tables) == ["kv up", "kv down"]
+        for i, row in enumerate(c.seismic["rows"]):
+            for k, t in enumerate(tables.values()):
+                a = t[i]
+                assert row["xz"] == pytest.approx((a.x_m, a.z_m), abs=1e-12)
+                assert row["values"][k] == (a.vertical_kn_m, a.horizontal_kn_m, a.moment_kn_m_m)
+        for k, t in enumerate(tables.values()):
+            assert c.seismic["sums"][k] == pytest.approx(
+                (sum(a.vertical_kn_m for a in t), sum(a.horizontal_kn_m for a in t),
+                 sum(a.moment_kn_m_m for a in t)))
+        seen += 1
+    assert seen >= 2
 
 
 def test_drawings_of_the_drawing_view_equal_those_of_the_whole_result(result, tmp_path,

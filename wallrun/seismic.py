@@ -90,13 +90,15 @@ NO_SOLUTION = "backfill slope beta > phi'_d - theta: no Mononobe-Okabe solution"
 #: The two signs of kv: (label, sign of the signed kv, upward positive).
 KV_SIGNS = (("kv up", 1.0), ("kv down", -1.0))
 
+#: The clause every seismic check rests on; each check's own clause follows it.
+BASIS = "EN 1998-5 7.3.2, Annex E"
 CLAUSE = {
-    "overturning": "EN 1998-5 7.3.2, Annex E; EN 1997-1 2.4.7.2 (factors 1.0)",
-    "sliding drained": "EN 1998-5 7.3.2, Annex E; EN 1997-1 6.5.3 Eq. 6.3a",
-    "sliding undrained": "EN 1998-5 7.3.2, Annex E; EN 1997-1 6.5.3 Eq. 6.4a, 6.5.3(12)",
-    "bearing drained": "EN 1998-5 7.3.2, Annex E; EN 1997-1 6.5.2, Annex D.4",
-    "bearing undrained": "EN 1998-5 7.3.2, Annex E; EN 1997-1 6.5.2, Annex D.3",
-    "eccentricity": "EN 1998-5 7.3.2, Annex E; EN 1997-1 6.5.4",
+    "overturning": f"{BASIS}; EN 1997-1 2.4.7.2 (factors 1.0)",
+    "sliding drained": f"{BASIS}; EN 1997-1 6.5.3 Eq. 6.3a",
+    "sliding undrained": f"{BASIS}; EN 1997-1 6.5.3 Eq. 6.4a, 6.5.3(12)",
+    "bearing drained": f"{BASIS}; EN 1997-1 6.5.2, Annex D.4",
+    "bearing undrained": f"{BASIS}; EN 1997-1 6.5.2, Annex D.3",
+    "eccentricity": f"{BASIS}; EN 1997-1 6.5.4",
 }
 
 

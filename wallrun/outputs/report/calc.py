@@ -68,10 +68,34 @@ def seismic_calc(result: DesignResult, p: PanelResult) -> dict | None:
     basis = replace(site.basis, seismic=site.seismic)
     ss = seismic.seismic_set(cond, basis, site.seismic)
     tables = seismic.seismic_action_table(p.section, cond, basis, site.seismic)
+    labels, rows = seismic_rows(tables)
     return {"kh": ss.kh, "kv": ss.kv, "phi_b": ss.phi_b, "delta": ss.delta_back,
             "K0": ss.K0_back, "cases": [(c.label, c.theta, c.K_back, c.theta_w, c.K_back_w)
                                          for c in ss.cases],
-            "tables": list(tables.items())}
+            "labels": labels, "rows": rows,
+            "sums": [(sum(a.vertical_kn_m for a in t), sum(a.horizontal_kn_m for a in t),
+                      sum(a.moment_kn_m_m for a in t)) for t in tables.values()]}
+
+
+def seismic_rows(tables: dict) -> tuple[list[str], list[dict]]:
+    """The seismic actions of every sign of kv side by side, one row an action: its
+    name, kind (G, Q, E), point of application x, z (m, the same for every sign: the
+    same weight or thrust at the same place, only its size changes with kv) and per
+    sign V, H (kN/m) and M (kNm/m). An action whose name differs between the signs (the
+    dynamic increment names its own K and theta) is named by its part before the
+    brackets, the K and theta being the table's above it."""
+    labels = list(tables)
+    per_sign = list(tables.values())
+    rows = []
+    for same in zip(*per_sign, strict=True):
+        a = same[0]
+        names = {b.name for b in same}
+        name = a.name if len(names) == 1 else a.name.split(" (")[0] + " (K, θ of its kv above)"
+        kind = {"permanent": "G", "variable": "Q"}.get(a.kind, "E")
+        rows.append({"name": name, "kind": kind, "xz": (a.x_m, a.z_m),
+                     "values": [(b.vertical_kn_m, b.horizontal_kn_m, b.moment_kn_m_m)
+                                for b in same]})
+    return labels, rows
 
 
 def governing_panels(result: DesignResult) -> dict[str, PanelResult]:

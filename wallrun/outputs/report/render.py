@@ -22,6 +22,7 @@ import markupsafe
 
 import wallrun
 from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
+from wallrun import seismic
 from wallrun.codes import ec2
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED
 from wallrun.outputs.report import calc, figures
@@ -119,9 +120,16 @@ def by_code(checks):
     return [(code, group) for code, group in zip(CODES, (geo, struc)) if group]
 
 
+#: The basis of every seismic (SEIS) check, named once in the head of its group.
+SEISMIC_BASIS = seismic.BASIS
+
+
 def clause(text: str, code: str) -> str:
-    """A clause without the code named above it (``EN 1997-1 6.5.3`` under EN 1997-1
-    reads ``6.5.3``); other clauses as they are."""
+    """A clause without what the head of its group names: the code (``EN 1997-1 6.5.3``
+    under EN 1997-1 reads ``6.5.3``) and, for a seismic check, :data:`SEISMIC_BASIS`
+    (the head says it); other clauses as they are."""
+    if text.startswith(SEISMIC_BASIS + "; "):
+        text = text[len(SEISMIC_BASIS) + 2:]
     return text[len(code) + 1:] if text.startswith(code + " ") else text
 
 
@@ -299,6 +307,7 @@ def context(result, date: str | None = None) -> dict:
         "umax": seen["umax"],
         "type_length": type_length, "calcs": calcs,
         "cost_rows": cost_csv_rows(result), "money": site.takeoff.money,
+        "seismic_basis": SEISMIC_BASIS,
         "nothing_designed": NOTHING_DESIGNED,
     }
 
