@@ -5,6 +5,8 @@ by the tests with lxml (tests/landxml_doc.py)."""
 
 from __future__ import annotations
 
+import json
+
 import math
 from pathlib import Path
 
@@ -422,3 +424,10 @@ def test_demo_site_reads(capsys):
     assert p.length_along(1000.0, 1060.0) == pytest.approx(60.0, abs=1e-4)
     assert main(["check", str(SITES / "service-yard-bend")]) == 0
     capsys.readouterr()
+    # check gives each run's length along the wall line, as design gives the panels'
+    # (one run here: its station difference is shorter than the wall outside the bend)
+    assert main(["check", "--json", str(SITES / "service-yard-bend")]) == 0
+    (run,) = json.loads(capsys.readouterr().out)["runs"]
+    along = p.length_along(run["ch_start_m"], run["ch_end_m"])
+    assert run["length_m"] == pytest.approx(along, abs=1e-3)
+    assert along > run["ch_end_m"] - run["ch_start_m"] + 4.0

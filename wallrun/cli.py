@@ -219,7 +219,8 @@ def cmd_check(site_dir: str, as_json: bool = False) -> int:
                   f"{r.length_m:>9.3f}  {r.max_retained_height_m:>7.3f}  {r.at_ch_m:>10.3f}  "
                   f"{panels_at_max(r.length_m, w.max_panel_length_m):>6}")
         total = sum(r.length_m for r in runs)
-        print(f"\nTotal {total:.3f} m of wall in {len(runs)} run{'s' if len(runs) != 1 else ''}; "
+        plural = "s" if len(runs) != 1 else ""
+        print(f"\nTotal {total:.3f} m of wall (along the wall line) in {len(runs)} run{plural}; "
               f"panels counted at the maximum panel length of {w.max_panel_length_m:g} m "
               "(joint checks may add more).")
     if site.warnings:

@@ -341,7 +341,8 @@ def max_retained(profiles: Profiles, start: float, end: float) -> tuple[float, f
 def find_runs(profiles: Profiles, wall) -> tuple[Run, ...]:
     """Wall runs (design-basis section 1): needed stretches of the same side closer
     than ``wall.merge_gap_m`` merge into one run (the wall continues through the gap);
-    a stretch of the other side always starts a new run. Runs numbered from 1."""
+    a stretch of the other side always starts a new run. Runs numbered from 1, each with
+    its length along the wall line (``Profiles.length_along``)."""
     gap = float(wall.merge_gap_m)
     merged: list[list] = []
     for side, a, b in needed_stretches(profiles, wall):
@@ -353,5 +354,6 @@ def find_runs(profiles: Profiles, wall) -> tuple[Run, ...]:
     for i, (side, a, b) in enumerate(merged, 1):
         hmax, at = max_retained(profiles, a, b)
         runs.append(Run(run=i, side="fill" if side > 0 else "cut", ch_start_m=a, ch_end_m=b,
-                        max_retained_height_m=hmax, at_ch_m=at))
+                        max_retained_height_m=hmax, at_ch_m=at,
+                        length_m=profiles.length_along(a, b)))
     return tuple(runs)

@@ -502,7 +502,10 @@ class Cost:
 
 @dataclass(frozen=True)
 class Run:
-    """A continuous wall on one side (``wallrun check --json`` ``runs[]``), m."""
+    """A continuous wall on one side (``wallrun check --json`` ``runs[]``), m.
+    ``length_m`` is along the wall line, as the panels' lengths are (on a curved LandXML
+    wall line longer or shorter than the station difference); given as None, the
+    chainage difference (a wall line without plan positions)."""
 
     run: int
     side: str  # fill | cut
@@ -510,10 +513,11 @@ class Run:
     ch_end_m: float
     max_retained_height_m: float
     at_ch_m: float
+    length_m: float | None = None
 
-    @property
-    def length_m(self) -> float:
-        return self.ch_end_m - self.ch_start_m
+    def __post_init__(self):
+        if self.length_m is None:
+            object.__setattr__(self, "length_m", self.ch_end_m - self.ch_start_m)
 
 
 @dataclass(frozen=True)
