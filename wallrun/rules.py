@@ -22,7 +22,9 @@ class Rule:
     kind: ``float``, ``int``, ``bool``, ``str``, ``choice`` (one of ``choices``),
     ``intlist`` (sorted positive whole numbers), ``float_or_none``, ``int_or_auto``
     (a whole number or the word ``"auto"``). lo/hi: bounds, open where
-    ``lo_open``/``hi_open``. unit: shown in messages and documentation.
+    ``lo_open``/``hi_open``. unit: shown in messages and documentation. max_len: the
+    most characters of a text (it is drawn in one line of a title block, and a
+    spreadsheet cell holds at most 32,767).
     """
 
     kind: str
@@ -35,6 +37,7 @@ class Rule:
     nonempty: bool = False
     unit: str = ""
     why: str = ""  # the source of the range, for messages and documentation
+    max_len: int | None = None  # a text's most characters
 
     def check(self, v: Any) -> tuple[Any, str | None]:
         """(converted value, None) or (None, the problem in words)."""
@@ -43,7 +46,7 @@ class Rule:
 
 def setting(default, kind: str = "", *, unit: str = "", gt=None, ge=None, lt=None, le=None,
             choices: tuple = (), required: bool = False, nonempty: bool = False,
-            why: str = ""):
+            why: str = "", max_len: int | None = None):
     """A dataclass field with its default and its :class:`Rule` (in the field metadata).
 
     ``kind`` defaults from the default's type (float, int, bool, str, tuple of ints);
@@ -66,7 +69,7 @@ def setting(default, kind: str = "", *, unit: str = "", gt=None, ge=None, lt=Non
             raise TypeError(f"setting(): give the kind of a {type(default).__name__} default")
     rule = Rule(kind=kind, lo=gt if gt is not None else ge, hi=lt if lt is not None else le,
                 lo_open=gt is not None, hi_open=lt is not None, choices=tuple(choices),
-                required=required, nonempty=nonempty, unit=unit, why=why)
+                required=required, nonempty=nonempty, unit=unit, why=why, max_len=max_len)
     return field(default=default, metadata={"rule": rule})
 
 
@@ -162,6 +165,8 @@ def check_value(v, s: Rule) -> tuple[Any, str | None]:
             return None, f"must be a text in quotes, got {show(v)}"
         if s.nonempty and not v.strip():
             return None, "must not be empty"
+        if s.max_len is not None and len(v) > s.max_len:
+            return None, f"must be at most {s.max_len} characters, got {len(v)}"
         return v, None
     if s.kind == "choice":
         if _is_num(v) and all(_is_num(c) for c in s.choices):

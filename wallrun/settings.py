@@ -17,11 +17,17 @@ import numpy as np
 from wallrun.factors import FactorSet
 from wallrun.rules import g, setting
 
+#: The most characters of a project's name or reference (one line of a title block).
+TEXT_MAX = 200
+#: The most characters of a section type's name in ``sections.csv`` (drawn in titles,
+#: block names and schedules).
+SECTION_NAME_MAX = 40
+
 
 @dataclass(frozen=True)
 class Project:
-    name: str = setting("", required=True, nonempty=True)
-    reference: str = setting("")
+    name: str = setting("", required=True, nonempty=True, max_len=TEXT_MAX)
+    reference: str = setting("", max_len=TEXT_MAX)
 
 
 @dataclass(frozen=True)
@@ -345,7 +351,7 @@ class Takeoff:
     drainage_layer_thickness_m: float = setting(0.3, unit="m", ge=0, le=2)
     drain_pipe: bool = setting(True)  # perforated pipe at the heel along the run
     waterproofing: bool = setting(True)  # back face of the stem below the retained level
-    currency: str = setting("")  # shown beside every cost; empty: "cost units"
+    currency: str = setting("", max_len=24)  # shown beside every cost; empty: "cost units"
 
     @property
     def money(self) -> str:

@@ -49,8 +49,8 @@ from wallrun.rules import nearest as _nearest
 from wallrun.rules import show as _show
 from wallrun.settings import (AlignmentPoint, Backfill, CatalogueSection, Concrete, Design,
                               Drawings, Foundation, FoundationZone, GroundModel, Loads,
-                              ProfileData, ProfileFiles, Project, Rate, Seismic, Site, Steel,
-                              Takeoff, Wall, Water)
+                              ProfileData, ProfileFiles, Project, Rate, SECTION_NAME_MAX,
+                              Seismic, Site, Steel, Takeoff, Wall, Water)
 
 SITE_FILE = "site.toml"
 SECTIONS_FILE = "sections.csv"
@@ -403,6 +403,9 @@ def read_catalogue(path: Path, steel: Steel, pr: _Problems,
     for i, s in enumerate(names):
         if not s:
             pr.add(f"{label}:{lines[i]}: section: blank name")
+        elif len(s) > SECTION_NAME_MAX:
+            pr.add(f"{label}:{lines[i]}: section: a name of {len(s)} characters, at most "
+                   f"{SECTION_NAME_MAX} (it is drawn in titles and schedules)")
         elif names.index(s) != i:
             pr.add(f"{label}:{lines[i]}: section '{s}' repeats line {lines[names.index(s)]}")
     out = []
