@@ -99,6 +99,7 @@ def test_retained_height_beyond_supported_range(tmp_path, capsys):
             assert p[col] == "", (p["panel"], col, p[col])
         assert js[p["panel"]]["quantities"] == {}
     assert_no_type_for_undesigned(out, panels, cap.out)
+    assert_only_the_reason(out, panels)
     total = {q["item"]: float(q["quantity"]) for q in rows(out, "quantities.csv")}
     designed = [p for p in panels if p["status"] == "ok"]
     assert designed
@@ -118,6 +119,47 @@ def test_foundation_too_weak_for_any_section(tmp_path, capsys):
     for p in flagged:
         assert "no section" in p["reason"] and "fails" in p["reason"], p["reason"]
     assert_no_type_for_undesigned(out, panels, cap.out)
+    assert_only_the_reason(out, panels)
+
+
+def assert_only_the_reason(out, panels):
+    """A panel that could not be designed shows its reason and no utilization anywhere
+    (issue 14 item 5): design.json has no section, reinforcement, checks or cost for
+    it; the report's governing panel is a designed one and its schedule row has no u or
+    governing check; the workbook's checks sheet has none for it; the cost's total
+    says the panels left out."""
+    import lxml.html
+    import openpyxl
+    bad = {p["panel"] for p in panels if p["status"] != "ok"}
+    ok = {p["panel"] for p in panels} - bad
+    assert bad
+    doc = json.loads((out / "design.json").read_text(encoding="utf-8"))
+    for p in doc["panels"]:
+        if p["panel"] in bad:
+            assert (p["section"], p["reinforcement"], p["checks"], p["cost"]) == (
+                None, None, [], None), p["panel"]
+            assert p["reason"]
+    html = lxml.html.fromstring((out / "report.html").read_bytes())
+    summary = {tr[0].text_content(): tr[1].text_content()
+               for tr in html.get_element_by_id("summary").xpath(".//table[1]//tr")}
+    cost = summary[next(k for k in summary if k.startswith("cost"))]
+    if ok:
+        assert summary["governing panel"].split(":")[0] in ok
+        assert f"{len(bad)} panel" in cost and "left out" in cost
+    else:
+        assert "governing panel" not in summary and "no panel could be designed" in cost
+    sched = html.xpath("//table[@class='sched']//tr")[1:]
+    for tr in sched:
+        cells = [td.text_content() for td in tr]
+        if cells[0] in bad:
+            assert cells[8] == "" and cells[9] == "" and cells[10].strip() == "FLAGGED", cells
+    ws = openpyxl.load_workbook(out / "schedule.xlsx")["checks"]
+    for row in list(ws.iter_rows(values_only=True))[1:]:
+        if row[0] in bad:
+            assert row[3] in ("", None) and all(v is None for v in row[4:]), row
+    total = rows(out, "cost.csv")[-1]
+    assert (f"{len(bad)} panel" in total["note"] and "left out" in total["note"] if ok
+            else "no panel could be designed" in total["note"])
 
 
 def assert_no_type_for_undesigned(out, panels, console):

@@ -15,6 +15,16 @@ CAUTION = ("wallrun is a preliminary design aid. Every result is to be checked, 
 NOTHING_DESIGNED = ("no panel could be designed, so nothing is measured or priced; the "
                     "reasons are in panels.csv")
 
+
+
+def left_out(n: int) -> str:
+    """Said with the quantities and cost where ``n`` panels (not all) could not be
+    designed: they are not measured or priced."""
+    return (f"{n} panel{'s' if n != 1 else ''} could not be designed and "
+            f"{'are' if n != 1 else 'is'} left out of the quantities and cost; the reasons "
+            "are in panels.csv")
+
+
 OVERALL = "overall (deep-seated) stability of the slope and wall together (EN 1997-1 11.5.1)"
 SEISMIC = "seismic actions (EN 1998-5)"
 RESTRAINT = ("minimum reinforcement for crack control of restrained early-age and shrinkage "

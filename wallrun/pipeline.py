@@ -380,9 +380,11 @@ def _results(site: Site, profiles, runs, laid: list[RunLayout], rational) -> dic
 
     results, per_panel_q = [], []
     for k, ((panel, d, _, front_mean), b) in enumerate(zip(rows, per_panel_bars)):
+        # the checks of a panel that could not be designed were those of a section that
+        # fails: its reason names the failing check, and no utilization is reported
         common = dict(panel=panel, section_type=type_names.get(_type_key(d), ""),
-                      section=d.section,
-                      reinforcement=d.reinforcement, checks=d.checks, status=d.status,
+                      section=d.section, reinforcement=d.reinforcement,
+                      checks=d.checks if d.status == "ok" else (), status=d.status,
                       reason=d.reason)
         if d.status != "ok":
             results.append(PanelResult(**common, quantities={}, concrete_m3=None,

@@ -563,6 +563,11 @@ class DesignResult:
             j.status == "ok" for j in self.joints)
 
     @property
+    def not_designed(self) -> int:
+        """The panels that could not be designed (flagged): not measured or priced."""
+        return sum(p.status != "ok" for p in self.panels)
+
+    @property
     def nothing_designed(self) -> bool:
         """No panel could be designed: nothing is measured or priced, and the zero
         totals are no estimate (the outputs say so instead of giving a cost)."""

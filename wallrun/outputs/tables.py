@@ -19,7 +19,7 @@ import math
 import numpy as np
 
 from wallrun import __version__
-from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, left_out, not_checked
 from wallrun.results import DesignResult, PanelResult, largest
 from wallrun.takeoff import DEMO_RATES_NOTE
 
@@ -227,6 +227,8 @@ def cost_csv_rows(result: DesignResult) -> list[dict]:
     notes = []
     if result.nothing_designed:
         notes.append(NOTHING_DESIGNED)
+    elif result.not_designed:
+        notes.append(left_out(result.not_designed))
     if not c.complete:
         notes.append("incomplete: unpriced items left out")
     if c.demo_rates:
@@ -283,7 +285,9 @@ def panels_json(panels) -> list[dict]:
 
 
 def _panel_json(p: PanelResult, values: list) -> dict:
-    """One entry of :func:`panels_json`; ``values`` its checks' rounded numbers."""
+    """One entry of :func:`panels_json`; ``values`` its checks' rounded numbers. A panel
+    that could not be designed has its levels, ground, status and reason only: no
+    section, reinforcement, checks, quantities or cost."""
     pa, s, r = p.panel, p.section, p.reinforcement
     f = pa.foundation
     reinf = {m: _bar_json(getattr(r, m)) for m in
@@ -296,7 +300,8 @@ def _panel_json(p: PanelResult, values: list) -> dict:
                    "founding_m": num(pa.founding_m),
                    "wall_top_start_m": num(pa.wall_top_start_m),
                    "wall_top_end_m": num(pa.wall_top_end_m)},
-        "section": {"type": p.section_type, **{d: num(getattr(s, d)) for d in DIMENSIONS}},
+        "section": ({"type": p.section_type, **{d: num(getattr(s, d)) for d in DIMENSIONS}}
+                    if p.status == "ok" else None),
         "ground": {
             "backfill": {k: num(v) for k, v in dataclasses.asdict(pa.backfill).items()},
             "foundation": {"unit_weight_kn_m3": num(f.unit_weight_kn_m3),
@@ -306,7 +311,7 @@ def _panel_json(p: PanelResult, values: list) -> dict:
                            "undrained_strength_kpa": num(f.undrained_strength_kpa),
                            "allowable_bearing_kpa": num(f.allowable_bearing_kpa)},
             "surcharge_kpa": num(pa.surcharge_kpa), "water_level_m": num(pa.water_level_m)},
-        "reinforcement": reinf,
+        "reinforcement": reinf if p.status == "ok" else None,
         "checks": _checks_json(p.checks, values),
         "quantities": {k: num(v) for k, v in p.quantities.items()},
         "concrete_m3": num(p.concrete_m3), "steel_kg": num(p.steel_kg, 1),

@@ -26,7 +26,7 @@ from pathlib import Path
 
 import xlsxwriter
 
-from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, left_out, not_checked
 from wallrun.outputs.stamp import issue_date
 from wallrun.outputs.tables import (
     BAR_COLUMNS,
@@ -144,6 +144,8 @@ def _cautions(book: _Book, result: DesignResult) -> None:
         rows.append(("rates", DEMO_RATES_NOTE))
     if result.nothing_designed:
         rows.append(("cost", NOTHING_DESIGNED[0].upper() + NOTHING_DESIGNED[1:] + "."))
+    elif result.not_designed:
+        rows.append(("cost", left_out(result.not_designed) + "."))
     if not result.cost.complete:
         rows.append(("cost", "Incomplete: some items have no rate; the total leaves them out."))
     rows += [("warning", w) for w in result.warnings]

@@ -21,7 +21,7 @@ import jinja2
 import markupsafe
 
 import wallrun
-from wallrun.cautions import CAUTION, NOTHING_DESIGNED, not_checked
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, left_out, not_checked
 from wallrun import seismic
 from wallrun.codes import ec2
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED
@@ -151,7 +151,8 @@ def _order(names, order):
 
 def _over_checks(panels) -> dict:
     """What the report reads from every check entry, in one pass: the highest
-    utilization of each panel (``umax``), the highest of all (``highest``: panel name and
+    utilization of each panel (``umax``; None for a panel without checks, one that could
+    not be designed), the highest of all (``highest``: panel name and
     entry, the first on a tie), the combinations and each check's clauses."""
     umax, best, combinations, clauses = [], None, set(), {}
     seen: set[int] = set()  # the kinds of a listing are shared by those of one evaluation
@@ -164,7 +165,7 @@ def _over_checks(panels) -> dict:
                 clauses.setdefault(c, set()).add(clause)
         top = lst.top()  # the first on a tie
         u = None if top is None else float(lst.values[2, top])
-        umax.append(0.0 if u is None else u)
+        umax.append(u)  # None (shown blank): a panel that could not be designed
         if u is not None and (best is None or u > best[2]):
             best = (p.panel.panel, lst, u, top)
     return {"umax": umax, "combinations": combinations, "clauses": clauses,
@@ -309,6 +310,7 @@ def context(result, date: str | None = None) -> dict:
         "cost_rows": cost_csv_rows(result), "money": site.takeoff.money,
         "seismic_basis": SEISMIC_BASIS,
         "nothing_designed": NOTHING_DESIGNED,
+        "left_out": left_out(result.not_designed) if result.not_designed else "",
     }
 
 
