@@ -101,6 +101,21 @@ def test_exhaustive_reference_stops_only_where_nothing_cheaper_is_left():
     assert a[0] == b[0] and a[1] == pytest.approx(b[1], rel=1e-12)
 
 
+def test_the_grid_by_width_is_the_whole_grid():
+    # the reference takes the grid one base width at a time (memory bounded on the tens
+    # of millions of candidates of a tall wall's 5 cm grid): the widths' candidates
+    # together are every candidate of the grid, each once
+    from wallrun.sizing.grid import grid_for
+    for d, step in ((demand(1.5), 0.1), (demand(2.4), 0.05)):
+        g = grid_for(d, step, BASIS.design)
+        parts = list(g.by_width())
+        assert len(parts) == g.b[1] - g.b[0] + 1
+        joined = np.vstack(parts)
+        whole = g.every()
+        assert len(joined) == len(whole)
+        assert {tuple(r) for r in joined.tolist()} == {tuple(r) for r in whole.tolist()}
+
+
 CASES = [("plain 1.6 m", demand(1.6), BASIS),
          ("plain 3.2 m", demand(3.2), BASIS),
          ("water 2.4 m", demand(2.4, water=Water(height_above_base_m=0.8)), BASIS),

@@ -805,23 +805,36 @@ def cheapest_on_grid(demand: Demand, basis: Basis, costing: Costing = Costing(),
 
 def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk: int,
               every: bool) -> tuple[Section | None, float]:
-    v = grid.every()
-    sec_all = grid.sections(v)
-    lb = ev_.lower_bound(sec_all, Rows.of([demand], [len(v)]), demand, costing, basis)
-    order = np.argsort(lb, kind="stable")
-    v, lb = v[order], lb[order]
+    """The cheapest passing section of ``grid`` and its cost: the grid is taken one base
+    width at a time (:meth:`Grid.by_width`; memory bounded by one width's candidates),
+    the widths in increasing least lower bound, and each width's candidates in
+    increasing lower bound, until the lower bound reaches the best cost found. Every
+    candidate left unchecked has a lower bound at or above a best cost found, so none
+    is cheaper than the answer."""
+    def bound(v):
+        return ev_.lower_bound(grid.sections(v), Rows.of([demand], [len(v)]), demand,
+                               costing, basis)
+
+    least = np.array([bound(v).min() if len(v) else math.inf for v in grid.by_width()])
     best, best_cost, best_u = None, math.inf, math.inf
-    for a in range(0, len(v), chunk):
-        if not every and lb[a] >= best_cost - 1e-9:
+    for w in np.argsort(least, kind="stable"):
+        if not every and least[w] >= best_cost - 1e-9:
             break
-        part = v[a:a + chunk]
-        sec = grid.sections(part)
-        ev = ev_.evaluate(sec, Rows.of([demand], [len(part)]), demand, basis, costing,
-                          caps=ev_.caps_of([demand], [len(part)]))
-        if ev.ok.any():
-            idx = np.flatnonzero(ev.ok)
-            i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
-            c, u = float(ev.cost[i]), float(ev.utilization[i])
-            if c < best_cost - 1e-9 or (abs(c - best_cost) <= 1e-9 and u < best_u):
-                best, best_cost, best_u = sec.take(i), c, u
+        v = replace(grid, b=(grid.b[0] + int(w),) * 2).every()
+        lb = bound(v)
+        order = np.argsort(lb, kind="stable")
+        v, lb = v[order], lb[order]
+        for a in range(0, len(v), chunk):
+            if not every and lb[a] >= best_cost - 1e-9:
+                break
+            part = v[a:a + chunk]
+            sec = grid.sections(part)
+            ev = ev_.evaluate(sec, Rows.of([demand], [len(part)]), demand, basis, costing,
+                              caps=ev_.caps_of([demand], [len(part)]))
+            if ev.ok.any():
+                idx = np.flatnonzero(ev.ok)
+                i = int(idx[np.lexsort((ev.utilization[idx], ev.cost[idx]))[0]])
+                c, u = float(ev.cost[i]), float(ev.utilization[i])
+                if c < best_cost - 1e-9 or (abs(c - best_cost) <= 1e-9 and u < best_u):
+                    best, best_cost, best_u = sec.take(i), c, u
     return best, best_cost
