@@ -198,8 +198,10 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     for k, axis in ((2, g.axes()[2]), (3, g.axes()[3]), (4, g.axes()[4])):
         line = j[np.all(np.delete(j, k, axis=1) == np.delete(cur, k), axis=1)]
         assert set(axis) <= set(line[:, k])
-    # the toe lines: a base TOE_LINE_BASE steps thinner, the stem a step either way, the
-    # base TOE_LINE_WIDTH steps wider, with every toe length up to half the base
+    # the toe lines (tried once where the search would end): a base TOE_LINE_BASE steps
+    # thinner, the stem a step either way, the base TOE_LINE_WIDTH steps wider, with
+    # every toe length up to half the base
+    rows = set(map(tuple, search.toe_lines(cur, g).tolist()))
     for dz in search.TOE_LINE_BASE:
         for ds in search.JUMP_STEM:
             for db in search.TOE_LINE_WIDTH:
