@@ -90,8 +90,8 @@ JUMP_HEEL = (-2, -1, 0, 1, 2, 3)
 #: at one toe length only (the window and single steps stopped 0.67 % and 0.98 % above).
 #: They are tried once, where the search would end, so what it found before stands
 #: (tried at every jump, they led one panel to a dearer optimum). A base one step
-#: thinner as well, with widths up to eight steps more, checked 15 % more candidates
-#: for no cheaper section on the demands tried; this set checks a few per cent more.
+#: thinner as well, with widths up to eight steps more, checked 14 % more candidates on
+#: a 2 km run than this set, which checks about 3 % more than none.
 TOE_LINE_BASE = (-2,)
 TOE_LINE_WIDTH = (0, 2, 4)
 #: Jumps a descent may make.
