@@ -16,7 +16,6 @@ NOTHING_DESIGNED = ("no panel could be designed, so nothing is measured or price
                     "reasons are in panels.csv")
 
 
-
 def left_out(n: int) -> str:
     """Said with the quantities and cost where ``n`` panels (not all) could not be
     designed: they are not measured or priced."""

@@ -234,8 +234,7 @@ def cost_csv_rows(result: DesignResult) -> list[dict]:
     if c.demo_rates:
         notes.append(DEMO_RATES_NOTE)
     rows.append({"item": "total", "unit": result.site.takeoff.money, "quantity": None,
-                 "rate": None,
-                 "amount": c.total, "note": "; ".join(notes)})
+                 "rate": None, "amount": c.total, "note": "; ".join(notes)})
     return rows
 
 

@@ -120,13 +120,17 @@ class Grid:
         mesh = np.stack(np.meshgrid(*axes, indexing="ij", copy=False), axis=-1).reshape(-1, NDIM)
         return mesh[self.valid(mesh)]
 
+    def at_width(self, b: int) -> "Grid":
+        """The part of this grid with base width ``b`` (steps)."""
+        return replace(self, b=(b, b))
+
     def by_width(self):
         """Every valid candidate (:meth:`every`), one base width at a time: an (m_i,
         NDIM) array for each base width of the grid, in increasing width, their union
         :meth:`every` (so that a tall wall's grid of tens of millions of candidates is
         never held at once)."""
         for b in range(self.b[0], self.b[1] + 1):
-            yield replace(self, b=(b, b)).every()
+            yield self.at_width(b).every()
 
     def coarse_strides(self, values: tuple[int, ...]) -> tuple[int, ...]:
         """Strides giving about ``values[k]`` values on each of the five dimension

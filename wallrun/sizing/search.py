@@ -365,9 +365,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     entries, then the small one again; until nothing improves. Then (at most
     ``MAX_JUMPS`` times) the :func:`jumps` of the settled candidate, and the descent
     goes on from any better one they find; where it would end, once, the
-    :func:`toe_lines` of the settled candidate, and on from any better one. ``extra`` candidates are checked with the
-    first neighbourhood. ``polish=False`` (a start near a known optimum) takes the full
-    neighbourhood first.
+    :func:`toe_lines` of the settled candidate, and on from any better one. ``extra``
+    candidates are checked with the first neighbourhood. ``polish=False`` (a start near
+    a known optimum) takes the full neighbourhood first.
     """
     cur = np.asarray(start, dtype=np.int64)
     use_full = not polish
@@ -408,8 +408,8 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     if not np.array_equal(store.best_vector(), cur):
                         cur, use_full = store.best_vector(), False
                         continue
-                # where the search would end: the toe lines, once (what came before is
-                # unchanged by them, so they can only make the result cheaper)
+                # where the descent would end: the toe lines, once (its path up to here
+                # is as without them, so its result can only be cheaper for them)
                 if toe_lined:
                     return
                 toe_lined = True
@@ -863,7 +863,7 @@ def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk:
     for w in np.argsort(least, kind="stable"):
         if not every and least[w] >= best_cost - 1e-9:
             break
-        v = replace(grid, b=(grid.b[0] + int(w),) * 2).every()
+        v = grid.at_width(grid.b[0] + int(w)).every()
         lb = bound(v)
         order = np.argsort(lb, kind="stable")
         v, lb = v[order], lb[order]

@@ -21,8 +21,8 @@ import jinja2
 import markupsafe
 
 import wallrun
-from wallrun.cautions import CAUTION, NOTHING_DESIGNED, left_out, not_checked
 from wallrun import seismic
+from wallrun.cautions import CAUTION, NOTHING_DESIGNED, left_out, not_checked
 from wallrun.codes import ec2
 from wallrun.factors import OVERRIDE_KEYS, RECOMMENDED
 from wallrun.outputs.report import calc, figures
@@ -120,16 +120,12 @@ def by_code(checks):
     return [(code, group) for code, group in zip(CODES, (geo, struc)) if group]
 
 
-#: The basis of every seismic (SEIS) check, named once in the head of its group.
-SEISMIC_BASIS = seismic.BASIS
-
-
 def clause(text: str, code: str) -> str:
     """A clause without what the head of its group names: the code (``EN 1997-1 6.5.3``
-    under EN 1997-1 reads ``6.5.3``) and, for a seismic check, :data:`SEISMIC_BASIS`
-    (the head says it); other clauses as they are."""
-    if text.startswith(SEISMIC_BASIS + "; "):
-        text = text[len(SEISMIC_BASIS) + 2:]
+    under EN 1997-1 reads ``6.5.3``) and, for a seismic check, ``seismic.BASIS`` (the
+    head names it once); other clauses as they are."""
+    if text.startswith(seismic.BASIS + "; "):
+        text = text[len(seismic.BASIS) + 2:]
     return text[len(code) + 1:] if text.startswith(code + " ") else text
 
 
@@ -308,7 +304,7 @@ def context(result, date: str | None = None) -> dict:
         "umax": seen["umax"],
         "type_length": type_length, "calcs": calcs,
         "cost_rows": cost_csv_rows(result), "money": site.takeoff.money,
-        "seismic_basis": SEISMIC_BASIS,
+        "seismic_basis": seismic.BASIS,
         "nothing_designed": NOTHING_DESIGNED,
         "left_out": left_out(result.not_designed) if result.not_designed else "",
     }
