@@ -9,6 +9,7 @@ design engine). All example data are invented.
 
 from __future__ import annotations
 
+import itertools
 import math
 import threading
 
@@ -129,6 +130,55 @@ def test_search_on_a_tall_wall_over_undrained_clay():
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def test_search_where_the_taller_references_section_fails():
+    # A 5.25 m panel of the same invented wall (benchmarks/sites/tall-clay, P006), its
+    # wall top 0.115 m above the retained level. The section of its taller reference
+    # (5.25 m, wall top at the retained level) fails here (its stem bars no longer bend
+    # into the thinner base), and the descent from it settled at B 4.90, toe 1.05, base
+    # 0.40, stem 0.35 (2769.10 a metre, 0.95 % above the grid's cheapest). The second
+    # descent, from the lower reference's section, finds B 4.80, toe 1.30, base 0.50,
+    # stem 0.30 at 2743.03. The reference is taken on base widths 4.75 to 4.90 m; the
+    # whole grid's (112 s) gives the same section.
+    d = Demand(z_top=30.784616, z_front=25.538461,
+               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=34.0),
+               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                     cohesion_kpa=4.0, undrained_strength_kpa=70.0,
+                                     allowable_bearing_kpa=160.0),
+               surcharge_kpa=10.0, water=None, wall_top_m=30.9, min_founding_depth_m=0.8,
+               founding_step_m=0.15)
+    from dataclasses import replace as _replace
+
+    from wallrun.sizing.grid import grid_for
+    sd = bespoke([d], BASIS, Costing(), 0.05)[0]
+    part = _replace(grid_for(d, 0.05, BASIS.design), b=(95, 98))
+    ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
+    assert sd.status == "ok" and ref is not None
+    assert ref_cost == pytest.approx(2743.033, abs=0.01)
+    assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
+def test_search_planes_on_a_tall_wall_of_the_benchmark():
+    # A 5.08 m panel of the benchmark's synthetic 10 km wall (drained ground, DA1, 5 cm
+    # grid), its wall top 0.14 m above the retained level. Single steps, the jumps and
+    # the toe lines settled at B 4.25, toe 1.35, base 0.40 (3.1 % above the grid's
+    # cheapest); the cheapest has a base one step thinner with a toe ten steps shorter
+    # (B 4.25, toe 0.85, base 0.35, stem 0.30: 2245.26 a metre), reached by the planes
+    # planes. The reference is taken on base widths 4.20 to 4.30 m; the whole grid's
+    # (125 s) gives the same section.
+    d = Demand(z_top=69.76, z_front=64.679, backfill=Backfill(), foundation=Foundation(),
+               surcharge_kpa=10.0, water=None, wall_top_m=69.9, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    from dataclasses import replace as _replace
+
+    from wallrun.sizing.grid import grid_for
+    sd = bespoke([d], BASIS, Costing(), 0.05)[0]
+    part = _replace(grid_for(d, 0.05, BASIS.design), b=(84, 86))
+    ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
+    assert sd.status == "ok" and ref is not None
+    assert ref_cost == pytest.approx(2245.256, abs=0.01)
+    assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
 def test_the_grid_by_width_is_the_whole_grid():
     # the reference takes the grid one base width at a time (memory bounded on the tens
     # of millions of candidates of a tall wall's 5 cm grid): the widths' candidates
@@ -198,15 +248,51 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     for k, axis in ((2, g.axes()[2]), (3, g.axes()[3]), (4, g.axes()[4])):
         line = j[np.all(np.delete(j, k, axis=1) == np.delete(cur, k), axis=1)]
         assert set(axis) <= set(line[:, k])
-    # the toe lines (tried once where the search would end): a base TOE_LINE_BASE steps
-    # thinner, the stem a step either way, the base TOE_LINE_WIDTH steps wider, with
-    # every toe length up to half the base
-    rows = set(map(tuple, search.toe_lines(cur, g).tolist()))
-    for dz in search.TOE_LINE_BASE:
-        for ds in search.JUMP_STEM:
-            for db in search.TOE_LINE_WIDTH:
+    # the toe lines (tried once where a descent would end) and the planes after a search:
+    # each (bases, stems, widths) of TOE_LINES and BASE_PLANES, every toe length up to
+    # half the base with each
+    for sets, fn in ((search.TOE_LINES, search.toe_lines),
+                     (search.BASE_PLANES, lambda c, g: search.planes(c, g, search.BASE_PLANES))):
+        rows = set(map(tuple, fn(cur, g).tolist()))
+        for bases, stems, widths in sets:
+            for dz, ds, db in itertools.product(bases, stems, widths):
                 for toe in range(0, (60 + db) // 2 + 1):
                     assert (60 + db, toe, 8 + dz, 7 + ds, 5, 0, 0) in rows, (dz, ds, db, toe)
+    assert (60, 10, 8, 7, 5, 0, 0) not in set(
+        map(tuple, search.planes(cur, g, search.BASE_PLANES).tolist()))  # cur itself: no
+
+
+def test_store_absorbs_another_search_of_the_same_demand():
+    # the second descent's candidates join the first search's: its best is the better of
+    # the two, candidates checked in both are kept once, and passes() reads the record
+    g = grid_for(demand(3.0), 0.05)
+    a, b = search.Store(g), search.Store(g, cap=1000.0)
+    va = np.array([[60, 10, 8, 7, 5, 0, 0], [61, 10, 8, 7, 5, 0, 0]])
+    vb = np.array([[61, 10, 8, 7, 5, 0, 0], [62, 11, 8, 7, 5, 0, 0], [59, 9, 8, 7, 5, 0, 0]])
+    for st, v, ok, cost in ((a, va, [True, False], [900.0, 800.0]),
+                            (b, vb, [False, True, False], [800.0, 850.0, 700.0])):
+        o = np.argsort(codes(v))
+        st.commit(v[o], codes(v)[o], np.array(ok)[o], np.array(cost)[o], np.ones(len(v))[o])
+    assert b.prune_cost() == 850.0 and search.Store(g, cap=1000.0).prune_cost() == 1000.0
+    assert a.passes(va[0]) and not a.passes(va[1]) and not a.passes(vb[1])
+    a.absorb(b)
+    assert a.checked == 4 and a.best_cost() == 850.0 and a.passes(vb[1])
+    assert np.array_equal(a.best_vector(), vb[1]) and np.all(np.diff(a.codes) > 0)
+
+
+def test_second_descent_only_where_the_taller_references_section_fails():
+    g = grid_for(demand(3.0), 0.05)
+    st = search.Store(g)
+    s0, s1 = np.array([60, 10, 8, 7, 5, 0, 0]), np.array([58, 10, 8, 7, 5, 0, 0])
+    v = np.array([s0, s1])
+    o = np.argsort(codes(v))
+    st.commit(v[o], codes(v)[o], np.array([False, True])[o], np.array([900.0, 950.0])[o],
+              np.array([1.2, 0.9])[o])
+    assert search.needs_second(st, [s0, s1])  # s0 fails here, s1 is another section
+    assert not search.needs_second(st, [s1, s0])  # the first start passes
+    assert not search.needs_second(st, [s0])  # no lower reference
+    assert not search.needs_second(st, [s0, s0.copy()])  # the same section
+    assert not search.needs_second(search.Store(g), [s0, s1])  # nothing passes: no cap
 
 
 # --- the lower bound of the cost ---------------------------------------------------------
