@@ -163,7 +163,7 @@ def test_search_planes_on_a_tall_wall_of_the_benchmark():
     # the toe lines settled at B 4.25, toe 1.35, base 0.40 (3.1 % above the grid's
     # cheapest); the cheapest has a base one step thinner with a toe ten steps shorter
     # (B 4.25, toe 0.85, base 0.35, stem 0.30: 2245.26 a metre), reached by the planes
-    # planes. The reference is taken on base widths 4.20 to 4.30 m; the whole grid's
+    # after the search. The reference is taken on base widths 4.20 to 4.30 m; the whole grid's
     # (125 s) gives the same section.
     d = Demand(z_top=69.76, z_front=64.679, backfill=Backfill(), foundation=Foundation(),
                surcharge_kpa=10.0, water=None, wall_top_m=69.9, min_founding_depth_m=0.6,
