@@ -429,13 +429,13 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     (feasibility in the toe length is not convex) the whole toe range at the same base
     width and one step narrower; once that settles, the full one, -1..1 in the five
     dimensions (and in the key's depth and width where the section has a key; a key
-    is added by the jumps), then the small one again; until nothing improves. Then (at most
-    ``MAX_JUMPS`` times, ``max_jumps`` where given) the :func:`jumps` of the settled
-    candidate, and the descent goes on from any better one they find; where it would
-    end, once (unless not ``toe_line``), the :func:`toe_lines` of the settled
-    candidate, and on from any better one. ``extra``
-    candidates are checked with the first neighbourhood. ``polish=False`` (a start near
-    a known optimum) takes the full neighbourhood first.
+    is added by the jumps), then the small one again; until nothing improves. Then
+    (at most ``MAX_JUMPS`` times, ``max_jumps`` where given) the :func:`jumps` of the
+    settled candidate, and the descent goes on from any better one they find; where
+    it would end, once (unless not ``toe_line``), the :func:`toe_lines` of the settled
+    candidate, and on from any better one. ``extra`` candidates are checked with the
+    first neighbourhood. ``polish=False`` (a start near a known optimum) takes the full
+    neighbourhood first.
     """
     cur = np.asarray(start, dtype=np.int64)
     max_jumps = MAX_JUMPS if max_jumps is None else max_jumps
