@@ -102,57 +102,56 @@ def test_exhaustive_reference_stops_only_where_nothing_cheaper_is_left():
     assert a[0] == b[0] and a[1] == pytest.approx(b[1], rel=1e-12)
 
 
-def test_search_on_a_tall_wall_over_undrained_clay():
-    # A 5.3 m fill wall over undrained clay (cu 70 kPa, allowable 160 kPa; DA1, 5 cm
-    # grid; invented ground, found by a review). Single steps and the jumps' window
-    # settle at B 4.85, toe 1.35, base 0.45, stem 0.30 (2674.17 a metre); a section with
-    # a base two steps thinner, a stem one step thicker, four steps wider and a toe ten
-    # steps shorter (B 5.05, toe 0.85, base 0.35, stem 0.35) passes at 2648.28: passing
-    # sections of that base and stem form islands one toe length wide (the bars chosen
-    # for the toe and heel), reached by the jumps' toe lines (search.toe_lines; the
-    # search was 0.98 % dearer without them). The reference is taken on a part of the
-    # grid (base widths 4.85 to 5.05 m): the whole grid's (41.7 million candidates,
-    # 144 s) gives the same section.
-    d = Demand(z_top=30.876924, z_front=25.576923,
-               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=34.0),
-               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
-                                     cohesion_kpa=4.0, undrained_strength_kpa=70.0,
-                                     allowable_bearing_kpa=160.0),
-               surcharge_kpa=10.0, water=None, wall_top_m=30.9, min_founding_depth_m=0.8,
-               founding_step_m=0.15)
+def _tall_clay(z_top: float, z_front: float) -> Demand:
+    """A panel of the invented fill wall over undrained clay of
+    ``benchmarks/sites/tall-clay`` (cu 70 kPa, allowable 160 kPa; DA1), its wall top at
+    30.9 m."""
+    return Demand(z_top=z_top, z_front=z_front,
+                  backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=34.0),
+                  foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                        cohesion_kpa=4.0, undrained_strength_kpa=70.0,
+                                        allowable_bearing_kpa=160.0),
+                  surcharge_kpa=10.0, water=None, wall_top_m=30.9,
+                  min_founding_depth_m=0.8, founding_step_m=0.15)
+
+
+def _search_and_part_reference(d: Demand, widths: tuple[int, int]):
+    """The search's design of ``d`` on a 5 cm grid, and the cheapest passing section of
+    the part of its grid with base widths ``widths`` (in steps) and its cost."""
     from dataclasses import replace as _replace
 
     from wallrun.sizing.grid import grid_for
     sd = bespoke([d], BASIS, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, BASIS.design), b=(97, 101))
+    part = _replace(grid_for(d, 0.05, BASIS.design), b=widths)
     ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
     assert sd.status == "ok" and ref is not None
+    return sd, ref_cost
+
+
+def test_search_on_a_tall_wall_over_undrained_clay():
+    # A 5.3 m panel of the fill wall over undrained clay (found by a review). Single
+    # steps and the jumps' window settle at B 4.85, toe 1.35, base 0.45, stem 0.30
+    # (2674.17 a metre); a section with a base two steps thinner, a stem one step
+    # thicker, four steps wider and a toe ten steps shorter (B 5.05, toe 0.85, base
+    # 0.35, stem 0.35) passes at 2648.28: passing sections of that base and stem form
+    # islands one toe length wide (the bars chosen for the toe and heel), reached by the
+    # jumps' toe lines (search.toe_lines; the search was 0.98 % dearer without them).
+    # The reference is taken on base widths 4.85 to 5.05 m: the whole grid's (41.7
+    # million candidates, 144 s) gives the same section.
+    sd, ref_cost = _search_and_part_reference(_tall_clay(30.876924, 25.576923), (97, 101))
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
 def test_search_where_the_taller_references_section_fails():
-    # A 5.25 m panel of the same invented wall (benchmarks/sites/tall-clay, P006), its
-    # wall top 0.115 m above the retained level. The section of its taller reference
-    # (5.25 m, wall top at the retained level) fails here (its stem bars no longer bend
-    # into the thinner base), and the descent from it settled at B 4.90, toe 1.05, base
-    # 0.40, stem 0.35 (2769.10 a metre, 0.95 % above the grid's cheapest). The second
-    # descent, from the lower reference's section, finds B 4.80, toe 1.30, base 0.50,
-    # stem 0.30 at 2743.03. The reference is taken on base widths 4.75 to 4.90 m; the
-    # whole grid's (112 s) gives the same section.
-    d = Demand(z_top=30.784616, z_front=25.538461,
-               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=34.0),
-               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
-                                     cohesion_kpa=4.0, undrained_strength_kpa=70.0,
-                                     allowable_bearing_kpa=160.0),
-               surcharge_kpa=10.0, water=None, wall_top_m=30.9, min_founding_depth_m=0.8,
-               founding_step_m=0.15)
-    from dataclasses import replace as _replace
-
-    from wallrun.sizing.grid import grid_for
-    sd = bespoke([d], BASIS, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, BASIS.design), b=(95, 98))
-    ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
-    assert sd.status == "ok" and ref is not None
+    # A 5.25 m panel of the same wall (P006), its wall top 0.115 m above the retained
+    # level. The section of its taller reference (5.25 m, wall top at the retained
+    # level) fails here (its stem bars no longer bend into the thinner base), and the
+    # descent from it settled at B 4.90, toe 1.05, base 0.40, stem 0.35 (2769.10 a
+    # metre, 0.95 % above the grid's cheapest). The second descent, from the lower
+    # reference's section, finds B 4.80, toe 1.30, base 0.50, stem 0.30 at 2743.03. The
+    # reference is taken on base widths 4.75 to 4.90 m: the whole grid's (112 s) gives
+    # the same section.
+    sd, ref_cost = _search_and_part_reference(_tall_clay(30.784616, 25.538461), (95, 98))
     assert ref_cost == pytest.approx(2743.033, abs=0.01)
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
@@ -163,18 +162,12 @@ def test_search_planes_on_a_tall_wall_of_the_benchmark():
     # the toe lines settled at B 4.25, toe 1.35, base 0.40 (3.1 % above the grid's
     # cheapest); the cheapest has a base one step thinner with a toe ten steps shorter
     # (B 4.25, toe 0.85, base 0.35, stem 0.30: 2245.26 a metre), reached by the planes
-    # after the search. The reference is taken on base widths 4.20 to 4.30 m; the whole grid's
-    # (125 s) gives the same section.
+    # after the search. The reference is taken on base widths 4.20 to 4.30 m: the
+    # whole grid's (125 s) gives the same section.
     d = Demand(z_top=69.76, z_front=64.679, backfill=Backfill(), foundation=Foundation(),
                surcharge_kpa=10.0, water=None, wall_top_m=69.9, min_founding_depth_m=0.6,
                founding_step_m=0.15)
-    from dataclasses import replace as _replace
-
-    from wallrun.sizing.grid import grid_for
-    sd = bespoke([d], BASIS, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, BASIS.design), b=(84, 86))
-    ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
-    assert sd.status == "ok" and ref is not None
+    sd, ref_cost = _search_and_part_reference(d, (84, 86))
     assert ref_cost == pytest.approx(2245.256, abs=0.01)
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
