@@ -243,14 +243,16 @@ def test_jumps_reach_across_the_base_and_every_thickness():
         assert set(axis) <= set(line[:, k])
     # the toe lines (tried once where a descent would end) and the planes after a search:
     # each (bases, stems, widths) of TOE_LINES and BASE_PLANES, every toe length up to
-    # half the base with each
+    # half the base (within TOE_REACH of the toe) with each
     for sets, fn in ((search.TOE_LINES, search.toe_lines),
                      (search.BASE_PLANES, lambda c, g: search.planes(c, g, search.BASE_PLANES))):
-        rows = set(map(tuple, fn(cur, g).tolist()))
+        got = fn(cur, g)
+        rows = set(map(tuple, got.tolist()))
         for bases, stems, widths in sets:
             for dz, ds, db in itertools.product(bases, stems, widths):
-                for toe in range(0, (60 + db) // 2 + 1):
+                for toe in range(0, min((60 + db) // 2, 10 + search.TOE_REACH) + 1):
                     assert (60 + db, toe, 8 + dz, 7 + ds, 5, 0, 0) in rows, (dz, ds, db, toe)
+        assert np.all(np.abs(got[:, 1] - 10) <= search.TOE_REACH)
     assert (60, 10, 8, 7, 5, 0, 0) not in set(
         map(tuple, search.planes(cur, g, search.BASE_PLANES).tolist()))  # cur itself: no
 
