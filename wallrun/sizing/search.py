@@ -108,8 +108,8 @@ TOE_LINES = (((-2,), (-1, 0, 1), (0, 2, 4)),)
 #: demands up to 7 m at 5 and 10 cm steps: the benchmark's 10 km wall and five 2.5 km
 #: walls of other ground) the search ended more than 0.5 % above the best section
 #: known (the cheapest of searches with wider planes; the exhaustive reference takes a
-#: minute or two a tall demand) on 147 demands without them and the second descent (up
-#: to 10.3 %), and on 24 with them (up to 6.4 %), at 1.72 M candidates for the 10 km
+#: minute or two a tall demand) on 148 demands without them and the second descent (up
+#: to 11.8 %), and on 25 with them (up to 6.4 %), at 1.71 M candidates for the 10 km
 #: wall's demands against 1.21 M.
 BASE_PLANES = (((-4, -3, -2, -1, 0, 1, 2, 3), (0,), (-1, 1)),
                ((-2, -1, 0, 1), (0,), (-2, 2)),
