@@ -109,7 +109,7 @@ TOE_LINES = (((-2,), (-1, 0, 1), (0, 2, 4)),)
 #: walls of other ground) the search ended more than 0.5 % above the best section
 #: known (the cheapest of searches with wider planes; the exhaustive reference takes a
 #: minute or two a tall demand) on 148 demands without them and the second descent (up
-#: to 11.8 %), and on 25 with them (up to 6.4 %), at 1.71 M candidates for the 10 km
+#: to 11.8 %), and on 27 with them (up to 6.4 %), at 1.63 M candidates for the 10 km
 #: wall's demands against 1.21 M.
 BASE_PLANES = (((-4, -3, -2, -1, 0, 1, 2, 3), (0,), (-1, 1)),
                ((-2, -1, 0, 1), (0,), (-2, 2)),
@@ -117,9 +117,10 @@ BASE_PLANES = (((-4, -3, -2, -1, 0, 1, 2, 3), (0,), (-1, 1)),
                ((-1, 1), (-3, -2, 2, 3), (0,)))
 #: Toe lengths of :func:`planes` (the toe lines' and those after a search), in steps
 #: either way of the section's: the cheaper sections the planes reached on the invented
-#: walls lay up to 24 steps away; 20 checked 5 % fewer candidates at 10 km than every
-#: toe length, and three of 2,831 demands more ended over 0.5 % above the best known.
-TOE_REACH = 20
+#: walls lay up to 24 steps away; 16 checked about 10 % fewer candidates at 10 km than
+#: every toe length (the 10 s target), and about three demands of 2,831 more ended over
+#: 0.5 % above the best known.
+TOE_REACH = 16
 #: While nothing passes, the second descent moves to the candidate of least cost x (1 +
 #: ``OVERSTRESS_WEIGHT`` (u - 1)) (u its utilization), not to the least utilised: a
 #: start that fails by more than one step can mend grows every dimension when it
