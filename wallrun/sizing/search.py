@@ -886,9 +886,11 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
         tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
     # 2b. where the taller reference's section fails here, a second descent
-    again = [(t, _Task(t.demand, s2, second_moves(s2, st[1])))
-             for t, st in zip(tasks, starts_of) if needs_second(t.store, st)
-             for s2 in [Store(t.store.grid, cap=t.store.best_cost())]]
+    again = []
+    for t, st in zip(tasks, starts_of):
+        if needs_second(t.store, st):
+            s2 = Store(t.store.grid, cap=t.store.best_cost())
+            again.append((t, _Task(t.demand, s2, second_moves(s2, st[1]))))
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
         t.store.absorb(a.store)
