@@ -70,6 +70,32 @@ def test_vrdc_hand():
     assert ec2.shear_resistance(1340.4, 292, 32) == pytest.approx(156.8, abs=0.2)
 
 
+def test_as_for_shear_hand():
+    # hand, Eq. 6.2a solved for rho_l: C30/37, d = 400, V = 200 kN/m: v = 0.500 MPa,
+    # k = 1 + sqrt(200/400) = 1.7071, rho_l = (0.500 / (0.12 x 1.7071))^3 / (100 x 30)
+    # = 0.004847, As = 0.004847 x 1000 x 400 = 1939 mm2/m; v_min = 0.035 x 1.7071^1.5
+    # x 30^0.5 = 0.4276 MPa < v, so the steel is needed
+    assert ec2.as_for_shear(200.0, 400.0, 30.0) == pytest.approx(1939.0, abs=1.0)
+    # v_min carries 150 kN/m (0.375 MPa): no steel; rho_l beyond 0.02: none suffices
+    assert ec2.as_for_shear(150.0, 400.0, 30.0) == 0.0
+    assert ec2.as_for_shear(400.0, 400.0, 30.0) == math.inf
+
+
+@settings(max_examples=60, deadline=None)
+@given(d=st.floats(150.0, 900.0), fck=st.sampled_from([25.0, 30.0, 32.0, 40.0]),
+       rho=st.floats(0.0005, 0.0199))
+def test_as_for_shear_inverts_vrdc(d, fck, rho):
+    # the least As of as_for_shear gives VRd,c = V back; where Eq. 6.2a governs at rho
+    # (above v_min) it is rho b d itself (on the v_min plateau any As up to where Eq.
+    # 6.2a reaches v_min gives the same VRd,c)
+    V = float(ec2.shear_resistance(rho * 1000.0 * d, d, fck))
+    As = float(ec2.as_for_shear(V, d, fck))
+    assert float(ec2.shear_resistance(As, d, fck)) == pytest.approx(V, rel=1e-9)
+    eq62a = 0.12 * float(ec2.k_size(d)) * (100.0 * rho * fck) ** (1.0 / 3.0)
+    if eq62a > float(ec2.v_min(d, fck)) * (1 + 1e-9):
+        assert As == pytest.approx(rho * 1000.0 * d, rel=1e-9)
+
+
 @pytest.mark.parametrize("wk", [0.2, 0.3, 0.4])
 @pytest.mark.parametrize("sigma", [160, 175, 200, 230, 260, 280, 300, 320, 340, 355])
 def test_crack_tables_vs_structuralcodes(wk, sigma):

@@ -199,17 +199,36 @@ def _pick(feasible: np.ndarray, fallback: int) -> np.ndarray:
     return np.where(feasible[np.arange(feasible.shape[0]), idx], idx, fallback)
 
 
-def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+def _choose_main_full(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis,
+                      max_phi=None, V_req=None):
     """Cheapest option per candidate for a face in bending, every option tested, (n, m).
 
     The reference (and the path for the rows that fail crack control at their cheapest
-    option). Arrays (n,) in, option indices (n,) out.
+    option). Arrays (n,) in, option indices (n,) out. ``max_phi`` (n,): the largest bar
+    size a row may take, mm; ``V_req`` (n,): the shear force the bars' VRd,c must carry,
+    kN/m (None: no such limit). A row no option meets with them takes the choice
+    without them.
     """
-    ok = _feasible(opt, None, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis)
-    return _pick(ok, opt.fallback)
+    ok = _feasible(opt, None, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis, max_phi,
+                   V_req)
+    idx = _pick(ok, opt.fallback)
+    if max_phi is not None or V_req is not None:
+        r = np.flatnonzero(~ok.any(axis=1))
+        if len(r):
+            idx[r] = _choose_main_full(opt, *_rows(r, h, cover, M_req, M_qp, as_extra,
+                                                   need_asmin), fck, basis)
+    return idx
 
 
-def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+def _rows(r, h, cover, M_req, M_qp, as_extra, need_asmin):
+    """The arguments of rows ``r`` of a face's choice (cover a scalar or per row)."""
+    cover = np.asarray(cover, dtype=float)
+    return (h[r], cover[r] if cover.ndim else cover, M_req[r], M_qp[r], as_extra[r],
+            need_asmin[r])
+
+
+def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis,
+              max_phi=None, V_req=None):
     """Every requirement of a face in bending for the options ``cols`` (r, w) of each
     row (None: every option), (r, w) or (r, m) booleans: As,max, spacing limit, d > 0,
     the extra area, M_Rd >= M_req, As,min, and crack control (when any row has a
@@ -223,9 +242,13 @@ def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, 
     cover = np.asarray(cover, dtype=float)
     d = hh - (cover[:, None] if cover.ndim else cover) - phi / 2.0
     ok = (As <= ec2.as_max(hh)) & (s <= ec2.max_spacing_main(hh)) & (d > 0)
+    if max_phi is not None:
+        ok &= phi <= max_phi[:, None]
     ok &= As >= as_extra[:, None]
     ok &= ec2.moment_resistance(As, d, fck, basis.steel.fyk_mpa, c.alpha_cc) >= M_req[:, None]
     ok &= ~need_asmin[:, None] | (As >= ec2.as_min_beam(d, fck, basis.steel.fyk_mpa))
+    if V_req is not None:
+        ok &= ec2.shear_resistance(As, np.where(d > 0, d, 1.0), fck) >= V_req[:, None]
     if np.any(M_qp > 0):
         sig = ec2.steel_stress_cracked(M_qp[:, None], As, d, ec2.alpha_e_long_term(fck))
         ok &= ec2.crack_control_ok(sig, s, phi, hh, d, fck, basis.design.crack_width_mm)
@@ -274,7 +297,8 @@ def _cheapest_per_size(opt: _Options, need, s_limit, h):
     return np.where(any_found, idx, opt.fallback), any_found
 
 
-def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis):
+def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis,
+                 max_phi=None, V_req=None):
     """Cheapest option per candidate for a face in bending (same result as
     :func:`_choose_main_full`, computed per bar size, (n, k), then crack control at the
     chosen option; rows failing it are redone over every option)."""
@@ -289,7 +313,20 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
     need = np.where(d > 0, need, np.inf)
     need = np.maximum(need, np.where(need_asmin[:, None], ec2.as_min_beam(d, fck, fyk), 0.0))
     need = np.maximum(need, as_extra[:, None])
+    if V_req is not None:
+        need = np.maximum(need, np.where(
+            d > 0, ec2.as_for_shear(V_req[:, None], np.where(d > 0, d, 1.0), fck) * (1 + 1e-9),
+            np.inf))
+    if max_phi is not None:
+        need = np.where(sizes <= max_phi[:, None], need, np.inf)
     idx, found = _cheapest_per_size(opt, need, ec2.max_spacing_main(h), h)
+    if (max_phi is not None or V_req is not None) and not found.all():
+        # no option meets the bend or shear limit: the choice without them (the
+        # bar_bend or *_shear check then fails, as it would have)
+        r = np.flatnonzero(~found)
+        idx = idx.copy()
+        idx[r] = _choose_main(opt, *_rows(r, h, cover, M_req, M_qp, as_extra, need_asmin),
+                              fck, basis)
     if np.any(M_qp > 0):
         phi, s, As = opt.phi[idx], opt.s[idx], opt.As[idx]
         dc = h - cover - phi / 2.0
@@ -308,15 +345,50 @@ def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck
             inside = cols < m
             cols = np.minimum(cols, m - 1)
             ok = _feasible(opt, cols, h[r], cov_r, M_req[r], M_qp[r], as_extra[r],
-                           need_asmin[r], fck, basis) & inside
+                           need_asmin[r], fck, basis,
+                           None if max_phi is None else max_phi[r],
+                           None if V_req is None else V_req[r]) & inside
             hit = ok.any(axis=1)
             idx[r[hit]] = cols[hit, np.argmax(ok[hit], axis=1)]
             rest = r[~hit]
             if len(rest):
                 cov_s = cover[rest] if cover.ndim else cover
                 idx[rest] = _choose_main_full(opt, h[rest], cov_s, M_req[rest], M_qp[rest],
-                                              as_extra[rest], need_asmin[rest], fck, basis)
+                                              as_extra[rest], need_asmin[rest], fck, basis,
+                                              None if max_phi is None else max_phi[rest],
+                                              None if V_req is None else V_req[rest])
     return idx
+
+
+def shear_on_faces(actions: list[MemberActions], n: int) -> dict[str, np.ndarray]:
+    """The shear force each main face's bars must carry as rho_l of VRd,c, kN/m, (n,)
+    per face: the largest |V_Ed| of the actions whose moment puts that face in tension
+    (the face whose VRd,c the ``*_shear`` checks take: the member's main face where
+    M_Ed >= 0, the opposite face where it reverses)."""
+    out = {f: np.zeros(n) for f in ("stem", "stem_front", "heel", "toe")}
+    main = {"stem": "stem", "heel": "heel", "toe": "toe"}
+    opp = {"stem": "stem_front", "heel": "toe", "toe": "heel"}
+    for a in actions:
+        M, V = _full(a.M_Ed, n), np.abs(_full(a.V_Ed, n))
+        out[main[a.member]] = np.maximum(out[main[a.member]], np.where(M >= 0, V, 0.0))
+        out[opp[a.member]] = np.maximum(out[opp[a.member]], np.where(M < 0, V, 0.0))
+    return out
+
+
+def base_bar_limit(sizes, t_base_mm, cover_mm, cover_ground_mm) -> np.ndarray:
+    """The largest bar size (mm) whose end bend fits a base of thickness ``t_base_mm``,
+    (n,): the leg between the covers holds the bend's end projection P (BS 8666:2005
+    Table 2) and a mandrel of EN 1992-1-1 Table 8.1N within 2 (leg - 6 phi), the room
+    :func:`_bends` gives a base bar's bend. The heel and toe bars end in such a bend,
+    so a larger bar cannot be detailed in the base whatever its area; inf where no
+    listed size fits (the choice is then left free, and ``bar_bend`` fails it)."""
+    sizes = np.asarray(sizes, dtype=float)
+    leg = np.asarray(t_base_mm, dtype=float)[:, None] - float(cover_mm) - float(cover_ground_mm)
+    fits = ((leg >= shapes.min_end_projection(sizes)[None, :] - 1e-9)
+            & (2.0 * np.maximum(leg - 6.0 * sizes[None, :], 0.0)
+               >= ec2.mandrel_min_table(sizes)[None, :] - 1e-9))
+    largest = np.where(fits, sizes[None, :], -np.inf).max(axis=1)
+    return np.where(np.isfinite(largest), largest, np.inf)
 
 
 def _choose_secondary(opt: _Options, h, as_need, basis: Basis):
@@ -583,6 +655,14 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
                          limit: float = 1.0) -> StructureResult:
     """Choose the cheapest bars per candidate and check them (design-basis section 5).
 
+    A main face takes the cheapest (bar, spacing) that meets its As,req, the minima and
+    crack control, and also (docs/basis-readings.md, "bars a face can hold") the
+    tension steel rho_l that VRd,c needs for the face's shear (EN 1992-1-1 6.2.2,
+    :func:`shear_on_faces`), and in the base a bar size whose end bend fits the base
+    (:func:`base_bar_limit`). These two only change the bars of a candidate whose
+    cheapest bars would fail its ``*_shear`` or ``bar_bend`` check; where no option
+    meets them, the bars are chosen without them and that check fails.
+
     sec: n candidates; actions: ULS MemberActions (kNm/m, kN/m); qp: quasi-permanent
     moments per member ``stem``/``heel``/``toe``, kNm/m; stem_moment_at(y): ULS envelope
     stem moment at depth y (m, array (n,)) below the top of the checked stem, kNm/m, for
@@ -611,17 +691,22 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
     false = np.zeros(n, dtype=bool)
     true = ~false
 
+    V_face = shear_on_faces(actions, n)
+    if limit < 1.0:
+        V_face = {f: v / limit for f, v in V_face.items()}
     top_M = np.maximum(pos["heel"], neg["toe"])
     bot_M = np.maximum(pos["toe"], neg["heel"])
     top_qp = np.maximum(np.maximum(q_choice["heel"], -q_choice["toe"]), 0)
     bot_qp = np.maximum(np.maximum(q_choice["toe"], -q_choice["heel"]), 0)
-    # the stem's bars depend on its thickness and moments alone: they are chosen once
-    # for each distinct (thickness, ULS moments, quasi-permanent moment), which the
-    # candidates differing only in their base share
-    first, inv = distinct_rows(t_stem, pos["stem"], neg["stem"], q_choice["stem"])
+    # the stem's bars depend on its thickness and actions alone: they are chosen once
+    # for each distinct (thickness, ULS moments, quasi-permanent moment, shears), which
+    # the candidates differing only in their base share
+    first, inv = distinct_rows(t_stem, pos["stem"], neg["stem"], q_choice["stem"],
+                               V_face["stem"], V_face["stem_front"])
     m = len(first)
-    ts_u, ps_u, ns_u, qs_u = (v[first] for v in (t_stem, pos["stem"], neg["stem"],
-                                                 q_choice["stem"]))
+    ts_u, ps_u, ns_u, qs_u, vb_u, vf_u = (v[first] for v in (
+        t_stem, pos["stem"], neg["stem"], q_choice["stem"], V_face["stem"],
+        V_face["stem_front"]))
     # the four main faces in one call (rows stacked face by face; every row is chosen
     # on its own, so the result is that of four separate calls)
     cat = np.concatenate
@@ -632,7 +717,10 @@ def design_reinforcement(sec: SectionArrays, actions: list[MemberActions], qp: d
         cat([ps_u, ns_u, top_M, bot_M]),
         cat([np.maximum(qs_u, 0), np.maximum(-qs_u, 0), top_qp, bot_qp]),
         cat([zm, 0.001 * 1000 * ts_u, zero, zero]),
-        cat([np.ones(m, dtype=bool), ns_u > 0, true, true]), fck, basis), [m, 2 * m, 2 * m + n])
+        cat([np.ones(m, dtype=bool), ns_u > 0, true, true]), fck, basis,
+        cat([np.full(2 * m, np.inf), np.tile(base_bar_limit(opt.sizes, t_base, cv, cg), 2)]),
+        cat([vb_u, vf_u, V_face["heel"], V_face["toe"]])),
+        [m, 2 * m, 2 * m + n])
     need_h = _horizontal_need(opt.As[i_back], opt.As[i_front], ts_u)
     need_d = _distribution_need(opt.As[i_top], opt.As[i_bot])
     i_hor, i_dist = np.split(_choose_secondary(opt, cat([ts_u, t_base]), cat([need_h, need_d]), basis), [m])

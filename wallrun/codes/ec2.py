@@ -200,6 +200,20 @@ def shear_resistance(As, d, fck, gamma_c=GAMMA_C, b=B_STRIP):
     return v * b * d * 1e-3
 
 
+def as_for_shear(V, d, fck, gamma_c=GAMMA_C, b=B_STRIP):
+    """Least tension steel As (mm2 per strip b) with VRd,c >= V (V kN per strip b, d mm):
+    Eq. 6.2a of 6.2.2(1) solved for rho_l, rho_l = (v / (CRd,c k))^3 / (100 fck) with
+    v = V / (b d); 0 where v_min b d (Eq. 6.3N) carries V; inf where rho_l would exceed
+    0.02 (the most 6.2.2(1) counts: no tension steel carries V without shear links)."""
+    d = np.asarray(d, dtype=float)
+    V = np.asarray(V, dtype=float)
+    v = V * 1e3 / (b * d)
+    r = v / (0.18 / gamma_c * k_size(d))
+    rho = r * r * r / (100.0 * fck)
+    As = np.where(rho <= 0.02, rho * b * d, np.inf)
+    return np.where(v <= v_min(d, fck), 0.0, As)
+
+
 # --- crack control (7.3.3, 7.3.4) -----------------------------------------------------
 
 def steel_stress_cracked(M_kNm, As, d, alpha_e, b=B_STRIP):
