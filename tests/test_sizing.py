@@ -285,6 +285,12 @@ def test_jumps_reach_across_the_base_and_every_thickness():
         assert np.all(np.abs(got[:, 1] - 10) <= search.TOE_REACH)
     assert (60, 10, 8, 7, 5, 0, 0) not in set(
         map(tuple, search.planes(cur, g, search.BASE_PLANES).tolist()))  # cur itself: no
+    # the thickness trades: base and stem base each up to TRADE_REACH steps either way,
+    # the base width, toe and stem top as cur's
+    t = search.thickness_trades(cur)
+    r = range(-search.TRADE_REACH, search.TRADE_REACH + 1)
+    assert set(map(tuple, t.tolist())) == {(60, 10, 8 + dz, 7 + ds, 5, 0, 0)
+                                           for dz in r for ds in r}
 
 
 def test_store_absorbs_another_search_of_the_same_demand():
