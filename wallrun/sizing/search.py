@@ -33,7 +33,8 @@ The moves of one demand:
 4. Widening: where the best section sits on a bound that a wider grid could move
    (:meth:`Grid.binding`), the bound is moved and the descent resumes.
    Then the planes (:func:`plane_moves`): every toe length with other base and stem
-   thicknesses about the best (:func:`planes`), and the descent on from a better one.
+   thicknesses about the best (:func:`planes`), and the base thickness traded against
+   the stem's (:func:`thickness_trades`), and the descent on from a better one.
    Where the taller reference's section fails here, a second descent from the lower
    reference's, among the sections that could beat the first search's best
    (:func:`second_moves`). Both come after the rest, so they can only make a result
@@ -49,6 +50,13 @@ The search is a heuristic, not a proof: its results are
 compared with :func:`cheapest_on_grid`, which checks every candidate of the grid (in
 increasing lower bound, stopping only where no unchecked candidate can be cheaper), in
 the tests and the benchmark.
+
+The figures in the comments of the moves below were measured when a face took its
+cheapest bars even where they failed their shear or bend check (before 2026-12-03's
+``structure.design_reinforcement``): such sections cut the passing ones into islands,
+which most of these moves were added to cross. With bars that carry their shear and
+bend within the base, the same walls have few such islands (DEVELOPERS.md gives the
+figures); the moves stay, as each can only make a result cheaper.
 """
 
 from __future__ import annotations
