@@ -231,8 +231,8 @@ def _feasible(opt: _Options, cols, h, cover, M_req, M_qp, as_extra, need_asmin, 
               max_phi=None, V_req=None):
     """Every requirement of a face in bending for the options ``cols`` (r, w) of each
     row (None: every option), (r, w) or (r, m) booleans: As,max, spacing limit, d > 0,
-    the extra area, M_Rd >= M_req, As,min, and crack control (when any row has a
-    quasi-permanent moment)."""
+    the bar size (``max_phi``), the extra area, M_Rd >= M_req, As,min, VRd,c >= V_req,
+    and crack control (when any row has a quasi-permanent moment)."""
     c = basis.concrete
     if cols is None:
         phi, s, As = opt.phi[None, :], opt.s[None, :], opt.As[None, :]
