@@ -324,6 +324,50 @@ def test_second_descent_only_where_the_taller_references_section_fails():
     assert not search.needs_second(search.Store(g), [s0, s1])  # nothing passes: no cap
 
 
+def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):
+    # a 0.75 m DA3 panel (invented gravel, 10 cm grid) whose taller reference's section
+    # fails here, so a second descent runs: the candidates the first search checked in
+    # full are taken from its record (Store.from_prior); checking them again gives the
+    # same design with more candidates checked
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"),
+                  loads=Loads(surcharge_kpa=20.0))
+    d = Demand(z_top=61.853036, z_front=61.101824,
+               backfill=Backfill(unit_weight_kn_m3=20.0, friction_angle_deg=36.0),
+               foundation=Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=22.0),
+               surcharge_kpa=20.0, water=None, wall_top_m=61.95, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    ran = []
+    needs = search.needs_second
+    monkeypatch.setattr(search, "needs_second",
+                        lambda st, starts: ran.append(needs(st, starts)) or ran[-1])
+    st_a, st_b = [], []
+    a = bespoke([d], basis, Costing(), 0.1, stats=st_a)[0]
+    assert ran == [True]
+    monkeypatch.setattr(search.Store, "from_prior",
+                        lambda self, c: (np.zeros(len(c), dtype=bool), ()))
+    b = bespoke([d], basis, Costing(), 0.1, stats=st_b)[0]
+    assert a == b
+    assert st_a[0].checked < st_b[0].checked
+
+
+def test_store_takes_what_its_prior_checked_in_full():
+    g = grid_for(demand(3.0), 0.05)
+    first = search.Store(g)
+    v = np.array([[60, 10, 8, 7, 5, 0, 0], [61, 10, 8, 7, 5, 0, 0], [62, 10, 8, 7, 5, 0, 0]])
+    o = np.argsort(codes(v))
+    first.commit(v[o], codes(v)[o], np.array([True, False, False])[o],
+                 np.array([900.0, 950.0, np.nan])[o], np.array([0.9, 1.1, 1.3])[o])
+    second = search.Store(g, cap=900.0, prior=first)
+    ask = np.array([v[2], v[1], [63, 10, 8, 7, 5, 0, 0]])
+    hit, (ok, cost, util) = second.from_prior(codes(ask))
+    # the second was checked in full there; the first failed stability (no structure,
+    # cost nan): it is checked again, like one never checked
+    assert hit.tolist() == [False, True, False]
+    assert ok.tolist() == [False] and cost.tolist() == [950.0] and util.tolist() == [1.1]
+    assert not search.Store(g).from_prior(codes(ask))[0].any()
+
+
 def test_descent_weighs_overstress_while_nothing_passes():
     # while nothing passes, a descent with ``overstress`` moves to the least cost x (1 +
     # w (u - 1)), without it to the least utilization (invented results: a big section

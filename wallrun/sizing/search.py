@@ -167,9 +167,17 @@ class Store:
     whole record is read (``V``, ``ok``, ``cost``, ``util``).
     """
 
-    def __init__(self, grid: Grid, cap: float = math.inf):
+    def __init__(self, grid: Grid, cap: float = math.inf, prior: "Store | None" = None):
         self.grid = grid
         self.cap = cap  # a candidate whose lower bound is at or above it is not checked
+        # another search of the same demand, done: what it checked in full (a finite
+        # cost) is taken from its record, not checked again (:meth:`from_prior`)
+        self._prior = None
+        if prior is not None and prior.checked:
+            full = np.flatnonzero(np.isfinite(prior.cost))
+            c = codes(prior.V[full])
+            o = np.argsort(c, kind="stable")
+            self._prior = (c[o], prior.ok[full][o], prior.cost[full][o], prior.util[full][o])
         self.codes = np.zeros(0, dtype=np.int64)  # sorted
         self._parts: list[tuple] = []
         self._joined: tuple | None = None
@@ -225,6 +233,20 @@ class Store:
             pick = new[np.argsort(c[new], kind="stable")]
             self.commit(other.V[pick], c[pick], other.ok[pick], other.cost[pick],
                         other.util[pick])
+
+    def from_prior(self, c: np.ndarray) -> tuple[np.ndarray, tuple]:
+        """Mask of the codes ``c`` that the prior search checked in full, and their
+        results there (ok, cost, util): the same as checking them again, since a
+        candidate's results depend on its demand alone (a candidate that failed
+        stability there has no structure designed, and is checked again)."""
+        if self._prior is None or not len(c):
+            return np.zeros(len(c), dtype=bool), ()
+        pc = self._prior[0]
+        if not len(pc):
+            return np.zeros(len(c), dtype=bool), ()
+        pos = np.minimum(np.searchsorted(pc, c), len(pc) - 1)
+        hit = pc[pos] == c
+        return hit, tuple(a[pos[hit]] for a in self._prior[1:])
 
     def best_vector(self) -> np.ndarray:
         """The integer vector of the best candidate (a copy)."""
@@ -738,27 +760,34 @@ def _run(tasks: list[_Task], basis: Basis, costing: Costing, chunk: int = CHUNK)
                 keep = lb[pos:pos + m] < t.store.prune_cost() - 1e-9
                 pos += m
                 t.req = Request(t.req.v[keep], t.req.c[keep], t.req.prune)
-        # check the batches, cut in pieces of at most a chunk and joined up to a chunk
-        res = {id(t): (np.zeros(len(t.req.v), dtype=bool), np.zeros(len(t.req.v)),
-                       np.zeros(len(t.req.v))) for t in act}
-        pieces = [(t, a, min(a + chunk, len(t.req.v))) for t in act
-                  for a in range(0, len(t.req.v), chunk)]
-        for c0, c1 in _chunks([b - a for _, a, b in pieces], chunk):
+        # the results a prior search of the same demand holds are taken from it
+        res, rest = {}, {}
+        for t in act:
+            n = len(t.req.v)
+            r = res[id(t)] = (np.zeros(n, dtype=bool), np.zeros(n), np.zeros(n))
+            hit, got = t.store.from_prior(t.req.c)
+            if hit.any():
+                r[0][hit], r[1][hit], r[2][hit] = got
+            rest[id(t)] = np.flatnonzero(~hit)
+        # check the rest, cut in pieces of at most a chunk and joined up to a chunk
+        pieces = [(t, rest[id(t)][a:a + chunk]) for t in act
+                  for a in range(0, len(rest[id(t)]), chunk)]
+        for c0, c1 in _chunks([len(i) for _, i in pieces], chunk):
             part = pieces[c0:c1]
-            cnt = [b - a for _, a, b in part]
-            sec = _joined([t for t, _, _ in part], [t.req.v[a:b] for t, a, b in part])
-            dems = [t.demand for t, _, _ in part]
+            cnt = [len(i) for _, i in part]
+            sec = _joined([t for t, _ in part], [t.req.v[i] for t, i in part])
+            dems = [t.demand for t, _ in part]
             rows = Rows.of(dems, cnt)
             seg = np.repeat(np.arange(len(part)), cnt)
-            complete = np.array([t.store.best() is None for t, _, _ in part])
+            complete = np.array([t.store.best() is None for t, _ in part])
             ok, cost, util = ev_.screen(sec, rows, ground, basis, costing, seg, complete,
                                         caps=ev_.caps_of(dems, cnt))
             checked += len(sec)
             pos = 0
-            for (t, a, b), m in zip(part, cnt):
+            for (t, i), m in zip(part, cnt):
                 r = res[id(t)]
                 sl = slice(pos, pos + m)
-                r[0][a:b], r[1][a:b], r[2][a:b] = ok[sl], cost[sl], util[sl]
+                r[0][i], r[1][i], r[2][i] = ok[sl], cost[sl], util[sl]
                 pos += m
         for t in act:
             if len(t.req.v):
@@ -919,7 +948,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     again = []
     for t, st in zip(tasks, starts_of):
         if needs_second(t.store, st):
-            s2 = Store(t.store.grid, cap=t.store.best_cost())
+            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store)
             again.append((t, _Task(t.demand, s2, second_moves(s2, st[1]))))
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
