@@ -322,6 +322,10 @@ def test_second_descent_only_where_the_taller_references_section_fails():
     assert not search.needs_second(st, [s0])  # no lower reference
     assert not search.needs_second(st, [s0, s0.copy()])  # the same section
     assert not search.needs_second(search.Store(g), [s0, s1])  # nothing passes: no cap
+    # a tall demand gets it from a passing first start too
+    h = search.SECOND_FROM_H
+    assert search.needs_second(st, [s1, s0], h) and not search.needs_second(st, [s1, s0], h - 0.01)
+    assert not search.needs_second(st, [s1, s1.copy()], h)
 
 
 def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):
@@ -340,7 +344,7 @@ def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):
     ran = []
     needs = search.needs_second
     monkeypatch.setattr(search, "needs_second",
-                        lambda st, starts: ran.append(needs(st, starts)) or ran[-1])
+                        lambda st, starts, h: ran.append(needs(st, starts, h)) or ran[-1])
     st_a, st_b = [], []
     a = bespoke([d], basis, Costing(), 0.1, stats=st_a)[0]
     assert ran == [True]

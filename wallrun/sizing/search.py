@@ -144,6 +144,14 @@ TRADE_REACH = 3
 #: and 0.75 m) and with it at the cheapest; 3 and 10 gave the same on six invented
 #: walls; a heuristic of the search, not a rule of a code.
 OVERSTRESS_WEIGHT = 5.0
+#: Retained height (m) from which every demand whose references' sections differ gets
+#: the second descent (below it, only where the taller reference's section fails).
+#: On six invented walls (2,831 demands) the search ended more than 0.5 % above the
+#: best section known on 9 demands without it and on 4 with it (the same 4 as from
+#: 4.5 m or from every height), each 4.9 m or taller; a 6.36 m panel under a 20 degree
+#: slope went from 2.05 % to 0.89 % above the exhaustive reference. About 5 % more
+#: candidates and 8 % more time at 10 km (from every height: 18 % and 14 %).
+SECOND_FROM_H = 5.5
 #: Jumps a descent may make.
 MAX_JUMPS = 3
 #: Largest number of candidates checked in one call (memory: every check is an array of
@@ -633,15 +641,17 @@ def search_moves(store: Store, lower_bound, starts=()):
     yield from plane_moves(store)
 
 
-def needs_second(store: Store, starts) -> bool:
+def needs_second(store: Store, starts, h: float = 0.0) -> bool:
     """Whether a demand's search gets a second descent (:func:`second_moves`): it found
-    a passing section, and the taller reference's section, its first start, does not
-    pass here while the lower reference's is another section. Such a demand differs
+    a passing section, the lower reference's section is another one than the taller's,
+    and either the taller reference's section, its first start, does not pass here, or
+    the retained height ``h`` (m) is at least ``SECOND_FROM_H``. A demand that differs
     from its references by more than height (a wall top above the retained level, a
-    deeper founding), and the descent from a failing start can settle in a dearer
-    optimum than one from the other reference's section."""
+    deeper founding), or a tall one, can settle in a dearer optimum from one start than
+    from the other."""
     return (len(starts) > 1 and store.best() is not None
-            and not np.array_equal(starts[0], starts[1]) and not store.passes(starts[0]))
+            and not np.array_equal(starts[0], starts[1])
+            and (h >= SECOND_FROM_H or not store.passes(starts[0])))
 
 
 def second_moves(store: Store, start):
@@ -947,7 +957,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     # 2b. where the taller reference's section fails here, a second descent
     again = []
     for t, st in zip(tasks, starts_of):
-        if needs_second(t.store, st):
+        if needs_second(t.store, st, t.demand.h):
             s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store)
             again.append((t, _Task(t.demand, s2, second_moves(s2, st[1]))))
     checked += _run_by_ground([a for _, a in again], basis, costing)
