@@ -35,9 +35,10 @@ The moves of one demand:
    Then the planes (:func:`plane_moves`): every toe length with other base and stem
    thicknesses about the best (:func:`planes`), and the base thickness traded against
    the stem's (:func:`thickness_trades`), and the descent on from a better one.
-   Where the taller reference's section fails here, a second descent from the lower
-   reference's, among the sections that could beat the first search's best
-   (:func:`second_moves`). Both come after the rest, so they can only make a result
+   Where the taller reference's section fails here (or the wall is ``SECOND_FROM_H``
+   or taller), a second descent from the lower reference's, among the sections that
+   could beat the first search's best (:func:`second_moves`), taking what the first
+   checked in full from its record (:meth:`Store.from_prior`). Both come after the rest, so they can only make a result
    cheaper.
 5. The ``FINALISTS`` cheapest passing candidates are checked in full
    (``evaluate.evaluate``), and the cheapest passing is the design (ties: the lower
