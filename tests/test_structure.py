@@ -429,6 +429,17 @@ def test_base_bar_limit_hand():
     assert structure.base_bar_limit(opt.sizes, np.array([200.0]), 50.0, 75.0)[0] == np.inf
 
 
+def _one_section(sec: Section, heel, toe):
+    """The bars of one section under a stem moment and shear of 60 kNm/m and 50 kN/m
+    and the given (M, V) of the heel and toe (one combination, no quasi-permanent
+    moments; invented)."""
+    acts = [MemberActions(m, "DA1-1", "c", np.array([M]), np.array([V]))
+            for m, (M, V) in (("stem", (60.0, 50.0)), ("heel", heel), ("toe", toe))]
+    zero = {m: np.zeros(1) for m in ("stem", "heel", "toe")}
+    return structure.design_reinforcement(SectionArrays.of([sec]), acts, zero, BASIS,
+                                          stem_height_m=3.0)
+
+
 def test_thin_base_takes_bars_whose_bends_fit():
     # a 0.30 m base under a heel moment of 150 kNm/m (invented): the cheapest area is
     # 20@200, whose bend needs P = 190 mm (BS 8666 Table 2) in a 175 mm leg; the heel
@@ -437,12 +448,7 @@ def test_thin_base_takes_bars_whose_bends_fit():
     free = structure._choose_main(opt, np.array([300.0]), 50.0, np.array([150.0]), np.zeros(1),
                                   np.zeros(1), np.ones(1, bool), 32.0, BASIS)
     assert opt.phi[free][0] == 20.0
-    sec = SectionArrays.of([Section(0.25, 0.30, 3.2, 0.7, 0.30)])
-    acts = [MemberActions("stem", "DA1-1", "c", np.array([60.0]), np.array([50.0])),
-            MemberActions("heel", "DA1-1", "c", np.array([150.0]), np.array([90.0])),
-            MemberActions("toe", "DA1-1", "c", np.array([30.0]), np.array([50.0]))]
-    zero = {m: np.zeros(1) for m in ("stem", "heel", "toe")}
-    res = structure.design_reinforcement(sec, acts, zero, BASIS, stem_height_m=3.0)
+    res = _one_section(Section(0.25, 0.30, 3.2, 0.7, 0.30), heel=(150.0, 90.0), toe=(30.0, 50.0))
     assert res.bars["heel"].bar_mm[0] == 16.0
     assert res.bars["heel"].as_prov[0] >= res.bars["heel"].as_req[0]
     for c in _check(res, "bar_bend") + _check(res, "heel_bending"):
@@ -458,12 +464,7 @@ def test_toe_bars_carry_the_toe_shear():
                                   np.zeros(1), np.ones(1, bool), 32.0, BASIS)
     d_free = 450.0 - 75.0 - opt.phi[free][0] / 2.0
     assert float(ec2.shear_resistance(opt.As[free][0], d_free, 32.0)) < 230.0
-    sec = SectionArrays.of([Section(0.25, 0.35, 3.0, 1.0, 0.45)])
-    acts = [MemberActions("stem", "DA1-1", "c", np.array([60.0]), np.array([50.0])),
-            MemberActions("heel", "DA1-1", "c", np.array([40.0]), np.array([60.0])),
-            MemberActions("toe", "DA1-1", "c", np.array([60.0]), np.array([230.0]))]
-    zero = {m: np.zeros(1) for m in ("stem", "heel", "toe")}
-    res = structure.design_reinforcement(sec, acts, zero, BASIS, stem_height_m=3.0)
+    res = _one_section(Section(0.25, 0.35, 3.0, 1.0, 0.45), heel=(40.0, 60.0), toe=(60.0, 230.0))
     toe = res.bars["toe"]
     assert toe.as_prov[0] >= ec2.as_for_shear(230.0, toe.d_mm[0], 32.0)
     for c in _check(res, "toe_shear") + _check(res, "bar_bend"):
