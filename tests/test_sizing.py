@@ -372,6 +372,40 @@ def test_store_takes_what_its_prior_checked_in_full():
     assert not search.Store(g).from_prior(codes(ask))[0].any()
 
 
+def test_descent_from_a_full_start_ends_on_a_full_neighbourhood():
+    # a descent that starts with the full neighbourhood (polish=False, as the second
+    # descent) and moves checks the full neighbourhood again where it settles (the stem
+    # top among its moves) before it ends; invented results: the start's neighbour one
+    # step wider is the cheapest passing, nothing about it is cheaper
+    g = grid_for(demand(3.0), 0.05)
+    start = np.array([60, 10, 8, 7, 5, 0, 0])
+    moved = start + [1, 0, 0, 0, 0, 0, 0]
+    st = search.Store(g)
+    gen = search.descent(st, start, polish=False, max_jumps=0, toe_line=False)
+
+    def check(cand, best=None):
+        cand = np.unique(cand, axis=0)
+        cand = cand[g.valid(cand)]
+        c = codes(cand)
+        new = ~st.known(c)
+        cand, c = cand[new], c[new]
+        cost = np.full(len(cand), 1000.0)
+        if best is not None:
+            cost[np.all(cand == best, axis=1)] = 900.0
+        o = np.argsort(c)
+        st.commit(cand[o], c[o], np.ones(len(cand), bool), cost[o], np.full(len(cand), 0.9))
+
+    check(next(gen), best=moved)  # the full neighbourhood of the start: moves
+    check(next(gen))  # the small one about the new section: settles
+    last = next(gen)  # then the full one about it, stem top changed too
+    assert set(np.unique(last[:, search.TT])) == {moved[search.TT] - 1, moved[search.TT],
+                                                  moved[search.TT] + 1}
+    assert np.all(np.abs(last[:, :5] - moved[:5]) <= 1)
+    check(last)
+    with pytest.raises(StopIteration):
+        next(gen)
+
+
 def test_descent_weighs_overstress_while_nothing_passes():
     # while nothing passes, a descent with ``overstress`` moves to the least cost x (1 +
     # w (u - 1)), without it to the least utilization (invented results: a big section

@@ -579,7 +579,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 continue
             use_full = True
         else:
-            use_full = False
+            use_full, polish = False, True
             cur = nxt
 
 
