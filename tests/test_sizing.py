@@ -291,6 +291,42 @@ def test_jumps_reach_across_the_base_and_every_thickness():
                                            for dz in r for ds in r}
 
 
+def test_planes_go_on_about_a_better_section_they_find():
+    # invented results: the planes about a demand's best find one cheaper section, the
+    # descent from it nothing better; the next round is the planes (and trades) about
+    # that section, and a round that finds nothing better ends them
+    g = grid_for(demand(3.0), 0.05)
+    st = search.Store(g)
+    cur = np.array([60, 10, 8, 7, 5, 0, 0])
+    better = cur + [1, 6, -1, 0, 0, 0, 0]
+
+    def commit(v, cheap=None):
+        v = np.unique(np.asarray(v).reshape(-1, NDIM), axis=0)
+        v = v[g.valid(v)]
+        c = codes(v)
+        new = ~st.known(c)
+        v, c = v[new], c[new]
+        cost = np.full(len(v), 2000.0)
+        if cheap is not None:
+            cost[np.all(v == cheap, axis=1)] = 900.0
+        o = np.argsort(c)
+        st.commit(v[o], c[o], np.ones(len(v), bool), cost[o], np.full(len(v), 0.9))
+
+    commit(cur[None, :])
+    gen = search.plane_moves(st)
+    first = next(gen).v
+    assert any(np.array_equal(r, better) for r in first)
+    commit(first, cheap=better)
+    expected = {tuple(r) for r in np.vstack([search.planes(better, g, search.BASE_PLANES),
+                                              search.thickness_trades(better)]).tolist()}
+    rounds = 1
+    for ask in gen:
+        if {tuple(r) for r in ask.v.tolist()} == expected:
+            rounds += 1
+        commit(ask.v)
+    assert rounds == 2 and np.array_equal(st.best_vector(), better)
+
+
 def test_store_absorbs_another_search_of_the_same_demand():
     # the second descent's candidates join the first search's: its best is the better of
     # the two, candidates checked in both are kept once, and passes() reads the record
