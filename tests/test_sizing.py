@@ -291,6 +291,21 @@ def test_jumps_reach_across_the_base_and_every_thickness():
                                            for dz in r for ds in r}
 
 
+def _pass_all(st, v, cost: float, cheap=None) -> None:
+    """Commit the valid candidates ``v`` not checked yet in ``st`` as passing (invented
+    results): each at ``cost`` and utilization 0.9, ``cheap`` at 900."""
+    v = np.unique(np.asarray(v).reshape(-1, NDIM), axis=0)
+    v = v[st.grid.valid(v)]
+    c = codes(v)
+    new = ~st.known(c)
+    v, c = v[new], c[new]
+    costs = np.full(len(v), cost)
+    if cheap is not None:
+        costs[np.all(v == cheap, axis=1)] = 900.0
+    o = np.argsort(c)
+    st.commit(v[o], c[o], np.ones(len(v), bool), costs[o], np.full(len(v), 0.9))
+
+
 def test_planes_go_on_about_a_better_section_they_find():
     # invented results: the planes about a demand's best find one cheaper section, the
     # descent from it nothing better; the next round is the planes (and trades) about
@@ -301,16 +316,7 @@ def test_planes_go_on_about_a_better_section_they_find():
     better = cur + [1, 6, -1, 0, 0, 0, 0]
 
     def commit(v, cheap=None):
-        v = np.unique(np.asarray(v).reshape(-1, NDIM), axis=0)
-        v = v[g.valid(v)]
-        c = codes(v)
-        new = ~st.known(c)
-        v, c = v[new], c[new]
-        cost = np.full(len(v), 2000.0)
-        if cheap is not None:
-            cost[np.all(v == cheap, axis=1)] = 900.0
-        o = np.argsort(c)
-        st.commit(v[o], c[o], np.ones(len(v), bool), cost[o], np.full(len(v), 0.9))
+        _pass_all(st, v, 2000.0, cheap)
 
     commit(cur[None, :])
     gen = search.plane_moves(st)
@@ -420,16 +426,7 @@ def test_descent_from_a_full_start_ends_on_a_full_neighbourhood():
     gen = search.descent(st, start, polish=False, max_jumps=0, toe_line=False)
 
     def check(cand, best=None):
-        cand = np.unique(cand, axis=0)
-        cand = cand[g.valid(cand)]
-        c = codes(cand)
-        new = ~st.known(c)
-        cand, c = cand[new], c[new]
-        cost = np.full(len(cand), 1000.0)
-        if best is not None:
-            cost[np.all(cand == best, axis=1)] = 900.0
-        o = np.argsort(c)
-        st.commit(cand[o], c[o], np.ones(len(cand), bool), cost[o], np.full(len(cand), 0.9))
+        _pass_all(st, cand, 1000.0, best)
 
     check(next(gen), best=moved)  # the full neighbourhood of the start: moves
     check(next(gen))  # the small one about the new section: settles
