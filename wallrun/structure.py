@@ -383,7 +383,8 @@ def base_bar_limit(sizes, t_base_mm, cover_mm, cover_ground_mm) -> np.ndarray:
     so a larger bar cannot be detailed in the base whatever its area; inf where no
     listed size fits (the choice is then left free, and ``bar_bend`` fails it)."""
     sizes = np.asarray(sizes, dtype=float)
-    leg = np.asarray(t_base_mm, dtype=float)[:, None] - float(cover_mm) - float(cover_ground_mm)
+    leg = (np.asarray(t_base_mm, dtype=float)[:, None] - float(cover_mm)
+           - float(cover_ground_mm))
     fits = ((leg >= shapes.min_end_projection(sizes)[None, :] - 1e-9)
             & (2.0 * np.maximum(leg - 6.0 * sizes[None, :], 0.0)
                >= ec2.mandrel_min_table(sizes)[None, :] - 1e-9))

@@ -38,8 +38,8 @@ The moves of one demand:
    Where the taller reference's section fails here (or the wall is ``SECOND_FROM_H``
    or taller), a second descent from the lower reference's, among the sections that
    could beat the first search's best (:func:`second_moves`), taking what the first
-   checked in full from its record (:meth:`Store.from_prior`). Both come after the rest, so they can only make a result
-   cheaper.
+   checked in full from its record (:meth:`Store.from_prior`). Both come after the
+   rest, so they can only make a result cheaper.
 5. The ``FINALISTS`` cheapest passing candidates are checked in full
    (``evaluate.evaluate``), and the cheapest passing is the design (ties: the lower
    utilization). The search ranks by the same cost: its stem bars are curtailed as the
@@ -198,11 +198,12 @@ class Store:
         # another search of the same demand, done: what it checked in full (a finite
         # cost) is taken from its record, not checked again (:meth:`from_prior`)
         self._prior = None
-        if prior is not None and prior.checked:
-            full = np.flatnonzero(np.isfinite(prior.cost))
+        full = np.flatnonzero(np.isfinite(prior.cost)) if prior is not None else ()
+        if len(full):
             c = codes(prior.V[full])
             o = np.argsort(c, kind="stable")
-            self._prior = (c[o], prior.ok[full][o], prior.cost[full][o], prior.util[full][o])
+            self._prior = (c[o],) + tuple(a[full][o] for a in (prior.ok, prior.cost,
+                                                                 prior.util))
         self.codes = np.zeros(0, dtype=np.int64)  # sorted
         self._parts: list[tuple] = []
         self._joined: tuple | None = None
@@ -267,8 +268,6 @@ class Store:
         if self._prior is None or not len(c):
             return np.zeros(len(c), dtype=bool), ()
         pc = self._prior[0]
-        if not len(pc):
-            return np.zeros(len(c), dtype=bool), ()
         pos = np.minimum(np.searchsorted(pc, c), len(pc) - 1)
         hit = pc[pos] == c
         return hit, tuple(a[pos[hit]] for a in self._prior[1:])
@@ -461,9 +460,10 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
 def planes(cur: np.ndarray, grid: Grid, sets) -> np.ndarray:
     """Every toe length within ``TOE_REACH`` steps of cur's with the base thickness,
     stem base and base width of ``cur`` changed by each combination of steps of each
-    (bases, stems, widths) of ``sets`` (m, NDIM). A change of base or stem thickness moves the toe length that passes
-    (the toe and heel bars chosen jump with the thickness and the toe length), and the
-    toe lengths that pass can be islands one step wide, out of single steps' reach.
+    (bases, stems, widths) of ``sets`` (m, NDIM). A change of base or stem thickness
+    moves the toe length that passes (the toe and heel bars chosen jump with the
+    thickness and the toe length), and the toe lengths that pass can be islands one
+    step wide, out of single steps' reach.
     Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
     toes = grid.axes()[TOE]
@@ -974,7 +974,8 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
         starts_of.append(starts)
         tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
-    # 2b. where the taller reference's section fails here, a second descent
+    # 2b. where the taller reference's section fails here, or on a tall wall, a second
+    # descent
     again = []
     for t, st in zip(tasks, starts_of):
         if needs_second(t.store, st, t.demand.h):
