@@ -286,9 +286,16 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     # the thickness trades: base and stem base each up to TRADE_REACH steps either way,
     # the base width, toe and stem top as cur's
     t = search.thickness_trades(cur)
-    r = range(-search.TRADE_REACH, search.TRADE_REACH + 1)
+    rz, rs = (range(-r, r + 1) for r in search.TRADE_REACH)
     assert set(map(tuple, t.tolist())) == {(60, 10, 8 + dz, 7 + ds, 5, 0, 0)
-                                           for dz in r for ds in r}
+                                           for dz in rz for ds in rs}
+    # the stem shifts: stem base, toe, base width and base thickness each up to
+    # SHIFT_REACH steps either way, the stem top as cur's
+    t = search.stem_shifts(cur)
+    rs, rt, rb, rz = (range(-r, r + 1) for r in search.SHIFT_REACH)
+    assert set(map(tuple, t.tolist())) == {(60 + db, 10 + dt, 8 + dz, 7 + ds, 5, 0, 0)
+                                           for ds in rs for dt in rt for db in rb
+                                           for dz in rz}
 
 
 def _pass_all(st, v, cost: float, cheap=None) -> None:
@@ -324,7 +331,8 @@ def test_planes_go_on_about_a_better_section_they_find():
     assert any(np.array_equal(r, better) for r in first)
     commit(first, cheap=better)
     expected = {tuple(r) for r in np.vstack([search.planes(better, g, search.BASE_PLANES),
-                                              search.thickness_trades(better)]).tolist()}
+                                              search.thickness_trades(better),
+                                              search.stem_shifts(better)]).tolist()}
     rounds = 1
     for ask in gen:
         if {tuple(r) for r in ask.v.tolist()} == expected:

@@ -33,8 +33,9 @@ The moves of one demand:
 4. Widening: where the best section sits on a bound that a wider grid could move
    (:meth:`Grid.binding`), the bound is moved and the descent resumes.
    Then the planes (:func:`plane_moves`): every toe length with other base and stem
-   thicknesses about the best (:func:`planes`), and the base thickness traded against
-   the stem's (:func:`thickness_trades`), and the descent on from a better one.
+   thicknesses about the best (:func:`planes`), the base thickness traded against
+   the stem's (:func:`thickness_trades`), the stem thickness against the toe and
+   width (:func:`stem_shifts`), and the descent on from a better one.
    Where the taller reference's section fails here (or the wall is ``SECOND_FROM_H``
    or taller), a second descent from the lower reference's, among the sections that
    could beat the first search's best (:func:`second_moves`), taking what the first
@@ -127,24 +128,43 @@ TOE_LINES = (((-2,), (-1, 0, 1), (0, 2, 4)),)
 #: three steps wider or narrower with its thickness kept (the third set's 0) took two
 #: 6.7 and 6.9 m panels of a wet DA2 wall from 0.7 % above the best section known to
 #: it, walking the stability frontier where a step wider carries a shorter toe (about
-#: 3.5 % more candidates).
+#: 3.5 % more candidates). The last two sets (a base one to three steps thinner on a
+#: base two to eight steps wider, and one step thicker on a base two to four steps
+#: narrower) came from walls drawn after the others were set: on an invented 5 m wall
+#: over clay (cu 55 kPa, 10 cm step) seven panels ended 4.6 to 9.0 % above a base 0.2
+#: to 0.3 m thinner on one 0.5 to 0.7 m wider (the exhaustive reference confirmed the
+#: three checked), and on another (DA3, 10 cm step) three ended 1.1 to 1.5 % above a
+#: base a step thicker on one three or four narrower. With them the first wall's
+#: panels are at the best section known, and two of the second's three (about 6 % more
+#: candidates at 10 km).
 BASE_PLANES = (((-4, -3, -2, -1, 0, 1, 2, 3), (0,), (-1, 1)),
                ((-2, -1, 0, 1), (0,), (-2, 2)),
                ((-2, -1, 0), (0,), (-3, 3)),
                ((-1, 1), (-3, -2, 2, 3), (0,)),
-               ((2,), (-2,), (-1, 0)))
+               ((2,), (-2,), (-1, 0)),
+               ((-3, -2, -1), (0,), (2, 3, 4, 5, 6, 7, 8)),
+               ((1,), (0,), (-4, -3, -2)))
 #: Toe lengths of :func:`planes` (the toe lines' and those after a search), in steps
 #: either way of the section's: the cheaper sections the planes reached on the invented
 #: walls lay up to 24 steps away; 16 checked about 10 % fewer candidates at 10 km than
 #: every toe length (the 10 s target), and about three demands of 2,831 more ended over
 #: 0.5 % above the best known.
 TOE_REACH = 16
-#: Steps of :func:`thickness_trades`, checked with the planes after a demand's search:
-#: on the benchmark's 10 km wall a 6.05 m demand settled at a base 0.45 m and a stem
-#: 0.45 m thick, 1.6 % above a section with a base two steps thicker and a stem two
-#: steps thinner on the same base width and toe (then the descent on); 9,000 more
-#: candidates at 10 km.
-TRADE_REACH = 3
+#: Steps of :func:`thickness_trades` (base thickness, stem base), checked with the planes
+#: after a demand's search: on the benchmark's 10 km wall a 6.05 m demand settled at a
+#: base 0.45 m and a stem 0.45 m thick, 1.6 % above a section with a base two steps
+#: thicker and a stem two steps thinner on the same base width and toe (then the
+#: descent on); on an invented 5.08 m wall over sand (DA3, a 12 degree slope) a base four
+#: steps thinner with a stem one step thicker was 1.3 % cheaper. Most of these are
+#: dropped by the lower bound (a thicker base) or fail stability at once (a thinner
+#: one): at +-8 and +-2 steps about 0.6 % more candidates at 10 km than at +-3 and +-3.
+TRADE_REACH = (8, 2)
+#: Steps of :func:`stem_shifts` (stem base, toe, base width, base thickness), checked with
+#: the planes: a stem three or four steps thicker or thinner moves the toe length and
+#: base width that pass by a step or three. On four invented walls drawn after the
+#: planes were set (2.5 km each, 5 cm step) five panels of 5.6 to 5.9 m ended 0.55 to
+#: 0.67 % above the best section known without them and at it with them.
+SHIFT_REACH = (4, 3, 1, 1)
 #: Rounds of :func:`plane_moves`: the planes about the best, and again about the best
 #: the descent from a better one reaches, up to this many times. A 5.38 m panel under a
 #: 20 degree slope ended 0.72 % above the best section known with one round (its
@@ -488,17 +508,31 @@ def toe_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
 
 
 def thickness_trades(cur: np.ndarray) -> np.ndarray:
-    """The base thickness and stem base of ``cur`` each changed by up to
-    ``TRADE_REACH`` steps, the rest as cur's (m, NDIM): a thicker base with a thinner
-    stem (or the reverse) carries the same wall, and the single steps between them can
-    fail (the stem's bars anchor in the base, and the bars of both jump with each
-    thickness). Invalid vectors are dropped by the driver."""
+    """The base thickness and stem base of ``cur`` changed by up to ``TRADE_REACH``
+    steps each, the rest as cur's (m, NDIM): a thicker base with a thinner stem (or the
+    reverse) carries the same wall, and the single steps between them can fail (the
+    stem's bars anchor in the base, the bars of both jump with each thickness, and the
+    founding level with the base thickness). Invalid vectors are dropped by the
+    driver."""
+    return _box(cur, (TB, TS), TRADE_REACH)
+
+
+def stem_shifts(cur: np.ndarray) -> np.ndarray:
+    """The stem base, toe, base width and base thickness of ``cur`` changed by up to
+    ``SHIFT_REACH`` steps each, the rest as cur's (m, NDIM): a thicker stem takes its
+    thickness from the heel or the toe, and the toe length and base width that pass
+    move with it. Invalid vectors are dropped by the driver."""
+    return _box(cur, (TS, TOE, B, TB), SHIFT_REACH)
+
+
+def _box(cur: np.ndarray, dims, reach) -> np.ndarray:
+    """``cur`` with its entries ``dims`` changed by every combination of up to ``reach``
+    steps each (m, NDIM)."""
     cur = np.asarray(cur, dtype=np.int64)
-    r = np.arange(-TRADE_REACH, TRADE_REACH + 1)
-    dz, ds = (a.ravel() for a in np.meshgrid(r, r, indexing="ij"))
-    out = np.repeat(cur[None, :], len(dz), axis=0)
-    out[:, TB] += dz
-    out[:, TS] += ds
+    steps = np.meshgrid(*[np.arange(-r, r + 1) for r in reach], indexing="ij")
+    out = np.repeat(cur[None, :], steps[0].size, axis=0)
+    for k, d in zip(dims, steps):
+        out[:, k] += d.ravel()
     return out
 
 
@@ -512,7 +546,8 @@ def plane_moves(store: Store):
         return
     for _ in range(PLANE_ROUNDS):
         cur = store.best_vector()
-        yield Ask(np.vstack([planes(cur, store.grid, BASE_PLANES), thickness_trades(cur)]))
+        yield Ask(np.vstack([planes(cur, store.grid, BASE_PLANES), thickness_trades(cur),
+                             stem_shifts(cur)]))
         if np.array_equal(store.best_vector(), cur):
             return
         for cand in descent(store, store.best_vector()):
