@@ -876,3 +876,56 @@ def test_listing_columns_read_as_its_entries_and_pickled_without_them():
     mixed = CheckListing.of(full + (extra,))
     assert tuple(mixed) == full + (extra,) and mixed.named({"overall"}) == (extra,)
     assert CheckListing.of(mixed) is mixed and len(CheckListing.of(())) == 0
+
+
+def test_search_on_a_low_wall_takes_its_whole_grid():
+    # A 0.68 m panel of an invented wall (DA1; backfill 19.5 kN/m3, 31 degrees, a 12
+    # degree slope; base 19 kN/m3, 28 degrees, c' 3 kPa; water 0.9 m above the base;
+    # surcharge 10 kPa; 5 cm grid). Without a key, sliding asks for a 2.0 m base; the
+    # grid's cheapest is a keyed base 1.45 m wide, and a key alone costs more at 2.0 m,
+    # so no move crossed between them: the search ended 2.07 % above it. A low wall's
+    # whole grid is searched (search.whole_grid_moves), and the result is the
+    # exhaustive reference's.
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1"),
+                  loads=Loads(surcharge_kpa=10.0))
+    d = Demand(z_top=65.271566, z_front=64.588466,
+               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=31.0,
+                                 slope_deg=12.0),
+               foundation=Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=28.0,
+                                     cohesion_kpa=3.0),
+               surcharge_kpa=10.0, water=Water(height_above_base_m=0.9), wall_top_m=65.4,
+               min_founding_depth_m=0.6, founding_step_m=0.15)
+    assert search.small_grid(grid_for(d, 0.05, basis.design), d.h)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
+    assert ref is not None and ref.key_depth_m > 0
+    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+
+
+def test_search_finds_a_thinner_base_on_a_wider_one():
+    # A 4.87 m panel of an invented wall over clay (DA1; backfill 20 kN/m3, 31 degrees,
+    # a 14 degree slope; base 18 kN/m3, 24 degrees, c' 6 kPa, cu 55 kPa; water 1.5 m
+    # above the base; surcharge 8 kPa; 10 cm grid). Both its references' sections have
+    # a 0.7 m base, and the search settled there at 3652.7 a metre, 9.0 % above the
+    # grid's cheapest: B 8.1, toe 1.0, base 0.4, stem 0.3 m at 3352.01 (a base 0.3 m
+    # thinner on one 0.7 m wider; the whole grid's reference, 10 s, gives it). The
+    # planes of a thinner base on a wider one (search.BASE_PLANES) reach it. The
+    # reference is taken on base widths 8.0 to 8.2 m.
+    from dataclasses import replace as _replace
+
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1", dimension_step_m=0.1),
+                  loads=Loads(surcharge_kpa=8.0))
+    d = Demand(z_top=60.383387, z_front=55.51476,
+               backfill=Backfill(unit_weight_kn_m3=20.0, friction_angle_deg=31.0,
+                                 slope_deg=14.0),
+               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                     cohesion_kpa=6.0, undrained_strength_kpa=55.0),
+               surcharge_kpa=8.0, water=Water(height_above_base_m=1.5), wall_top_m=60.45,
+               min_founding_depth_m=0.6, founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.1)[0]
+    part = _replace(grid_for(d, 0.1, basis.design), b=(80, 82))
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1, grid=part, widen=False)
+    assert ref is not None and ref_cost == pytest.approx(3352.01, abs=0.01)
+    assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
