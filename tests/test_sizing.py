@@ -289,6 +289,12 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     rz, rs = (range(-r, r + 1) for r in search.TRADE_REACH)
     assert set(map(tuple, t.tolist())) == {(60, 10, 8 + dz, 7 + ds, 5, 0, 0)
                                            for dz in rz for ds in rs}
+    # the narrower lines: the base NARROWER steps narrower, toe lengths from two steps
+    # shorter to TOE_REACH longer, the thicknesses as cur's
+    t = search.narrower_lines(cur, g)
+    assert set(map(tuple, t.tolist())) == {
+        (60 - k, toe, 8, 7, 5, 0, 0) for k in search.NARROWER
+        for toe in range(8, 10 + search.TOE_REACH + 1) if toe <= g.axes()[1][-1]}
     # the stem shifts: stem base, toe, base width and base thickness each up to
     # SHIFT_REACH steps either way, the stem top as cur's
     t = search.stem_shifts(cur)
@@ -331,6 +337,7 @@ def test_planes_go_on_about_a_better_section_they_find():
     assert any(np.array_equal(r, better) for r in first)
     commit(first, cheap=better)
     expected = {tuple(r) for r in np.vstack([search.planes(better, g, search.BASE_PLANES),
+                                              search.narrower_lines(better, g),
                                               search.thickness_trades(better),
                                               search.stem_shifts(better)]).tolist()}
     rounds = 1
