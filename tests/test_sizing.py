@@ -295,6 +295,12 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     assert set(map(tuple, t.tolist())) == {
         (60 - k, toe, 8, 7, 5, 0, 0) for k in search.NARROWER
         for toe in range(8, 10 + search.TOE_REACH + 1) if toe <= g.axes()[1][-1]}
+    # the heel lines: base width and toe together up to HEEL_REACH steps either way,
+    # the base a step thinner, as cur's or a step thicker
+    t = search.heel_lines(cur)
+    assert set(map(tuple, t.tolist())) == {
+        (60 + k, 10 + k, 8 + dz, 7, 5, 0, 0)
+        for k in range(-search.HEEL_REACH, search.HEEL_REACH + 1) for dz in (-1, 0, 1)}
     # the stem shifts: stem base, toe, base width and base thickness each up to
     # SHIFT_REACH steps either way, the stem top as cur's
     t = search.stem_shifts(cur)
@@ -338,6 +344,7 @@ def test_planes_go_on_about_a_better_section_they_find():
     commit(first, cheap=better)
     expected = {tuple(r) for r in np.vstack([search.planes(better, g, search.BASE_PLANES),
                                               search.narrower_lines(better, g),
+                                              search.heel_lines(better),
                                               search.thickness_trades(better),
                                               search.stem_shifts(better)]).tolist()}
     rounds = 1
