@@ -515,20 +515,22 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     return np.vstack([win] + lines + [keys])
 
 
-def planes(cur: np.ndarray, grid: Grid, sets) -> np.ndarray:
-    """Every toe length within ``TOE_REACH`` steps of cur's with the base thickness,
-    stem base and base width of ``cur`` changed by each combination of steps of each
-    (bases, stems, widths) of ``sets`` (m, NDIM). A change of base or stem thickness
-    moves the toe length that passes (the toe and heel bars chosen jump with the
-    thickness and the toe length), and the toe lengths that pass can be islands one
-    step wide, out of single steps' reach.
+def planes(cur: np.ndarray, grid: Grid, sets, shorter: int | None = None) -> np.ndarray:
+    """Every toe length from ``shorter`` steps shorter than cur's (``TOE_REACH`` unless
+    given) to ``TOE_REACH`` steps longer with the base thickness, stem base and base
+    width of ``cur`` changed by each combination of steps of each (bases, stems,
+    widths) of ``sets`` (m, NDIM). A change of base or stem thickness moves the toe
+    length that passes (the toe and heel bars chosen jump with the thickness and the
+    toe length), and the toe lengths that pass can be islands one step wide, out of
+    single steps' reach.
     Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
     toes = grid.axes()[TOE]
+    shorter = TOE_REACH if shorter is None else shorter
+    toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + TOE_REACH)]
     out = []
     for bases, stems, widths in sets:
         t_ = toes[toes <= (cur[B] + max(widths)) // 2] if grid.toe_half else toes
-        t_ = t_[np.abs(t_ - cur[TOE]) <= TOE_REACH]
         dz, ds, db, t = (a.ravel() for a in np.meshgrid(bases, stems, widths, t_,
                                                         indexing="ij"))
         o = np.repeat(cur[None, :], len(t), axis=0)
@@ -543,16 +545,9 @@ def planes(cur: np.ndarray, grid: Grid, sets) -> np.ndarray:
 def narrower_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
     """The base of ``cur`` narrower by each of ``NARROWER`` steps at the same
     thicknesses, with every toe length from two steps shorter than cur's to
-    ``TOE_REACH`` steps longer (m, NDIM): a narrower base with a longer toe and a
-    shorter heel. Invalid vectors are dropped by the driver."""
-    cur = np.asarray(cur, dtype=np.int64)
-    toes = grid.axes()[TOE]
-    t_ = toes[(toes >= cur[TOE] - 2) & (toes <= cur[TOE] + TOE_REACH)]
-    db, t = (a.ravel() for a in np.meshgrid(-np.asarray(NARROWER), t_, indexing="ij"))
-    out = np.repeat(cur[None, :], len(t), axis=0)
-    out[:, B] += db
-    out[:, TOE] = t
-    return out
+    ``TOE_REACH`` steps longer (:func:`planes`): a narrower base with a longer toe and a
+    shorter heel."""
+    return planes(cur, grid, (((0,), (0,), tuple(-k for k in NARROWER)),), shorter=2)
 
 
 def heel_lines(cur: np.ndarray) -> np.ndarray:
@@ -779,21 +774,15 @@ def small_grid(grid: Grid, h: float) -> bool:
 
 def whole_grid_moves(store: Store, lower_bound):
     """Every candidate of the store's grid (its bounds as the search left them) in
-    increasing lower bound of the cost, in batches of ``WHOLE_GRID_BATCH``, until the
-    lower bound reaches the best cost found: every candidate left has a lower bound at or
-    above a cost found, so the search's result is the cheapest of the grid on these
-    bounds (:func:`cheapest_on_grid` also moves a bound the cheapest sits on). For a
-    small grid (:func:`small_grid`) only."""
+    increasing lower bound of the cost (:func:`best_first`, batches of
+    ``WHOLE_GRID_BATCH``), until the lower bound reaches the best cost found: every
+    candidate left has a lower bound at or above a cost found, so the search's result
+    is the cheapest of the grid on these bounds (:func:`cheapest_on_grid` also moves a
+    bound the cheapest sits on). For a small grid (:func:`small_grid`) only."""
     v, _ = store.fresh(store.grid.every())
-    if not len(v):
-        return
-    lb = lower_bound(v)
-    o = np.argsort(lb, kind="stable")
-    v, lb = v[o], lb[o]
-    for a in range(0, len(v), WHOLE_GRID_BATCH):
-        if lb[a] >= store.prune_cost() - 1e-9:
-            return
-        yield Ask(v[a:a + WHOLE_GRID_BATCH])
+    if len(v):
+        for part in best_first(store, v, lower_bound(v), 1, WHOLE_GRID_BATCH):
+            yield Ask(part)
 
 
 def needs_second(store: Store, starts, h: float = 0.0) -> bool:
