@@ -1120,8 +1120,10 @@ def steel_mass_floor(sec: SectionArrays, stem_height_m, basis: Basis) -> np.ndar
     hor = _horizontal_need(back, front, t_stem)
     dist = _distribution_need(heel, toe)
     if basis.design.restraint_steel:
-        least = lambda h: np.nan_to_num(np.min(restraint_need(sizes[None, :], h[:, None], basis), axis=1),  # noqa: E731
-                                        posinf=0.0)
+        def least(h):  # per distinct thickness (a grid has few), then spread
+            u, inv = np.unique(h, return_inverse=True)
+            r = np.min(restraint_need(sizes[None, :], u[:, None], basis), axis=1)
+            return np.nan_to_num(r, posinf=0.0)[inv.reshape(-1)]
         hor = np.maximum(hor, least(t_stem))
         dist = np.maximum(dist, least(t_base))
     stem_len = np.maximum(hs - cv - float(basis.concrete.kicker_mm), 0.0)

@@ -25,6 +25,7 @@ B, TOE, TB, TS, TT, KD, KW = range(NDIM)
 
 #: Bits of each entry in a candidate's code (:func:`codes`): 63 in all.
 _BITS = (12, 12, 10, 10, 9, 5, 5)
+_MAX = np.array([(1 << b) - 1 for b in _BITS], dtype=np.int64)
 
 
 @dataclass(frozen=True)
@@ -189,11 +190,11 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     ``toe_half``, a bool or (m,)), a heel of at least one step, the stem top no thicker
     than the stem base and the base no thinner, a key of a listed depth and width that
     fits under the base behind the toe."""
-    v = np.asarray(v, dtype=np.int64)
-    b, toe, tb, ts, tt, kd, kw = v.T
-    lo, hi = np.asarray(lo), np.asarray(hi)
-    ok = (b >= lo[..., 0]) & (b <= hi[..., 0]) & (tb >= lo[..., 1]) & (tb <= hi[..., 1])
-    ok &= (ts >= lo[..., 2]) & (ts <= hi[..., 2]) & (tt >= lo[..., 3]) & (tt <= hi[..., 3])
+    # columns made contiguous first: every test below reads whole columns
+    b, toe, tb, ts, tt, kd, kw = np.ascontiguousarray(np.asarray(v, dtype=np.int64).T)
+    lo, hi = (np.ascontiguousarray(np.asarray(x).T) for x in (lo, hi))
+    ok = (b >= lo[0]) & (b <= hi[0]) & (tb >= lo[1]) & (tb <= hi[1])
+    ok &= (ts >= lo[2]) & (ts <= hi[2]) & (tt >= lo[3]) & (tt <= hi[3])
     ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)
     ok &= ~np.asarray(toe_half, dtype=bool) | (2 * toe <= b)
     ok &= b - toe - ts >= 1  # a heel of at least one step
@@ -208,10 +209,11 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
 def codes(v: np.ndarray) -> np.ndarray:
     """One int64 code per integer candidate (for set membership), entries packed in
     :data:`_BITS` bits each (entries are never negative on a valid grid)."""
-    v = np.asarray(v, dtype=np.int64)
-    code = np.zeros(len(v), dtype=np.int64)
-    for k, bits in enumerate(_BITS):
-        code = (code << bits) | np.clip(v[:, k], 0, (1 << bits) - 1)
+    c = np.clip(np.asarray(v, dtype=np.int64).reshape(-1, NDIM), 0, _MAX).T
+    code = c[0].copy()
+    for k in range(1, NDIM):
+        code <<= _BITS[k]
+        code |= c[k]
     return code
 
 

@@ -524,22 +524,35 @@ def planes(cur: np.ndarray, grid: Grid, sets, shorter: int | None = None) -> np.
     toe length), and the toe lengths that pass can be islands one step wide, out of
     single steps' reach.
     Invalid vectors are dropped by the driver."""
+    return _planes(cur, grid, plane_offsets(sets), shorter)
+
+
+def plane_offsets(sets) -> tuple[np.ndarray, np.ndarray]:
+    """The combinations of steps of every (bases, stems, widths) of ``sets``, (k, 3)
+    (base thickness, stem base, base width; set by set, the first entry's steps
+    outermost), and the widest step of each one's set, (k,)."""
+    offs = [np.array(list(itertools.product(*st)), dtype=np.int64).reshape(-1, 3)
+            for st in sets]
+    return (np.vstack(offs),
+            np.concatenate([np.full(len(o), max(st[2]), dtype=np.int64)
+                            for o, st in zip(offs, sets)]))
+
+
+def _planes(cur, grid: Grid, offsets, shorter: int | None = None) -> np.ndarray:
+    """:func:`planes` of the :func:`plane_offsets` ``offsets`` (with the grid's toe
+    bound, a toe up to half the base as widened by the set's widest step)."""
     cur = np.asarray(cur, dtype=np.int64)
+    offs, widest = offsets
     toes = grid.axes()[TOE]
     shorter = TOE_REACH if shorter is None else shorter
     toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + TOE_REACH)]
-    out = []
-    for bases, stems, widths in sets:
-        t_ = toes[toes <= (cur[B] + max(widths)) // 2] if grid.toe_half else toes
-        dz, ds, db, t = (a.ravel() for a in np.meshgrid(bases, stems, widths, t_,
-                                                        indexing="ij"))
-        o = np.repeat(cur[None, :], len(t), axis=0)
-        o[:, TB] += dz
-        o[:, TS] += ds
-        o[:, B] += db
-        o[:, TOE] = t
-        out.append(o)
-    return np.vstack(out)
+    n = len(toes)
+    o = np.repeat(cur[None, :], len(offs) * n, axis=0)
+    o[:, (TB, TS, B)] += np.repeat(offs, n, axis=0)
+    o[:, TOE] = np.tile(toes, len(offs))
+    if grid.toe_half:
+        o = o[o[:, TOE] <= (cur[B] + np.repeat(widest, n)) // 2]
+    return o
 
 
 def narrower_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
@@ -547,7 +560,7 @@ def narrower_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
     thicknesses, with every toe length from two steps shorter than cur's to
     ``TOE_REACH`` steps longer (:func:`planes`): a narrower base with a longer toe and a
     shorter heel."""
-    return planes(cur, grid, (((0,), (0,), tuple(-k for k in NARROWER)),), shorter=2)
+    return _planes(cur, grid, _NARROWER_OFFSETS, shorter=2)
 
 
 def heel_lines(cur: np.ndarray) -> np.ndarray:
@@ -556,19 +569,17 @@ def heel_lines(cur: np.ndarray) -> np.ndarray:
     thickness as cur's or a step either way (m, NDIM). A much longer or shorter toe on
     the same heel can be cheaper than every section between. Invalid vectors are
     dropped by the driver."""
-    cur = np.asarray(cur, dtype=np.int64)
-    k, dz = (a.ravel() for a in np.meshgrid(np.arange(-HEEL_REACH, HEEL_REACH + 1),
-                                            np.arange(-1, 2), indexing="ij"))
-    out = np.repeat(cur[None, :], len(k), axis=0)
-    out[:, B] += k
-    out[:, TOE] += k
-    out[:, TB] += dz
-    return out
+    return np.asarray(cur, dtype=np.int64)[None, :] + _HEEL_STEPS
 
 
 def toe_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
     """A thinner base with every toe length: the :func:`planes` of ``TOE_LINES``."""
-    return planes(cur, grid, TOE_LINES)
+    return _planes(cur, grid, _TOE_LINE_OFFSETS)
+
+
+_BASE_PLANE_OFFSETS = plane_offsets(BASE_PLANES)
+_TOE_LINE_OFFSETS = plane_offsets(TOE_LINES)
+_NARROWER_OFFSETS = plane_offsets((((0,), (0,), tuple(-k for k in NARROWER)),))
 
 
 def thickness_trades(cur: np.ndarray) -> np.ndarray:
@@ -578,7 +589,7 @@ def thickness_trades(cur: np.ndarray) -> np.ndarray:
     stem's bars anchor in the base, the bars of both jump with each thickness, and the
     founding level with the base thickness). Invalid vectors are dropped by the
     driver."""
-    return _box(cur, (TB, TS), TRADE_REACH)
+    return np.asarray(cur, dtype=np.int64)[None, :] + _TRADE_STEPS
 
 
 def stem_shifts(cur: np.ndarray) -> np.ndarray:
@@ -586,18 +597,24 @@ def stem_shifts(cur: np.ndarray) -> np.ndarray:
     ``SHIFT_REACH`` steps each, the rest as cur's (m, NDIM): a thicker stem takes its
     thickness from the heel or the toe, and the toe length and base width that pass
     move with it. Invalid vectors are dropped by the driver."""
-    return _box(cur, (TS, TOE, B, TB), SHIFT_REACH)
+    return np.asarray(cur, dtype=np.int64)[None, :] + _SHIFT_STEPS
 
 
-def _box(cur: np.ndarray, dims, reach) -> np.ndarray:
-    """``cur`` with its entries ``dims`` changed by every combination of up to ``reach``
-    steps each (m, NDIM)."""
-    cur = np.asarray(cur, dtype=np.int64)
+def box_steps(dims, reach) -> np.ndarray:
+    """Every combination of up to ``reach`` steps either way in each of the entries
+    ``dims`` (the first outermost), the other entries 0: (m, NDIM)."""
     steps = np.meshgrid(*[np.arange(-r, r + 1) for r in reach], indexing="ij")
-    out = np.repeat(cur[None, :], steps[0].size, axis=0)
+    out = np.zeros((steps[0].size, NDIM), dtype=np.int64)
     for k, d in zip(dims, steps):
         out[:, k] += d.ravel()
     return out
+
+
+_TRADE_STEPS = box_steps((TB, TS), TRADE_REACH)
+_SHIFT_STEPS = box_steps((TS, TOE, B, TB), SHIFT_REACH)
+#: the heel kept: base width and toe together, with the base thickness a step either way
+_HEEL_STEPS = box_steps((B, TB), (HEEL_REACH, 1))
+_HEEL_STEPS[:, TOE] = _HEEL_STEPS[:, B]
 
 
 def plane_moves(store: Store):
@@ -610,7 +627,7 @@ def plane_moves(store: Store):
         return
     for _ in range(PLANE_ROUNDS):
         cur = store.best_vector()
-        yield Ask(np.vstack([planes(cur, store.grid, BASE_PLANES),
+        yield Ask(np.vstack([_planes(cur, store.grid, _BASE_PLANE_OFFSETS),
                              narrower_lines(cur, store.grid), heel_lines(cur),
                              thickness_trades(cur), stem_shifts(cur)]))
         if np.array_equal(store.best_vector(), cur):
