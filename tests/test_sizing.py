@@ -917,6 +917,29 @@ def test_search_on_a_low_wall_takes_its_whole_grid():
     assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
 
 
+def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
+    # A 0.82 m panel of an invented wall (DA3; backfill 18.5 kN/m3, 30 degrees, a 9
+    # degree slope; base 18 kN/m3, 24 degrees, c' 9 kPa; surcharge 14 kPa; 10 cm grid
+    # of some 7,000 entries). The search's moves ended 1.84 % above the grid's
+    # cheapest, a keyed base 1.6 m wide against 2.2 m without a key. A wall up to 1.0 m
+    # with a small grid is searched whole, so the result is the exhaustive reference's.
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3", dimension_step_m=0.1),
+                  loads=Loads(surcharge_kpa=14.0))
+    d = Demand(z_top=65.239617, z_front=64.422006,
+               backfill=Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=30.0,
+                                 slope_deg=9.0),
+               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                     cohesion_kpa=9.0),
+               surcharge_kpa=14.0, water=None, wall_top_m=65.25, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    assert d.h > 0.8 and search.small_grid(grid_for(d, 0.1, basis.design), d.h)
+    sd = bespoke([d], basis, Costing(), 0.1)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1)
+    assert ref is not None and ref.key_depth_m > 0 and ref.base_width_m == pytest.approx(1.6)
+    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+
+
 def test_search_finds_a_thinner_base_on_a_wider_one():
     # A 4.87 m panel of an invented wall over clay (DA1; backfill 20 kN/m3, 31 degrees,
     # a 14 degree slope; base 18 kN/m3, 24 degrees, c' 6 kPa, cu 55 kPa; water 1.5 m
