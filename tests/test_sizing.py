@@ -278,9 +278,11 @@ def test_jumps_reach_across_the_base_and_every_thickness():
         rows = set(map(tuple, got.tolist()))
         for bases, stems, widths in sets:
             for dz, ds, db in itertools.product(bases, stems, widths):
-                for toe in range(0, min((60 + db) // 2, 10 + search.TOE_REACH) + 1):
+                # on a wider base, as many toe lengths longer again as it is wider
+                for toe in range(0, min((60 + db) // 2, 10 + search.TOE_REACH + max(db, 0)) + 1):
                     assert (60 + db, toe, 8 + dz, 7 + ds, 5, 0, 0) in rows, (dz, ds, db, toe)
-        assert np.all(np.abs(got[:, 1] - 10) <= search.TOE_REACH)
+        assert np.all(got[:, 1] >= 10 - search.TOE_REACH)
+        assert np.all(got[:, 1] <= 10 + search.TOE_REACH + np.maximum(got[:, 0] - 60, 0))
     assert (60, 10, 8, 7, 5, 0, 0) not in set(
         map(tuple, search.planes(cur, g, search.BASE_PLANES).tolist()))  # cur itself: no
     # the thickness trades: base and stem base each up to TRADE_REACH steps either way,
@@ -937,6 +939,34 @@ def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
     sd = bespoke([d], basis, Costing(), 0.1)[0]
     ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1)
     assert ref is not None and ref.key_depth_m > 0 and ref.base_width_m == pytest.approx(1.6)
+    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+
+
+def test_search_moves_the_stem_forward_on_a_wider_base():
+    # A 4.51 m panel of an invented wall (DA3; backfill 20.5 kN/m3, 34 degrees, an 8
+    # degree slope; base 20 kN/m3, 31 degrees; surcharge 18 kPa; 5 cm grid). Both its
+    # references' sections, the exhaustive references' of those demands, have a 0.35 m
+    # base with a toe of 1.0 to 1.3 m; the search settled at a toe of 0.8 m, 2.0 % above
+    # a base a step thinner and 0.3 m wider whose toe is 0.9 m longer (the stem moved
+    # forward by more than the added width): beyond the planes' toe window. The window of a wider
+    # base now reaches as many steps further as the base is wider, and the search's
+    # section is the grid's cheapest on base widths 4.35 to 4.6 m.
+    from dataclasses import replace as _replace
+
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"),
+                  loads=Loads(surcharge_kpa=18.0))
+    d = Demand(z_top=63.865815, z_front=59.354463,
+               backfill=Backfill(unit_weight_kn_m3=20.5, friction_angle_deg=34.0,
+                                 slope_deg=8.0),
+               foundation=Foundation(unit_weight_kn_m3=20.0, friction_angle_deg=31.0),
+               surcharge_kpa=18.0, water=None, wall_top_m=63.9, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    g = grid_for(d, 0.05, basis.design)
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=_replace(g, b=(87, 92)),
+                                     widen=False)
+    assert tuple(g.vector_of(ref)) == (89, 34, 6, 6, 5, 0, 0)
     assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
 
 
