@@ -160,21 +160,6 @@ class Grid:
             out.append("toe_hi")
         return tuple(out)
 
-    def holding(self, vectors) -> "Grid":
-        """This grid with its bounds moved out, where needed, to hold the integer
-        candidates ``vectors`` (each (NDIM,), of this lattice): a demand's search starts
-        from its references' sections, and a taller reference's section can lie beyond
-        the demand's own proportional bounds (its grid is larger)."""
-        g = self
-        for v in vectors:
-            v = np.asarray(v, dtype=np.int64)
-            g = replace(g, b=(min(g.b[0], int(v[B])), max(g.b[1], int(v[B]))),
-                        tb=(g.tb[0], max(g.tb[1], int(v[TB]))),
-                        ts=(g.ts[0], max(g.ts[1], int(v[TS]))),
-                        tt=(g.tt[0], max(g.tt[1], int(v[TT]))),
-                        toe_half=g.toe_half and 2 * int(v[TOE]) <= int(v[B]))
-        return g
-
     def widened(self, names) -> "Grid":
         """This grid with the named bounds moved out (half as much again, at least two
         steps; the base-width lower bound down to the least that closes)."""

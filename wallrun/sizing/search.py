@@ -18,8 +18,6 @@ The moves of one demand:
    demands next to it. References are shared by the demands of a call, but a
    demand's references, and so its result, never depend on which other demands were
    designed, before or beside it.
-   A demand's grid holds its starts (:meth:`Grid.holding`: a taller reference's
-   section can lie beyond the demand's own proportional bounds).
 2. A cold search (a reference, or a demand whose seeds find nothing passing): the grid
    at every ``STRIDE``-th value of each dimension, checked in increasing lower bound of
    the cost until its ``SEEDS`` cheapest passing candidates are known
@@ -1150,9 +1148,9 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     # 2. the demands, from their references' best sections
     tasks, starts_of = [], []
     for d in todo:
+        s = Store(grid_for(d, step, basis.design))
         starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
                   if known[reference(d, h)] is not None]
-        s = Store(grid_for(d, step, basis.design).holding(starts))
         starts_of.append(starts)
         tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts, d.h)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
