@@ -246,7 +246,7 @@ BASIN_STEPS = 2
 #: every demand of seven invented walls at a 0.1 m step searched whole (2,190
 #: demands, some eight times the time), only those two changed.
 WHOLE_GRID_H = 1.0
-WHOLE_GRID = 300_000
+WHOLE_GRID = 600_000
 WHOLE_GRID_BATCH = 4_000
 #: Jumps a descent may make.
 MAX_JUMPS = 3
