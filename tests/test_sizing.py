@@ -402,18 +402,19 @@ def test_second_descent_only_where_the_taller_references_section_fails():
 
 
 def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):
-    # a 0.75 m DA3 panel (invented gravel, 10 cm grid) whose taller reference's section
-    # fails here, so a second descent runs: the candidates the first search checked in
-    # full are taken from its record (Store.from_prior); checking them again gives the
-    # same design with more candidates checked
+    # a 5.62 m DA3 panel (invented gravel, 10 cm grid) whose references' sections
+    # differ, so a second descent runs (SECOND_FROM_H): the candidates the first search
+    # checked in full are taken from its record (Store.from_prior); checking them again
+    # gives the same design with more candidates checked
     from wallrun.settings import Loads
     basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"),
                   loads=Loads(surcharge_kpa=20.0))
-    d = Demand(z_top=61.853036, z_front=61.101824,
+    d = Demand(z_top=66.721824, z_front=61.101824,
                backfill=Backfill(unit_weight_kn_m3=20.0, friction_angle_deg=36.0),
                foundation=Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=22.0),
-               surcharge_kpa=20.0, water=None, wall_top_m=61.95, min_founding_depth_m=0.6,
+               surcharge_kpa=20.0, water=None, wall_top_m=66.82, min_founding_depth_m=0.6,
                founding_step_m=0.15)
+    assert d.h >= search.SECOND_FROM_H
     ran = []
     needs = search.needs_second
     monkeypatch.setattr(search, "needs_second",
