@@ -902,6 +902,29 @@ def test_listing_columns_read_as_its_entries_and_pickled_without_them():
     assert CheckListing.of(mixed) is mixed and len(CheckListing.of(())) == 0
 
 
+def _panel(approach: str, q: float, z_top: float, z_front: float, wall_top: float,
+           backfill: Backfill, foundation: Foundation, water: Water | None = None,
+           step: float = 0.05) -> tuple[Basis, Demand]:
+    """(basis, demand) of a panel of an invented wall: the approach's recommended
+    factors, a surcharge q (kPa), the panel's levels (m) and ground, founded at least
+    0.6 m deep in 0.15 m steps, on a grid of ``step`` (m)."""
+    from wallrun.settings import Loads
+    basis = Basis(factors=resolve(approach),
+                  design=Design(approach=approach, dimension_step_m=step),
+                  loads=Loads(surcharge_kpa=q))
+    return basis, Demand(z_top=z_top, z_front=z_front, backfill=backfill,
+                         foundation=foundation, surcharge_kpa=q, water=water,
+                         wall_top_m=wall_top, min_founding_depth_m=0.6, founding_step_m=0.15)
+
+
+def _reference_on_widths(d: Demand, basis: Basis, step: float, widths: tuple[int, int]):
+    """``cheapest_on_grid`` of the demand's grid cut to base widths ``widths`` (steps),
+    its bounds kept: a reference of a tall panel in seconds."""
+    from dataclasses import replace as _replace
+    part = _replace(grid_for(d, step, basis.design), b=widths)
+    return cheapest_on_grid(d, basis, Costing(), step, grid=part, widen=False)
+
+
 def test_search_on_a_low_wall_takes_its_whole_grid():
     # A 0.68 m panel of an invented wall (DA1; backfill 19.5 kN/m3, 31 degrees, a 12
     # degree slope; base 19 kN/m3, 28 degrees, c' 3 kPa; water 0.9 m above the base;
@@ -910,16 +933,11 @@ def test_search_on_a_low_wall_takes_its_whole_grid():
     # so no move crossed between them: the search ended 2.07 % above it. A low wall's
     # whole grid is searched (search.whole_grid_moves), and the result is the
     # exhaustive reference's.
-    from wallrun.settings import Loads
-    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1"),
-                  loads=Loads(surcharge_kpa=10.0))
-    d = Demand(z_top=65.271566, z_front=64.588466,
-               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=31.0,
-                                 slope_deg=12.0),
-               foundation=Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=28.0,
-                                     cohesion_kpa=3.0),
-               surcharge_kpa=10.0, water=Water(height_above_base_m=0.9), wall_top_m=65.4,
-               min_founding_depth_m=0.6, founding_step_m=0.15)
+    basis, d = _panel("DA1", 10.0, 65.271566, 64.588466, 65.4,
+                      Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=31.0, slope_deg=12.0),
+                      Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=28.0,
+                                 cohesion_kpa=3.0),
+                      Water(height_above_base_m=0.9))
     assert search.small_grid(grid_for(d, 0.05, basis.design), d.h)
     sd = bespoke([d], basis, Costing(), 0.05)[0]
     ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
@@ -933,16 +951,10 @@ def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
     # of some 7,000 entries). The search's moves ended 1.84 % above the grid's
     # cheapest, a keyed base 1.6 m wide against 2.2 m without a key. A wall up to 1.0 m
     # with a small grid is searched whole, so the result is the exhaustive reference's.
-    from wallrun.settings import Loads
-    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3", dimension_step_m=0.1),
-                  loads=Loads(surcharge_kpa=14.0))
-    d = Demand(z_top=65.239617, z_front=64.422006,
-               backfill=Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=30.0,
-                                 slope_deg=9.0),
-               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
-                                     cohesion_kpa=9.0),
-               surcharge_kpa=14.0, water=None, wall_top_m=65.25, min_founding_depth_m=0.6,
-               founding_step_m=0.15)
+    basis, d = _panel("DA3", 14.0, 65.239617, 64.422006, 65.25,
+                      Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=30.0, slope_deg=9.0),
+                      Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                 cohesion_kpa=9.0), step=0.1)
     assert d.h > 0.8 and search.small_grid(grid_for(d, 0.1, basis.design), d.h)
     sd = bespoke([d], basis, Costing(), 0.1)[0]
     ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1)
@@ -959,21 +971,12 @@ def test_search_moves_the_stem_forward_on_a_wider_base():
     # forward by more than the added width): beyond the planes' toe window. The window of a wider
     # base now reaches as many steps further as the base is wider, and the search's
     # section is the grid's cheapest on base widths 4.35 to 4.6 m.
-    from dataclasses import replace as _replace
-
-    from wallrun.settings import Loads
-    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"),
-                  loads=Loads(surcharge_kpa=18.0))
-    d = Demand(z_top=63.865815, z_front=59.354463,
-               backfill=Backfill(unit_weight_kn_m3=20.5, friction_angle_deg=34.0,
-                                 slope_deg=8.0),
-               foundation=Foundation(unit_weight_kn_m3=20.0, friction_angle_deg=31.0),
-               surcharge_kpa=18.0, water=None, wall_top_m=63.9, min_founding_depth_m=0.6,
-               founding_step_m=0.15)
+    basis, d = _panel("DA3", 18.0, 63.865815, 59.354463, 63.9,
+                      Backfill(unit_weight_kn_m3=20.5, friction_angle_deg=34.0, slope_deg=8.0),
+                      Foundation(unit_weight_kn_m3=20.0, friction_angle_deg=31.0))
     sd = bespoke([d], basis, Costing(), 0.05)[0]
     g = grid_for(d, 0.05, basis.design)
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=_replace(g, b=(87, 92)),
-                                     widen=False)
+    ref, ref_cost = _reference_on_widths(d, basis, 0.05, (87, 92))
     assert tuple(g.vector_of(ref)) == (89, 34, 6, 6, 5, 0, 0)
     assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
 
@@ -984,26 +987,18 @@ def test_second_descent_between_references_in_different_basins():
     # surcharge 12 kPa; 5 cm grid). The taller reference's section (a 0.65 m base)
     # passes here and the search settled near it at 2,760.9 a metre; the lower
     # reference's base is 0.2 m thinner, and a descent from it reaches a 0.45 to 0.5 m
-    # base at 2,549: the references' sections are BASIN_STEPS or more apart, so the
-    # demand gets the second descent. The grid's cheapest on base widths 6.45 to 6.65 m
-    # (the whole grid's reference takes about a minute) is within 0.5 % of its result.
-    from dataclasses import replace as _replace
-
-    from wallrun.settings import Loads
-    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1"),
-                  loads=Loads(surcharge_kpa=12.0))
-    d = Demand(z_top=64.217253, z_front=60.481476,
-               backfill=Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=29.0,
-                                 slope_deg=16.0),
-               foundation=Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=25.0,
-                                     cohesion_kpa=4.0),
-               surcharge_kpa=12.0, water=Water(height_above_base_m=1.0), wall_top_m=64.35,
-               min_founding_depth_m=0.6, founding_step_m=0.15)
+    # base: the references' sections are BASIN_STEPS or more apart, so the demand gets
+    # the second descent. The whole grid's cheapest (the exhaustive reference, some
+    # minutes) is 2,538.74 at a base 6.6 m wide; on widths 6.45 to 6.65 m the result
+    # is within 0.5 % of the grid's cheapest.
+    basis, d = _panel("DA1", 12.0, 64.217253, 60.481476, 64.35,
+                      Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=29.0, slope_deg=16.0),
+                      Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=25.0,
+                                 cohesion_kpa=4.0),
+                      Water(height_above_base_m=1.0))
     sd = bespoke([d], basis, Costing(), 0.05)[0]
     assert sd.section.base_thickness_m <= 0.5 and sd.cost_per_m < 2600.0
-    g = grid_for(d, 0.05, basis.design)
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=_replace(g, b=(129, 133)),
-                                     widen=False)
+    ref, ref_cost = _reference_on_widths(d, basis, 0.05, (129, 133))
     assert ref is not None and ref_cost <= sd.cost_per_m <= 1.005 * ref_cost
 
 
@@ -1016,20 +1011,12 @@ def test_search_finds_a_thinner_base_on_a_wider_one():
     # thinner on one 0.7 m wider; the whole grid's reference, 10 s, gives it). The
     # planes of a thinner base on a wider one (search.BASE_PLANES) reach it. The
     # reference is taken on base widths 8.0 to 8.2 m.
-    from dataclasses import replace as _replace
-
-    from wallrun.settings import Loads
-    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1", dimension_step_m=0.1),
-                  loads=Loads(surcharge_kpa=8.0))
-    d = Demand(z_top=60.383387, z_front=55.51476,
-               backfill=Backfill(unit_weight_kn_m3=20.0, friction_angle_deg=31.0,
-                                 slope_deg=14.0),
-               foundation=Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
-                                     cohesion_kpa=6.0, undrained_strength_kpa=55.0),
-               surcharge_kpa=8.0, water=Water(height_above_base_m=1.5), wall_top_m=60.45,
-               min_founding_depth_m=0.6, founding_step_m=0.15)
+    basis, d = _panel("DA1", 8.0, 60.383387, 55.51476, 60.45,
+                      Backfill(unit_weight_kn_m3=20.0, friction_angle_deg=31.0, slope_deg=14.0),
+                      Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
+                                 cohesion_kpa=6.0, undrained_strength_kpa=55.0),
+                      Water(height_above_base_m=1.5), step=0.1)
     sd = bespoke([d], basis, Costing(), 0.1)[0]
-    part = _replace(grid_for(d, 0.1, basis.design), b=(80, 82))
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1, grid=part, widen=False)
+    ref, ref_cost = _reference_on_widths(d, basis, 0.1, (80, 82))
     assert ref is not None and ref_cost == pytest.approx(3352.01, abs=0.01)
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
