@@ -17,8 +17,7 @@ The run is invented: a straight fill wall along a road on a gentle grade, a surv
 point every 0.5 m, and a retained height varying smoothly between 0.5 and 7 m (a sum
 of three sines of incommensurate wavelengths, rescaled), levels to the millimetre.
 It is designed in the default section mode of ``[design]``, in a process tuned as the
-command line tunes its own (``cli.tune_process``: the allocator and the garbage
-collector).
+command line tunes its own (``cli.tune_process``: the garbage collector).
 
 Reported: the time of each stage (the pipeline's ``result.timings`` plus output
 writing), the peak memory of the process, the candidates checked by the search and

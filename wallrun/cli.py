@@ -22,32 +22,6 @@ from wallrun.errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_FLAGGED = 0, 1, 2, 3
 
-#: glibc malloc thresholds set by :func:`tune_allocator`, bytes: blocks up to 32 MB from
-#: the heap (not mmap), 512 MB of free heap kept, the heap grown 64 MB at a time.
-MALLOC_SETTINGS = ((-3, 32 * 1024 * 1024), (-1, 512 * 1024 * 1024), (-2, 64 * 1024 * 1024))
-
-
-def tune_allocator() -> bool:
-    """Keep the large numpy temporaries of the search in the heap: glibc's malloc gives
-    blocks above its mmap threshold (128 kB at first) back to the kernel on free, so
-    every such temporary paid page faults (a third of the search time when its batches
-    were larger; on 2026-12-02, seven alternating pairs of 10 km designs: sizing 6.50 s
-    mean with the setting, 6.75 s without, writing unchanged). mallopt
-    M_MMAP_THRESHOLD (-3), M_TRIM_THRESHOLD (-1) and M_TOP_PAD (-2) of <malloc.h>
-    change where freed memory waits, never a result. A process setting, so the command
-    line's (and the benchmark's) only, never the library's. True where it took (glibc)."""
-    import ctypes
-    import ctypes.util
-    if not sys.platform.startswith("linux"):
-        return False
-    try:
-        mallopt = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6").mallopt
-    except (OSError, AttributeError):  # not glibc (musl has no mallopt)
-        return False
-    mallopt.argtypes = [ctypes.c_int, ctypes.c_int]
-    return all(mallopt(param, value) == 1 for param, value in MALLOC_SETTINGS)
-
-
 #: Thresholds of Python's cyclic garbage collector set by :func:`tune_collector`: a
 #: young collection after 50,000 net allocations of container objects (700 by default),
 #: an older one after 20 of the generation below (10 by default).
@@ -89,9 +63,8 @@ def result_frozen():
 
 
 def tune_process() -> None:
-    """The command line's process settings: :func:`tune_allocator` and
-    :func:`tune_collector` (for this process and each ``--jobs`` worker)."""
-    tune_allocator()
+    """The command line's process settings: :func:`tune_collector` (for this process
+    and each ``--jobs`` worker). The C allocator is left as it is."""
     tune_collector()
 
 
@@ -396,7 +369,7 @@ def worker_pool(jobs: int):
     too (it searches a part of the sections itself and writes the outputs that are not
     drawings); None for one process. The command line owns it; the library only hands
     it work (``pipeline.design(executor=..., parts=jobs)``, ``write_outputs(executor=...)``).
-    The workers start at once (:class:`WorkerPool`): each tunes its allocator and
+    The workers start at once (:class:`WorkerPool`): each tunes its
     collector as this process does and imports the search (:func:`start_worker`), and,
     once it has been handed its first task, imports the drawing writers."""
     if jobs <= 1:
