@@ -495,6 +495,32 @@ def test_descent_weighs_overstress_while_nothing_passes():
         assert np.all(small == want), (w, small[0])
 
 
+def test_descent_goes_on_by_utilization_where_the_weighed_move_settles():
+    # invented results: the start fails by 2 % at a low cost, a dear section one step
+    # wider by 0.5 %, the rest by 50 %; weighed (cost x (1 + 5 (u - 1))) the start is the
+    # least, so the weighed move settles there with nothing passing, and the descent
+    # goes on by the utilization alone, to the wider one (before, it ended there)
+    g = grid_for(demand(3.0), 0.05)
+    start = np.array([60, 10, 8, 7, 5, 0, 0])
+    wider = start + [1, 0, 0, 0, 0, 0, 0]
+    st = search.Store(g)
+    gen = search.descent(st, start, polish=False, max_jumps=0, toe_line=False,
+                         overstress=search.OVERSTRESS_WEIGHT)
+    centres = []
+    for cand in itertools.islice(gen, 12):
+        small = cand[:len(search._SMALL)] - search._SMALL
+        if np.all(small == small[0]):
+            centres.append(small[0])
+        v, c = st.fresh(cand)
+        cost, util = np.full(len(v), 1000.0), np.full(len(v), 1.5)
+        for w, cw, uw in ((start, 900.0, 1.02), (wider, 1300.0, 1.005)):
+            i = np.flatnonzero(np.all(v == w, axis=1))
+            cost[i], util[i] = cw, uw
+        st.commit(v, c, np.zeros(len(v), bool), cost, util)
+    assert any(np.array_equal(x, start) for x in centres)
+    assert any(np.array_equal(x, wider) for x in centres), centres
+
+
 # --- the lower bound of the cost ---------------------------------------------------------
 
 def test_steel_floor_by_hand():
