@@ -298,11 +298,14 @@ def test_jumps_reach_across_the_base_and_every_thickness():
         (60 - k, toe, 8, 7, 5, 0, 0) for k in search.NARROWER
         for toe in range(8, 10 + search.TOE_REACH + 1) if toe <= g.axes()[1][-1]}
     # the heel lines: base width and toe together up to HEEL_REACH steps either way,
-    # the base a step thinner, as cur's or a step thicker
+    # the base a step thinner, as cur's or a step thicker; and up to HEEL_TOP_REACH
+    # steps with the stem top one or two steps thicker
     t = search.heel_lines(cur)
     assert set(map(tuple, t.tolist())) == {
         (60 + k, 10 + k, 8 + dz, 7, 5, 0, 0)
-        for k in range(-search.HEEL_REACH, search.HEEL_REACH + 1) for dz in (-1, 0, 1)}
+        for k in range(-search.HEEL_REACH, search.HEEL_REACH + 1) for dz in (-1, 0, 1)} | {
+        (60 + k, 10 + k, 8, 7, 5 + dt, 0, 0)
+        for k in range(-search.HEEL_TOP_REACH, search.HEEL_TOP_REACH + 1) for dt in (1, 2)}
     # the stem shifts: stem base, toe, base width and base thickness each up to
     # SHIFT_REACH steps either way, the stem top as cur's
     t = search.stem_shifts(cur)
@@ -519,6 +522,30 @@ def test_descent_goes_on_by_utilization_where_the_weighed_move_settles():
         st.commit(v, c, np.zeros(len(v), bool), cost, util)
     assert any(np.array_equal(x, start) for x in centres)
     assert any(np.array_equal(x, wider) for x in centres), centres
+
+
+def test_settle_moves_widen_a_bound_the_planes_best_sits_on():
+    # invented results: every section passes and a thicker stem top is cheaper, so every
+    # best sits on the stem top's bound (0.30 m). The planes alone leave that bound where
+    # it is (only a descent's best was widened, before the planes); settle_moves moves it.
+    g = grid_for(demand(3.0), 0.05)
+    cur = np.array([60, 10, 8, 7, g.tt[1], 0, 0])
+
+    def commit(st, v):
+        v, c = st.fresh(v)
+        cost = 1000.0 + v[:, search.B] + v[:, search.TB] + v[:, search.TS] - 5.0 * v[:, search.TT]
+        st.commit(v, c, np.ones(len(v), dtype=bool), cost, np.full(len(v), 0.9))
+
+    def run(moves):
+        st = search.Store(g)
+        commit(st, cur[None, :])
+        for ask in moves(st):
+            commit(st, ask.v)
+        return st
+
+    assert run(search.plane_moves).grid.tt == g.tt
+    st = run(search.settle_moves)
+    assert st.grid.tt[1] > g.tt[1] and st.best_vector()[search.TT] > g.tt[1]
 
 
 # --- the lower bound of the cost ---------------------------------------------------------
