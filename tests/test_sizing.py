@@ -1029,6 +1029,17 @@ def test_search_moves_the_stem_top_bound_the_planes_best_sits_on():
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def _whole_grid_reaches_keyed_reference(basis: Basis, d: Demand, step: float) -> Section:
+    """Assert that the low panel ``d`` is searched whole and its design costs what the
+    exhaustive reference's keyed section costs; that section."""
+    assert search.small_grid(grid_for(d, step, basis.design), d.h)
+    sd = bespoke([d], basis, Costing(), step)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), step)
+    assert ref is not None and ref.key_depth_m > 0
+    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+    return ref
+
+
 def test_search_on_a_low_wall_takes_its_whole_grid():
     # A 0.68 m panel of an invented wall (DA1; backfill 19.5 kN/m3, 31 degrees, a 12
     # degree slope; base 19 kN/m3, 28 degrees, c' 3 kPa; water 0.9 m above the base;
@@ -1042,11 +1053,7 @@ def test_search_on_a_low_wall_takes_its_whole_grid():
                       Foundation(unit_weight_kn_m3=19.0, friction_angle_deg=28.0,
                                  cohesion_kpa=3.0),
                       Water(height_above_base_m=0.9))
-    assert search.small_grid(grid_for(d, 0.05, basis.design), d.h)
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
-    assert ref is not None and ref.key_depth_m > 0
-    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+    _whole_grid_reaches_keyed_reference(basis, d, 0.05)
 
 
 def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
@@ -1059,11 +1066,9 @@ def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
                       Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=30.0, slope_deg=9.0),
                       Foundation(unit_weight_kn_m3=18.0, friction_angle_deg=24.0,
                                  cohesion_kpa=9.0), step=0.1)
-    assert d.h > 0.8 and search.small_grid(grid_for(d, 0.1, basis.design), d.h)
-    sd = bespoke([d], basis, Costing(), 0.1)[0]
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1)
-    assert ref is not None and ref.key_depth_m > 0 and ref.base_width_m == pytest.approx(1.6)
-    assert sd.cost_per_m == pytest.approx(ref_cost, rel=1e-9), (sd.cost_per_m, ref_cost)
+    assert d.h > 0.8
+    ref = _whole_grid_reaches_keyed_reference(basis, d, 0.1)
+    assert ref.base_width_m == pytest.approx(1.6)
 
 
 def test_search_moves_the_stem_forward_on_a_wider_base():

@@ -712,13 +712,18 @@ def plane_moves(store: Store):
 
 
 def settle_moves(store: Store):
-    """The planes about the best (:func:`plane_moves`), then, while the best they lead to
-    sits on a bound a wider grid could move, the widening (:func:`widen_moves`) and the
-    planes again. Without it a best the planes found on a bound stayed inside it (only
-    a descent's best was widened, before the planes): on an invented DA3 wall (an 18
-    degree slope over cu 70 kPa) 6.1 m panels ended 2 % above a stem top a step thicker
-    than its bound (0.30 m: the top carries no moment)."""
+    """The planes about the best (:func:`plane_moves`), then :func:`rebound_moves`."""
     yield from plane_moves(store)
+    yield from rebound_moves(store)
+
+
+def rebound_moves(store: Store):
+    """While the best sits on a bound a wider grid could move: the widening
+    (:func:`widen_moves`) and the planes about the best again (at most ``MAX_WIDEN``
+    rounds). Without it a best the planes or a second descent found on a bound stayed
+    inside it (only a descent's best was widened, before the planes): on an invented
+    DA3 wall (an 18 degree slope over cu 70 kPa) 6.1 m panels ended 2 % above a stem
+    top a step thicker than its bound (0.30 m: the top carries no moment)."""
     for _ in range(MAX_WIDEN):
         grid = store.grid
         yield from widen_moves(store)
@@ -864,10 +869,10 @@ def lattice_neighbours(ref: Demand) -> tuple[Demand, ...]:
     return tuple(reference(ref, h) for h in hs if h > 1e-9)
 
 
-def apart(a: np.ndarray, b: np.ndarray) -> bool:
-    """Whether the integer candidates ``a`` and ``b`` differ by ``NEIGHBOUR_APART`` or
-    more steps in base width, toe, base thickness, stem base or stem top."""
-    return int(np.max(np.abs(a[:KD] - b[:KD]))) >= NEIGHBOUR_APART
+def steps_apart(a: np.ndarray, b: np.ndarray, dims) -> int:
+    """The most steps by which the integer candidates ``a`` and ``b`` differ in the
+    entries ``dims``."""
+    return int(np.max(np.abs(a[dims] - b[dims])))
 
 
 def neighbour_moves(store: Store, start):
@@ -946,8 +951,8 @@ def needs_second(store: Store, starts, h: float = 0.0) -> bool:
     tall one, can settle in a dearer optimum from one start than from the other."""
     if len(starts) < 2 or store.best() is None or np.array_equal(starts[0], starts[1]):
         return False
-    apart = np.max(np.abs(starts[0][[TB, TS]] - starts[1][[TB, TS]])) >= BASIN_STEPS
-    return h >= SECOND_FROM_H or apart or not store.passes(starts[0])
+    basins = steps_apart(starts[0], starts[1], [TB, TS]) >= BASIN_STEPS
+    return h >= SECOND_FROM_H or basins or not store.passes(starts[0])
 
 
 def second_moves(store: Store, start):
@@ -958,17 +963,13 @@ def second_moves(store: Store, start):
     (:meth:`Store.absorb`), so it can only make the result cheaper. On the invented
     tall wall over undrained clay (``benchmarks/sites/tall-clay``) one panel ended
     0.95 % above the grid's cheapest without it and at the cheapest with it. Where it
-    finds a better section on a bound a wider grid could move, the bound moves and the
-    search settles there (:func:`settle_moves`)."""
+    finds a better section on a bound a wider grid could move, the bound moves
+    (:func:`rebound_moves`)."""
     for cand in descent(store, start, polish=False, max_jumps=0, toe_line=False,
                         overstress=OVERSTRESS_WEIGHT):
         yield Ask(cand)
-    # a better best on a bound: the widening, then the planes (:func:`settle_moves`)
-    if store.best_cost() < store.cap - 1e-9:
-        grid = store.grid
-        yield from widen_moves(store)
-        if store.grid is not grid:
-            yield from settle_moves(store)
+    if store.best_cost() < store.cap - 1e-9:  # a better best: on a bound, widened
+        yield from rebound_moves(store)
 
 
 # --- the driver: many searches in lockstep -------------------------------------------------
@@ -1251,7 +1252,8 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     for r in refs:
         t = ref_tasks[r]
         for n in lattice_neighbours(r):
-            if cold[r] is None or cold[n] is None or not apart(cold[n], cold[r]):
+            if (cold[r] is None or cold[n] is None
+                    or steps_apart(cold[n], cold[r], [B, TOE, TB, TS, TT]) < NEIGHBOUR_APART):
                 continue
             s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store)
             again.append((t, _Task(r, s2, neighbour_moves(s2, cold[n]))))
