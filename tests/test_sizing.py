@@ -73,6 +73,19 @@ def test_grid_candidates_close_and_codes_are_unique():
     assert np.array_equal(g.vector_of(s.take(i)), v[i])
 
 
+def test_validity_of_entries_beyond_32_bits():
+    # valid_rows reads int32 columns: an entry 2**32 away from a valid one (which a
+    # plain cast would wrap onto it) or beyond the int32 range never passes
+    g = grid_for(demand(2.5), 0.1)
+    v = g.every()[::97]
+    assert g.valid(v).all()
+    for k in range(NDIM):
+        for shift in (2 ** 32, -2 ** 32, 2 ** 31, -2 ** 31 - 1, 2 ** 40):
+            w = v.copy()
+            w[:, k] += shift
+            assert not g.valid(w).any(), (k, shift)
+
+
 def test_grid_bounds_move_where_the_best_sits_on_them():
     g = grid_for(demand(2.5), 0.05)
     top = np.array([g.b[1], 0, g.tb[1], g.ts[1], g.tt[1], 0, 0])

@@ -406,6 +406,18 @@ def test_shared_stems_give_each_candidate_its_own_design(seed):
         assert res.steel_kg_per_m[i] == one.steel_kg_per_m[0]
 
 
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.one_of(st.integers(-3000, 3000).map(float),
+                          st.sampled_from([0.1, 12.5, 350.00000000000006, 1e12, -0.0])),
+                min_size=1, max_size=40))
+def test_distinct_values_are_those_of_numpy_unique(xs):
+    # whole numbers in a short span are counted in a table: the result is np.unique's
+    u, inv = structure.distinct_values(np.array(xs))
+    ref_u, ref_inv = np.unique(np.array(xs), return_inverse=True)
+    assert u.dtype == ref_u.dtype and np.array_equal(u, ref_u)
+    assert np.array_equal(inv, ref_inv.reshape(-1))
+
+
 def test_distinct_rows():
     a = np.array([1.0, 2.0, 1.0, np.nan, 2.0, np.nan])
     b = np.array([5.0, 5.0, 5.0, 1.0, 6.0, 1.0])

@@ -584,6 +584,27 @@ def _full(x, n: int) -> np.ndarray:
     return np.broadcast_to(np.asarray(x, dtype=float), (n,))
 
 
+#: Widest span of whole numbers :func:`distinct_values` counts in a table.
+TABLE_SPAN = 1 << 16
+
+
+def distinct_values(x) -> tuple[np.ndarray, np.ndarray]:
+    """``np.unique(x, return_inverse=True)`` of a float array, (distinct values in
+    increasing order, (m,); the index of every entry among them, (n,)). Where every
+    value is a whole number within ``TABLE_SPAN`` (a grid's thicknesses in mm), they
+    are counted in a table instead of sorted: the same two arrays in O(n)."""
+    x = np.asarray(x, dtype=float).reshape(-1)
+    if len(x) and np.all(np.isfinite(x)) and np.ptp(x) < TABLE_SPAN:
+        k = x.astype(np.int64)
+        if np.array_equal(k, x):
+            k -= k.min()
+            present = np.zeros(int(k.max()) + 1, dtype=bool)
+            present[k] = True
+            rank = np.cumsum(present) - 1
+            return np.flatnonzero(present) + x.min(), rank[k]
+    return np.unique(x, return_inverse=True)
+
+
 def distinct_rows(*columns: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The distinct rows of equal-length columns (exact equality of the values; nan is
     never equal): (index of the first row of each distinct one, (m,); the distinct
@@ -1121,7 +1142,7 @@ def steel_mass_floor(sec: SectionArrays, stem_height_m, basis: Basis) -> np.ndar
     dist = _distribution_need(heel, toe)
     if basis.design.restraint_steel:
         def least(h):  # per distinct thickness (a grid has few), then spread
-            u, inv = np.unique(h, return_inverse=True)
+            u, inv = distinct_values(h)
             r = np.min(restraint_need(sizes[None, :], u[:, None], basis), axis=1)
             return np.nan_to_num(r, posinf=0.0)[inv.reshape(-1)]
         hor = np.maximum(hor, least(t_stem))

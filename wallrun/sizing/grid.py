@@ -182,6 +182,9 @@ class Grid:
         return g
 
 
+_I32 = np.iinfo(np.int32)
+
+
 def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
                key_widths: tuple) -> np.ndarray:
     """Mask of integer candidates (m, NDIM) of one lattice (``step``, key options)
@@ -190,9 +193,13 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     ``toe_half``, a bool or (m,)), a heel of at least one step, the stem top no thicker
     than the stem base and the base no thinner, a key of a listed depth and width that
     fits under the base behind the toe."""
-    # columns made contiguous first: every test below reads whole columns
-    b, toe, tb, ts, tt, kd, kw = np.ascontiguousarray(np.asarray(v, dtype=np.int64).T)
-    lo, hi = (np.ascontiguousarray(np.asarray(x).T) for x in (lo, hi))
+    # contiguous int32 columns first (every test below reads whole columns; int32
+    # halves the memory they read): entries beyond its range are held at its ends,
+    # where the tests fail them as they fail the entries themselves
+    cols = np.empty((NDIM, len(v)), dtype=np.int32)
+    np.clip(np.asarray(v, dtype=np.int64).T, _I32.min, _I32.max, out=cols, casting="unsafe")
+    b, toe, tb, ts, tt, kd, kw = cols
+    lo, hi = (np.asarray(x, dtype=np.int32).T for x in (lo, hi))
     ok = (b >= lo[0]) & (b <= hi[0]) & (tb >= lo[1]) & (tb <= hi[1])
     ok &= (ts >= lo[2]) & (ts <= hi[2]) & (tt >= lo[3]) & (tt <= hi[3])
     ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)

@@ -461,7 +461,8 @@ def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarr
             j += 1
         # each store's bounds as columns (4, stores), taken per row as (4, m) and
         # handed over as its (m, 4) view (valid_rows reads them by column)
-        lo, hi = (np.array(x).T for x in zip(*(st.grid.bounds() for st in stores[k:j])))
+        lo, hi = (np.array(x, dtype=np.int32).T
+                  for x in zip(*(st.grid.bounds() for st in stores[k:j])))
         half = np.array([st.grid.toe_half for st in stores[k:j]])
         rows = slice(start[k], start[j])
         r = tid[rows] - k
