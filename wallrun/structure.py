@@ -600,8 +600,10 @@ def distinct_values(x) -> tuple[np.ndarray, np.ndarray]:
             k -= k.min()
             present = np.zeros(int(k.max()) + 1, dtype=bool)
             present[k] = True
-            rank = np.cumsum(present) - 1
-            return np.flatnonzero(present) + x.min(), rank[k]
+            rank = np.cumsum(present)[k] - 1
+            u = np.empty(int(rank.max()) + 1)
+            u[rank] = x  # each distinct value, as given
+            return u, rank
     return np.unique(x, return_inverse=True)
 
 
