@@ -32,11 +32,13 @@ PARALLEL_FROM = 48
 #: worker's part. A worker starts its part later (its process and imports, about
 #: 0.3 s) and its designs come back pickled (about 0.2 s at 10 km); this process, after
 #: its part, loads the integer program's solver in rationalised mode and runs the
-#: caller's ``meanwhile`` (the command line's writers: together about 0.8 s). At 10 km
-#: with ``--jobs 2`` and the writers loaded, four alternating pairs each: 0.85 against
-#: 1.0, 8.0 to 8.3 s end to end against 8.3 to 9.5 s (0.85 sooner in every pair); 0.75
-#: no better than 0.85. The results do not depend on it.
-FIRST_PART = 0.85
+#: caller's ``meanwhile`` (the command line's writers: together about 0.95 s in a new
+#: process). At 10 km with ``--jobs 2``, each run a new process, four alternating pairs:
+#: with 0.85 the worker's part ended 0.33 to 0.96 s (mean 0.69 s) before this process
+#: was ready for it, with 0.75 0.18 to 1.03 s (mean 0.44 s) after; 0.8 lies between.
+#: (0.85 was chosen on runs in one process, which had loaded the writers before.)
+#: The results do not depend on it.
+FIRST_PART = 0.8
 
 
 class Sizer:
