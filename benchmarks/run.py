@@ -242,7 +242,10 @@ def run_fresh(km: float, write: bool = True, gap: int = 0, jobs: int = 1,
     cmd = [sys.executable, os.path.abspath(__file__), "--one", "--km", repr(km),
            "--jobs", str(jobs), "--gap", str(gap)] + (
         [] if write else ["--no-write"]) + ([] if measure else ["--no-measure"])
-    done = subprocess.run(cmd, check=True, capture_output=True, text=True)
+    done = subprocess.run(cmd, capture_output=True, text=True)
+    if done.returncode != 0:  # the run's own error, not only its command line
+        sys.stderr.write(done.stderr)
+        raise SystemExit(f"benchmark: the run of {km:g} km failed (exit {done.returncode})")
     return json.loads(done.stdout)
 
 
@@ -373,6 +376,8 @@ def main(argv=None) -> int:
         ap.error(f"--jobs {a.jobs}: give 1 or more")
     if a.repeat < 1:
         ap.error(f"--repeat {a.repeat}: give 1 or more")
+    if any(not km > 0 for km in a.km):
+        ap.error(f"--km {' '.join(f'{k:g}' for k in a.km)}: give lengths above 0")
     if a.one:  # one run, in this new process (run_fresh): its figures as JSON
         from wallrun.cli import tune_process
         tune_process()  # as the command line does (its process settings, not the library's)
