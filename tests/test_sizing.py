@@ -86,6 +86,62 @@ def test_validity_of_entries_beyond_32_bits():
             assert not g.valid(w).any(), (k, shift)
 
 
+def _valid_plain(g, v) -> bool:
+    """The grid's closure rules for one integer candidate, read one by one from
+    ``Grid``'s docstring (the plain reference of ``grid.valid_rows``)."""
+    b, toe, tb, ts, tt, kd, kw = (int(x) for x in v)
+    if not (g.b[0] <= b <= g.b[1] and g.tb[0] <= tb <= g.tb[1] and g.ts[0] <= ts <= g.ts[1]
+            and g.tt[0] <= tt <= g.tt[1]):
+        return False
+    if toe < 0 or tt > ts or tb < ts or b - toe - ts < 1 or (g.toe_half and 2 * toe > b):
+        return False
+    if kd == 0:
+        return kw == 0
+    if not (0 < kd <= len(g.key_depths)) or not (0 <= kw < max(len(g.key_widths), 1)):
+        return False
+    w = g.key_widths[kw] if g.key_widths else 0.0
+    return toe * g.step + w <= b * g.step + 1e-9
+
+
+def test_validity_is_that_of_the_rules_one_by_one():
+    # random vectors about a grid with keys (keyed ones among them) against the rules
+    # read one at a time
+    rng = np.random.default_rng(5)
+    for toe_half in (False, True):
+        g = grid_for(demand(2.5), 0.1)
+        g = type(g)(**{**g.__dict__, "toe_half": toe_half,
+                       "key_depths": (0.3, 0.45), "key_widths": (0.3, 0.5)})
+        lo = np.array([g.b[0] - 2, -2, g.tb[0] - 2, g.ts[0] - 2, g.tt[0] - 2, -1, -1])
+        hi = np.array([g.b[1] + 2, g.b[1], g.tb[1] + 2, g.ts[1] + 2, g.tt[1] + 2, 3, 3])
+        near = g.every(2)  # valid ones, one entry moved by -2..2, keys drawn anew
+        near = near[rng.integers(0, len(near), 6000)]
+        near[np.arange(len(near)), rng.integers(0, 5, len(near))] += rng.integers(-2, 3, len(near))
+        near[:, 5:] = rng.integers(-1, 4, size=(len(near), 2))
+        v = np.vstack([rng.integers(lo, hi + 1, size=(6000, NDIM)), near])
+        want = np.array([_valid_plain(g, x) for x in v])
+        assert want.sum() > 50 and (want & (v[:, 5] > 0)).sum() > 20
+        assert np.array_equal(g.valid(v), want)
+
+
+def test_every_candidate_comes_once_in_code_order():
+    # Grid.every gives codes increasing, as Store.unchecked takes them; on a store
+    # holding some of them, unchecked equals fresh
+    g = grid_for(demand(2.5), 0.1)
+    for stride in (1, 3, g.coarse_strides((17, 8, 5, 5, 2))):
+        v = g.every(stride)
+        assert np.all(np.diff(codes(v)) > 0)
+        st = search.Store(g)
+        for a, b in zip(st.unchecked(v), st.fresh(v)):
+            assert np.array_equal(a, b)
+        some = v[::7]
+        c = codes(some)
+        st.commit(some, c, np.zeros(len(c), dtype=bool), np.full(len(c), np.nan),
+                  np.ones(len(c)))
+        for a, b in zip(st.unchecked(v), st.fresh(v)):
+            assert np.array_equal(a, b)
+        assert len(st.unchecked(v)[0]) == len(v) - len(some)
+
+
 def test_grid_bounds_move_where_the_best_sits_on_them():
     g = grid_for(demand(2.5), 0.05)
     top = np.array([g.b[1], 0, g.tb[1], g.ts[1], g.tt[1], 0, 0])

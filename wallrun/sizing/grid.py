@@ -107,7 +107,8 @@ class Grid:
     def every(self, stride: int | tuple[int, ...] = 1) -> np.ndarray:
         """Every valid candidate, taking each ``stride``-th value of the five dimension
         entries (one stride, or one per entry; the last value of each always included),
-        (m, NDIM)."""
+        (m, NDIM), once each in increasing :func:`codes` (the entries in increasing
+        order, the first outermost, as the codes pack them)."""
         strides = (stride,) * KD if isinstance(stride, int) else tuple(stride)
         axes = []
         for k, a in enumerate(self.axes()):
@@ -207,9 +208,10 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     ok &= b - toe - ts >= 1  # a heel of at least one step
     ok &= (kd >= 0) & (kd <= len(key_depths)) & (kw >= 0)
     ok &= np.where(kd > 0, kw < max(len(key_widths), 1), kw == 0)
-    if key_widths:
-        w = np.asarray(key_widths)[np.clip(kw, 0, len(key_widths) - 1)]
-        ok &= (kd == 0) | (toe * step + w <= b * step + 1e-9)
+    keyed = np.flatnonzero(ok & (kd > 0))  # (few rows have a key)
+    if key_widths and len(keyed):
+        w = np.asarray(key_widths)[kw[keyed]]
+        ok[keyed] = toe[keyed] * step + w <= b[keyed] * step + 1e-9
     return ok
 
 

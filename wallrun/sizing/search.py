@@ -398,6 +398,17 @@ class Store:
         their codes (:func:`fresh_many` of this store alone)."""
         return fresh_many([self], [v])[0]
 
+    def unchecked(self, v) -> tuple[np.ndarray, np.ndarray]:
+        """Of the grid's own candidates ``v`` (valid, once each, in code order: what
+        ``Grid.every`` gives), those not checked yet, and their codes: :meth:`fresh` of
+        such candidates, without its validity test and sort."""
+        v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+        c = codes(v)
+        if len(self.codes):
+            new = ~self.known(c)
+            v, c = v[new], c[new]
+        return v, c
+
     def known(self, c: np.ndarray) -> np.ndarray:
         """Mask of the codes ``c`` checked already."""
         s = self.codes
@@ -414,7 +425,11 @@ class Store:
                             np.asarray(util, dtype=float)))
         self._joined = None
         self._n += len(ok)
-        self.codes = np.insert(self.codes, np.searchsorted(self.codes, c), c)
+        # two sorted runs merged (a stable sort finds and merges the runs): the same
+        # array as inserting c at its places, a quarter of the time on a store's sizes
+        merged = np.concatenate((self.codes, np.asarray(c, dtype=np.int64)))
+        merged.sort(kind="stable")
+        self.codes = merged
         if np.any(ok):
             idx = np.flatnonzero(ok)
             j = int(idx[np.lexsort((util[idx], cost[idx]))[0]])
@@ -843,7 +858,7 @@ class Request:
 def cold_moves(store: Store, lower_bound):
     """A cold start: the coarse grid best-first, then a descent from each of its
     ``SEEDS`` cheapest passing (or least utilised) candidates."""
-    v, _ = store.fresh(store.grid.every(store.grid.coarse_strides(COARSE)))
+    v, _ = store.unchecked(store.grid.every(store.grid.coarse_strides(COARSE)))
     if len(v):
         for part in best_first(store, v, lower_bound(v), SEEDS):
             yield Ask(part, prune=False)
@@ -935,7 +950,7 @@ def whole_grid_moves(store: Store, lower_bound):
     candidate left has a lower bound at or above a cost found, so the search's result
     is the cheapest of the grid on these bounds (:func:`cheapest_on_grid` also moves a
     bound the cheapest sits on). For a small grid (:func:`small_grid`) only."""
-    v, _ = store.fresh(store.grid.every())
+    v, _ = store.unchecked(store.grid.every())
     if len(v):
         for part in best_first(store, v, lower_bound(v), 1, WHOLE_GRID_BATCH):
             yield Ask(part)
