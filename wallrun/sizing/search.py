@@ -625,13 +625,15 @@ def _planes(cur, grid: Grid, offsets, shorter: int | None = None) -> np.ndarray:
     wider = np.maximum(offs[:, 2], 0)  # the window's extra toe lengths, per offset
     toes = grid.axes()[TOE]
     toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + TOE_REACH + wider.max())]
-    n = len(toes)
-    o = np.repeat(cur[None, :], len(offs) * n, axis=0)
-    o[:, (TB, TS, B)] += np.repeat(offs, n, axis=0)
-    o[:, TOE] = np.tile(toes, len(offs))
-    keep = o[:, TOE] <= cur[TOE] + TOE_REACH + np.repeat(wider, n)
+    # (offset, toe, entry): the offsets outermost, as the rows are returned
+    o = np.empty((len(offs), len(toes), NDIM), dtype=np.int64)
+    o[...] = cur
+    for j, k in enumerate((TB, TS, B)):
+        o[:, :, k] += offs[:, j, None]
+    o[:, :, TOE] = toes[None, :]
+    keep = toes[None, :] <= cur[TOE] + TOE_REACH + wider[:, None]
     if grid.toe_half:
-        keep &= o[:, TOE] <= (cur[B] + np.repeat(widest, n)) // 2
+        keep &= toes[None, :] <= (cur[B] + widest[:, None]) // 2
     return o[keep]
 
 
