@@ -471,6 +471,13 @@ def test_second_descent_only_where_the_taller_references_section_fails():
         far[dim] -= k
         near[dim] -= k - 1
         assert search.needs_second(st, [s1, far]) and not search.needs_second(st, [s1, near])
+    # or toe length or base width BASIN_SHIFT_STEPS apart (the stem elsewhere on the base)
+    k = search.BASIN_SHIFT_STEPS
+    for dim in (0, 1):
+        far, near = s1.copy(), s1.copy()
+        far[dim] += k
+        near[dim] += k - 1
+        assert search.needs_second(st, [s1, far]) and not search.needs_second(st, [s1, near])
 
 
 def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):

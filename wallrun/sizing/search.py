@@ -163,13 +163,16 @@ TOE_LINES = (((-2,), (-1, 0, 1), (0, 2, 4)),)
 #: known. The last (a base two steps thicker with the stem as it is or a step thinner,
 #: on the same width) took four panels of 4.8 to 4.9 m on two walls from 0.55 to 0.71 %
 #: above the best known to it (a toe two to ten steps longer; about 2.6 % more
-#: candidates at 10 km).
+#: candidates at 10 km). On a wall drawn later (DA2, a 16 degree slope, water 1.4 m,
+#: cu 77 kPa) three 4.1 m panels ended 0.7 to 0.9 % above a base one or two steps
+#: thinner on one eleven or twelve wider: the sixth set's widths reach 12 steps since
+#: (about 1.9 % more candidates at 10 km).
 BASE_PLANES = (((-4, -3, -2, -1, 0, 1, 2, 3), (0,), (-1, 1)),
                ((-2, -1, 0, 1), (0,), (-2, 2)),
                ((-2, -1, 0), (0,), (-3, 3)),
                ((-1, 1), (-3, -2, 2, 3), (0,)),
                ((2,), (-2,), (-1, 0)),
-               ((-3, -2, -1), (0,), (2, 3, 4, 5, 6, 7, 8, 9, 10)),
+               ((-3, -2, -1), (0,), (2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12)),
                ((1,), (0,), (-4, -3, -2)),
                ((2,), (-1, 0), (0,)))
 #: Steps narrower of :func:`narrower_lines`: on four invented walls tall panels of 6.3
@@ -263,6 +266,15 @@ SECOND_FROM_H = 5.5
 #: benchmark's 10 km wall meets it; on 29 other invented walls it checks up to 2 %
 #: more candidates, on this one 11 %.
 BASIN_STEPS = 2
+#: Steps of toe length or base width by which the two references' sections must differ
+#: for the same (the stem stands elsewhere on the base). On an invented DA3 wall under
+#: a 20 degree slope (phi' 36 degrees) over a base of 22 degrees (bases near 2 H wide)
+#: fourteen panels of 2.9 to 6.3 m settled 0.7 to 3.8 % above a base up to 0.8 m
+#: narrower with the toe gone and one step thicker, reached from the lower reference's
+#: section; with it they are at the best section known (a search with every demand's
+#: second descent). From 12 steps the same fourteen, from 20 only six; 10 checks about
+#: 0.6 % more candidates at 10 km.
+BASIN_SHIFT_STEPS = 10
 #: Low walls searched whole after the moves (:func:`whole_grid_moves`): retained height
 #: (m) and largest grid (the product of its axes' lengths; about a third of it valid),
 #: and the batch the candidates are checked in. A low wall's cheapest section can have
@@ -963,13 +975,15 @@ def needs_second(store: Store, starts, h: float = 0.0) -> bool:
     a passing section, the lower reference's section is another one than the taller's,
     and either the taller reference's section, its first start, does not pass here, or
     the two sections' base or stem thicknesses differ by ``BASIN_STEPS`` or more, or
-    the retained height ``h`` (m) is at least ``SECOND_FROM_H``. A demand that differs
+    their toe lengths or base widths by ``BASIN_SHIFT_STEPS`` or more, or the retained
+    height ``h`` (m) is at least ``SECOND_FROM_H``. A demand that differs
     from its references by more than height (a wall top above the retained level, a
     deeper founding), one between references that settled in different basins, or a
     tall one, can settle in a dearer optimum from one start than from the other."""
     if len(starts) < 2 or store.best() is None or np.array_equal(starts[0], starts[1]):
         return False
-    basins = steps_apart(starts[0], starts[1], [TB, TS]) >= BASIN_STEPS
+    basins = (steps_apart(starts[0], starts[1], [TB, TS]) >= BASIN_STEPS
+              or steps_apart(starts[0], starts[1], [TOE, B]) >= BASIN_SHIFT_STEPS)
     return h >= SECOND_FROM_H or basins or not store.passes(starts[0])
 
 
