@@ -600,6 +600,26 @@ def test_descent_goes_on_by_utilization_where_the_weighed_move_settles():
     assert any(np.array_equal(x, wider) for x in centres), centres
 
 
+def test_a_demand_none_passes_within_its_first_bounds_is_searched_wider(monkeypatch):
+    # invented ground (a wall drawn for the search's checks): DA2, water 0.97 m above
+    # the base, a backfill of 37 degrees under a 10 degree slope over a base of 22
+    # degrees, 20 kPa. Within the 2.0 H width bound no section passes (bearing, about
+    # 1.02 at best, on the bound); the bound the least utilised sits on moves, and a
+    # base wider than it passes. Without widening the demand is flagged.
+    basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"))
+    d = Demand(z_top=60.224, z_front=55.176,
+               backfill=Backfill(unit_weight_kn_m3=19.6, friction_angle_deg=37.0,
+                                 slope_deg=10.0),
+               foundation=Foundation(unit_weight_kn_m3=17.9, friction_angle_deg=22.0),
+               surcharge_kpa=20.0, water=Water(height_above_base_m=0.97),
+               wall_top_m=60.3, min_founding_depth_m=0.6, founding_step_m=0.15)
+    g = grid_for(d, 0.05, basis.design)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    assert sd.status == "ok" and sd.section.base_width_m > g.b[1] * 0.05 + 1e-9
+    monkeypatch.setattr(search, "MAX_WIDEN", 0)
+    assert bespoke([d], basis, Costing(), 0.05)[0].status == "flagged"
+
+
 def test_settle_moves_widen_a_bound_the_planes_best_sits_on():
     # invented results: every section passes and a thicker stem top is cheaper, so every
     # best sits on the stem top's bound (0.30 m). The planes alone leave that bound where

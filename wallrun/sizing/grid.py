@@ -233,8 +233,9 @@ def grid_for(demand: Demand, step: float, design: Design = Design()) -> Grid:
     least ``design.min_stem_m`` and base thickness at least ``design.min_base_m`` (two
     mats of bars, room to compact; common practice), toe from 0 (an L-shaped wall).
     Upper bounds are generous proportions, and the search moves any that its best
-    section reaches (:meth:`Grid.widened`), so none excludes a cheaper section that a
-    wider grid would give:
+    section reaches (:meth:`Grid.widened`), or while no section passes any that its
+    least utilised reaches (``search.widen_moves``), so none excludes a cheaper
+    section, or the only passing ones, that a wider grid would give:
 
     - base width 0.3 H to 2.0 H (at least 1.0 m): common practice puts the optimum near
       0.5 to 0.7 H; the lower bound moves down to the least that closes when reached.

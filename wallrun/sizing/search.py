@@ -919,16 +919,25 @@ def neighbour_moves(store: Store, start):
 
 
 def widen_moves(store: Store):
-    """Move the bounds the best candidate sits on and descend again, a few times."""
+    """Move the bounds the best candidate sits on and descend again, a few times. While
+    none passes, the bounds the least utilised candidate sits on (where the descent
+    settled): a wider grid can hold a passing section (a wider base carries more
+    bearing resistance), and a demand is flagged only where none passes within bounds
+    no best or least utilised candidate sits on. On an invented DA2 wall with water
+    1 m above a base of 22 degrees, 210 of 312 panels were flagged, failing bearing by
+    2 to 4 % on bases at the 2.0 H bound."""
     for _ in range(MAX_WIDEN):
-        b = store.best()
-        if b is None:
+        if store.best() is not None:
+            cur = store.best_vector()
+        elif store.checked:
+            cur = store.V[int(np.argmin(store.util))].copy()
+        else:
             return
-        names = store.grid.binding(store.best_vector())
+        names = store.grid.binding(cur)
         if not names:
             return
         store.grid = store.grid.widened(names)
-        for cand in descent(store, store.best_vector()):
+        for cand in descent(store, cur):
             yield Ask(cand)
 
 
@@ -936,7 +945,8 @@ def search_moves(store: Store, lower_bound, starts=(), h: float = math.inf):
     """Every move of one demand's search: a descent from the first of ``starts`` (the
     others checked with its first neighbourhood), a cold start when that finds nothing
     passing (or there are no starts), then the widening, the planes, and for a low wall
-    (retained height ``h``, m; :func:`small_grid`) its whole grid."""
+    (retained height ``h``, m; :func:`small_grid`, on its grid as given and as the
+    widening left it) its whole grid."""
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
     whole = small_grid(store.grid, h)
     if starts:
@@ -946,7 +956,7 @@ def search_moves(store: Store, lower_bound, starts=(), h: float = math.inf):
         yield from cold_moves(store, lower_bound)
     yield from widen_moves(store)
     yield from settle_moves(store)
-    if whole:
+    if whole and small_grid(store.grid, h):  # (the grid as the widening left it)
         yield from whole_grid_moves(store, lower_bound)
 
 
