@@ -73,9 +73,9 @@ def random_wall(rng: np.random.Generator, km: float) -> tuple[Basis, float, list
     water = (Water(height_above_base_m=float(np.round(rng.uniform(0.3, 2.0), 2)))
              if rng.random() < 0.35 else None)
     q = float(rng.choice([5.0, 10.0, 15.0, 20.0]))
-    demands = [Demand(z_top=round(50.0 + h, 3), z_front=50.0, backfill=backfill,
+    demands = [Demand(z_top=round(50.0 + float(h), 3), z_front=50.0, backfill=backfill,
                       foundation=foundation, surcharge_kpa=q, water=water,
-                      wall_top_m=round(50.1 + h, 3), min_founding_depth_m=0.6,
+                      wall_top_m=round(50.1 + float(h), 3), min_founding_depth_m=0.6,
                       founding_step_m=0.15)
                for h in heights(km)]
     return basis, step, demands

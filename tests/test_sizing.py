@@ -620,6 +620,28 @@ def test_a_demand_none_passes_within_its_first_bounds_is_searched_wider(monkeypa
     assert bespoke([d], basis, Costing(), 0.05)[0].status == "flagged"
 
 
+def test_the_exhaustive_reference_widens_where_none_passes_as_the_search_does():
+    # invented ground (drawn by benchmarks/walls.py --seed 10, its second wall, here at
+    # a 10 cm step): a 1.105 m DA1 wall, water 1.84 m above the base (capped at the
+    # backfill), a backfill of 34 degrees under a 20 degree slope, a base of 32
+    # degrees with c' 5 kPa, 20 kPa. Nothing passes within the first bounds (the
+    # reference without widening finds none); both widen the bounds the least utilised
+    # sits on and agree on a base wider than the first bound
+    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1", dimension_step_m=0.1))
+    d = Demand(z_top=51.105, z_front=50.0,
+               backfill=Backfill(unit_weight_kn_m3=20.3, friction_angle_deg=34.0,
+                                 slope_deg=20.0),
+               foundation=Foundation(unit_weight_kn_m3=17.4, friction_angle_deg=32.0,
+                                     cohesion_kpa=5.0),
+               surcharge_kpa=20.0, water=Water(height_above_base_m=1.84), wall_top_m=51.205)
+    assert cheapest_on_grid(d, basis, Costing(), 0.1, widen=False) == (None, math.inf)
+    ref, cost = cheapest_on_grid(d, basis, Costing(), 0.1)
+    sd = bespoke([d], basis, Costing(), 0.1)[0]
+    assert ref is not None and ref.base_width_m > grid_for(d, 0.1, basis.design).b[1] * 0.1
+    assert sd.status == "ok" and sd.section == ref
+    assert math.isclose(sd.cost_per_m, cost, rel_tol=1e-9)
+
+
 def test_settle_moves_widen_a_bound_the_planes_best_sits_on():
     # invented results: every section passes and a thicker stem top is cheaper, so every
     # best sits on the stem top's bound (0.30 m). The planes alone leave that bound where

@@ -1396,13 +1396,16 @@ def cheapest_on_grid(demand: Demand, basis: Basis, costing: Costing = Costing(),
     can be cheaper, so the answer is that of checking all (``every=True`` checks all,
     to show it). Where the cheapest sits on a bound a wider grid could move, the bound
     is moved as the search moves it (:meth:`Grid.widened`) and the grid checked again
-    (``widen``). (None, inf) when nothing passes. For the tests and the benchmark.
+    (``widen``); where nothing passes, the bounds the least utilised candidate sits on
+    (as the search's :func:`widen_moves`). (None, inf) when nothing passes. For the
+    tests and the benchmark.
     """
     step = float(step if step is not None else basis.design.dimension_step_m)
     grid = grid or grid_for(demand, step, basis.design)
     for _ in range(MAX_WIDEN + 1):
-        best, cost = _cheapest(demand, basis, costing, grid, chunk, every)
-        names = () if best is None or not widen else grid.binding(grid.vector_of(best))
+        best, cost, least = _cheapest(demand, basis, costing, grid, chunk, every)
+        at = grid.vector_of(best) if best is not None else least
+        names = () if at is None or not widen else grid.binding(at)
         if not names:
             return best, cost
         grid = grid.widened(names)
@@ -1410,19 +1413,22 @@ def cheapest_on_grid(demand: Demand, basis: Basis, costing: Costing = Costing(),
 
 
 def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk: int,
-              every: bool) -> tuple[Section | None, float]:
-    """The cheapest passing section of ``grid`` and its cost: the grid is taken one base
-    width at a time (:meth:`Grid.by_width`; memory bounded by one width's candidates),
-    the widths in increasing least lower bound, and each width's candidates in
-    increasing lower bound, until the lower bound reaches the best cost found. Every
-    candidate left unchecked has a lower bound at or above a best cost found, so none
-    is cheaper than the answer."""
+              every: bool) -> tuple[Section | None, float, np.ndarray | None]:
+    """The cheapest passing section of ``grid``, its cost, and where nothing passes the
+    integer vector of the least utilised candidate (else None): the grid is taken one
+    base width at a time (:meth:`Grid.by_width`; memory bounded by one width's
+    candidates), the widths in increasing least lower bound, and each width's
+    candidates in increasing lower bound, until the lower bound reaches the best cost
+    found. Every candidate left unchecked has a lower bound at or above a best cost
+    found, so none is cheaper than the answer (while nothing passes, every candidate is
+    checked)."""
     def bound(v):
         return ev_.lower_bound(grid.sections(v), Rows.of([demand], [len(v)]), demand,
                                costing, basis)
 
     least = np.array([bound(v).min() if len(v) else math.inf for v in grid.by_width()])
     best, best_cost, best_u = None, math.inf, math.inf
+    least_v, least_u = None, math.inf
     for w in np.argsort(least, kind="stable"):
         if not every and least[w] >= best_cost - 1e-9:
             break
@@ -1443,4 +1449,8 @@ def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk:
                 c, u = float(ev.cost[i]), float(ev.utilization[i])
                 if c < best_cost - 1e-9 or (abs(c - best_cost) <= 1e-9 and u < best_u):
                     best, best_cost, best_u = sec.take(i), c, u
-    return best, best_cost
+            elif best is None:
+                i = int(np.argmin(ev.utilization))
+                if ev.utilization[i] < least_u:
+                    least_v, least_u = part[i].copy(), float(ev.utilization[i])
+    return best, best_cost, (least_v if best is None else None)
