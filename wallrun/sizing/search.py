@@ -32,8 +32,9 @@ The moves of one demand:
    cross sections that fail or cost more (the bars of a member make its cost jump
    with its thickness). The descent goes on from any better one. Where it would end,
    every toe length with a thinner base (:func:`toe_lines`), once.
-4. Widening: where the best section sits on a bound that a wider grid could move
-   (:meth:`Grid.binding`), the bound is moved and the descent resumes.
+4. Widening: where the best section (while none passes, the least utilised) sits on
+   a bound that a wider grid could move (:meth:`Grid.binding`), the bound is moved and
+   the descent resumes (a cold start follows where it first finds a passing one).
    Then the planes (:func:`plane_moves`): every toe length with other base and stem
    thicknesses about the best (:func:`planes`), narrower bases with longer toes
    (:func:`narrower_lines`), the stem moved with the heel kept (:func:`heel_lines`),
@@ -919,16 +920,16 @@ def neighbour_moves(store: Store, start):
 
 
 def widen_moves(store: Store, lower_bound=None):
-    """Move the bounds the best candidate sits on and descend again, a few times. While
+    """Move the bounds the best candidate sits on and descend again, a few times; while
     none passes, the bounds the least utilised candidate sits on (where the descent
-    settled): a wider grid can hold a passing section (a wider base carries more
-    bearing resistance), and a demand is flagged only where none passes within bounds
-    no best or least utilised candidate sits on. On an invented DA2 wall with water
-    1 m above a base of 22 degrees, 210 of 312 panels were flagged, failing bearing by
-    2 to 4 % on bases at the 2.0 H bound. The first passing section such a descent
-    reaches lies where the least utilised led it (a base grown thick as well as
-    wide), so with ``lower_bound`` the widened grid then gets a cold start
-    (:func:`cold_moves`)."""
+    settled), as a wider grid can hold a passing section (a wider base carries more
+    bearing resistance). A demand is flagged where nothing passes after ``MAX_WIDEN``
+    moves, or within bounds its least utilised candidate does not sit on. On an
+    invented DA2 wall with water 1 m above a base of 22 degrees, 210 of 312 panels
+    were flagged, failing bearing by 2 to 4 % on bases at the 2.0 H bound. The first
+    passing section such a descent reaches lies where the least utilised led it (a
+    base grown thick as well as wide), so with ``lower_bound`` the widened grid then
+    gets a cold start (:func:`cold_moves`)."""
     for _ in range(MAX_WIDEN):
         passing = store.best() is not None
         if passing:
@@ -1456,7 +1457,7 @@ def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk:
                 if c < best_cost - 1e-9 or (abs(c - best_cost) <= 1e-9 and u < best_u):
                     best, best_cost, best_u = sec.take(i), c, u
             elif best is None:
-                i = int(np.argmin(ev.utilization))
+                i = int(np.argmin(np.nan_to_num(ev.utilization, nan=np.inf)))
                 if ev.utilization[i] < least_u:
                     least_v, least_u = part[i].copy(), float(ev.utilization[i])
     return best, best_cost, (least_v if best is None else None)
