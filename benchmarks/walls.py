@@ -35,10 +35,11 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
 sys.path.insert(0, HERE)
 
+from optimality import draw_foundation, draw_water, report_gap  # noqa: E402
 from run import synthetic_site  # noqa: E402
 
 from wallrun.factors import resolve  # noqa: E402
-from wallrun.settings import Backfill, Basis, Design, Foundation, Water  # noqa: E402
+from wallrun.settings import Backfill, Basis, Design  # noqa: E402
 from wallrun.sizing import Costing, Demand, bespoke, cheapest_on_grid  # noqa: E402
 
 PANEL_M = 8.0
@@ -64,14 +65,8 @@ def random_wall(rng: np.random.Generator, km: float) -> tuple[Basis, float, list
     slope = float(rng.choice([0.0, 0.0, 10.0, 16.0, 20.0]))
     backfill = Backfill(unit_weight_kn_m3=float(np.round(rng.uniform(17, 21), 1)),
                         friction_angle_deg=phi, slope_deg=min(slope, phi - 2.0))
-    undrained = rng.random() < 0.3
-    foundation = Foundation(
-        unit_weight_kn_m3=float(np.round(rng.uniform(17, 20), 1)),
-        friction_angle_deg=float(np.round(rng.uniform(22, 36))),
-        cohesion_kpa=float(rng.choice([0.0, 3.0, 5.0])),
-        undrained_strength_kpa=float(np.round(rng.uniform(45, 90))) if undrained else 0.0)
-    water = (Water(height_above_base_m=float(np.round(rng.uniform(0.3, 2.0), 2)))
-             if rng.random() < 0.35 else None)
+    foundation = draw_foundation(rng, 0.3, (22, 36), 45)
+    water = draw_water(rng, 0.35, 2.0)
     q = float(rng.choice([5.0, 10.0, 15.0, 20.0]))
     demands = [Demand(z_top=round(50.0 + float(h), 3), z_front=50.0, backfill=backfill,
                       foundation=foundation, surcharge_kpa=q, water=water,
@@ -117,16 +112,11 @@ def main(argv=None) -> int:
             t = time.perf_counter()
             d, sd = demands[k], got[k]
             ref, ref_cost = cheapest_on_grid(d, basis, Costing(), step)
-            label = f"  panel {k + 1} h {d.h:.3f} m"
-            if sd.status != "ok" or ref is None:
-                print(f"{label}: search {sd.status}, exhaustive "
-                      f"{'none' if ref is None else 'ok'}", flush=True)
-                continue
-            gap = 100.0 * (sd.cost_per_m / ref_cost - 1.0)
-            checked += 1
-            beyond += abs(gap) > 0.5
-            print(f"{label}: search {sd.cost_per_m:.2f}, exhaustive {ref_cost:.2f} per m: "
-                  f"{gap:+.3f} % ({time.perf_counter() - t:.0f} s)", flush=True)
+            gap = report_gap(f"  panel {k + 1} h {d.h:.3f} m", sd, ref, ref_cost,
+                             time.perf_counter() - t)
+            if gap is not None:
+                checked += 1
+                beyond += abs(gap) > 0.5
     print(f"beyond 0.5 %: {beyond} of {checked} sampled panels")
     return 0
 
