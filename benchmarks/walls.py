@@ -77,6 +77,7 @@ def random_wall(rng: np.random.Generator, km: float) -> tuple[Basis, float, list
 
 
 def describe(basis: Basis, step: float, d: Demand) -> str:
+    """One line of a wall's ground, as printed (from its first demand)."""
     bf, fd = d.backfill, d.foundation
     ground = (f"backfill {bf.friction_angle_deg:g} deg under {bf.slope_deg:g} deg, base "
               f"{fd.friction_angle_deg:g} deg" + (f" cu {fd.undrained_strength_kpa:g} kPa"

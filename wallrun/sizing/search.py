@@ -406,6 +406,11 @@ class Store:
         """The integer vector of the best candidate (a copy)."""
         return self._best_of[2].copy()
 
+    def least_utilised_vector(self) -> np.ndarray:
+        """The integer vector of the least utilised candidate checked (the first of
+        equals; a copy): where a search goes while none passes."""
+        return self.V[int(np.argmin(self.util))].copy()
+
     def fresh(self, v) -> tuple[np.ndarray, np.ndarray]:
         """The valid candidates of ``v`` not checked yet, once each (in code order), and
         their codes (:func:`fresh_many` of this store alone)."""
@@ -812,7 +817,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
             nxt = store.best_vector()
         elif store.checked:
             if overstress is None:
-                nxt = store.V[int(np.argmin(store.util))]
+                nxt = store.least_utilised_vector()
             else:  # least cost with the overstress weighed in
                 over = np.maximum(np.nan_to_num(store.util, nan=1e9, posinf=1e9) - 1.0, 0.0)
                 nxt = store.V[int(np.argmin(store.cost * (1.0 + overstress * over)))]
@@ -935,7 +940,7 @@ def widen_moves(store: Store, lower_bound=None):
         if passing:
             cur = store.best_vector()
         elif store.checked:
-            cur = store.V[int(np.argmin(store.util))].copy()
+            cur = store.least_utilised_vector()
         else:
             return
         names = store.grid.binding(cur)
