@@ -268,57 +268,59 @@ def _area_tables(opt: _Options):
 
 
 def _cheapest_per_size(opt: _Options, need, s_limit, h):
-    """Cheapest option per candidate meeting an area ``need`` (n, k) per bar size and a
-    spacing limit (n,): for each bar size the widest listed spacing giving the area,
-    then the least area over the sizes (ties to the wider spacing). Returns option
-    indices (n,) into ``opt`` (fallback where nothing fits), and a found flag."""
-    sizes = opt.sizes
+    """Cheapest option per candidate meeting an area ``need`` (k, n), mm2/m, one row
+    per bar size of ``opt.sizes``, and a spacing limit (n,), mm: for each bar size the
+    widest listed spacing giving the area (within As,max of the thickness ``h`` (n,),
+    mm), then the least area over the sizes, ties to the wider spacing, then to the
+    smaller size. Returns option indices (n,) into ``opt`` (fallback where nothing
+    fits), and a found flag. The sizes are taken one at a time: a running minimum over
+    the k rows costs a few passes over n values, where a reduction over a short axis
+    of an (n, k) array is several times slower."""
     sp = opt.spacings  # ascending
-    a_bar = ec2.bar_area(sizes)[None, :]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        s_allow = np.where(need > 0, 1000.0 * a_bar / need, np.inf)
-    s_allow = np.minimum(s_allow, s_limit[:, None])
-    j = np.searchsorted(sp, s_allow, side="right") - 1  # (n, k) largest spacing <= allow
-    found = j >= 0
-    jj = np.clip(j, 0, len(sp) - 1)
-    s_c = sp[jj]
+    a_bar = ec2.bar_area(opt.sizes)
     T, Tr = _area_tables(opt)  # 1000 a_bar / s per (size, spacing), and rounded
-    flat = jj + (np.arange(len(sizes)) * len(sp))[None, :]
-    A = T[flat]  # = 1000 a_bar / s_c
-    found &= A <= ec2.as_max(h)[:, None]
-    key = np.where(found, Tr[flat], np.inf)
-    best = key.min(axis=1, keepdims=True)
-    # among the sizes with the least area, the widest spacing
-    cand = found & (key == best)
-    k_best = np.argmax(np.where(cand, s_c, -1.0), axis=1)
-    any_found = found.any(axis=1)
-    rows = np.arange(need.shape[0])
-    idx = opt.index[k_best, jj[rows, k_best]]
-    return np.where(any_found, idx, opt.fallback), any_found
+    as_max = ec2.as_max(h)
+    n = need.shape[1]
+    best_key, best_s = np.full(n, np.inf), np.full(n, -1.0)
+    best = np.full(n, opt.fallback)
+    for k in range(len(opt.sizes)):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s_allow = np.where(need[k] > 0, 1000.0 * a_bar[k] / need[k], np.inf)
+        # largest listed spacing <= the allowed one (<= len(sp) - 1)
+        j = np.searchsorted(sp, np.minimum(s_allow, s_limit), side="right") - 1
+        jj = np.maximum(j, 0)
+        flat = jj + k * len(sp)
+        key = np.where((j >= 0) & (T[flat] <= as_max), Tr[flat], np.inf)
+        s_c = sp[jj]
+        better = (key < best_key) | ((key == best_key) & (s_c > best_s) & np.isfinite(key))
+        best_key = np.where(better, key, best_key)
+        best_s = np.where(better, s_c, best_s)
+        best = np.where(better, opt.index[k][jj], best)
+    return best, np.isfinite(best_key)
 
 
 def _choose_main(opt: _Options, h, cover, M_req, M_qp, as_extra, need_asmin, fck, basis,
                  max_phi=None, V_req=None):
     """Cheapest option per candidate for a face in bending (same result as
-    :func:`_choose_main_full`, computed per bar size, (n, k), then crack control at the
+    :func:`_choose_main_full`, computed per bar size, (k, n), then crack control at the
     chosen option; rows failing it are redone over every option)."""
     fyk, acc = basis.steel.fyk_mpa, basis.concrete.alpha_cc
-    sizes = opt.sizes[None, :]
-    hh = h[:, None]
+    # (k, n): one row per bar size
+    sizes = opt.sizes[:, None]
     cover = np.asarray(cover, dtype=float)  # scalar, or (n,) per row
-    d = hh - (cover[:, None] if cover.ndim else cover) - sizes / 2.0
-    K = ec2.k_factor(M_req[:, None], d, fck)
-    need = np.where(K <= ec2.k_limit(acc), ec2.as_required(M_req[:, None], d, fck, fyk, acc) * (1 + 1e-9),
+    d = h[None, :] - (cover[None, :] if cover.ndim else cover) - sizes / 2.0
+    K = ec2.k_factor(M_req[None, :], d, fck)
+    need = np.where(K <= ec2.k_limit(acc), ec2.as_required(M_req[None, :], d, fck, fyk, acc) * (1 + 1e-9),
                     np.inf)
     need = np.where(d > 0, need, np.inf)
-    need = np.maximum(need, np.where(need_asmin[:, None], ec2.as_min_beam(d, fck, fyk), 0.0))
-    need = np.maximum(need, as_extra[:, None])
+    need = np.maximum(need, np.where(need_asmin[None, :], ec2.as_min_beam(d, fck, fyk), 0.0))
+    need = np.maximum(need, as_extra[None, :])
     if V_req is not None:
         need = np.maximum(need, np.where(
-            d > 0, ec2.as_for_shear(V_req[:, None], np.where(d > 0, d, 1.0), fck) * (1 + 1e-9),
+            d > 0, ec2.as_for_shear(V_req[None, :], np.where(d > 0, d, 1.0), fck) * (1 + 1e-9),
             np.inf))
     if max_phi is not None:
-        need = np.where(sizes <= max_phi[:, None], need, np.inf)
+        need = np.where(sizes <= max_phi[None, :], need, np.inf)
     idx, found = _cheapest_per_size(opt, need, ec2.max_spacing_main(h), h)
     if (max_phi is not None or V_req is not None) and not found.all():
         # no option meets the bend or shear limit: the choice without them (the
@@ -396,9 +398,9 @@ def _choose_secondary(opt: _Options, h, as_need, basis: Basis):
     """Cheapest option meeting an area, the restraint steel of 7.3.2 for its bar size
     (when ``design.restraint_steel``; a detailing minimum, met at utilization 1.0
     whatever ``design.max_utilization``) and the secondary spacing limit."""
-    need = np.broadcast_to(as_need[:, None], (len(h), len(opt.sizes)))
+    need = np.broadcast_to(as_need[None, :], (len(opt.sizes), len(h)))
     if basis.design.restraint_steel:
-        need = np.maximum(need, restraint_need(opt.sizes[None, :], h[:, None], basis))
+        need = np.maximum(need, restraint_need(opt.sizes[:, None], h[None, :], basis))
     return _cheapest_per_size(opt, need, ec2.max_spacing_secondary(h), h)[0]
 
 
