@@ -675,15 +675,17 @@ def contact_pressure(V, e, B):
     ok = np.isfinite(e) & (V > 0)
     e = np.where(ok, e, 0.0)
     V = np.where(ok, V, 0.0)
-    full = np.abs(e) <= B / 6.0
+    ae = np.abs(e)
+    full = ae <= B / 6.0
     c0_f = V / B * (1.0 + 6.0 * e / B)
     c1_f = -12.0 * V * e / B ** 3
-    L_t = np.maximum(3.0 * (B / 2.0 - e), 1e-6)  # toe-side triangle
-    L_h = np.maximum(3.0 * (B / 2.0 + e), 1e-6)  # heel-side triangle
+    # the triangle's length from the edge it bears on: 3 (B/2 - e) towards the toe
+    # (e > 0), 3 (B/2 + e) towards the heel, both 3 (B/2 - |e|)
+    L = np.maximum(3.0 * (B / 2.0 - ae), 1e-6)
     toe_side = e > 0
-    L = np.where(toe_side, L_t, L_h)
-    c0_t = np.where(toe_side, 2 * V / L, 2 * V / L * (1.0 - B / L))
-    c1_t = np.where(toe_side, -2 * V / L ** 2, 2 * V / L ** 2)
+    a0, a1 = 2 * V / L, 2 * V / L ** 2
+    c0_t = np.where(toe_side, a0, a0 * (1.0 - B / L))
+    c1_t = np.where(toe_side, -a1, a1)
     s0 = np.where(full | toe_side, 0.0, B - L)
     s1 = np.where(full | ~toe_side, B, L)
     return np.where(full, c0_f, c0_t), np.where(full, c1_f, c1_t), s0, s1

@@ -967,11 +967,11 @@ def _evaluate(sec, actions, q, basis, chosen, stem_moment_at, stem_height_m, env
     if actions:
         Ms = np.vstack([_full(a.M_Ed, n) for a in actions])
         Vs = np.vstack([_full(a.V_Ed, n) for a in actions])
-        main = [row[main_face[a.member]] for a in actions]
-        opp = [row[opp_face[a.member]] for a in actions]
-        p = Ms >= 0
-        RM = np.where(p, MRd4[main], MRd4[opp])
-        RV = np.where(p, VRd4[main], VRd4[opp])
+        main = np.array([row[main_face[a.member]] for a in actions])[:, None]
+        opp = np.array([row[opp_face[a.member]] for a in actions])[:, None]
+        # the face in tension of every action and candidate, as flat indices of (4, n)
+        at = np.where(Ms >= 0, main, opp) * n + np.arange(n)
+        RM, RV = MRd4.ravel().take(at), VRd4.ravel().take(at)
         aM, aV = np.abs(Ms), np.abs(Vs)
         for k, a in enumerate(actions):
             checks.append(CheckArray(f"{a.member}_bending", a.combination, a.case, "kNm/m",
