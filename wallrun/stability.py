@@ -678,7 +678,7 @@ def contact_pressure(V, e, B):
     ae = np.abs(e)
     full = ae <= B / 6.0
     c0_f = V / B * (1.0 + 6.0 * e / B)
-    c1_f = -12.0 * V * e / B ** 3
+    c1_f = -12.0 * V * e / (B * B * B)
     # the triangle's length from the edge it bears on: 3 (B/2 - e) towards the toe
     # (e > 0), 3 (B/2 + e) towards the heel, both 3 (B/2 - |e|)
     L = np.maximum(3.0 * (B / 2.0 - ae), 1e-6)

@@ -185,7 +185,8 @@ def k_size(d):
 
 def v_min(d, fck):
     """v_min = 0.035 k^1.5 fck^0.5, MPa (6.2.2(1) Eq. 6.3N)."""
-    return 0.035 * k_size(d) ** 1.5 * np.sqrt(fck)
+    k = k_size(d)
+    return 0.035 * (k * np.sqrt(k)) * np.sqrt(fck)  # k^1.5 as k sqrt(k)
 
 
 def shear_resistance(As, d, fck, gamma_c=GAMMA_C, b=B_STRIP):

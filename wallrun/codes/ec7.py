@@ -115,7 +115,7 @@ def inclination_factors_drained(H, V, A_eff, c, phi_deg, Nc, m=2.0):
         ratio = np.where(denom > 0, 1.0 - H / np.where(denom > 0, denom, 1.0), 0.0)
     base = np.clip(ratio, 0.0, 1.0)
     iq = base ** m
-    ig = base ** (m + 1.0)
+    ig = iq * base  # base^(m+1) as a product: numpy's power of a float exponent is slow
     ic = np.maximum(iq - (1.0 - iq) / (Nc * t), 0.0)
     return iq, ig, ic
 
