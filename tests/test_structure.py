@@ -515,3 +515,29 @@ def test_bend_and_shear_limits_change_only_failing_choices(seed):
     d_a = t - cover - opt.phi[a] / 2.0
     assert np.all(opt.phi[a][ch] <= max_phi[ch])
     assert np.all(ec2.shear_resistance(opt.As[a], d_a, 32.0)[ch] >= V[ch])
+
+
+@settings(max_examples=25, deadline=None)
+@given(seed=st.integers(0, 10_000), restraint=st.booleans())
+def test_secondary_choice_is_the_first_option_meeting_every_rule(seed, restraint):
+    # the horizontal and distribution bars: of every (size, spacing) in the options'
+    # own order (least area, ties to the wider spacing), the first whose area meets the
+    # need and, with restraint steel, EN 1992-1-1 7.3.2 Eq. 7.1 for its size, whose
+    # spacing is within 9.3.1.1(3)'s min(3.5 h, 450) and whose area within As,max of
+    # 9.2.1.1(3); the largest bar at the least spacing where none does
+    rng = np.random.default_rng(seed)
+    basis = BASIS if restraint else NO_RESTRAINT
+    opt = structure._options(basis)
+    n = 400
+    # thin members too, where 3.5 h is below the widest listed spacing (300 mm)
+    h = np.where(rng.random(n) < 0.3, rng.uniform(25.0, 90.0, n), rng.uniform(100.0, 1500.0, n))
+    as_need = np.where(rng.random(n) < 0.1, 0.0, rng.uniform(0.0, 0.05 * 1000.0 * h))
+    got = structure._choose_secondary(opt, h, as_need, basis)
+    A = opt.As[None, :]
+    ok = ((A >= as_need[:, None]) & (opt.s[None, :] <= np.minimum(3.5 * h, 450.0)[:, None])
+          & (A <= 0.04 * 1000.0 * h[:, None]))
+    if restraint:
+        ok &= A >= structure.restraint_need(opt.phi[None, :], h[:, None], basis)
+    want = np.where(ok.any(axis=1), np.argmax(ok, axis=1), opt.fallback)
+    np.testing.assert_array_equal(got, want)
+    assert (~ok.any(axis=1)).any() and ok.any(axis=1).any()  # both kinds of row drawn
