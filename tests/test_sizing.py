@@ -1189,6 +1189,26 @@ def test_search_on_a_low_wall_at_a_coarse_step_takes_its_whole_grid():
     assert ref.base_width_m == pytest.approx(1.6)
 
 
+def test_low_wall_whole_grid_widens_where_the_reference_widens():
+    # A 0.533 m panel of an invented wall (drawn by benchmarks/walls.py --seed 21, its
+    # third wall): DA3; backfill 19.4 kN/m3, 33 degrees, a 16 degree slope; base
+    # 17.6 kN/m3, 33 degrees, c' 5 kPa; water 1.53 m above the base; surcharge 10 kPa;
+    # 5 cm grid of 302,400 entries. While nothing passed the search widened its grid
+    # (to 1,705,200) and so did not search it whole, and its planes left a keyed base
+    # with the toe at half its width: it ended 1.12 % above the exhaustive reference,
+    # whose cheapest sits beyond that bound (a toe of 0.75 m on a 1.15 m base). The
+    # low wall's first grid is walked whole and widened as the reference widens it.
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"))
+    d = Demand(z_top=50.533, z_front=50.0,
+               backfill=Backfill(unit_weight_kn_m3=19.4, friction_angle_deg=33.0,
+                                 slope_deg=16.0),
+               foundation=Foundation(unit_weight_kn_m3=17.6, friction_angle_deg=33.0,
+                                     cohesion_kpa=5.0),
+               surcharge_kpa=10.0, water=Water(height_above_base_m=1.53), wall_top_m=50.633)
+    ref = _whole_grid_reaches_keyed_reference(basis, d, 0.05)
+    assert 2 * ref.toe_m > ref.base_width_m  # beyond the first grid's toe bound
+
+
 def test_search_moves_the_stem_forward_on_a_wider_base():
     # A 4.51 m panel of an invented wall (DA3; backfill 20.5 kN/m3, 34 degrees, an 8
     # degree slope; base 20 kN/m3, 31 degrees; surcharge 18 kPa; 5 cm grid). Both its

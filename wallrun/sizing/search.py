@@ -40,13 +40,14 @@ The moves of one demand:
    (:func:`narrower_lines`), the stem moved with the heel kept (:func:`heel_lines`),
    the base thickness traded against the stem's
    (:func:`thickness_trades`), the stem thickness against the toe and width
-   (:func:`stem_shifts`), and the descent on from a better one. A low wall's whole
-   grid then (:func:`whole_grid_moves`): its result is the grid's cheapest.
+   (:func:`stem_shifts`), and the descent on from a better one.
    Where the taller reference's section fails here (or the wall is ``SECOND_FROM_H``
    or taller), a second descent from the lower reference's, among the sections that
    could beat the first search's best (:func:`second_moves`), taking what the first
-   checked in full from its record (:meth:`Store.from_prior`). Both come after the
-   rest, so they can only make a result cheaper.
+   checked in full from its record (:meth:`Store.from_prior`). Last, a low wall's
+   whole grid, widened where its best sits on a bound as the exhaustive reference
+   widens it (:func:`low_wall_moves`): its result is the reference's. Both come after
+   the rest, so they can only make a result cheaper.
 5. The ``FINALISTS`` cheapest passing candidates are checked in full
    (``evaluate.evaluate``), and the cheapest passing is the design (ties: the lower
    utilization). The search ranks by the same cost: its stem bars are curtailed as the
@@ -298,6 +299,11 @@ BASIN_SHIFT_STEPS = 10
 #: 10 km and up to twice as many on walls with many such panels).
 WHOLE_GRID_H = 1.0
 WHOLE_GRID = 600_000
+#: The largest grid (the product of its axes' lengths) a low wall's whole grid is
+#: widened to (:func:`low_wall_moves`, one base width at a time): a toe allowed beyond
+#: half the base doubles a grid's toe axis, and bounds moved half as much again grow
+#: it fast (the 0.65 m panel of its docstring walks 6.3 M, about 1.3 s).
+WIDENED_GRID = 20_000_000
 WHOLE_GRID_BATCH = 4_000
 #: Jumps a descent may make.
 MAX_JUMPS = 3
@@ -426,6 +432,17 @@ class Store:
             new = ~self.known(c)
             v, c = v[new], c[new]
         return v, c
+
+    def results_of(self, c: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """For the codes ``c``: a mask of those checked here, and where each was
+        checked (indices into ``V``, ``ok``, ``cost``, ``util``; 0 where not)."""
+        cv = codes(self.V)
+        if not len(cv):
+            return np.zeros(len(c), dtype=bool), np.zeros(len(c), dtype=np.int64)
+        o = np.argsort(cv, kind="stable")
+        pos = np.minimum(np.searchsorted(cv[o], c), len(cv) - 1)
+        hit = cv[o][pos] == c
+        return hit, np.where(hit, o[pos], 0)
 
     def known(self, c: np.ndarray) -> np.ndarray:
         """Mask of the codes ``c`` checked already."""
@@ -953,14 +970,12 @@ def widen_moves(store: Store, lower_bound=None):
             yield from cold_moves(store, lower_bound)
 
 
-def search_moves(store: Store, lower_bound, starts=(), h: float = math.inf):
+def search_moves(store: Store, lower_bound, starts=()):
     """Every move of one demand's search: a descent from the first of ``starts`` (the
     others checked with its first neighbourhood), a cold start when that finds nothing
-    passing (or there are no starts), then the widening, the planes, and for a low wall
-    (retained height ``h``, m; :func:`small_grid`, on its grid as given and as the
-    widening left it) its whole grid."""
+    passing (or there are no starts), then the widening and the planes. (A low wall's
+    whole grid comes after its second descent: :func:`low_wall_moves`.)"""
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
-    whole = small_grid(store.grid, h)
     if starts:
         for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
             yield Ask(cand)
@@ -968,8 +983,6 @@ def search_moves(store: Store, lower_bound, starts=(), h: float = math.inf):
         yield from cold_moves(store, lower_bound)
     yield from widen_moves(store, lower_bound)
     yield from settle_moves(store)
-    if whole and small_grid(store.grid, h):  # (the grid as the widening left it)
-        yield from whole_grid_moves(store, lower_bound)
 
 
 def small_grid(grid: Grid, h: float) -> bool:
@@ -979,17 +992,87 @@ def small_grid(grid: Grid, h: float) -> bool:
     return h <= WHOLE_GRID_H and math.prod(len(a) for a in grid.axes()) <= WHOLE_GRID
 
 
-def whole_grid_moves(store: Store, lower_bound):
-    """Every candidate of the store's grid (its bounds as the search left them) in
-    increasing lower bound of the cost (:func:`best_first`, batches of
-    ``WHOLE_GRID_BATCH``), until the lower bound reaches the best cost found: every
-    candidate left has a lower bound at or above a cost found, so the search's result
-    is the cheapest of the grid on these bounds (:func:`cheapest_on_grid` also moves a
-    bound the cheapest sits on). For a small grid (:func:`small_grid`) only."""
-    v, _ = store.unchecked(store.grid.every())
+def whole_grid_moves(store: Store, lower_bound, grid: Grid):
+    """Every candidate of ``grid`` (of the store's lattice) in increasing lower bound of
+    the cost (:func:`best_first`, batches of ``WHOLE_GRID_BATCH``), until the lower
+    bound reaches the best cost found: every candidate left has a lower bound at or
+    above a cost found, so the search's result is at most the cheapest of ``grid``. For
+    a small grid (:func:`small_grid`) only."""
+    v, _ = store.unchecked(grid.every())
     if len(v):
         for part in best_first(store, v, lower_bound(v), 1, WHOLE_GRID_BATCH):
             yield Ask(part)
+
+
+def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
+    """A low wall's whole grid, walked as :func:`cheapest_on_grid` walks it, the
+    store's record standing for what it checked already: the cheapest passing
+    candidate of its first grid (``first``: :func:`grid.grid_for`'s, before the search
+    moved any bound), the grid taken one base width at a time in increasing least
+    lower bound of the cost and each width's unchecked candidates whose lower bound is
+    below the cheapest of the grid found so far (while none of it passes, below the
+    best found anywhere) checked in increasing lower bound; then, while that cheapest
+    (while none passes, the least utilised of the grid) sits on a bound a wider grid
+    could move (:meth:`Grid.binding`), the grid widened there (:meth:`Grid.widened`)
+    and walked again, at most ``MAX_WIDEN`` times and up to ``WIDENED_GRID`` entries.
+    The grids are the reference's, so the result costs at most what the reference's
+    does. The search widens its own grid where its least utilised candidate sat while
+    nothing passed, which can leave a low wall's grid too large to search whole, and a
+    best found beyond the first grid's bounds can differ from that grid's cheapest,
+    whose bounds the reference moves: an invented 0.53 m DA3 panel under a 16 degree
+    slope with water ended 1.1 % above the reference (a keyed base with a toe beyond
+    half its width), and a 0.65 m DA1 panel of another wall 4.3 % (a 0.6 m stem on a
+    toe of 2.5 m, the reference's grid widened four times). It comes after the second
+    descent, so it can only make a result cheaper."""
+    grid = first
+    for k in range(MAX_WIDEN + 1):
+        if k and math.prod(len(a) for a in grid.axes()) > WIDENED_GRID:
+            return
+        lo, hi = (np.array(x) for x in grid.bounds())
+
+        def inside():  # the store's candidates on this grid
+            on = valid_rows(store.V, lo, hi, grid.toe_half, grid.step, grid.key_depths,
+                            grid.key_widths)
+            return np.flatnonzero(on)
+
+        def cheapest(idx):  # of those that pass (ties: the lower utilization), or None
+            ok = idx[store.ok[idx]]
+            return int(ok[np.lexsort((store.util[ok], store.cost[ok]))[0]]) if len(ok) else None
+
+        i = cheapest(inside())
+        cut = float(store.cost[i]) if i is not None else store.best_cost()
+        least = np.array([lower_bound(v).min() if len(v) else math.inf
+                          for v in grid.by_width()])
+        for w in np.argsort(least, kind="stable"):
+            if least[w] >= cut - 1e-9:
+                break
+            v = grid.at_width(grid.b[0] + int(w)).every()
+            c = codes(v)
+            lb = np.asarray(lower_bound(v), dtype=float)
+            todo = np.flatnonzero(~store.known(c) & (lb < cut - 1e-9))
+            todo = todo[np.argsort(lb[todo], kind="stable")]
+            for a in range(0, len(todo), WHOLE_GRID_BATCH):
+                part = todo[a:a + WHOLE_GRID_BATCH]
+                if lb[part[0]] >= cut - 1e-9:
+                    break
+                yield Ask(v[part], prune=False)
+                hit, at = store.results_of(c[part])
+                j = cheapest(at[hit])
+                if j is not None and (i is None or (store.cost[j], store.util[j])
+                                      < (store.cost[i], store.util[i])):
+                    i, cut = j, float(store.cost[j])
+        if i is None:  # none of the grid passes: its least utilised
+            idx = inside()
+            if not len(idx):
+                return
+            i = int(idx[np.argmin(np.nan_to_num(store.util[idx], nan=np.inf))])
+        names = grid.binding(store.V[i])
+        if not names:
+            return
+        grid = grid.widened(names)
+        # the store's grid, which holds the walked one, moved alike holds the widened
+        # one (the driver keeps the candidates valid on the store's grid)
+        store.grid = store.grid.widened(names)
 
 
 def needs_second(store: Store, starts, h: float = 0.0) -> bool:
@@ -1318,13 +1401,14 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
         known[r] = None if ref_tasks[r].store.best() is None else ref_tasks[r].store.best_vector()
 
     # 2. the demands, from their references' best sections
-    tasks, starts_of = [], []
+    tasks, starts_of, firsts = [], [], []
     for d in todo:
-        s = Store(grid_for(d, step, basis.design))
+        firsts.append(grid_for(d, step, basis.design))
+        s = Store(firsts[-1])
         starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
                   if known[reference(d, h)] is not None]
         starts_of.append(starts)
-        tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts, d.h)))
+        tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
     # 2b. where the taller reference's section fails here, or on a tall wall, a second
     # descent
@@ -1336,6 +1420,10 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
         t.store.absorb(a.store)
+    # 2c. a low wall's whole grid, widened as the exhaustive reference widens it
+    checked += _run_by_ground(
+        [_Task(t.demand, t.store, low_wall_moves(t.store, lb_of(t.demand, g), g, t.demand.h))
+         for t, g in zip(tasks, firsts) if small_grid(g, t.demand.h)], basis, costing)
 
     # 3. the finalists of each, in full with curtailment
     for d, sd in zip(todo, finish(tasks, basis, costing)):
