@@ -1209,6 +1209,26 @@ def test_low_wall_whole_grid_widens_where_the_reference_widens():
     assert 2 * ref.toe_m > ref.base_width_m  # beyond the first grid's toe bound
 
 
+def test_low_wall_whole_grid_widens_from_a_first_grid_where_nothing_passes():
+    # A 0.651 m panel of an invented wall (drawn by benchmarks/walls.py --seed 21, its
+    # first wall): DA1; backfill 17.4 kN/m3, 34 degrees, a 10 degree slope; base
+    # 19.9 kN/m3, 28 degrees, c' 5 kPa; water 1.93 m above the base (capped at the
+    # backfill); surcharge 20 kPa; 10 cm grid. No section of the first grid passes;
+    # the search found one beyond it (a 3.3 m base 0.7 m thick) and ended 4.3 % above
+    # the exhaustive reference, which widens where the least utilised sits, four times,
+    # to a 0.6 m stem on a toe of 2.5 m. The whole grid is walked the same way.
+    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1", dimension_step_m=0.1))
+    d = Demand(z_top=50.651, z_front=50.0,
+               backfill=Backfill(unit_weight_kn_m3=17.4, friction_angle_deg=34.0,
+                                 slope_deg=10.0),
+               foundation=Foundation(unit_weight_kn_m3=19.9, friction_angle_deg=28.0,
+                                     cohesion_kpa=5.0),
+               surcharge_kpa=20.0, water=Water(height_above_base_m=1.93), wall_top_m=50.751)
+    assert cheapest_on_grid(d, basis, Costing(), 0.1, widen=False) == (None, math.inf)
+    ref = _whole_grid_reaches_keyed_reference(basis, d, 0.1)
+    assert ref.stem_base_m == pytest.approx(0.6) and ref.toe_m == pytest.approx(2.5)
+
+
 def test_search_moves_the_stem_forward_on_a_wider_base():
     # A 4.51 m panel of an invented wall (DA3; backfill 20.5 kN/m3, 34 degrees, an 8
     # degree slope; base 20 kN/m3, 31 degrees; surcharge 18 kPa; 5 cm grid). Both its

@@ -433,17 +433,6 @@ class Store:
             v, c = v[new], c[new]
         return v, c
 
-    def results_of(self, c: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """For the codes ``c``: a mask of those checked here, and where each was
-        checked (indices into ``V``, ``ok``, ``cost``, ``util``; 0 where not)."""
-        cv = codes(self.V)
-        if not len(cv):
-            return np.zeros(len(c), dtype=bool), np.zeros(len(c), dtype=np.int64)
-        o = np.argsort(cv, kind="stable")
-        pos = np.minimum(np.searchsorted(cv[o], c), len(cv) - 1)
-        hit = cv[o][pos] == c
-        return hit, np.where(hit, o[pos], 0)
-
     def known(self, c: np.ndarray) -> np.ndarray:
         """Mask of the codes ``c`` checked already."""
         s = self.codes
@@ -1006,43 +995,47 @@ def whole_grid_moves(store: Store, lower_bound, grid: Grid):
 
 def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
     """A low wall's whole grid, walked as :func:`cheapest_on_grid` walks it, the
-    store's record standing for what it checked already: the cheapest passing
-    candidate of its first grid (``first``: :func:`grid.grid_for`'s, before the search
-    moved any bound), the grid taken one base width at a time in increasing least
-    lower bound of the cost and each width's unchecked candidates whose lower bound is
-    below the cheapest of the grid found so far (while none of it passes, below the
-    best found anywhere) checked in increasing lower bound; then, while that cheapest
-    (while none passes, the least utilised of the grid) sits on a bound a wider grid
-    could move (:meth:`Grid.binding`), the grid widened there (:meth:`Grid.widened`)
-    and walked again, at most ``MAX_WIDEN`` times and up to ``WIDENED_GRID`` entries.
-    The grids are the reference's, so the result costs at most what the reference's
-    does. The search widens its own grid where its least utilised candidate sat while
+    store's record standing for what it checked already. A grid is taken one base width
+    at a time in increasing least lower bound of the cost, and each width's unchecked
+    candidates whose lower bound is below the grid's cheapest passing one found so far
+    are checked in increasing lower bound; where that cheapest sits on a bound a wider
+    grid could move (:meth:`Grid.binding`), the grid is widened there
+    (:meth:`Grid.widened`, the store's grid alike) and walked again, at most
+    ``MAX_WIDEN`` times and up to ``WIDENED_GRID`` entries. The first grid is
+    ``first`` (:func:`grid.grid_for`'s, before the search moved any bound); while none
+    of its candidates passes, those below the best found beyond it are checked. A grid
+    none of whose checked candidates passes is widened where its least utilised sits,
+    as the reference widens a grid where nothing passes (the reference checks every
+    candidate of such a grid first: on an invented wall of very weak base soil that
+    took five low panels six million more candidates, two and a half times the wall's
+    search, and found nothing cheaper). So the grids are the reference's wherever the
+    two least utilised agree, and the result costs at most what the reference's does.
+    The search widens its own grid where its least utilised candidate sat while
     nothing passed, which can leave a low wall's grid too large to search whole, and a
     best found beyond the first grid's bounds can differ from that grid's cheapest,
     whose bounds the reference moves: an invented 0.53 m DA3 panel under a 16 degree
     slope with water ended 1.1 % above the reference (a keyed base with a toe beyond
     half its width), and a 0.65 m DA1 panel of another wall 4.3 % (a 0.6 m stem on a
-    toe of 2.5 m, the reference's grid widened four times). It comes after the second
-    descent, so it can only make a result cheaper."""
+    toe of 2.5 m, the reference's grid widened four times from a first grid where
+    nothing passes). It comes after the second descent, so it can only make a result
+    cheaper."""
+
+    def cheapest(idx):  # of the store's candidates idx that pass (ties: the lower
+        ok = idx[store.ok[idx]]  # utilization), or None
+        return int(ok[np.lexsort((store.util[ok], store.cost[ok]))[0]]) if len(ok) else None
+
     grid = first
     for k in range(MAX_WIDEN + 1):
         if k and math.prod(len(a) for a in grid.axes()) > WIDENED_GRID:
             return
-        lo, hi = (np.array(x) for x in grid.bounds())
-
-        def inside():  # the store's candidates on this grid
-            on = valid_rows(store.V, lo, hi, grid.toe_half, grid.step, grid.key_depths,
-                            grid.key_widths)
-            return np.flatnonzero(on)
-
-        def cheapest(idx):  # of those that pass (ties: the lower utilization), or None
-            ok = idx[store.ok[idx]]
-            return int(ok[np.lexsort((store.util[ok], store.cost[ok]))[0]]) if len(ok) else None
-
-        i = cheapest(inside())
-        cut = float(store.cost[i]) if i is not None else store.best_cost()
-        least = np.array([lower_bound(v).min() if len(v) else math.inf
-                          for v in grid.by_width()])
+        i = cheapest(np.flatnonzero(grid.valid(store.V)))  # of the store's, on this grid
+        # below the grid's cheapest; while none of it passes, below the best found
+        # beyond it, for the first grid only (a widened grid none of whose checked
+        # candidates passes is widened again where its least utilised sits)
+        cut = (float(store.cost[i]) if i is not None
+               else store.best_cost() if k == 0 else -math.inf)
+        least = (np.array([lower_bound(v).min() if len(v) else math.inf
+                           for v in grid.by_width()]) if cut > -math.inf else np.zeros(0))
         for w in np.argsort(least, kind="stable"):
             if least[w] >= cut - 1e-9:
                 break
@@ -1055,14 +1048,14 @@ def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
                 part = todo[a:a + WHOLE_GRID_BATCH]
                 if lb[part[0]] >= cut - 1e-9:
                     break
+                n0 = store.checked
                 yield Ask(v[part], prune=False)
-                hit, at = store.results_of(c[part])
-                j = cheapest(at[hit])
+                j = cheapest(np.arange(n0, store.checked))  # (checked in this order)
                 if j is not None and (i is None or (store.cost[j], store.util[j])
                                       < (store.cost[i], store.util[i])):
                     i, cut = j, float(store.cost[j])
-        if i is None:  # none of the grid passes: its least utilised
-            idx = inside()
+        if i is None:  # none of the grid passes: where its least utilised sits
+            idx = np.flatnonzero(grid.valid(store.V))
             if not len(idx):
                 return
             i = int(idx[np.argmin(np.nan_to_num(store.util[idx], nan=np.inf))])
