@@ -355,11 +355,13 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     assert (60, 10, 8, 7, 5, 0, 0) not in set(
         map(tuple, search.planes(cur, g, search.BASE_PLANES).tolist()))  # cur itself: no
     # the thickness trades: base and stem base each up to TRADE_REACH steps either way,
-    # the base width, toe and stem top as cur's
+    # the base width, toe and stem top as cur's, and the same with the stem top moved
+    # as the stem base (a stem of one thickness thickened or thinned whole)
     t = search.thickness_trades(cur)
-    rz, rs = (range(-r, r + 1) for r in search.TRADE_REACH)
-    assert set(map(tuple, t.tolist())) == {(60, 10, 8 + dz, 7 + ds, 5, 0, 0)
-                                           for dz in rz for ds in rs}
+    rz, rs = (list(range(-r, r + 1)) for r in search.TRADE_REACH)
+    assert set(map(tuple, t.tolist())) == (
+        {(60, 10, 8 + dz, 7 + ds, 5, 0, 0) for dz in rz for ds in rs}
+        | {(60, 10, 8 + dz, 7 + ds, 5 + ds, 0, 0) for dz in rz for ds in rs})
     # the narrower lines: the base NARROWER steps narrower, toe lengths from two steps
     # shorter to TOE_REACH longer, the thicknesses as cur's
     t = search.narrower_lines(cur, g)
