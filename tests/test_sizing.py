@@ -1112,13 +1112,10 @@ def test_thickness_trades_thicken_a_stem_of_one_thickness_whole():
     # stem two steps thicker at its base and its top, which the trades now reach. The
     # reference here is cut to that width, its stem top bound moved as the search and
     # the whole reference move it (its cheapest on the whole grid is the same).
-    basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2", dimension_step_m=0.1))
-    d = Demand(z_top=55.054, z_front=50.0,
-               backfill=Backfill(unit_weight_kn_m3=19.8, friction_angle_deg=30.0,
-                                 slope_deg=20.0),
-               foundation=Foundation(unit_weight_kn_m3=17.6, friction_angle_deg=35.0,
-                                     cohesion_kpa=5.0, undrained_strength_kpa=60.0),
-               surcharge_kpa=5.0, water=None, wall_top_m=55.154)
+    basis, d = _panel("DA2", 5.0, 55.054, 50.0, 55.154,
+                      Backfill(unit_weight_kn_m3=19.8, friction_angle_deg=30.0, slope_deg=20.0),
+                      Foundation(unit_weight_kn_m3=17.6, friction_angle_deg=35.0,
+                                 cohesion_kpa=5.0, undrained_strength_kpa=60.0), step=0.1)
     ref, ref_cost = _reference_on_widths(d, basis, 0.1, (90, 90), stem_top=9)
     assert (ref.base_thickness_m, ref.stem_base_m, ref.stem_top_m) == pytest.approx((0.5, 0.5, 0.5))
     sd = bespoke([d], basis, Costing(), 0.1)[0]
@@ -1188,7 +1185,7 @@ def test_search_on_a_low_wall_takes_its_whole_grid():
     # surcharge 10 kPa; 5 cm grid). Without a key, sliding asks for a 2.0 m base; the
     # grid's cheapest is a keyed base 1.45 m wide, and a key alone costs more at 2.0 m,
     # so no move crossed between them: the search ended 2.07 % above it. A low wall's
-    # whole grid is searched (search.whole_grid_moves), and the result is the
+    # whole grid is searched (search.low_wall_moves), and the result is the
     # exhaustive reference's.
     basis, d = _panel("DA1", 10.0, 65.271566, 64.588466, 65.4,
                       Backfill(unit_weight_kn_m3=19.5, friction_angle_deg=31.0, slope_deg=12.0),
@@ -1222,13 +1219,11 @@ def test_low_wall_whole_grid_widens_where_the_reference_widens():
     # with the toe at half its width: it ended 1.12 % above the exhaustive reference,
     # whose cheapest sits beyond that bound (a toe of 0.75 m on a 1.15 m base). The
     # low wall's first grid is walked whole and widened as the reference widens it.
-    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"))
-    d = Demand(z_top=50.533, z_front=50.0,
-               backfill=Backfill(unit_weight_kn_m3=19.4, friction_angle_deg=33.0,
-                                 slope_deg=16.0),
-               foundation=Foundation(unit_weight_kn_m3=17.6, friction_angle_deg=33.0,
-                                     cohesion_kpa=5.0),
-               surcharge_kpa=10.0, water=Water(height_above_base_m=1.53), wall_top_m=50.633)
+    basis, d = _panel("DA3", 10.0, 50.533, 50.0, 50.633,
+                      Backfill(unit_weight_kn_m3=19.4, friction_angle_deg=33.0, slope_deg=16.0),
+                      Foundation(unit_weight_kn_m3=17.6, friction_angle_deg=33.0,
+                                 cohesion_kpa=5.0),
+                      Water(height_above_base_m=1.53))
     ref = _whole_grid_reaches_keyed_reference(basis, d, 0.05)
     assert 2 * ref.toe_m > ref.base_width_m  # beyond the first grid's toe bound
 
@@ -1241,13 +1236,11 @@ def test_low_wall_whole_grid_widens_from_a_first_grid_where_nothing_passes():
     # the search found one beyond it (a 3.3 m base 0.7 m thick) and ended 4.3 % above
     # the exhaustive reference, which widens where the least utilised sits, four times,
     # to a 0.6 m stem on a toe of 2.5 m. The whole grid is walked the same way.
-    basis = Basis(factors=resolve("DA1"), design=Design(approach="DA1", dimension_step_m=0.1))
-    d = Demand(z_top=50.651, z_front=50.0,
-               backfill=Backfill(unit_weight_kn_m3=17.4, friction_angle_deg=34.0,
-                                 slope_deg=10.0),
-               foundation=Foundation(unit_weight_kn_m3=19.9, friction_angle_deg=28.0,
-                                     cohesion_kpa=5.0),
-               surcharge_kpa=20.0, water=Water(height_above_base_m=1.93), wall_top_m=50.751)
+    basis, d = _panel("DA1", 20.0, 50.651, 50.0, 50.751,
+                      Backfill(unit_weight_kn_m3=17.4, friction_angle_deg=34.0, slope_deg=10.0),
+                      Foundation(unit_weight_kn_m3=19.9, friction_angle_deg=28.0,
+                                 cohesion_kpa=5.0),
+                      Water(height_above_base_m=1.93), step=0.1)
     assert cheapest_on_grid(d, basis, Costing(), 0.1, widen=False) == (None, math.inf)
     ref = _whole_grid_reaches_keyed_reference(basis, d, 0.1)
     assert ref.stem_base_m == pytest.approx(0.6) and ref.toe_m == pytest.approx(2.5)
