@@ -277,7 +277,7 @@ BASIN_STEPS = 2
 #: second descent). From 12 steps the same fourteen, from 20 only six; 10 checks about
 #: 0.6 % more candidates at 10 km.
 BASIN_SHIFT_STEPS = 10
-#: Low walls searched whole after the moves (:func:`whole_grid_moves`): retained height
+#: Low walls searched whole after the moves (:func:`low_wall_moves`): retained height
 #: (m) and largest grid (the product of its axes' lengths; about a third of it valid),
 #: and the batch the candidates are checked in. A low wall's cheapest section can have
 #: a key under a base a third narrower than the best without one: a key alone costs
@@ -990,21 +990,9 @@ def search_moves(store: Store, lower_bound, starts=()):
 
 def small_grid(grid: Grid, h: float) -> bool:
     """Whether a demand of retained height ``h`` (m) is searched whole
-    (:func:`whole_grid_moves`): a low wall (``h`` at most ``WHOLE_GRID_H``) whose grid
+    (:func:`low_wall_moves`): a low wall (``h`` at most ``WHOLE_GRID_H``) whose grid
     has at most ``WHOLE_GRID`` entries in the product of its axes."""
     return h <= WHOLE_GRID_H and math.prod(len(a) for a in grid.axes()) <= WHOLE_GRID
-
-
-def whole_grid_moves(store: Store, lower_bound, grid: Grid):
-    """Every candidate of ``grid`` (of the store's lattice) in increasing lower bound of
-    the cost (:func:`best_first`, batches of ``WHOLE_GRID_BATCH``), until the lower
-    bound reaches the best cost found: every candidate left has a lower bound at or
-    above a cost found, so the search's result is at most the cheapest of ``grid``. For
-    a small grid (:func:`small_grid`) only."""
-    v, _ = store.unchecked(grid.every())
-    if len(v):
-        for part in best_first(store, v, lower_bound(v), 1, WHOLE_GRID_BATCH):
-            yield Ask(part)
 
 
 def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
