@@ -999,7 +999,8 @@ def small_grid(grid: Grid, h: float) -> bool:
 def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
     """A low wall's whole grid, walked as :func:`cheapest_on_grid` walks it, the
     store's record standing for what it checked already. A grid is taken one base width
-    at a time in increasing least lower bound of the cost, and each width's unchecked
+    at a time in increasing least lower bound of the cost (:func:`by_least_bound`, as
+    the reference takes it), and each width's unchecked
     candidates whose lower bound is below the grid's cheapest passing one found so far
     are checked in increasing lower bound; where that cheapest sits on a bound a wider
     grid could move (:meth:`Grid.binding`), the grid is widened there
@@ -1037,16 +1038,11 @@ def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
         # candidates passes is widened again where its least utilised sits)
         cut = (float(store.cost[i]) if i is not None
                else store.best_cost() if k == 0 else -math.inf)
-        least = (np.array([lower_bound(v).min() if len(v) else math.inf
-                           for v in grid.by_width()]) if cut > -math.inf else np.zeros(0))
-        for w in np.argsort(least, kind="stable"):
-            if least[w] >= cut - 1e-9:
+        for least, v, lb in (by_least_bound(grid, lower_bound) if cut > -math.inf else ()):
+            if least >= cut - 1e-9:
                 break
-            v = grid.at_width(grid.b[0] + int(w)).every()
             c = codes(v)
-            lb = np.asarray(lower_bound(v), dtype=float)
-            todo = np.flatnonzero(~store.known(c) & (lb < cut - 1e-9))
-            todo = todo[np.argsort(lb[todo], kind="stable")]
+            todo = np.flatnonzero(~store.known(c) & (lb < cut - 1e-9))  # (in lb order)
             for a in range(0, len(todo), WHOLE_GRID_BATCH):
                 part = todo[a:a + WHOLE_GRID_BATCH]
                 if lb[part[0]] >= cut - 1e-9:
@@ -1069,6 +1065,20 @@ def low_wall_moves(store: Store, lower_bound, first: Grid, h: float):
         # the store's grid, which holds the walked one, moved alike holds the widened
         # one (the driver keeps the candidates valid on the store's grid)
         store.grid = store.grid.widened(names)
+
+
+def by_least_bound(grid: Grid, bound):
+    """Each base width's candidates of ``grid`` (:meth:`Grid.by_width`: one width held
+    at a time) in increasing lower bound of the cost ``bound`` (a function of integer
+    candidates, money/m), the widths in increasing least lower bound: (the width's
+    least bound, its candidates, their bounds). Once a cost at or below a width's least
+    bound is found, no candidate of that width or of any after it is cheaper."""
+    least = np.array([bound(v).min() if len(v) else math.inf for v in grid.by_width()])
+    for w in np.argsort(least, kind="stable"):
+        v = grid.at_width(grid.b[0] + int(w)).every()
+        lb = np.asarray(bound(v), dtype=float)
+        order = np.argsort(lb, kind="stable")
+        yield float(least[w]), v[order], lb[order]
 
 
 def needs_second(store: Store, starts, h: float = 0.0) -> bool:
@@ -1515,23 +1525,18 @@ def _cheapest(demand: Demand, basis: Basis, costing: Costing, grid: Grid, chunk:
     base width at a time (:meth:`Grid.by_width`; memory bounded by one width's
     candidates), the widths in increasing least lower bound, and each width's
     candidates in increasing lower bound, until the lower bound reaches the best cost
-    found. Every candidate left unchecked has a lower bound at or above a best cost
-    found, so none is cheaper than the answer (while nothing passes, every candidate is
-    checked)."""
+    found (:func:`by_least_bound`). Every candidate left unchecked has a lower bound at
+    or above a best cost found, so none is cheaper than the answer (while nothing
+    passes, every candidate is checked)."""
     def bound(v):
         return ev_.lower_bound(grid.sections(v), Rows.of([demand], [len(v)]), demand,
                                costing, basis)
 
-    least = np.array([bound(v).min() if len(v) else math.inf for v in grid.by_width()])
     best, best_cost, best_u = None, math.inf, math.inf
     least_v, least_u = None, math.inf
-    for w in np.argsort(least, kind="stable"):
-        if not every and least[w] >= best_cost - 1e-9:
+    for least, v, lb in by_least_bound(grid, bound):
+        if not every and least >= best_cost - 1e-9:
             break
-        v = grid.at_width(grid.b[0] + int(w)).every()
-        lb = bound(v)
-        order = np.argsort(lb, kind="stable")
-        v, lb = v[order], lb[order]
         for a in range(0, len(v), chunk):
             if not every and lb[a] >= best_cost - 1e-9:
                 break
