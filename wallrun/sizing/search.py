@@ -626,47 +626,40 @@ def planes(cur: np.ndarray, grid: Grid, sets, shorter: int | None = None) -> np.
     stem thickness moves the toe length that passes (the toe and heel bars chosen jump
     with the thickness and the toe length), and the toe lengths that pass can be
     islands one step wide, out of single steps' reach.
-    Rows that close at no toe length are not made (:func:`_planes`); other invalid
-    vectors are dropped by the driver."""
+    Invalid vectors are dropped by the driver."""
     return _planes(cur, grid, plane_offsets(sets), shorter)
 
 
-def plane_offsets(sets) -> np.ndarray:
+def plane_offsets(sets) -> tuple[np.ndarray, np.ndarray]:
     """The combinations of steps of every (bases, stems, widths) of ``sets``, (k, 3)
     (base thickness, stem base, base width; set by set, the first entry's steps
-    outermost)."""
-    return np.vstack([np.array(list(itertools.product(*st)), dtype=np.int64).reshape(-1, 3)
-                      for st in sets])
+    outermost), and the widest step of each one's set, (k,)."""
+    offs = [np.array(list(itertools.product(*st)), dtype=np.int64).reshape(-1, 3)
+            for st in sets]
+    return (np.vstack(offs),
+            np.concatenate([np.full(len(o), max(st[2]), dtype=np.int64)
+                            for o, st in zip(offs, sets)]))
 
 
 def _planes(cur, grid: Grid, offsets, shorter: int | None = None) -> np.ndarray:
-    """:func:`planes` of the :func:`plane_offsets` ``offsets``, without the rows the
-    driver's validity filter would drop whatever their toe: an offset whose section
-    does not close with no toe (every rule on the toe is an upper limit: half the
-    base, a heel of a step, a key behind the toe) has none, and where the grid keeps
-    the toe to half the base each offset's toes stop at half its own base. The rows
-    left are those of the whole planes that the filter keeps, and a few more (about
-    half the rows of the whole planes on the benchmark's 10 km wall)."""
+    """:func:`planes` of the :func:`plane_offsets` ``offsets`` (with the grid's toe
+    bound, a toe up to half the base as widened by the set's widest step)."""
     cur = np.asarray(cur, dtype=np.int64)
-    offs = offsets
+    offs, widest = offsets
     shorter = TOE_REACH if shorter is None else shorter
-    at = np.repeat(cur[None, :], len(offs), axis=0)  # each offset's section, no toe
-    for j, k in enumerate((TB, TS, B)):
-        at[:, k] += offs[:, j]
-    at[:, TOE] = 0
-    live = grid.valid(at)
-    offs, at = offs[live], at[live]
     wider = np.maximum(offs[:, 2], 0)  # the window's extra toe lengths, per offset
-    longest = cur[TOE] + TOE_REACH + wider  # per offset
-    if grid.toe_half:
-        longest = np.minimum(longest, at[:, B] // 2)
     toes = grid.axes()[TOE]
-    toes = toes[(toes >= cur[TOE] - shorter) & (toes <= longest.max(initial=-1))]
+    toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + TOE_REACH + wider.max())]
     # (offset, toe, entry): the offsets outermost, as the rows are returned
     o = np.empty((len(offs), len(toes), NDIM), dtype=np.int64)
-    o[...] = at[:, None, :]
+    o[...] = cur
+    for j, k in enumerate((TB, TS, B)):
+        o[:, :, k] += offs[:, j, None]
     o[:, :, TOE] = toes[None, :]
-    return o[toes[None, :] <= longest[:, None]]
+    keep = toes[None, :] <= cur[TOE] + TOE_REACH + wider[:, None]
+    if grid.toe_half:
+        keep &= toes[None, :] <= (cur[B] + widest[:, None]) // 2
+    return o[keep]
 
 
 def narrower_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
