@@ -1407,10 +1407,9 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
         known[r] = None if ref_tasks[r].store.best() is None else ref_tasks[r].store.best_vector()
 
     # 2. the demands, from their references' best sections
-    tasks, starts_of, firsts = [], [], []
+    tasks, starts_of = [], []
     for d in todo:
-        firsts.append(grid_for(d, step, basis.design))
-        s = Store(firsts[-1])
+        s = Store(grid_for(d, step, basis.design))
         starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
                   if known[reference(d, h)] is not None]
         starts_of.append(starts)
@@ -1426,10 +1425,12 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
         t.store.absorb(a.store)
-    # 2c. a low wall's whole grid, widened as the exhaustive reference widens it
+    # 2c. a low wall's whole grid, widened as the exhaustive reference widens it, from
+    # its first grid (grid_for's, before the search moved a bound)
+    lows = [(t, grid_for(t.demand, step, basis.design)) for t in tasks]
     checked += _run_by_ground(
         [_Task(t.demand, t.store, low_wall_moves(t.store, lb_of(t.demand, g), g, t.demand.h))
-         for t, g in zip(tasks, firsts) if small_grid(g, t.demand.h)], basis, costing)
+         for t, g in lows if small_grid(g, t.demand.h)], basis, costing)
 
     # 3. the finalists of each, in full with curtailment
     for d, sd in zip(todo, finish(tasks, basis, costing)):
