@@ -269,6 +269,33 @@ def test_search_on_a_tall_wall_over_wet_low_friction_ground():
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def test_search_looks_further_on_weak_ground():
+    # A 6.14 m panel of an invented wall (DA2; backfill 20.9 kN/m3, 29 degrees under a
+    # 16 degree slope; base 18.9 kN/m3, 33 degrees, c' 0; water 1.88 m above the base;
+    # surcharge 15 kPa; 5 cm grid), found by a sample of invented walls. Its base is as
+    # wide as the wall is high (search.FAR_FROM): the moves of firm ground
+    # (search.NEAR) settled 0.88 % above the grid's cheapest, at B 7.10, toe 2.55, base
+    # 0.55, stem 0.55 to 0.30 (4409.78 a metre). The grid's cheapest is B 7.10, toe
+    # 1.10, base 0.70, stem 0.55 to 0.25 at 4371.28 a metre; the reference is taken on
+    # the 7.10 m base width alone: the whole grid's (233 s) gives the same section.
+    from dataclasses import replace as _replace
+
+    basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"))
+    d = Demand(z_top=61.184, z_front=55.04,
+               backfill=Backfill(unit_weight_kn_m3=20.9, friction_angle_deg=29.0,
+                                 slope_deg=16.0),
+               foundation=Foundation(unit_weight_kn_m3=18.9, friction_angle_deg=33.0),
+               surcharge_kpa=15.0, water=Water(height_above_base_m=1.88), wall_top_m=61.2,
+               min_founding_depth_m=0.6, founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    part = _replace(grid_for(d, 0.05, basis.design), b=(142, 142))
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=part, widen=False)
+    assert sd.status == "ok" and ref is not None
+    assert ref_cost == pytest.approx(4371.278, abs=0.01)
+    assert sd.section.base_width_m >= search.far_from(d)
+    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
 def test_the_grid_by_width_is_the_whole_grid():
     # the reference takes the grid one base width at a time (memory bounded on the tens
     # of millions of candidates of a tall wall's 5 cm grid): the widths' candidates
@@ -384,6 +411,47 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     assert set(map(tuple, t.tolist())) == {(60 + db, 10 + dt, 8 + dz, 7 + ds, 5, 0, 0)
                                            for ds in rs for dt in rt for db in rb
                                            for dz in rz}
+
+
+def test_the_far_reach_holds_every_move_of_the_near_one():
+    # search.FAR only looks further: more seeds, and each of its step sets holds the
+    # near one's, so its planes about a section hold the near planes
+    near, far = search.NEAR, search.FAR
+    assert (near.seeds, near.jump, near.toe, near.heel, near.shift, near.planes) == (
+        search.SEEDS, search.JUMP_REACH, search.TOE_REACH, search.HEEL_REACH,
+        search.SHIFT_REACH, search.BASE_PLANES)
+    assert far.seeds > near.seeds
+    rows = lambda a: set(map(tuple, np.asarray(a).tolist()))  # noqa: E731
+    for a, b in ((near.jump_window, far.jump_window), (near.heel_steps, far.heel_steps),
+                 (near.shift_steps, far.shift_steps),
+                 (near.plane_offsets[0], far.plane_offsets[0])):
+        assert rows(a) < rows(b)
+    g = grid_for(demand(3.0), 0.05)
+    cur = np.array([60, 10, 8, 7, 5, 0, 0])
+    for move in (lambda r: search._planes(cur, g, r.plane_offsets, toe_reach=r.toe),
+                 lambda r: search.narrower_lines(cur, g, r.toe),
+                 lambda r: search.toe_lines(cur, g, r.toe),
+                 lambda r: search.heel_lines(cur, r), lambda r: search.stem_shifts(cur, r),
+                 lambda r: search.jumps(cur, g, r.jump)):
+        assert rows(move(near)) < rows(move(far))
+
+
+def test_a_search_looks_far_from_a_base_as_wide_as_the_wall_is_high():
+    # far_from: FAR_FROM (1.0) x (retained height + least founding depth + lowering)
+    d = demand(3.0, min_founding_depth_m=0.6, extra_depth_m=0.15)
+    assert search.far_from(d) == pytest.approx(3.75)
+    g = grid_for(d, 0.05)
+    st = search.Store(g, far_from_m=search.far_from(d))
+    assert st.reach is search.NEAR
+    st.look_far(np.array([74, 10, 8, 7, 5, 0, 0]))  # 3.70 m: near
+    assert st.reach is search.NEAR
+    st.look_far(np.array([75, 10, 8, 7, 5, 0, 0]))  # 3.75 m: far from here on
+    assert st.reach is search.FAR
+    st.look_far(np.array([60, 10, 8, 7, 5, 0, 0]))
+    assert st.reach is search.FAR
+    s0 = search.Store(g)  # no height from which to look far: never far
+    s0.look_far(np.array([400, 10, 8, 7, 5, 0, 0]))
+    assert s0.reach is search.NEAR
 
 
 def _pass_all(st, v, cost: float, cheap=None) -> None:

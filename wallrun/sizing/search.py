@@ -60,6 +60,14 @@ compared with :func:`cheapest_on_grid`, which checks every candidate of the grid
 increasing lower bound, stopping only where no unchecked candidate can be cheaper), in
 the tests and the benchmark.
 
+How far the moves look (the seeds of a cold start, the reach of the jumps, planes,
+heel lines and stem shifts) is the store's :class:`Reach`: ``NEAR`` to begin with, and
+``FAR`` from the moment the search reaches a section whose base is as wide as the wall
+is high (``FAR_FROM``, :func:`far_from`; :meth:`Store.look_far`, at the coarse grid of
+a cold start, at the first start of a demand and before each round of the planes). A
+base that wide is held by weak ground, where the sections that pass lie in basins far
+apart; elsewhere the search is as it was without ``FAR``.
+
 The figures in the comments of the moves below were measured when a face took its
 cheapest bars even where they failed their shear or bend check (before 2026-12-03's
 ``structure.design_reinforcement``): such sections cut the passing ones into islands,
@@ -72,7 +80,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -235,6 +243,22 @@ SHIFT_REACH = (4, 3, 1, 0)
 #: cheapest lay in the planes of the second best); three cost about 3.5 % more
 #: candidates at 10 km.
 PLANE_ROUNDS = 3
+#: Base width, as a multiple of the least height from the retained level to the
+#: underside of the base (:func:`far_from`), from which a search's moves look further
+#: (``FAR``, :class:`Reach`). A base as wide as the wall is high is held by weak ground
+#: (sliding or bearing; about 0.5 to 0.7 of it is usual on firm ground, common
+#: practice), and there the sections that pass lie in basins far apart. On 50 invented
+#: walls (15,630 demands: the ground drawn as ``benchmarks/walls.py`` draws it, on a
+#: quarter of the panels of the benchmark's 10 km wall each; 2026-12-05), against the
+#: best section known to three searches (this one, this one without ``FAR``, and one
+#: with every reach as wide as ``FAR``'s and more on every demand), 51 demands ended
+#: more than 0.5 % above it without ``FAR`` and 17 with it (6 of them on firm ground,
+#: which ``FAR`` leaves alone; 7 that had been within 0.5 % without it: another start
+#: can settle in a dearer basin), and 5 demands found a passing section where none had
+#: been found. The walls that reach it took 20 to
+#: 50 % longer. The benchmark's 10 km wall reaches 0.90 at most: the same designs and
+#: candidates, as the demo sites' designs.
+FAR_FROM = 1.0
 #: While nothing passes, the second descent moves to the candidate of least cost x (1 +
 #: ``OVERSTRESS_WEIGHT`` (u - 1)) (u its utilization), not to the least utilised: a
 #: start that fails by more than one step can mend grows every dimension when it
@@ -321,7 +345,8 @@ FRESH_CHUNK = 200_000
 # --- the candidates of one demand ---------------------------------------------------------
 
 class Store:
-    """The checked candidates of one demand: integer vectors, ok, cost, utilization.
+    """The checked candidates of one demand: integer vectors, ok, cost, utilization;
+    and how far its moves look (``reach``, :meth:`look_far`).
 
     A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones. The
     codes checked are kept sorted (membership by binary search), the best candidate is
@@ -329,8 +354,13 @@ class Store:
     whole record is read (``V``, ``ok``, ``cost``, ``util``).
     """
 
-    def __init__(self, grid: Grid, cap: float = math.inf, prior: "Store | None" = None):
+    def __init__(self, grid: Grid, cap: float = math.inf, prior: "Store | None" = None,
+                 far_from_m: float = math.inf, reach: "Reach | None" = None):
         self.grid = grid
+        # how far its moves look (:class:`Reach`): ``FAR`` once a section it reaches has
+        # a base of ``far_from_m`` (m) or wider (:meth:`look_far`)
+        self.far_from_m = far_from_m
+        self.reach = NEAR if reach is None else reach
         self.cap = cap  # a candidate whose lower bound is at or above it is not checked
         # another search of the same demand, done: what it checked in full (a finite
         # cost) is taken from its record, not checked again (:meth:`from_prior`)
@@ -351,6 +381,12 @@ class Store:
     @property
     def checked(self) -> int:
         return self._n
+
+    def look_far(self, v) -> None:
+        """Take the ``FAR`` reach from here on where the integer candidate ``v`` (None:
+        none) has a base of ``far_from_m`` or wider."""
+        if v is not None and v[B] * self.grid.step >= self.far_from_m - 1e-9:
+            self.reach = FAR
 
     def _record(self) -> tuple:
         if self._joined is None:
@@ -590,9 +626,6 @@ def _jump_window(reach: int) -> np.ndarray:
     return out
 
 
-_JUMP_WINDOW = _jump_window(JUMP_REACH)
-
-
 def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     """Candidates beyond single steps from ``cur``, where a cheaper section lies across
     sections that fail or cost more. A thinner base or a thinner or thicker stem that
@@ -604,7 +637,8 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     cost jump, not grow, with its thickness), and every key with the rest as cur's.
     Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
-    win = cur[None, :] + (_JUMP_WINDOW if reach == JUMP_REACH else _jump_window(reach))
+    window = next((r.jump_window for r in (NEAR, FAR) if r.jump == reach), None)
+    win = cur[None, :] + (_jump_window(reach) if window is None else window)
     axes = grid.axes()
     lines = []
     for k in (TB, TS, TT):
@@ -641,51 +675,52 @@ def plane_offsets(sets) -> tuple[np.ndarray, np.ndarray]:
                             for o, st in zip(offs, sets)]))
 
 
-def _planes(cur, grid: Grid, offsets, shorter: int | None = None) -> np.ndarray:
+def _planes(cur, grid: Grid, offsets, shorter: int | None = None,
+            toe_reach: int = TOE_REACH) -> np.ndarray:
     """:func:`planes` of the :func:`plane_offsets` ``offsets`` (with the grid's toe
     bound, a toe up to half the base as widened by the set's widest step)."""
     cur = np.asarray(cur, dtype=np.int64)
     offs, widest = offsets
-    shorter = TOE_REACH if shorter is None else shorter
+    shorter = toe_reach if shorter is None else shorter
     wider = np.maximum(offs[:, 2], 0)  # the window's extra toe lengths, per offset
     toes = grid.axes()[TOE]
-    toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + TOE_REACH + wider.max())]
+    toes = toes[(toes >= cur[TOE] - shorter) & (toes <= cur[TOE] + toe_reach + wider.max())]
     # (offset, toe, entry): the offsets outermost, as the rows are returned
     o = np.empty((len(offs), len(toes), NDIM), dtype=np.int64)
     o[...] = cur
     for j, k in enumerate((TB, TS, B)):
         o[:, :, k] += offs[:, j, None]
     o[:, :, TOE] = toes[None, :]
-    keep = toes[None, :] <= cur[TOE] + TOE_REACH + wider[:, None]
+    keep = toes[None, :] <= cur[TOE] + toe_reach + wider[:, None]
     if grid.toe_half:
         keep &= toes[None, :] <= (cur[B] + widest[:, None]) // 2
     return o[keep]
 
 
-def narrower_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
+def narrower_lines(cur: np.ndarray, grid: Grid, toe_reach: int = TOE_REACH) -> np.ndarray:
     """The base of ``cur`` narrower by each of ``NARROWER`` steps at the same
     thicknesses, with every toe length from two steps shorter than cur's to
     ``TOE_REACH`` steps longer (:func:`planes`): a narrower base with a longer toe and a
     shorter heel."""
-    return _planes(cur, grid, _NARROWER_OFFSETS, shorter=2)
+    return _planes(cur, grid, _NARROWER_OFFSETS, shorter=2, toe_reach=toe_reach)
 
 
-def heel_lines(cur: np.ndarray) -> np.ndarray:
+def heel_lines(cur: np.ndarray, reach: "Reach | None" = None) -> np.ndarray:
     """The stem of ``cur`` moved along with its heel: the base width and toe changed
-    together by up to ``HEEL_REACH`` steps either way (the heel as cur's), with the base
+    together by up to ``reach.heel`` steps either way (``HEEL_REACH`` of ``NEAR``
+    unless given; the heel as cur's), with the base
     thickness as cur's or a step either way, and by up to ``HEEL_TOP_REACH`` steps with
     the stem top one or two steps thicker (m, NDIM). A much longer or shorter toe on
     the same heel can be cheaper than every section between. Invalid vectors are
     dropped by the driver."""
-    return np.asarray(cur, dtype=np.int64)[None, :] + _HEEL_STEPS
+    return np.asarray(cur, dtype=np.int64)[None, :] + (reach or NEAR).heel_steps
 
 
-def toe_lines(cur: np.ndarray, grid: Grid) -> np.ndarray:
+def toe_lines(cur: np.ndarray, grid: Grid, toe_reach: int = TOE_REACH) -> np.ndarray:
     """A thinner base with every toe length: the :func:`planes` of ``TOE_LINES``."""
-    return _planes(cur, grid, _TOE_LINE_OFFSETS)
+    return _planes(cur, grid, _TOE_LINE_OFFSETS, toe_reach=toe_reach)
 
 
-_BASE_PLANE_OFFSETS = plane_offsets(BASE_PLANES)
 _TOE_LINE_OFFSETS = plane_offsets(TOE_LINES)
 _NARROWER_OFFSETS = plane_offsets((((0,), (0,), tuple(-k for k in NARROWER)),))
 
@@ -705,12 +740,13 @@ def thickness_trades(cur: np.ndarray) -> np.ndarray:
     return np.asarray(cur, dtype=np.int64)[None, :] + _TRADE_STEPS
 
 
-def stem_shifts(cur: np.ndarray) -> np.ndarray:
+def stem_shifts(cur: np.ndarray, reach: "Reach | None" = None) -> np.ndarray:
     """The stem base, toe, base width and base thickness of ``cur`` changed by up to
-    ``SHIFT_REACH`` steps each, the rest as cur's (m, NDIM): a thicker stem takes its
+    ``reach.shift`` steps each (``SHIFT_REACH`` of ``NEAR`` unless given), the rest as
+    cur's (m, NDIM): a thicker stem takes its
     thickness from the heel or the toe, and the toe length and base width that pass
     move with it. Invalid vectors are dropped by the driver."""
-    return np.asarray(cur, dtype=np.int64)[None, :] + _SHIFT_STEPS
+    return np.asarray(cur, dtype=np.int64)[None, :] + (reach or NEAR).shift_steps
 
 
 def box_steps(dims, reach) -> np.ndarray:
@@ -733,20 +769,59 @@ def _trade_steps() -> np.ndarray:
 
 
 _TRADE_STEPS = _trade_steps()
-_SHIFT_STEPS = box_steps((TS, TOE, B, TB), SHIFT_REACH)
 
 
-def _heel_steps() -> np.ndarray:
+def _heel_steps(reach: int = HEEL_REACH) -> np.ndarray:
     """The steps of :func:`heel_lines`: base width and toe together (the heel kept),
     with the base thickness a step either way, or with the stem top one or two steps
     thicker (m, NDIM)."""
     top = box_steps((B, TT), (HEEL_TOP_REACH, 2))
-    out = np.vstack([box_steps((B, TB), (HEEL_REACH, 1)), top[top[:, TT] > 0]])
+    out = np.vstack([box_steps((B, TB), (reach, 1)), top[top[:, TT] > 0]])
     out[:, TOE] = out[:, B]
     return out
 
 
-_HEEL_STEPS = _heel_steps()
+@dataclass(frozen=True)
+class Reach:
+    """How far a search's moves look about a section, in grid steps: the cold start's
+    seeds (``SEEDS``), the jumps' base-width reach (``JUMP_REACH``), the planes' toe
+    lengths (``TOE_REACH``), the heel lines' reach (``HEEL_REACH``), the stem shifts'
+    (``SHIFT_REACH``) and the planes' sets (``BASE_PLANES``); with the step arrays
+    they make."""
+
+    seeds: int
+    jump: int
+    toe: int
+    heel: int
+    shift: tuple[int, int, int, int]
+    planes: tuple
+    jump_window: np.ndarray = field(init=False, repr=False, compare=False)
+    heel_steps: np.ndarray = field(init=False, repr=False, compare=False)
+    shift_steps: np.ndarray = field(init=False, repr=False, compare=False)
+    plane_offsets: tuple = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self):
+        for name, value in (("jump_window", _jump_window(self.jump)),
+                            ("heel_steps", _heel_steps(self.heel)),
+                            ("shift_steps", box_steps((TS, TOE, B, TB), self.shift)),
+                            ("plane_offsets", plane_offsets(self.planes))):
+            object.__setattr__(self, name, value)
+
+
+#: The moves' reach on most ground (the constants above).
+NEAR = Reach(seeds=SEEDS, jump=JUMP_REACH, toe=TOE_REACH, heel=HEEL_REACH,
+             shift=SHIFT_REACH, planes=BASE_PLANES)
+#: The moves' reach from where a search reaches a base of ``FAR_FROM`` or wider
+#: (:meth:`Store.look_far`): twice the seeds, jumps of 12 steps, toe lengths of 30,
+#: heel lines of 30, stem shifts of (6, 4, 2, 1), and a plane of the base thickness,
+#: stem base and base width two, two and three steps either way together. On the 34
+#: demands of the first 30 of those walls that ended over 0.5 % above the best known
+#: without it, each of these was needed (left out one at a time, 1 to 8 of the 34
+#: stayed above); a third lattice neighbour, more plane rounds, wider thickness trades
+#: or narrower lines, and the second descent on every demand took none further.
+FAR = Reach(seeds=6, jump=12, toe=30, heel=30, shift=(6, 4, 2, 1),
+            planes=BASE_PLANES + ((tuple(range(-2, 3)), tuple(range(-2, 3)),
+                                   tuple(range(-3, 4))),))
 
 
 def plane_moves(store: Store):
@@ -759,9 +834,11 @@ def plane_moves(store: Store):
         return
     for _ in range(PLANE_ROUNDS):
         cur = store.best_vector()
-        yield Ask(np.vstack([_planes(cur, store.grid, _BASE_PLANE_OFFSETS),
-                             narrower_lines(cur, store.grid), heel_lines(cur),
-                             thickness_trades(cur), stem_shifts(cur)]))
+        store.look_far(cur)
+        r = store.reach
+        yield Ask(np.vstack([_planes(cur, store.grid, r.plane_offsets, toe_reach=r.toe),
+                             narrower_lines(cur, store.grid, r.toe), heel_lines(cur, r),
+                             thickness_trades(cur), stem_shifts(cur, r)]))
         if np.array_equal(store.best_vector(), cur):
             return
         for cand in descent(store, store.best_vector()):
@@ -857,7 +934,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     return
                 if jumped < max_jumps:
                     jumped += 1
-                    yield jumps(cur, store.grid)
+                    yield jumps(cur, store.grid, store.reach.jump)
                     if not np.array_equal(store.best_vector(), cur):
                         cur, use_full = store.best_vector(), False
                         continue
@@ -866,7 +943,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 if toe_lined or not toe_line:
                     return
                 toe_lined = True
-                yield toe_lines(cur, store.grid)
+                yield toe_lines(cur, store.grid, store.reach.toe)
                 if np.array_equal(store.best_vector(), cur):
                     return
                 cur, use_full = store.best_vector(), False
@@ -898,12 +975,22 @@ class Request:
 
 def cold_moves(store: Store, lower_bound):
     """A cold start: the coarse grid best-first, then a descent from each of its
-    ``SEEDS`` cheapest passing (or least utilised) candidates."""
-    v, _ = store.unchecked(store.grid.every(store.grid.coarse_strides(COARSE)))
+    cheapest passing (or least utilised) candidates, as many as the store's reach
+    has seeds. Where the cheapest coarse pass has a base wide enough to look far
+    (:meth:`Store.look_far`), the coarse grid goes on best-first to the ``FAR`` seeds
+    first (the same seeds as taking them from the start)."""
+    coarse = store.grid.every(store.grid.coarse_strides(COARSE))
+    v, _ = store.unchecked(coarse)
     if len(v):
-        for part in best_first(store, v, lower_bound(v), SEEDS):
+        for part in best_first(store, v, lower_bound(v), store.reach.seeds):
             yield Ask(part, prune=False)
-    for i in store.ranked(SEEDS):
+    if store.reach is NEAR and store.best() is not None:
+        store.look_far(store.best_vector())
+        v, _ = store.unchecked(coarse)
+        if store.reach is FAR and len(v):
+            for part in best_first(store, v, lower_bound(v), store.reach.seeds):
+                yield Ask(part, prune=False)
+    for i in store.ranked(store.reach.seeds):
         for cand in descent(store, store.V[i].copy()):
             yield Ask(cand)
 
@@ -917,6 +1004,14 @@ def reference_moves(store: Store, lower_bound):
     yield from cold_moves(store, lower_bound)
     yield from widen_moves(store, lower_bound)
     yield from settle_moves(store)
+
+
+def far_from(demand: Demand) -> float:
+    """The base width (m) from which a search of ``demand`` takes the ``FAR`` reach:
+    ``FAR_FROM`` times the least height from the retained level to the underside of
+    the base (the retained height, the least founding depth and any founding
+    lowering)."""
+    return FAR_FROM * (demand.h + demand.min_founding_depth_m + demand.extra_depth_m)
 
 
 def lattice_neighbours(ref: Demand) -> tuple[Demand, ...]:
@@ -981,6 +1076,7 @@ def search_moves(store: Store, lower_bound, starts=()):
     whole grid comes after its second descent: :func:`low_wall_moves`.)"""
     starts = [np.asarray(s, dtype=np.int64) for s in starts]
     if starts:
+        store.look_far(starts[0])
         for cand in descent(store, starts[0], extra=np.array(starts), polish=False):
             yield Ask(cand)
     if store.best() is None:
@@ -1386,7 +1482,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
                                      for h in reference_heights(d.h)) if r not in known]
     ref_tasks = {}
     for r in dict.fromkeys(refs + [n for r in refs for n in lattice_neighbours(r)]):
-        s = Store(grid_for(r, step, basis.design))
+        s = Store(grid_for(r, step, basis.design), far_from_m=far_from(r))
         ref_tasks[r] = _Task(r, s, reference_moves(s, lb_of(r, s.grid)))
     checked_refs = _run_by_ground(list(ref_tasks.values()), basis, costing)
     cold = {r: None if t.store.best() is None else t.store.best_vector()
@@ -1398,7 +1494,8 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
             if (cold[r] is None or cold[n] is None
                     or steps_apart(cold[n], cold[r], [B, TOE, TB, TS, TT]) < NEIGHBOUR_APART):
                 continue
-            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store)
+            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store,
+                       far_from_m=t.store.far_from_m, reach=t.store.reach)
             again.append((t, _Task(r, s2, neighbour_moves(s2, cold[n]))))
     checked_refs += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
@@ -1409,7 +1506,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     # 2. the demands, from their references' best sections
     tasks, starts_of = [], []
     for d in todo:
-        s = Store(grid_for(d, step, basis.design))
+        s = Store(grid_for(d, step, basis.design), far_from_m=far_from(d))
         starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
                   if known[reference(d, h)] is not None]
         starts_of.append(starts)
@@ -1420,7 +1517,8 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     again = []
     for t, st in zip(tasks, starts_of):
         if needs_second(t.store, st, t.demand.h):
-            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store)
+            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store,
+                       far_from_m=t.store.far_from_m, reach=t.store.reach)
             again.append((t, _Task(t.demand, s2, second_moves(s2, st[1]))))
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
