@@ -428,7 +428,7 @@ def test_the_far_reach_holds_every_move_of_the_near_one():
         assert rows(a) < rows(b)
     g = grid_for(demand(3.0), 0.05)
     cur = np.array([60, 10, 8, 7, 5, 0, 0])
-    for move in (lambda r: search._planes(cur, g, r.plane_offsets, toe_reach=r.toe),
+    for move in (lambda r: search.planes(cur, g, r.planes, toe_reach=r.toe),
                  lambda r: search.narrower_lines(cur, g, r.toe),
                  lambda r: search.toe_lines(cur, g, r.toe),
                  lambda r: search.heel_lines(cur, r), lambda r: search.stem_shifts(cur, r),

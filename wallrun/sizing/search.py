@@ -651,17 +651,19 @@ def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
     return np.vstack([win] + lines + [keys])
 
 
-def planes(cur: np.ndarray, grid: Grid, sets, shorter: int | None = None) -> np.ndarray:
-    """Every toe length from ``shorter`` steps shorter than cur's (``TOE_REACH`` unless
-    given) to ``TOE_REACH`` steps longer, and on a wider base as many steps longer again
-    as it is wider (the stem moved forward by the added width, its heel kept), with the
-    base thickness, stem base and base width of ``cur`` changed by each combination of
-    steps of each (bases, stems, widths) of ``sets`` (m, NDIM). A change of base or
+def planes(cur: np.ndarray, grid: Grid, sets, shorter: int | None = None,
+           toe_reach: int = TOE_REACH) -> np.ndarray:
+    """Every toe length from ``shorter`` steps shorter than cur's (``toe_reach`` unless
+    given) to ``toe_reach`` steps longer (``TOE_REACH`` of ``NEAR`` unless given), and
+    on a wider base as many steps longer again as it is wider (the stem moved forward
+    by the added width, its heel kept), with the base thickness, stem base and base
+    width of ``cur`` changed by each combination of steps of each (bases, stems,
+    widths) of ``sets`` (m, NDIM). A change of base or
     stem thickness moves the toe length that passes (the toe and heel bars chosen jump
     with the thickness and the toe length), and the toe lengths that pass can be
     islands one step wide, out of single steps' reach.
     Invalid vectors are dropped by the driver."""
-    return _planes(cur, grid, plane_offsets(sets), shorter)
+    return _planes(cur, grid, plane_offsets(sets), shorter, toe_reach)
 
 
 def plane_offsets(sets) -> tuple[np.ndarray, np.ndarray]:
@@ -825,7 +827,8 @@ FAR = Reach(seeds=6, jump=12, toe=30, heel=30, shift=(6, 4, 2, 1),
 
 
 def plane_moves(store: Store):
-    """After a demand's search: the :func:`planes` of ``BASE_PLANES`` and the
+    """After a demand's search: the :func:`planes` of the store's reach (``BASE_PLANES``
+    in ``NEAR``), the narrower bases, heel lines and stem shifts of that reach and the
     :func:`thickness_trades` about its best, and the descent on from a better one they
     find, then the same about the new best (at most ``PLANE_ROUNDS`` rounds, until a
     round finds nothing better). They come after everything else, so what the search
