@@ -184,15 +184,15 @@ def _tall_clay(z_top: float, z_front: float) -> Demand:
                   min_founding_depth_m=0.8, founding_step_m=0.15)
 
 
-def _search_and_part_reference(d: Demand, widths: tuple[int, int]):
+def _search_and_part_reference(d: Demand, widths: tuple[int, int], basis: Basis = BASIS):
     """The search's design of ``d`` on a 5 cm grid, and the cheapest passing section of
     the part of its grid with base widths ``widths`` (in steps) and its cost."""
     from dataclasses import replace as _replace
 
     from wallrun.sizing.grid import grid_for
-    sd = bespoke([d], BASIS, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, BASIS.design), b=widths)
-    ref, ref_cost = cheapest_on_grid(d, BASIS, Costing(), 0.05, grid=part, widen=False)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    part = _replace(grid_for(d, 0.05, basis.design), b=widths)
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=part, widen=False)
     assert sd.status == "ok" and ref is not None
     return sd, ref_cost
 
@@ -249,10 +249,7 @@ def test_search_on_a_tall_wall_over_wet_low_friction_ground():
     # search and the reference widen it, and it stays), toe 0.90, base 0.55, stem 0.55
     # at 5661.35 a metre. The reference is taken on the 11.40 m base width alone: the
     # whole grid's (33 minutes) gives the same section.
-    from dataclasses import replace as _replace
-
     from wallrun.settings import Loads
-    from wallrun.sizing.grid import grid_for
     basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"),
                   loads=Loads(surcharge_kpa=25.0))
     d = Demand(z_top=66.741215, z_front=59.758325,
@@ -261,10 +258,7 @@ def test_search_on_a_tall_wall_over_wet_low_friction_ground():
                                      cohesion_kpa=2.0),
                surcharge_kpa=25.0, water=Water(height_above_base_m=1.8), wall_top_m=66.75,
                min_founding_depth_m=0.6, founding_step_m=0.15)
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, basis.design), b=(228, 228))
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=part, widen=False)
-    assert sd.status == "ok" and ref is not None
+    sd, ref_cost = _search_and_part_reference(d, (228, 228), basis)
     assert ref_cost == pytest.approx(5661.352, abs=0.01)
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
@@ -278,8 +272,6 @@ def test_search_looks_further_on_weak_ground():
     # 0.55, stem 0.55 to 0.30 (4409.78 a metre). The grid's cheapest is B 7.10, toe
     # 1.10, base 0.70, stem 0.55 to 0.25 at 4371.28 a metre; the reference is taken on
     # the 7.10 m base width alone: the whole grid's (233 s) gives the same section.
-    from dataclasses import replace as _replace
-
     basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"))
     d = Demand(z_top=61.184, z_front=55.04,
                backfill=Backfill(unit_weight_kn_m3=20.9, friction_angle_deg=29.0,
@@ -287,10 +279,7 @@ def test_search_looks_further_on_weak_ground():
                foundation=Foundation(unit_weight_kn_m3=18.9, friction_angle_deg=33.0),
                surcharge_kpa=15.0, water=Water(height_above_base_m=1.88), wall_top_m=61.2,
                min_founding_depth_m=0.6, founding_step_m=0.15)
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, basis.design), b=(142, 142))
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=part, widen=False)
-    assert sd.status == "ok" and ref is not None
+    sd, ref_cost = _search_and_part_reference(d, (142, 142), basis)
     assert ref_cost == pytest.approx(4371.278, abs=0.01)
     assert sd.section.base_width_m >= search.far_from(d)
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
