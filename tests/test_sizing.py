@@ -537,6 +537,9 @@ def test_second_descent_only_where_the_taller_references_section_fails():
         far[dim] += k
         near[dim] += k - 1
         assert search.needs_second(st, [s1, far]) and not search.needs_second(st, [s1, near])
+    # or the search looks far (weak ground)
+    st.reach = search.FAR
+    assert search.needs_second(st, [s1, s0]) and not search.needs_second(st, [s1, s1.copy()])
 
 
 def test_second_descent_takes_what_the_first_checked_in_full(monkeypatch):
