@@ -285,6 +285,46 @@ def test_search_looks_further_on_weak_ground():
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def test_search_starts_cold_again_on_weak_ground():
+    # A 1.19 m panel of an invented wall (DA3; backfill 18.5 kN/m3, 28 degrees under a
+    # 16 degree slope; base 17.8 kN/m3, 34 degrees, c' 5 kPa, cu 68 kPa; surcharge 15
+    # kPa; 5 cm grid) on a base nearly three times its height to the underside: weak
+    # ground (search.FAR). Its references' basin held a 0.30 m stem on a 3.25 m base at
+    # 909.67 a metre, 2.12 % above the grid's cheapest; the cold start after its search
+    # (search.far_cold_moves) finds the cheapest, a 0.25 m stem and a 0.30 m base 3.35 m
+    # wide with a 0.15 m toe at 890.75 a metre (the exhaustive reference, whole grid).
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"))
+    d = Demand(z_top=61.824, z_front=60.63,
+               backfill=Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=28.0,
+                                 slope_deg=16.0),
+               foundation=Foundation(unit_weight_kn_m3=17.8, friction_angle_deg=34.0,
+                                     cohesion_kpa=5.0, undrained_strength_kpa=68.0),
+               surcharge_kpa=15.0, water=None, wall_top_m=61.95, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.05)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
+    assert sd.status == "ok" and ref is not None
+    assert ref_cost == pytest.approx(890.751, abs=0.01)
+    assert sd.section.base_width_m >= search.far_from(d)
+    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
+def test_far_cold_moves_only_on_weak_ground():
+    # the cold start after a demand's search: only where the store looks far and found a
+    # passing section; it starts with the coarse grid, best-first
+    g = grid_for(demand(3.0), 0.05)
+    bound = lambda v: np.zeros(len(v))  # noqa: E731
+    near, far, empty = search.Store(g), search.Store(g, reach=search.FAR), \
+        search.Store(g, reach=search.FAR)
+    for st in (near, far):
+        _pass_all(st, np.array([[60, 10, 8, 7, 5, 0, 0]]), 2000.0)
+    assert list(search.far_cold_moves(near, bound)) == []
+    assert list(search.far_cold_moves(empty, bound)) == []
+    first = next(search.far_cold_moves(far, bound))
+    coarse = {tuple(r) for r in g.every(g.coarse_strides(search.COARSE)).tolist()}
+    assert not first.prune and {tuple(r) for r in first.v.tolist()} <= coarse
+
+
 def test_the_grid_by_width_is_the_whole_grid():
     # the reference takes the grid one base width at a time (memory bounded on the tens
     # of millions of candidates of a tall wall's 5 cm grid): the widths' candidates
