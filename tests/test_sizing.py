@@ -184,6 +184,15 @@ def _tall_clay(z_top: float, z_front: float) -> Demand:
                   min_founding_depth_m=0.8, founding_step_m=0.15)
 
 
+def _search_and_reference(d: Demand, basis: Basis, step: float = 0.05):
+    """The search's design of ``d`` and the cheapest passing cost of its whole grid (the
+    exhaustive reference)."""
+    sd = bespoke([d], basis, Costing(), step)[0]
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), step)
+    assert sd.status == "ok" and ref is not None
+    return sd, ref_cost
+
+
 def _search_and_part_reference(d: Demand, widths: tuple[int, int], basis: Basis = BASIS):
     """The search's design of ``d`` on a 5 cm grid, and the cheapest passing section of
     the part of its grid with base widths ``widths`` (in steps) and its cost."""
@@ -301,9 +310,7 @@ def test_search_starts_cold_again_on_weak_ground():
                                      cohesion_kpa=5.0, undrained_strength_kpa=68.0),
                surcharge_kpa=15.0, water=None, wall_top_m=61.95, min_founding_depth_m=0.6,
                founding_step_m=0.15)
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
-    assert sd.status == "ok" and ref is not None
+    sd, ref_cost = _search_and_reference(d, basis)
     assert ref_cost == pytest.approx(890.751, abs=0.01)
     assert sd.section.base_width_m >= search.far_from(d)
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
@@ -371,9 +378,7 @@ def test_search_reaches_a_cheapest_section_beyond_single_steps():
                                      cohesion_kpa=3.0, undrained_strength_kpa=60.0),
                surcharge_kpa=20.0, water=None, wall_top_m=23.2, min_founding_depth_m=0.8,
                founding_step_m=0.15)
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05)
-    assert sd.status == "ok" and ref is not None
+    sd, ref_cost = _search_and_reference(d, basis)
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
