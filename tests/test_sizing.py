@@ -483,6 +483,11 @@ def test_a_search_looks_far_from_a_base_as_wide_as_the_wall_is_high():
     assert st.reach is search.FAR
     st.look_far(np.array([60, 10, 8, 7, 5, 0, 0]))
     assert st.reach is search.FAR
+    # another search of the same demand keeps its grid, reach and height to look far from
+    _pass_all(st, np.array([[60, 10, 8, 7, 5, 0, 0]]), 2000.0)
+    st2 = st.again()
+    assert (st2.grid is g and st2.reach is search.FAR and st2.far_from_m == st.far_from_m
+            and st2.cap == 2000.0 and st2.checked == 0)
     s0 = search.Store(g)  # no height from which to look far: never far
     s0.look_far(np.array([400, 10, 8, 7, 5, 0, 0]))
     assert s0.reach is search.NEAR

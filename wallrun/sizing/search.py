@@ -257,9 +257,9 @@ PLANE_ROUNDS = 3
 #: ended more than 0.5 % above it before (up to 12.7 %) and 12 with it (up to 3.0 %;
 #: 6 of them on firm ground, which ``FAR`` leaves alone; 5 that had been within 0.5 %
 #: before: another start can settle in a dearer basin), and 5 demands found a passing
-#: section where none had been found. With ``FAR`` alone 17 ended above, with the
-#: second descent of :func:`needs_second` too 15 (both against the best of three
-#: searches), and with the cold start of :func:`far_cold_moves` 12 of the five's. The
+#: section where none had been found. Against the best of the first three searches,
+#: ``FAR`` alone left 17 above and with the second descent of :func:`needs_second` 15;
+#: the cold start of :func:`far_cold_moves` brought them to the 12 above. The
 #: walls that reach it take longer: the ten walls of a seed 1.5 to 2.3 times as long,
 #: a wall up to four times. The benchmark's 10 km wall reaches 0.90 at most (the same
 #: designs and candidates), and the demo sites' designs are unchanged.
@@ -386,6 +386,14 @@ class Store:
     @property
     def checked(self) -> int:
         return self._n
+
+    def again(self) -> "Store":
+        """An empty store for another search of the same demand (a second descent, a
+        search from a lattice neighbour's section): this store's grid and reach, capped
+        at its best cost, taking what it checked in full from its record
+        (:meth:`from_prior`); its candidates are joined here by :meth:`absorb`."""
+        return Store(self.grid, cap=self.best_cost(), prior=self,
+                     far_from_m=self.far_from_m, reach=self.reach)
 
     def look_far(self, v) -> None:
         """Take the ``FAR`` reach from here on where the integer candidate ``v`` (None:
@@ -631,19 +639,20 @@ def _jump_window(reach: int) -> np.ndarray:
     return out
 
 
-def jumps(cur: np.ndarray, grid: Grid, reach: int = JUMP_REACH) -> np.ndarray:
+def jumps(cur: np.ndarray, grid: Grid, reach: "Reach | int | None" = None) -> np.ndarray:
     """Candidates beyond single steps from ``cur``, where a cheaper section lies across
     sections that fail or cost more. A thinner base or a thinner or thicker stem that
     passes only with the stem elsewhere on the base: base thickness changed by each of
     ``JUMP_BASE`` steps and stem base by each of ``JUMP_STEM``, each with the base width
-    moved by up to ``reach`` steps either way and the heel by each of ``JUMP_HEEL``
-    steps (the toe takes the rest). Then the whole range of base thickness, stem base
+    moved by up to ``reach`` steps either way (a :class:`Reach`'s ``jump``; ``NEAR``'s
+    unless given) and the heel by each of ``JUMP_HEEL`` steps (the toe takes the rest). Then the whole range of base thickness, stem base
     and stem top, each with the rest as cur's (the bars chosen for a member make its
     cost jump, not grow, with its thickness), and every key with the rest as cur's.
     Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
-    window = next((r.jump_window for r in (NEAR, FAR) if r.jump == reach), None)
-    win = cur[None, :] + (_jump_window(reach) if window is None else window)
+    reach = NEAR if reach is None else reach
+    win = cur[None, :] + (reach.jump_window if isinstance(reach, Reach)
+                          else _jump_window(reach))
     axes = grid.axes()
     lines = []
     for k in (TB, TS, TT):
@@ -707,7 +716,7 @@ def _planes(cur, grid: Grid, offsets, shorter: int | None = None,
 def narrower_lines(cur: np.ndarray, grid: Grid, toe_reach: int = TOE_REACH) -> np.ndarray:
     """The base of ``cur`` narrower by each of ``NARROWER`` steps at the same
     thicknesses, with every toe length from two steps shorter than cur's to
-    ``TOE_REACH`` steps longer (:func:`planes`): a narrower base with a longer toe and a
+    ``toe_reach`` steps longer (:func:`planes`): a narrower base with a longer toe and a
     shorter heel."""
     return _planes(cur, grid, _NARROWER_OFFSETS, shorter=2, toe_reach=toe_reach)
 
@@ -942,7 +951,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     return
                 if jumped < max_jumps:
                     jumped += 1
-                    yield jumps(cur, store.grid, store.reach.jump)
+                    yield jumps(cur, store.grid, store.reach)
                     if not np.array_equal(store.best_vector(), cur):
                         cur, use_full = store.best_vector(), False
                         continue
@@ -1528,8 +1537,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
             if (cold[r] is None or cold[n] is None
                     or steps_apart(cold[n], cold[r], [B, TOE, TB, TS, TT]) < NEIGHBOUR_APART):
                 continue
-            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store,
-                       far_from_m=t.store.far_from_m, reach=t.store.reach)
+            s2 = t.store.again()
             again.append((t, _Task(r, s2, neighbour_moves(s2, cold[n]))))
     checked_refs += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
@@ -1551,8 +1559,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     again = []
     for t, st in zip(tasks, starts_of):
         if needs_second(t.store, st, t.demand.h):
-            s2 = Store(t.store.grid, cap=t.store.best_cost(), prior=t.store,
-                       far_from_m=t.store.far_from_m, reach=t.store.reach)
+            s2 = t.store.again()
             again.append((t, _Task(t.demand, s2, second_moves(s2, st[1]))))
     checked += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
