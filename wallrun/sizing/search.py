@@ -67,8 +67,9 @@ is high (``FAR_FROM``, :func:`far_from`; :meth:`Store.look_far`, at the coarse g
 a cold start, at the first start of a demand and before each round of the planes). A
 base that wide is held by weak ground, where the sections that pass lie in basins far
 apart. A demand that looks far also gets the second descent (:func:`needs_second`)
-and, after its search, a cold start of its own (:func:`far_cold_moves`). Elsewhere the
-search is as it was without ``FAR``.
+and, after its search, a cold start of its own (:func:`far_cold_moves`, on a coarse grid
+with about twice the base thicknesses, ``FAR_COARSE``: there the sections that pass
+can lie at one base thickness). Elsewhere the search is as it was without ``FAR``.
 
 The figures in the comments of the moves below were measured when a face took its
 cheapest bars even where they failed their shear or bend check (before 2026-12-03's
@@ -104,6 +105,19 @@ REF_STEP_M = 0.25
 #: elsewhere ended 0.91 % above the exhaustive reference it had been at; about 1 % more
 #: candidates at 10 km).
 COARSE = (17, 8, 5, 5, 2)
+#: ``COARSE`` of the cold start after a far-looking search (:func:`far_cold_moves`):
+#: about twice as many base thicknesses. On weak ground bearing governs, and at a given
+#: width a thicker base adds its weight to the pressure while a thinner one fails in
+#: bending: the sections that pass can lie at one base thickness only, between two
+#: values of ``COARSE``. A DA3 2.77 m panel (an 18 degree slope, base phi' 25 degrees)
+#: ended 5.5 % above the exhaustive reference with ``COARSE`` (below that cost, only
+#: a 0.55 m base passes, on widths of 6.40 to 6.55 m) and at it with these (15 % more
+#: candidates). On 70 invented walls (seeds 7 to 9 and 41 to 44 of the walls of
+#: ``FAR_FROM``; 2026-12-05) 75 demands ended more than 0.5 % above the best section
+#: known without them and 33 with them (18 of them on weak ground, up to 2.2 %); 45
+#: cheaper, 1 dearer (by 0.03 %); 18 % more candidates on those walls, none at 10 km.
+#: Twice as many toe lengths too left about as many above for 31 % more again.
+FAR_COARSE = (17, 8, 10, 5, 2)
 #: Cheapest coarse passes a cold start descends from.
 SEEDS = 3
 #: Lattice heights below a reference whose cold sections it is searched again from
@@ -990,13 +1004,14 @@ class Request:
     prune: bool = True
 
 
-def cold_moves(store: Store, lower_bound):
-    """A cold start: the coarse grid best-first, then a descent from each of its
-    cheapest passing (or least utilised) candidates, as many as the store's reach
-    has seeds. Where the cheapest coarse pass has a base wide enough to look far
-    (:meth:`Store.look_far`), the coarse grid goes on best-first to the ``FAR`` seeds
-    first (the same seeds as taking them from the start)."""
-    coarse = store.grid.every(store.grid.coarse_strides(COARSE))
+def cold_moves(store: Store, lower_bound, values: tuple[int, ...] = COARSE):
+    """A cold start: the coarse grid (about ``values`` values of each dimension)
+    best-first, then a descent from each of the store's cheapest passing (or least
+    utilised) candidates, as many as its reach has seeds. Where the cheapest coarse
+    pass has a base wide enough to look far (:meth:`Store.look_far`), the coarse grid
+    goes on best-first to the ``FAR`` seeds first (the same seeds as taking them from
+    the start)."""
+    coarse = store.grid.every(store.grid.coarse_strides(values))
     v, _ = store.unchecked(coarse)
     if len(v):
         for part in best_first(store, v, lower_bound(v), store.reach.seeds):
@@ -1116,10 +1131,11 @@ def far_cold_moves(store: Store, lower_bound):
     the 50 invented walls of ``FAR_FROM`` it made 130 demands cheaper (by up to 12.1
     %) and none dearer, for 19 to 64 % more candidates on a seed's ten walls (none at
     10 km); with three seeds instead of six, as many candidates and 29 demands left over
-    0.5 % above the best known against 12."""
+    0.5 % above the best known against 12. Its coarse grid has about twice the base
+    thicknesses of a cold start's (``FAR_COARSE``)."""
     if store.reach is not FAR or store.best() is None:
         return
-    yield from cold_moves(store, lower_bound)
+    yield from cold_moves(store, lower_bound, FAR_COARSE)
     yield from settle_moves(store)
 
 
