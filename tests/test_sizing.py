@@ -299,8 +299,9 @@ def test_search_finds_a_basin_one_base_thickness_wide():
     # 18 degree slope; base 17.8 kN/m3, 25 degrees, c' 3 kPa; water 0.43 m above the
     # base; surcharge 20 kPa; wall top 0.2 m above the retained level; 5 cm grid),
     # drawn by benchmarks/optimality.py --seed 191. Bearing governs: at widths of 6.40
-    # to 6.55 m only a 0.55 m base passes below 2460 a metre (a thicker one adds its
-    # weight, a thinner one fails in bending), between the base thicknesses of the
+    # to 6.55 m only a 0.55 m base passes below 2460 a metre (a 0.60 m one adds its
+    # weight at the same founding level, 0.65 m down; a 0.50 m one founds 0.5 m down,
+    # on less overburden), between the base thicknesses of the
     # cold start's coarse grid; the search ended at B 5.85, base 0.70 (2460.42 a
     # metre), 5.5 % above the grid's cheapest. The cold start after a far-looking
     # search takes about every base thickness (search.FAR_COARSE) and finds it: B 6.50,

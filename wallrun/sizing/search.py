@@ -107,9 +107,10 @@ REF_STEP_M = 0.25
 COARSE = (17, 8, 5, 5, 2)
 #: ``COARSE`` of the cold start after a far-looking search (:func:`far_cold_moves`):
 #: about twice as many base thicknesses. On weak ground bearing governs, and at a given
-#: width a thicker base adds its weight to the pressure while a thinner one fails in
-#: bending: the sections that pass can lie at one base thickness only, between two
-#: values of ``COARSE``. A DA3 2.77 m panel (an 18 degree slope, base phi' 25 degrees)
+#: width a thicker base adds its weight at the same founding level while one a step
+#: thinner can found a founding step higher, on less overburden (design-basis section
+#: 1): the sections that pass can lie at one base thickness only, between two values
+#: of ``COARSE``. A DA3 2.77 m panel (an 18 degree slope, base phi' 25 degrees)
 #: ended 5.5 % above the exhaustive reference with ``COARSE`` (below that cost, only
 #: a 0.55 m base passes, on widths of 6.40 to 6.55 m) and at it with these (15 % more
 #: candidates). On 70 invented walls (seeds 7 to 9 and 41 to 44 of the walls of
