@@ -460,12 +460,14 @@ def test_jumps_reach_across_the_base_and_every_thickness():
         (60 - k, toe, 8, 7, 5, 0, 0) for k in search.NARROWER
         for toe in range(8, 10 + search.TOE_REACH + 1) if toe <= g.axes()[1][-1]}
     # the heel lines: base width and toe together up to HEEL_REACH steps either way,
-    # the base a step thinner, as cur's or a step thicker; and up to HEEL_TOP_REACH
-    # steps with the stem top one or two steps thicker
+    # the base a step thinner, as cur's, a step or two thicker, or a step thicker under
+    # a stem base a step thinner; and up to HEEL_TOP_REACH steps with the stem top one
+    # or two steps thicker
     t = search.heel_lines(cur)
     assert set(map(tuple, t.tolist())) == {
-        (60 + k, 10 + k, 8 + dz, 7, 5, 0, 0)
-        for k in range(-search.HEEL_REACH, search.HEEL_REACH + 1) for dz in (-1, 0, 1)} | {
+        (60 + k, 10 + k, 8 + dz, 7 + ds, 5, 0, 0)
+        for k in range(-search.HEEL_REACH, search.HEEL_REACH + 1)
+        for dz, ds in ((-1, 0), (0, 0), (1, 0), (2, 0), (1, -1))} | {
         (60 + k, 10 + k, 8, 7, 5 + dt, 0, 0)
         for k in range(-search.HEEL_TOP_REACH, search.HEEL_TOP_REACH + 1) for dt in (1, 2)}
     # the stem shifts: stem base, toe, base width and base thickness each up to
