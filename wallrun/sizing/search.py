@@ -215,10 +215,12 @@ NARROWER = tuple(range(4, 14))
 #: step thinner; with them both are at the best section known (about 3 % more
 #: candidates at 10 km; with the heel a step either way too, 9 %). The base two steps
 #: thicker, and a step thicker under a stem a step thinner, came later: on two invented
-#: walls (DA2 and DA3, 4.5 to 4.7 m, 5 and 10 cm steps) seven panels ended 0.6 to 1.7 %
-#: above a base 5 to 7 steps narrower with the toe as much shorter and the base one or
-#: two steps thicker (the stem a step thinner on one wall), and are at it with them;
-#: about 2.6 % more candidates at 10 km (the same designs).
+#: walls (DA2 and DA3, 4.5 to 4.7 m, 10 and 5 cm steps) six panels ended 0.8 to 1.7 %
+#: above a base 5 to 7 steps narrower with the toe about as much shorter and the base
+#: one or two steps thicker (the stem a step thinner on one wall), and are at it with
+#: them (2026-12-05; on seeds 41 to 44 of ``FAR_FROM``'s walls 17 demands over 0.5 %
+#: above the best known against 23, 7 cheaper, none dearer); about 2.6 % more
+#: candidates at 10 km (the same designs) and 0.3 % more on those walls.
 HEEL_REACH = 20
 #: Steps of :func:`heel_lines` with the stem top one or two steps thicker: on an
 #: invented DA3 wall (an 18 degree slope, base cu 70 kPa) panels of 6.1 to 6.2 m ended
