@@ -418,10 +418,12 @@ def test_jumps_reach_across_the_base_and_every_thickness():
     # on its own
     g = grid_for(demand(3.0), 0.05)
     cur = np.array([60, 10, 8, 7, 5, 0, 0])
-    j = search.jumps(cur, g, reach=6)
+    from dataclasses import replace as _replace
+    reach = _replace(search.NEAR, jump=6)
+    j = search.jumps(cur, g, reach)
     rows = set(map(tuple, j.tolist()))
     heel = lambda v: v[:, 0] - v[:, 1] - v[:, 3]  # noqa: E731
-    window = cur[None, :] + search._jump_window(6)
+    window = cur[None, :] + reach.jump_window
     assert set(map(tuple, window.tolist())) <= rows
     moved = window[(window[:, 2] == 6) & (window[:, 3] == 7)]
     assert {(60 + k, 10 + k) for k in range(-6, 7)} <= set(map(tuple, moved[:, :2]))
@@ -498,7 +500,7 @@ def test_the_far_reach_holds_every_move_of_the_near_one():
                  lambda r: search.narrower_lines(cur, g, r.toe),
                  lambda r: search.toe_lines(cur, g, r.toe),
                  lambda r: search.heel_lines(cur, r), lambda r: search.stem_shifts(cur, r),
-                 lambda r: search.jumps(cur, g, r.jump)):
+                 lambda r: search.jumps(cur, g, r)):
         assert rows(move(near)) < rows(move(far))
 
 

@@ -661,20 +661,18 @@ def _jump_window(reach: int) -> np.ndarray:
     return out
 
 
-def jumps(cur: np.ndarray, grid: Grid, reach: "Reach | int | None" = None) -> np.ndarray:
+def jumps(cur: np.ndarray, grid: Grid, reach: "Reach | None" = None) -> np.ndarray:
     """Candidates beyond single steps from ``cur``, where a cheaper section lies across
     sections that fail or cost more. A thinner base or a thinner or thicker stem that
     passes only with the stem elsewhere on the base: base thickness changed by each of
     ``JUMP_BASE`` steps and stem base by each of ``JUMP_STEM``, each with the base width
-    moved by up to ``reach`` steps either way (a :class:`Reach`'s ``jump``; ``NEAR``'s
-    unless given) and the heel by each of ``JUMP_HEEL`` steps (the toe takes the rest). Then the whole range of base thickness, stem base
-    and stem top, each with the rest as cur's (the bars chosen for a member make its
-    cost jump, not grow, with its thickness), and every key with the rest as cur's.
-    Invalid vectors are dropped by the driver."""
+    moved by up to ``reach.jump`` steps either way (``NEAR`` unless given) and the heel
+    by each of ``JUMP_HEEL`` steps (the toe takes the rest). Then the whole range of
+    base thickness, stem base and stem top, each with the rest as cur's (the bars
+    chosen for a member make its cost jump, not grow, with its thickness), and every
+    key with the rest as cur's. Invalid vectors are dropped by the driver."""
     cur = np.asarray(cur, dtype=np.int64)
-    reach = NEAR if reach is None else reach
-    win = cur[None, :] + (reach.jump_window if isinstance(reach, Reach)
-                          else _jump_window(reach))
+    win = cur[None, :] + (reach or NEAR).jump_window
     axes = grid.axes()
     lines = []
     for k in (TB, TS, TT):
@@ -746,11 +744,10 @@ def narrower_lines(cur: np.ndarray, grid: Grid, toe_reach: int = TOE_REACH) -> n
 def heel_lines(cur: np.ndarray, reach: "Reach | None" = None) -> np.ndarray:
     """The stem of ``cur`` moved along with its heel: the base width and toe changed
     together by up to ``reach.heel`` steps either way (``HEEL_REACH`` of ``NEAR``
-    unless given; the heel as cur's), with the base thickness as cur's, a step either
-    way or two steps thicker, or a step thicker under a stem base a step thinner, and
-    by up to ``HEEL_TOP_REACH`` steps with the stem top one or two steps thicker (m,
-    NDIM). A much longer or shorter toe on the same heel can be cheaper than every
-    section between. Invalid vectors are dropped by the driver."""
+    unless given; the heel as cur's) with each change of base and stem thickness of
+    ``HEEL_THICKNESSES``, and by up to ``HEEL_TOP_REACH`` steps with the stem top one
+    or two steps thicker (m, NDIM). A much longer or shorter toe on the same heel can
+    be cheaper than every section between. Invalid vectors are dropped by the driver."""
     return np.asarray(cur, dtype=np.int64)[None, :] + (reach or NEAR).heel_steps
 
 
@@ -809,18 +806,25 @@ def _trade_steps() -> np.ndarray:
 _TRADE_STEPS = _trade_steps()
 
 
+#: (base thickness, stem base) changes, in steps, of :func:`heel_lines`: a step thinner,
+#: as it is, a step or two thicker, and a step thicker under a stem a step thinner
+#: (``HEEL_REACH`` gives the panels each was needed by).
+HEEL_THICKNESSES = ((-1, 0), (0, 0), (1, 0), (2, 0), (1, -1))
+
+
 def _heel_steps(reach: int = HEEL_REACH) -> np.ndarray:
-    """The steps of :func:`heel_lines`: base width and toe together (the heel kept),
-    with the base thickness a step either way or two steps thicker, or a step thicker
-    under a stem base a step thinner (the heel a step longer), or with the stem top one
-    or two steps thicker (m, NDIM)."""
-    top = box_steps((B, TT), (HEEL_TOP_REACH, 2))
+    """The steps of :func:`heel_lines`: base width and toe together (the heel kept) by
+    up to ``reach`` steps either way, with each change of ``HEEL_THICKNESSES`` (a
+    stem a step thinner leaves the heel a step longer), or by up to ``HEEL_TOP_REACH``
+    steps with the stem top one or two steps thicker (m, NDIM)."""
     line = box_steps((B,), (reach,))
-    thicker = line.copy()
-    thicker[:, TB] = 2
-    traded = line.copy()
-    traded[:, TB], traded[:, TS] = 1, -1
-    out = np.vstack([box_steps((B, TB), (reach, 1)), thicker, traded, top[top[:, TT] > 0]])
+    parts = []
+    for dz, ds in HEEL_THICKNESSES:
+        part = line.copy()
+        part[:, TB], part[:, TS] = dz, ds
+        parts.append(part)
+    top = box_steps((B, TT), (HEEL_TOP_REACH, 2))
+    out = np.vstack(parts + [top[top[:, TT] > 0]])
     out[:, TOE] = out[:, B]
     return out
 
