@@ -696,6 +696,78 @@ def test_descent_from_a_full_start_ends_on_a_full_neighbourhood():
         next(gen)
 
 
+def test_store_results_reads_the_record():
+    # a store's results of candidates: those checked in full as checked (a failing one
+    # does not pass), any other not passing at inf; the index made by the first read is
+    # kept by later commits (invented results)
+    g = grid_for(demand(3.0), 0.05)
+    st = search.Store(g)
+    a, b, c, d = (np.array([60 + k, 10, 8, 7, 5, 0, 0]) for k in range(4))
+    _pass_all(st, np.array([a, b]), 1000.0)
+    ok, cost = st.results(np.array([b, c, a]))
+    assert ok.tolist() == [True, False, True] and cost.tolist() == [1000.0, np.inf, 1000.0]
+    v = np.array([c, d])
+    o = np.argsort(codes(v))
+    st.commit(v[o], codes(v)[o], np.array([True, False])[o], np.array([950.0, 900.0])[o],
+              np.array([0.9, 1.2])[o])
+    ok, cost = st.results(np.array([d, c, b]))
+    assert ok.tolist() == [False, True, True] and cost.tolist() == [np.inf, 950.0, 1000.0]
+
+
+def _two_basins(v: np.ndarray) -> np.ndarray:
+    """Invented costs of two basins in base width: 1000 at 80 steps and 1100 at 60 steps,
+    10 a step from either (the nearer bottom's), 5 a step off the other entries of
+    [., 10, 8, 7, 5] (the basins meet at 65 steps)."""
+    off = 5.0 * np.abs(v[:, 1:5] - [10, 8, 7, 5]).sum(axis=1)
+    return np.minimum(1000.0 + 10.0 * np.abs(v[:, 0] - 80), 1100.0 + 10.0 * np.abs(v[:, 0] - 60)) + off
+
+
+def _descend(st, gen, limit: int = 200) -> None:
+    """Run the descent ``gen`` in ``st``, every candidate it asks passing at
+    :func:`_two_basins` cost."""
+    for cand in itertools.islice(gen, limit):
+        v, c = st.fresh(cand)
+        st.commit(v, c, np.ones(len(v), bool), _two_basins(v), np.full(len(v), 0.9))
+
+
+def test_an_own_descent_settles_in_the_basin_it_starts_in():
+    # invented results of two basins (_two_basins): the store's best is the cheaper
+    # bottom (1000 at 80 steps); from a start at 56 steps a descent goes back to that
+    # best after its first neighbourhood, and one that follows its own path (own=True)
+    # settles at the bottom of the start's basin (1100 at 60 steps)
+    g = grid_for(demand(3.0), 0.05)
+    start, near_bottom = np.array([56, 10, 8, 7, 5, 0, 0]), np.array([60, 10, 8, 7, 5, 0, 0])
+    for own, reached in ((False, False), (True, True)):
+        st = search.Store(g)
+        _descend(st, iter([np.array([[80, 10, 8, 7, 5, 0, 0], start])]))
+        _descend(st, search.descent(st, start, max_jumps=0, toe_line=False, own=own))
+        assert st.results(near_bottom[None, :])[0][0] == reached, own
+        if reached:  # and every candidate about it: it is that basin's bottom
+            about = near_bottom[None, :] + search._FULL
+            ok, cost = st.results(about[g.valid(about)])
+            assert ok.all() and cost.min() == 1100.0
+        assert st.best_cost() == 1000.0
+
+
+def test_basin_starts_take_the_cheapest_of_each_class():
+    # invented results: one start per base thickness, toe eighth of the base width and
+    # key, the cheapest of each (ties: the lower utilization), in increasing cost
+    g = grid_for(demand(3.0), 0.05)
+    st = search.Store(g)
+    rows = [([64, 10, 8, 7, 5, 0, 0], 1010.0, 0.9),   # toe 1.25 eighths: class (8, 1, no)
+            ([64, 12, 8, 7, 5, 0, 0], 1005.0, 0.9),   # the same class, cheaper
+            ([64, 16, 8, 7, 5, 0, 0], 1000.0, 0.9),   # toe 2 eighths
+            ([64, 16, 9, 7, 5, 0, 0], 1020.0, 0.8),   # a thicker base
+            ([64, 16, 9, 8, 5, 0, 0], 1020.0, 0.7),   # the same class, less utilised
+            ([64, 0, 8, 7, 5, 0, 0], 990.0, 1.1)]     # does not pass
+    v = np.array([r[0] for r in rows])
+    o = np.argsort(codes(v))
+    st.commit(v[o], codes(v)[o], np.array([r[2] <= 1.0 for r in rows])[o],
+              np.array([r[1] for r in rows])[o], np.array([r[2] for r in rows])[o])
+    got = [st.V[i].tolist() for i in search.basin_starts(st)]
+    assert got == [rows[2][0], rows[1][0], rows[4][0]]
+
+
 def test_descent_weighs_overstress_while_nothing_passes():
     # while nothing passes, a descent with ``overstress`` moves to the least cost x (1 +
     # w (u - 1)), without it to the least utilization (invented results: a big section

@@ -97,6 +97,11 @@ from .conditions import (Demand, Rows, beyond_reason, founding_level, seismic_re
 from .evaluate import Costing, SizedDesign
 from .grid import B, KD, KW, NDIM, TB, TOE, TS, TT, Grid, codes, grid_for, valid_rows
 
+#: Toe classes of :func:`basin_starts`: the toe length in this many parts of the base
+#: width.
+BASIN_TOE_PARTS = 8
+#: Basin starts cost at most this times the best (:func:`basin_starts`).
+BASIN_SPAN = 1.10
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
 #: About this many values of base width, toe, base thickness, stem base and stem top in
@@ -404,6 +409,9 @@ class Store:
         self._n = 0
         self._best: int | None = None
         self._best_of: tuple | None = None  # (cost, util, vector) of the best
+        # (ok, cost) in the order of the sorted codes, kept from the first
+        # :meth:`results` on
+        self._by_code: tuple[np.ndarray, np.ndarray] | None = None
 
     @property
     def checked(self) -> int:
@@ -512,6 +520,21 @@ class Store:
             return np.zeros(len(c), dtype=bool)
         return s[np.minimum(np.searchsorted(s, c), len(s) - 1)] == c
 
+    def results(self, v) -> tuple[np.ndarray, np.ndarray]:
+        """(passes, cost per metre) of the integer candidates ``v`` as checked here; a
+        candidate not checked here (or not checked in full) does not pass and costs inf.
+        The first call indexes the record, and every later commit keeps the index."""
+        v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+        if self._by_code is None:
+            o = np.argsort(codes(self.V), kind="stable")
+            self._by_code = (self.ok[o], self.cost[o])
+        if not (self._n and len(v)):
+            return np.zeros(len(v), dtype=bool), np.full(len(v), np.inf)
+        c = codes(v)
+        at = np.minimum(np.searchsorted(self.codes, c), len(self.codes) - 1)
+        ok = (self.codes[at] == c) & self._by_code[0][at]
+        return ok, np.where(ok, self._by_code[1][at], np.inf)
+
     def commit(self, v, c, ok, cost, util) -> None:
         """Remember checked candidates ``v`` (not checked before) with their codes (in
         increasing order) and results."""
@@ -524,7 +547,13 @@ class Store:
         # two sorted runs merged (a stable sort finds and merges the runs): the same
         # array as inserting c at its places, a quarter of the time on a store's sizes
         merged = np.concatenate((self.codes, np.asarray(c, dtype=np.int64)))
-        merged.sort(kind="stable")
+        if self._by_code is None:
+            merged.sort(kind="stable")
+        else:  # (a store read by :meth:`results`) its results in code order alike
+            o = np.argsort(merged, kind="stable")
+            merged = merged[o]
+            self._by_code = tuple(np.concatenate((a, np.asarray(b, dtype=a.dtype)))[o]
+                                  for a, b in zip(self._by_code, (ok, cost)))
         self.codes = merged
         if np.any(ok):
             idx = np.flatnonzero(ok)
@@ -917,7 +946,7 @@ def rebound_moves(store: Store):
 
 def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = True,
             max_jumps: int | None = None, toe_line: bool = True,
-            overstress: float | None = None):
+            overstress: float | None = None, own: bool = False):
     """The moves of the local search from ``start``, as neighbourhoods to check.
 
     A step checks a neighbourhood and moves to the cheapest passing candidate (while
@@ -935,8 +964,25 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     candidate, and on from any better one. ``extra`` candidates are checked with the
     first neighbourhood. ``polish=False`` (a start near a known optimum) takes the full
     neighbourhood first.
+
+    A descent moves to the store's best, wherever it was found: from a start dearer
+    than that best it goes back to it unless its first neighbourhood holds a cheaper
+    one. With ``own`` (a passing ``start``) it follows its own path instead, to the
+    cheapest passing candidate of what it asks that is cheaper than where it stands
+    (:meth:`Store.results`), so it settles at the bottom of the basin it starts in.
     """
     cur = np.asarray(start, dtype=np.int64)
+    here = float(store.results(cur)[1][0]) if own else math.inf  # (own) cost where it is
+
+    def own_next(cand):  # (own) the cheapest passing of cand below here, else cur
+        nonlocal here
+        cost = store.results(cand)[1]
+        j = int(np.argmin(cost)) if len(cost) else 0
+        if len(cost) and cost[j] < here - 1e-9:
+            here = float(cost[j])
+            return cand[j].copy()
+        return cur
+
     max_jumps = MAX_JUMPS if max_jumps is None else max_jumps
     use_full = not polish
     jumped, toe_lined = 0, False
@@ -960,7 +1006,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                                      cand]), None
         yield cand
         b = store.best()
-        if b is not None:
+        if own:
+            nxt = own_next(cand)
+        elif b is not None:
             nxt = store.best_vector()
         elif store.checked:
             if overstress is None:
@@ -983,19 +1031,23 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     return
                 if jumped < max_jumps:
                     jumped += 1
-                    yield jumps(cur, store.grid, store.reach)
-                    if not np.array_equal(store.best_vector(), cur):
-                        cur, use_full = store.best_vector(), False
+                    cand = jumps(cur, store.grid, store.reach)
+                    yield cand
+                    nxt = own_next(cand) if own else store.best_vector()
+                    if not np.array_equal(nxt, cur):
+                        cur, use_full = nxt, False
                         continue
                 # where the descent would end: the toe lines, once (its path up to here
                 # is as without them, so its result can only be cheaper for them)
                 if toe_lined or not toe_line:
                     return
                 toe_lined = True
-                yield toe_lines(cur, store.grid, store.reach.toe)
-                if np.array_equal(store.best_vector(), cur):
+                cand = toe_lines(cur, store.grid, store.reach.toe)
+                yield cand
+                nxt = own_next(cand) if own else store.best_vector()
+                if np.array_equal(nxt, cur):
                     return
-                cur, use_full = store.best_vector(), False
+                cur, use_full = nxt, False
                 continue
             use_full = True
         else:
@@ -1154,7 +1206,31 @@ def far_cold_moves(store: Store, lower_bound):
     if store.reach is not FAR or store.best() is None:
         return
     yield from cold_moves(store, lower_bound, FAR_COARSE)
+    for v in [store.V[i].copy() for i in basin_starts(store)]:
+        for cand in descent(store, v, own=True):
+            yield Ask(cand)
     yield from settle_moves(store)
+
+
+def basin_starts(store: Store) -> list[int]:
+    """Indices of the store's cheapest passing candidate of each basin class (ties:
+    lower utilization), in increasing cost: one per base thickness, toe length in
+    eighths of the base width (``BASIN_TOE_PARTS``) and keyed or not. On weak ground
+    bearing governs, and the classes part the basins it makes: a base thickness sets
+    the founding level (a step of it founds a step higher or lower, on another
+    overburden), the toe where the resultant falls, and a key the sliding resistance.
+    A descent from each that follows its own path (``descent(own=True)``) settles at
+    the bottom of the class's basin."""
+    ok = np.flatnonzero(store.ok)
+    if not len(ok):
+        return []
+    ok = ok[np.lexsort((store.util[ok], store.cost[ok]))]
+    ok = ok[store.cost[ok] <= BASIN_SPAN * store.best_cost()]
+    v = store.V[ok]
+    cls = np.stack([v[:, TB], (BASIN_TOE_PARTS * v[:, TOE]) // np.maximum(v[:, B], 1),
+                    v[:, KD] > 0], axis=1)
+    _, first = np.unique(cls, axis=0, return_index=True)
+    return [int(i) for i in ok[np.sort(first)]]
 
 
 def small_grid(grid: Grid, h: float) -> bool:
