@@ -525,8 +525,8 @@ class Store:
 
     def results(self, v) -> tuple[np.ndarray, np.ndarray]:
         """(passes, cost per metre) of the integer candidates ``v`` as checked here; a
-        candidate not checked here (or not checked in full) does not pass and costs inf.
-        The first call indexes the record, and every later commit keeps the index."""
+        candidate that failed or was not checked here does not pass and costs inf. The
+        first call indexes the record by code, and every later commit keeps the index."""
         v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
         if self._by_code is None:
             o = np.argsort(codes(self.V), kind="stable")
@@ -980,11 +980,11 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     def own_next(cand):  # (own) the cheapest passing of cand below here, else cur
         nonlocal here
         cost = store.results(cand)[1]
-        j = int(np.argmin(cost)) if len(cost) else 0
-        if len(cost) and cost[j] < here - 1e-9:
-            here = float(cost[j])
-            return cand[j].copy()
-        return cur
+        if not len(cost) or cost.min() >= here - 1e-9:
+            return cur
+        j = int(np.argmin(cost))
+        here = float(cost[j])
+        return cand[j].copy()
 
     max_jumps = MAX_JUMPS if max_jumps is None else max_jumps
     use_full = not polish
@@ -1227,12 +1227,13 @@ def basin_starts(store: Store) -> list[int]:
     """Indices of the store's cheapest passing candidate of each basin class (ties:
     lower utilization), in increasing cost, those costing at most ``BASIN_SPAN`` times
     the best: one per base thickness, toe length in eighths of the base width
-    (``BASIN_TOE_PARTS``) and keyed or not. On weak ground
-    bearing governs, and the classes part the basins it makes: a base thickness sets
-    the founding level (a step of it founds a step higher or lower, on another
-    overburden), the toe where the resultant falls, and a key the sliding resistance.
-    A descent from each that follows its own path (``descent(own=True)``) settles at
-    the bottom of the class's basin."""
+    (``BASIN_TOE_PARTS``) and keyed or not. On weak ground bearing governs, and the
+    classes part the basins it makes: a base thickness sets the founding level (a step
+    of it founds a step higher or lower, on another overburden), the toe where the
+    resultant falls, and a key the sliding resistance. A descent from each that follows
+    its own path (``descent(own=True)``) settles at the bottom of its basin. (Every
+    class, not only those within ``BASIN_SPAN``: on three of the 70 walls 18 demands
+    more over 0.5 % cheaper, for 40 to 53 % more candidates.)"""
     ok = np.flatnonzero(store.ok)
     if not len(ok):
         return []
