@@ -272,6 +272,18 @@ def test_search_on_a_tall_wall_over_wet_low_friction_ground():
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
 
 
+def _at_part_reference_on_weak_ground(d: Demand, width: int, basis: Basis,
+                                      ref_cost_expected: float) -> None:
+    """The search's design of the weak-ground demand ``d`` (its base at least
+    ``search.far_from``) costs within 0.5 % of the cheapest passing section of the
+    part of its grid of one base width ``width`` (steps), which costs
+    ``ref_cost_expected``."""
+    sd, ref_cost = _search_and_part_reference(d, (width, width), basis)
+    assert ref_cost == pytest.approx(ref_cost_expected, abs=0.01)
+    assert sd.section.base_width_m >= search.far_from(d)
+    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
 def test_search_looks_further_on_weak_ground():
     # A 6.14 m panel of an invented wall (DA2; backfill 20.9 kN/m3, 29 degrees under a
     # 16 degree slope; base 18.9 kN/m3, 33 degrees, c' 0; water 1.88 m above the base;
@@ -288,10 +300,7 @@ def test_search_looks_further_on_weak_ground():
                foundation=Foundation(unit_weight_kn_m3=18.9, friction_angle_deg=33.0),
                surcharge_kpa=15.0, water=Water(height_above_base_m=1.88), wall_top_m=61.2,
                min_founding_depth_m=0.6, founding_step_m=0.15)
-    sd, ref_cost = _search_and_part_reference(d, (142, 142), basis)
-    assert ref_cost == pytest.approx(4371.278, abs=0.01)
-    assert sd.section.base_width_m >= search.far_from(d)
-    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+    _at_part_reference_on_weak_ground(d, 142, basis, 4371.278)
 
 
 def test_search_finds_a_basin_one_base_thickness_wide():
@@ -315,10 +324,7 @@ def test_search_finds_a_basin_one_base_thickness_wide():
                                      cohesion_kpa=3.0),
                surcharge_kpa=20.0, water=Water(height_above_base_m=0.43), wall_top_m=52.97,
                min_founding_depth_m=0.5, founding_step_m=0.15)
-    sd, ref_cost = _search_and_part_reference(d, (130, 130), basis)
-    assert ref_cost == pytest.approx(2331.850, abs=0.01)
-    assert sd.section.base_width_m >= search.far_from(d)
-    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+    _at_part_reference_on_weak_ground(d, 130, basis, 2331.850)
 
 
 def test_search_starts_cold_again_on_weak_ground():
@@ -361,10 +367,7 @@ def test_search_descends_each_basin_on_weak_ground():
                foundation=Foundation(unit_weight_kn_m3=17.9, friction_angle_deg=22.0),
                surcharge_kpa=20.0, water=Water(height_above_base_m=0.97), wall_top_m=66.15,
                min_founding_depth_m=0.6, founding_step_m=0.15)
-    sd, ref_cost = _search_and_part_reference(d, (188, 188), basis)
-    assert ref_cost == pytest.approx(2796.905, abs=0.01)
-    assert sd.section.base_width_m >= search.far_from(d)
-    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+    _at_part_reference_on_weak_ground(d, 188, basis, 2796.905)
 
 
 def test_far_cold_moves_only_on_weak_ground():
