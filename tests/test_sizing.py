@@ -359,7 +359,8 @@ def test_search_descends_each_basin_on_weak_ground():
     # first neighbourhood. A descent that follows its
     # own path from each basin class (search.basin_starts, descent(own=True)) reaches
     # a 0.35 m base 9.40 m wide with a 0.30 m toe and no key at 2796.91 a metre. The
-    # reference is taken on the 9.40 m width alone.
+    # reference is taken on the 9.40 m width alone: the whole grid's (188 s) gives the
+    # same section.
     basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2"))
     d = Demand(z_top=66.112, z_front=62.662,
                backfill=Backfill(unit_weight_kn_m3=19.6, friction_angle_deg=37.0,
