@@ -986,6 +986,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
         here = float(cost[j])
         return cand[j].copy()
 
+    def settled_next(cand):  # after the jumps or toe lines: where the descent goes on
+        return own_next(cand) if own else store.best_vector()
+
     max_jumps = MAX_JUMPS if max_jumps is None else max_jumps
     use_full = not polish
     jumped, toe_lined = 0, False
@@ -1036,7 +1039,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     jumped += 1
                     cand = jumps(cur, store.grid, store.reach)
                     yield cand
-                    nxt = own_next(cand) if own else store.best_vector()
+                    nxt = settled_next(cand)
                     if not np.array_equal(nxt, cur):
                         cur, use_full = nxt, False
                         continue
@@ -1047,7 +1050,7 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 toe_lined = True
                 cand = toe_lines(cur, store.grid, store.reach.toe)
                 yield cand
-                nxt = own_next(cand) if own else store.best_vector()
+                nxt = settled_next(cand)
                 if np.array_equal(nxt, cur):
                     return
                 cur, use_full = nxt, False
