@@ -385,8 +385,10 @@ class Store:
 
     A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones. The
     codes checked are kept sorted (membership by binary search), the best candidate is
-    kept up to date as batches are committed, and the batches are joined only when the
-    whole record is read (``V``, ``ok``, ``cost``, ``util``).
+    kept up to date as batches are committed, and the record (``V``, ``ok``, ``cost``,
+    ``util``, in the order checked) grows in place: a commit writes its batch after
+    the last (its arrays' room doubled when full), and a read is a view of the rows
+    written, so neither copies the whole record.
     """
 
     def __init__(self, grid: Grid, cap: float = math.inf, prior: "Store | None" = None,
@@ -407,8 +409,9 @@ class Store:
             self._prior = (c[o],) + tuple(a[full][o] for a in (prior.ok, prior.cost,
                                                                  prior.util))
         self.codes = np.zeros(0, dtype=np.int64)  # sorted
-        self._parts: list[tuple] = []
-        self._joined: tuple | None = None
+        # the record: arrays with room for more rows, the first _n of them written
+        self._rows: tuple = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
+                             np.zeros(0), np.zeros(0))
         self._n = 0
         self._best: int | None = None
         self._best_of: tuple | None = None  # (cost, util, vector) of the best
@@ -434,20 +437,26 @@ class Store:
         if v is not None and v[B] * self.grid.step >= self.far_from_m - 1e-9:
             self.reach = FAR
 
-    def _record(self) -> tuple:
-        if self._joined is None:
-            if self._parts:
-                self._joined = tuple(np.concatenate(c) for c in zip(*self._parts))
-            else:
-                self._joined = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
-                                np.zeros(0), np.zeros(0))
-            self._parts = [self._joined] if self._parts else []
-        return self._joined
+    def _append(self, v, ok, cost, util) -> None:
+        """Write a batch after the rows of the record, doubling its room when full."""
+        n0, n1 = self._n, self._n + len(ok)
+        if n1 > len(self._rows[1]):
+            room = max(n1, 2 * len(self._rows[1]), 256)
+            grown = []
+            for a in self._rows:
+                b = np.empty((room,) + a.shape[1:], dtype=a.dtype)
+                b[:n0] = a[:n0]
+                grown.append(b)
+            self._rows = tuple(grown)
+        for a, x in zip(self._rows, (v, ok, cost, util)):
+            a[n0:n1] = x
+        self._n = n1
 
-    V = property(lambda self: self._record()[0], doc="Integer vectors checked, (n, NDIM).")
-    ok = property(lambda self: self._record()[1], doc="Passes every check, (n,).")
-    cost = property(lambda self: self._record()[2], doc="Cost per metre, (n,).")
-    util = property(lambda self: self._record()[3], doc="Utilization (passes at <= 1), (n,).")
+    V = property(lambda self: self._rows[0][:self._n], doc="Integer vectors checked, (n, NDIM).")
+    ok = property(lambda self: self._rows[1][:self._n], doc="Passes every check, (n,).")
+    cost = property(lambda self: self._rows[2][:self._n], doc="Cost per metre, (n,).")
+    util = property(lambda self: self._rows[3][:self._n],
+                    doc="Utilization (passes at <= 1), (n,).")
 
     def best(self) -> int | None:
         """Index of the cheapest passing candidate (ties: lower utilization, then the
@@ -542,11 +551,8 @@ class Store:
         """Remember checked candidates ``v`` (not checked before) with their codes (in
         increasing order) and results."""
         n0 = self._n
-        self._parts.append((np.asarray(v, dtype=np.int64).reshape(-1, NDIM),
-                            np.asarray(ok, dtype=bool), np.asarray(cost, dtype=float),
-                            np.asarray(util, dtype=float)))
-        self._joined = None
-        self._n += len(ok)
+        self._append(np.asarray(v, dtype=np.int64).reshape(-1, NDIM), np.asarray(ok, dtype=bool),
+                     np.asarray(cost, dtype=float), np.asarray(util, dtype=float))
         # two sorted runs merged (a stable sort finds and merges the runs): the same
         # array as inserting c at its places, a quarter of the time on a store's sizes
         merged = np.concatenate((self.codes, np.asarray(c, dtype=np.int64)))
