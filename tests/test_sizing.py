@@ -327,14 +327,11 @@ def test_search_finds_a_basin_one_base_thickness_wide():
     _at_part_reference_on_weak_ground(d, 130, basis, 2331.850)
 
 
-def test_search_starts_cold_again_on_weak_ground():
-    # A 1.19 m panel of an invented wall (DA3; backfill 18.5 kN/m3, 28 degrees under a
-    # 16 degree slope; base 17.8 kN/m3, 34 degrees, c' 5 kPa, cu 68 kPa; surcharge 15
-    # kPa; 5 cm grid) on a base nearly three times its height to the underside: weak
-    # ground (search.FAR). Its references' basin held a 0.30 m stem on a 3.25 m base at
-    # 909.67 a metre, 2.12 % above the grid's cheapest; the cold start after its search
-    # (search.far_cold_moves) finds the cheapest, a 0.25 m stem and a 0.30 m base 3.35 m
-    # wide with a 0.15 m toe at 890.75 a metre (the exhaustive reference, whole grid).
+def _low_weak_panel() -> tuple[Basis, Demand]:
+    """A 1.19 m panel of an invented wall (DA3; backfill 18.5 kN/m3, 28 degrees under a
+    16 degree slope; base 17.8 kN/m3, 34 degrees, c' 5 kPa, cu 68 kPa; surcharge 15
+    kPa; 5 cm grid) on a base nearly three times its height to the underside: weak
+    ground (search.FAR)."""
     basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"))
     d = Demand(z_top=61.824, z_front=60.63,
                backfill=Backfill(unit_weight_kn_m3=18.5, friction_angle_deg=28.0,
@@ -343,6 +340,16 @@ def test_search_starts_cold_again_on_weak_ground():
                                      cohesion_kpa=5.0, undrained_strength_kpa=68.0),
                surcharge_kpa=15.0, water=None, wall_top_m=61.95, min_founding_depth_m=0.6,
                founding_step_m=0.15)
+    return basis, d
+
+
+def test_search_starts_cold_again_on_weak_ground():
+    # The panel of _low_weak_panel. Its references' basin held a 0.30 m stem on a 3.25 m
+    # base at 909.67 a metre, 2.12 % above the grid's cheapest; the cold start after its
+    # search (search.far_cold_moves) finds the cheapest, a 0.25 m stem and a 0.30 m base
+    # 3.35 m wide with a 0.15 m toe at 890.75 a metre (the exhaustive reference, whole
+    # grid).
+    basis, d = _low_weak_panel()
     sd, ref_cost = _search_and_reference(d, basis)
     assert ref_cost == pytest.approx(890.751, abs=0.01)
     assert sd.section.base_width_m >= search.far_from(d)
@@ -369,6 +376,43 @@ def test_search_descends_each_basin_on_weak_ground():
                surcharge_kpa=20.0, water=Water(height_above_base_m=0.97), wall_top_m=66.15,
                min_founding_depth_m=0.6, founding_step_m=0.15)
     _at_part_reference_on_weak_ground(d, 188, basis, 2796.905)
+
+
+def test_a_move_asked_again_of_a_store_changes_nothing(monkeypatch):
+    # On weak ground many descents of one demand settle at the same sections and ask
+    # their jumps, toe lines and neighbourhoods again (Store.first_ask): those asks are
+    # not made twice. The panel of _low_weak_panel: the same design and the same
+    # candidates checked with every ask made, and some asks were repeats.
+    basis, d = _low_weak_panel()
+    got = {}
+    first = search.Store.first_ask
+    for memo in (True, False):
+        repeats = []
+
+        def ask(store, key, memo=memo, repeats=repeats):
+            new = first(store, key)
+            repeats.append(not new)
+            return new or not memo
+
+        monkeypatch.setattr(search.Store, "first_ask", ask)
+        st = []
+        sd = bespoke([d], basis, Costing(), 0.05, stats=st)[0]
+        got[memo] = (sd.section, sd.cost_per_m, sd.utilization, st[0].checked, sum(repeats))
+    assert got[True][:4] == got[False][:4]
+    assert got[True][4] > 0
+
+
+def test_an_own_descent_from_where_one_ended_asks_nothing():
+    # invented results of two basins (_two_basins): a second own descent from the start
+    # of one that ended asks nothing (every move of its path was asked from the same
+    # sections before) and ends where the first did
+    g = grid_for(demand(3.0), 0.05)
+    start = np.array([56, 10, 8, 7, 5, 0, 0])
+    st = search.Store(g)
+    _descend(st, iter([np.array([[80, 10, 8, 7, 5, 0, 0], start])]))
+    _descend(st, search.descent(st, start, own=True))
+    n = st.checked
+    assert list(search.descent(st, start, own=True)) == [] and st.checked == n
 
 
 def test_far_cold_moves_only_on_weak_ground():

@@ -418,6 +418,7 @@ class Store:
         # (ok, cost) in the order of the sorted codes, kept from the first
         # :meth:`results` on
         self._by_code: tuple[np.ndarray, np.ndarray] | None = None
+        self._asked: set = set()  # the moves asked here (:meth:`first_ask`)
 
     @property
     def checked(self) -> int:
@@ -430,6 +431,17 @@ class Store:
         (:meth:`from_prior`); its candidates are joined here by :meth:`absorb`."""
         return Store(self.grid, cap=self.best_cost(), prior=self,
                      far_from_m=self.far_from_m, reach=self.reach)
+
+    def first_ask(self, key) -> bool:
+        """Whether the move ``key`` (a hashable that fixes its candidates: the move, the
+        section it is made from, and the grid and reach it reads) is asked of this store
+        for the first time; it is recorded. Asked again, it holds nothing to check: each
+        of its candidates was checked here then, or dropped by the lower bound against a
+        best cost that can only have fallen since."""
+        if key in self._asked:
+            return False
+        self._asked.add(key)
+        return True
 
     def look_far(self, v) -> None:
         """Take the ``FAR`` reach from here on where the integer candidate ``v`` (None:
@@ -923,9 +935,10 @@ def plane_moves(store: Store):
         cur = store.best_vector()
         store.look_far(cur)
         r = store.reach
-        yield Ask(np.vstack([_planes(cur, store.grid, r.plane_offsets, toe_reach=r.toe),
-                             narrower_lines(cur, store.grid, r.toe), heel_lines(cur, r),
-                             thickness_trades(cur), stem_shifts(cur, r)]))
+        if store.first_ask(("planes", cur.tobytes(), store.grid, r)):
+            yield Ask(np.vstack([_planes(cur, store.grid, r.plane_offsets, toe_reach=r.toe),
+                                 narrower_lines(cur, store.grid, r.toe), heel_lines(cur, r),
+                                 thickness_trades(cur), stem_shifts(cur, r)]))
         if np.array_equal(store.best_vector(), cur):
             return
         for cand in descent(store, store.best_vector()):
@@ -1016,7 +1029,9 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
         if extra is not None:
             cand, extra = np.vstack([np.asarray(extra, dtype=np.int64).reshape(-1, NDIM),
                                      cand]), None
-        yield cand
+            yield cand
+        elif store.first_ask(("step", use_full, cur.tobytes(), store.grid)):
+            yield cand
         b = store.best()
         if own:
             nxt = own_next(cand)
@@ -1044,7 +1059,8 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                 if jumped < max_jumps:
                     jumped += 1
                     cand = jumps(cur, store.grid, store.reach)
-                    yield cand
+                    if store.first_ask(("jumps", cur.tobytes(), store.grid, store.reach)):
+                        yield cand
                     nxt = settled_next(cand)
                     if not np.array_equal(nxt, cur):
                         cur, use_full = nxt, False
@@ -1055,7 +1071,8 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
                     return
                 toe_lined = True
                 cand = toe_lines(cur, store.grid, store.reach.toe)
-                yield cand
+                if store.first_ask(("toe lines", cur.tobytes(), store.grid, store.reach.toe)):
+                    yield cand
                 nxt = settled_next(cand)
                 if np.array_equal(nxt, cur):
                     return
