@@ -196,10 +196,12 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     fits under the base behind the toe."""
     # contiguous int32 columns first (every test below reads whole columns; int32
     # halves the memory they read): entries beyond its range are held at its ends,
-    # where the tests fail them as they fail the entries themselves
-    cols = np.empty((NDIM, len(v)), dtype=np.int32)
-    np.clip(np.asarray(v, dtype=np.int64).T, _I32.min, _I32.max, out=cols, casting="unsafe")
-    b, toe, tb, ts, tt, kd, kw = cols
+    # where the tests fail them as they fail the entries themselves (a cast of the
+    # transpose, after a look for such entries, takes a third of the time of a clip)
+    v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+    if len(v) and (v.min() < _I32.min or v.max() > _I32.max):
+        v = np.clip(v, _I32.min, _I32.max)
+    b, toe, tb, ts, tt, kd, kw = v.T.astype(np.int32)
     lo, hi = (np.asarray(x, dtype=np.int32).T for x in (lo, hi))
     ok = (b >= lo[0]) & (b <= hi[0]) & (tb >= lo[1]) & (tb <= hi[1])
     ok &= (ts >= lo[2]) & (ts <= hi[2]) & (tt >= lo[3]) & (tt <= hi[3])
