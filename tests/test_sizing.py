@@ -786,6 +786,53 @@ def test_store_results_reads_the_record():
     assert ok.tolist() == [False, True, True] and cost.tolist() == [np.inf, 950.0, 1000.0]
 
 
+def test_store_runs_hold_every_code_and_result_across_many_commits():
+    # a store's codes are two sorted runs (search.SHORT_RUN): after 60 commits of 60
+    # invented candidates each (the short run merged into the long one several times,
+    # the index by code made after the 20th), the codes are those of the record,
+    # sorted, and membership and results are a plain lookup's
+    g = grid_for(demand(3.0), 0.05)
+    rng = np.random.default_rng(5)
+    every = np.unique(np.column_stack([rng.integers(20, 120, 9000), rng.integers(0, 20, 9000),
+                                       rng.integers(6, 14, 9000), rng.integers(5, 9, 9000),
+                                       np.full(9000, 5), np.zeros(9000, int),
+                                       np.zeros(9000, int)]), axis=0)
+    every = every[rng.permutation(len(every))][:3600]
+    st = search.Store(g)
+    plain = {}
+    for k in range(60):
+        v = every[60 * k:60 * (k + 1)]
+        c = codes(v)
+        o = np.argsort(c)
+        ok, cost = rng.random(60) < 0.5, rng.uniform(900.0, 1100.0, 60)
+        st.commit(v[o], c[o], ok[o], cost[o], np.full(60, 0.9))
+        plain.update(zip(c.tolist(), zip(ok.tolist(), cost.tolist())))
+        if k == 20:
+            st.results(v[:1])
+    assert np.array_equal(st.codes, np.sort(codes(st.V)))
+    others = np.zeros((50, 7), int)  # a base width none of them has
+    others[:, 0], others[:, 1] = 200, np.arange(50)
+    probe = np.vstack([every, others])
+    assert st.known(codes(probe)).tolist() == [True] * len(every) + [False] * 50
+    ok, cost = st.results(probe)
+    want = [plain.get(c, (False, np.inf)) for c in codes(probe).tolist()]
+    assert ok.tolist() == [w[0] for w in want]
+    assert cost.tolist() == [w[1] if w[0] else np.inf for w in want]
+
+
+def test_merge_runs_is_a_sort_of_both():
+    # two sorted runs of distinct codes and their values, merged: as sorting the two
+    # joined (invented codes)
+    rng = np.random.default_rng(3)
+    c = rng.choice(10_000, 900, replace=False)
+    a, b = np.sort(c[:700]), np.sort(c[700:])
+    va, vb = (a * 2.0, a % 3 == 0), (b * 2.0, b % 3 == 0)
+    got, (x, y) = search.merge_runs(a, va, b, vb)
+    assert np.array_equal(got, np.sort(c))
+    assert np.array_equal(x, got * 2.0) and np.array_equal(y, got % 3 == 0)
+    assert np.array_equal(search.merge_runs(a[:0], (), b, ())[0], b)
+
+
 def _two_basins(v: np.ndarray) -> np.ndarray:
     """Invented costs of two basins in base width: 1000 at 80 steps and 1100 at 60 steps,
     10 a step from either (the nearer bottom's), 5 a step off the other entries of

@@ -375,6 +375,14 @@ BEST_FIRST_BATCH = 512
 #: Largest number of asked candidates filtered in one call of :func:`fresh_many` (memory:
 #: a few arrays of this many rows of seven integers).
 FRESH_CHUNK = 200_000
+#: A store's codes checked are two sorted runs (:class:`Store`): a commit merges its
+#: codes into the short run, and the short run goes into the long one once it holds
+#: more than this part of the long one's rows (and more than ``SHORT_RUN_MIN``). A
+#: commit then costs about its rows and the short run's, not the whole record's: on
+#: weak ground a store holds tens of thousands of rows and takes a commit at every
+#: step of its descents.
+SHORT_RUN = 8
+SHORT_RUN_MIN = 1024
 
 
 # --- the candidates of one demand ---------------------------------------------------------
@@ -384,7 +392,8 @@ class Store:
     and how far its moves look (``reach``, :meth:`look_far`).
 
     A candidate is checked once; :meth:`fresh` keeps the valid unchecked ones. The
-    codes checked are kept sorted (membership by binary search), the best candidate is
+    codes checked are kept sorted, in two runs (membership by binary search in each;
+    ``SHORT_RUN``), the best candidate is
     kept up to date as batches are committed, and the record (``V``, ``ok``, ``cost``,
     ``util``, in the order checked) grows in place: a commit writes its batch after
     the last (its arrays' room doubled when full), and a read is a view of the rows
@@ -408,21 +417,27 @@ class Store:
             o = np.argsort(c, kind="stable")
             self._prior = (c[o],) + tuple(a[full][o] for a in (prior.ok, prior.cost,
                                                                  prior.util))
-        self.codes = np.zeros(0, dtype=np.int64)  # sorted
+        # the codes checked, sorted, in two runs (long, short; :func:`merge_runs`), each
+        # with its (ok, cost) in its order once the store is indexed (:meth:`results`)
+        none = np.zeros(0, dtype=np.int64)
+        self._runs: list[tuple[np.ndarray, tuple]] = [(none, ()), (none, ())]
+        self._indexed = False
         # the record: arrays with room for more rows, the first _n of them written
         self._rows: tuple = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
                              np.zeros(0), np.zeros(0))
         self._n = 0
         self._best: int | None = None
         self._best_of: tuple | None = None  # (cost, util, vector) of the best
-        # (ok, cost) in the order of the sorted codes, kept from the first
-        # :meth:`results` on
-        self._by_code: tuple[np.ndarray, np.ndarray] | None = None
         self._asked: set = set()  # the moves asked here (:meth:`first_ask`)
 
     @property
     def checked(self) -> int:
         return self._n
+
+    @property
+    def codes(self) -> np.ndarray:
+        """The codes of the candidates checked, sorted."""
+        return merge_runs(*self._runs[0], *self._runs[1])[0]
 
     def again(self) -> "Store":
         """An empty store for another search of the same demand (a second descent, a
@@ -532,32 +547,41 @@ class Store:
         such candidates, without its validity test and sort."""
         v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
         c = codes(v)
-        if len(self.codes):
+        if self._n:
             new = ~self.known(c)
             v, c = v[new], c[new]
         return v, c
 
     def known(self, c: np.ndarray) -> np.ndarray:
         """Mask of the codes ``c`` checked already."""
-        s = self.codes
-        if not len(s):
-            return np.zeros(len(c), dtype=bool)
-        return s[np.minimum(np.searchsorted(s, c), len(s) - 1)] == c
+        hit = np.zeros(len(c), dtype=bool)
+        for s, _ in self._runs:
+            if len(s):
+                hit |= s[np.minimum(np.searchsorted(s, c), len(s) - 1)] == c
+        return hit
 
     def results(self, v) -> tuple[np.ndarray, np.ndarray]:
         """(passes, cost per metre) of the integer candidates ``v`` as checked here; a
         candidate that failed or was not checked here does not pass and costs inf. The
         first call indexes the record by code, and every later commit keeps the index."""
         v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
-        if self._by_code is None:
-            o = np.argsort(codes(self.V), kind="stable")
-            self._by_code = (self.ok[o], self.cost[o])
+        if not self._indexed:  # one long run of every code, with its (ok, cost)
+            c = codes(self.V)
+            o = np.argsort(c, kind="stable")
+            self._runs = [(c[o], (self.ok[o], self.cost[o])),
+                          (c[:0], (self.ok[:0], self.cost[:0]))]
+            self._indexed = True
+        ok, cost = np.zeros(len(v), dtype=bool), np.full(len(v), np.inf)
         if not (self._n and len(v)):
-            return np.zeros(len(v), dtype=bool), np.full(len(v), np.inf)
+            return ok, cost
         c = codes(v)
-        at = np.minimum(np.searchsorted(self.codes, c), len(self.codes) - 1)
-        ok = (self.codes[at] == c) & self._by_code[0][at]
-        return ok, np.where(ok, self._by_code[1][at], np.inf)
+        for s, (s_ok, s_cost) in self._runs:
+            if len(s):
+                at = np.minimum(np.searchsorted(s, c), len(s) - 1)
+                hit = (s[at] == c) & s_ok[at]
+                ok |= hit
+                cost = np.where(hit, s_cost[at], cost)
+        return ok, cost
 
     def commit(self, v, c, ok, cost, util) -> None:
         """Remember checked candidates ``v`` (not checked before) with their codes (in
@@ -565,17 +589,16 @@ class Store:
         n0 = self._n
         self._append(np.asarray(v, dtype=np.int64).reshape(-1, NDIM), np.asarray(ok, dtype=bool),
                      np.asarray(cost, dtype=float), np.asarray(util, dtype=float))
-        # two sorted runs merged (a stable sort finds and merges the runs): the same
-        # array as inserting c at its places, a quarter of the time on a store's sizes
-        merged = np.concatenate((self.codes, np.asarray(c, dtype=np.int64)))
-        if self._by_code is None:
-            merged.sort(kind="stable")
-        else:  # (a store read by :meth:`results`) its results in code order alike
-            o = np.argsort(merged, kind="stable")
-            merged = merged[o]
-            self._by_code = tuple(np.concatenate((a, np.asarray(b, dtype=a.dtype)))[o]
-                                  for a, b in zip(self._by_code, (ok, cost)))
-        self.codes = merged
+        # the codes into the short run (with their results where the store is indexed),
+        # and the short run into the long one once it holds a SHORT_RUN part of it
+        (long_c, long_v), (short_c, short_v) = self._runs
+        new_v = ((np.asarray(ok, dtype=bool), np.asarray(cost, dtype=float))
+                 if self._indexed else ())
+        short_c, short_v = merge_runs(short_c, short_v, np.asarray(c, dtype=np.int64), new_v)
+        if len(short_c) > max(SHORT_RUN_MIN, len(long_c) // SHORT_RUN):
+            long_c, long_v = merge_runs(long_c, long_v, short_c, short_v)
+            short_c, short_v = short_c[:0], tuple(a[:0] for a in short_v)
+        self._runs = [(long_c, long_v), (short_c, short_v)]
         if np.any(ok):
             idx = np.flatnonzero(ok)
             j = int(idx[np.lexsort((util[idx], cost[idx]))[0]])
@@ -596,6 +619,26 @@ class Store:
             idx = np.flatnonzero(self.ok)
             return idx[np.lexsort((self.util[idx], self.cost[idx]))[:m]]
         return np.argsort(self.util, kind="stable")[:m]
+
+
+def merge_runs(a: np.ndarray, a_vals: tuple, b: np.ndarray, b_vals: tuple):
+    """Two runs of sorted codes, none in both, merged into one sorted run, with the
+    values aligned with each (``a_vals``, ``b_vals``: tuples of arrays) taken alike:
+    (codes, values). Each code of ``b`` goes after the codes of ``a`` below it and
+    its place among them (a binary search) is its rank in ``b`` further on."""
+    if not len(b):
+        return a, a_vals
+    if not len(a):
+        return b.copy(), tuple(x.copy() for x in b_vals)
+    at = np.searchsorted(a, b) + np.arange(len(b))
+    of_a = np.ones(len(a) + len(b), dtype=bool)
+    of_a[at] = False
+    out = []
+    for x, y in ((a, b),) + tuple(zip(a_vals, b_vals)):
+        z = np.empty(len(of_a), dtype=x.dtype)
+        z[of_a], z[at] = x, y
+        out.append(z)
+    return out[0], tuple(out[1:])
 
 
 def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarray]]:
@@ -647,7 +690,7 @@ def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarr
         if a == b:
             continue
         vk, ck = V[a:b], c[a:b]
-        if len(st.codes):
+        if st.checked:
             new = ~st.known(ck)
             vk, ck = vk[new], ck[new]
         out[k] = (vk, ck)
