@@ -123,6 +123,26 @@ def test_validity_is_that_of_the_rules_one_by_one():
         assert np.array_equal(g.valid(v), want)
 
 
+def test_every_is_each_valid_combination_of_the_axes():
+    # Grid.every (whole, and at strides) is every combination of its axes' values
+    # (itertools.product, the first entry outermost) that keeps the rules read one by
+    # one (_valid_plain), in that order; with keys, and with and without the toe bound
+    for toe_half in (True, False):
+        g = grid_for(demand(1.2), 0.1)
+        g = type(g)(**{**g.__dict__, "toe_half": toe_half,
+                       "key_depths": (0.3, 0.45), "key_widths": (0.3, 0.5)})
+        for stride in (1, 2, (3, 2, 1, 2, 1)):
+            axes = g.axes()
+            strides = (stride,) * 5 if isinstance(stride, int) else stride
+            for k in range(5):
+                if strides[k] > 1:
+                    a = axes[k][::strides[k]]
+                    axes[k] = a if a[-1] == axes[k][-1] else np.append(a, axes[k][-1])
+            want = [v for v in itertools.product(*axes) if _valid_plain(g, v)]
+            assert len(want) > 100
+            assert g.every(stride).tolist() == [list(v) for v in want], (toe_half, stride)
+
+
 def test_every_candidate_comes_once_in_code_order():
     # Grid.every gives codes increasing, as Store.unchecked takes them; on a store
     # holding some of them, unchecked equals fresh

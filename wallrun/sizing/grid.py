@@ -26,6 +26,9 @@ B, TOE, TB, TS, TT, KD, KW = range(NDIM)
 #: Bits of each entry in a candidate's code (:func:`codes`): 63 in all.
 _BITS = (12, 12, 10, 10, 9, 5, 5)
 _MAX = np.array([(1 << b) - 1 for b in _BITS], dtype=np.int64)
+#: The place value of each entry in a code, and the rows :func:`codes` packs by product.
+_PLACE = np.array([1 << sum(_BITS[k + 1:]) for k in range(len(_BITS))], dtype=np.int64)
+_FEW = 4096
 
 
 @dataclass(frozen=True)
@@ -119,7 +122,23 @@ class Grid:
                 if sel[-1] != a[-1]:
                     sel = np.append(sel, a[-1])
                 axes.append(sel)
-        mesh = np.stack(np.meshgrid(*axes, indexing="ij", copy=False), axis=-1).reshape(-1, NDIM)
+        # the (base width, toe) pairs, (base, stem base, stem top) thicknesses and keys
+        # that close on their own, each in increasing order, and their product in the
+        # order of the codes (pairs outermost): the rows the rules within each group
+        # would drop are never made; the rules across them are the grid's own
+        b, toe, tb, ts, tt, kd, kw = axes
+        pairs = _product(b, toe)
+        if self.toe_half:
+            pairs = pairs[2 * pairs[:, 1] <= pairs[:, 0]]
+        thick = _product(tb, ts, tt)
+        thick = thick[(thick[:, 2] <= thick[:, 1]) & (thick[:, 1] <= thick[:, 0])]
+        keys = _product(kd, kw)
+        keys = keys[np.where(keys[:, 0] > 0, keys[:, 1] < max(len(self.key_widths), 1),
+                             keys[:, 1] == 0)]
+        mesh = np.empty((len(pairs) * len(thick) * len(keys), NDIM), dtype=np.int64)
+        mesh[:, :TB] = np.repeat(pairs, len(thick) * len(keys), axis=0)
+        mesh[:, TB:KD] = np.tile(np.repeat(thick, len(keys), axis=0), (len(pairs), 1))
+        mesh[:, KD:] = np.tile(keys, (len(pairs) * len(thick), 1))
         return mesh[self.valid(mesh)]
 
     def at_width(self, b: int) -> "Grid":
@@ -183,6 +202,11 @@ class Grid:
         return g
 
 
+def _product(*axes) -> np.ndarray:
+    """Every combination of the values of ``axes``, the first outermost: (m, len(axes))."""
+    return np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, len(axes))
+
+
 _I32 = np.iinfo(np.int32)
 
 
@@ -219,8 +243,13 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
 
 def codes(v: np.ndarray) -> np.ndarray:
     """One int64 code per integer candidate (for set membership), entries packed in
-    :data:`_BITS` bits each (entries are never negative on a valid grid)."""
-    c = np.clip(np.asarray(v, dtype=np.int64).reshape(-1, NDIM), 0, _MAX).T
+    :data:`_BITS` bits each (entries are never negative on a valid grid; an entry is
+    held within 0 and its bits' largest). A few thousand rows are packed as one
+    product with the entries' place values (quicker on few rows), more by shifts."""
+    v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
+    if len(v) <= _FEW:
+        return np.minimum(np.maximum(v, 0), _MAX) @ _PLACE
+    c = np.clip(v, 0, _MAX).T
     code = c[0].copy()
     for k in range(1, NDIM):
         code <<= _BITS[k]
