@@ -806,11 +806,12 @@ def test_store_results_reads_the_record():
     assert ok.tolist() == [False, True, True] and cost.tolist() == [np.inf, 950.0, 1000.0]
 
 
-def test_store_runs_hold_every_code_and_result_across_many_commits():
+def test_store_runs_hold_every_code_and_result_across_many_commits(monkeypatch):
     # a store's codes are two sorted runs (search.SHORT_RUN): after 60 commits of 60
     # invented candidates each (the short run merged into the long one several times,
-    # the index by code made after the 20th), the codes are those of the record,
-    # sorted, and membership and results are a plain lookup's
+    # at more than 500 rows here, the index by code made after the 20th), the codes
+    # are those of the record, sorted, and membership and results are a plain lookup's
+    monkeypatch.setattr(search, "SHORT_RUN_MIN", 500)
     g = grid_for(demand(3.0), 0.05)
     rng = np.random.default_rng(5)
     every = np.unique(np.column_stack([rng.integers(20, 120, 9000), rng.integers(0, 20, 9000),

@@ -382,7 +382,7 @@ FRESH_CHUNK = 200_000
 #: weak ground a store holds tens of thousands of rows and takes a commit at every
 #: step of its descents.
 SHORT_RUN = 8
-SHORT_RUN_MIN = 1024
+SHORT_RUN_MIN = 8192
 
 
 # --- the candidates of one demand ---------------------------------------------------------
@@ -395,9 +395,9 @@ class Store:
     codes checked are kept sorted, in two runs (membership by binary search in each;
     ``SHORT_RUN``), the best candidate is
     kept up to date as batches are committed, and the record (``V``, ``ok``, ``cost``,
-    ``util``, in the order checked) grows in place: a commit writes its batch after
-    the last (its arrays' room doubled when full), and a read is a view of the rows
-    written, so neither copies the whole record.
+    ``util``, in the order checked) grows in place: a read writes the batches
+    committed since the last one after its rows (its arrays' room doubled when full)
+    and is a view of them, so neither a commit nor a read copies the whole record.
     """
 
     def __init__(self, grid: Grid, cap: float = math.inf, prior: "Store | None" = None,
@@ -422,9 +422,12 @@ class Store:
         none = np.zeros(0, dtype=np.int64)
         self._runs: list[tuple[np.ndarray, tuple]] = [(none, ()), (none, ())]
         self._indexed = False
-        # the record: arrays with room for more rows, the first _n of them written
+        # the record: arrays with room for more rows, and the batches committed since
+        # it was last read, written into it at the next read (_n rows in all)
         self._rows: tuple = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
                              np.zeros(0), np.zeros(0))
+        self._written = 0
+        self._pending: list[tuple] = []
         self._n = 0
         self._best: int | None = None
         self._best_of: tuple | None = None  # (cost, util, vector) of the best
@@ -464,25 +467,32 @@ class Store:
         if v is not None and v[B] * self.grid.step >= self.far_from_m - 1e-9:
             self.reach = FAR
 
-    def _append(self, v, ok, cost, util) -> None:
-        """Write a batch after the rows of the record, doubling its room when full."""
-        n0, n1 = self._n, self._n + len(ok)
-        if n1 > len(self._rows[1]):
-            room = max(n1, 2 * len(self._rows[1]), 256)
-            grown = []
-            for a in self._rows:
-                b = np.empty((room,) + a.shape[1:], dtype=a.dtype)
-                b[:n0] = a[:n0]
-                grown.append(b)
-            self._rows = tuple(grown)
-        for a, x in zip(self._rows, (v, ok, cost, util)):
-            a[n0:n1] = x
-        self._n = n1
+    def _record(self) -> tuple:
+        """The record's arrays, the batches committed since the last read written after
+        its rows first (its room doubled when full)."""
+        if self._pending:
+            n0 = self._written
+            if self._n > len(self._rows[1]):
+                room = max(self._n, 2 * len(self._rows[1]), 256)
+                grown = []
+                for a in self._rows:
+                    b = np.empty((room,) + a.shape[1:], dtype=a.dtype)
+                    b[:n0] = a[:n0]
+                    grown.append(b)
+                self._rows = tuple(grown)
+            for part in self._pending:
+                n1 = n0 + len(part[1])
+                for a, x in zip(self._rows, part):
+                    a[n0:n1] = x
+                n0 = n1
+            self._pending, self._written = [], n0
+        return self._rows
 
-    V = property(lambda self: self._rows[0][:self._n], doc="Integer vectors checked, (n, NDIM).")
-    ok = property(lambda self: self._rows[1][:self._n], doc="Passes every check, (n,).")
-    cost = property(lambda self: self._rows[2][:self._n], doc="Cost per metre, (n,).")
-    util = property(lambda self: self._rows[3][:self._n],
+    V = property(lambda self: self._record()[0][:self._n],
+                 doc="Integer vectors checked, (n, NDIM).")
+    ok = property(lambda self: self._record()[1][:self._n], doc="Passes every check, (n,).")
+    cost = property(lambda self: self._record()[2][:self._n], doc="Cost per metre, (n,).")
+    util = property(lambda self: self._record()[3][:self._n],
                     doc="Utilization (passes at <= 1), (n,).")
 
     def best(self) -> int | None:
@@ -587,8 +597,10 @@ class Store:
         """Remember checked candidates ``v`` (not checked before) with their codes (in
         increasing order) and results."""
         n0 = self._n
-        self._append(np.asarray(v, dtype=np.int64).reshape(-1, NDIM), np.asarray(ok, dtype=bool),
-                     np.asarray(cost, dtype=float), np.asarray(util, dtype=float))
+        self._pending.append((np.asarray(v, dtype=np.int64).reshape(-1, NDIM),
+                              np.asarray(ok, dtype=bool), np.asarray(cost, dtype=float),
+                              np.asarray(util, dtype=float)))
+        self._n += len(ok)
         # the codes into the short run (with their results where the store is indexed),
         # and the short run into the long one once it holds a SHORT_RUN part of it
         (long_c, long_v), (short_c, short_v) = self._runs
@@ -624,21 +636,17 @@ class Store:
 def merge_runs(a: np.ndarray, a_vals: tuple, b: np.ndarray, b_vals: tuple):
     """Two runs of sorted codes, none in both, merged into one sorted run, with the
     values aligned with each (``a_vals``, ``b_vals``: tuples of arrays) taken alike:
-    (codes, values). Each code of ``b`` goes after the codes of ``a`` below it and
-    its place among them (a binary search) is its rank in ``b`` further on."""
+    (codes, values). The runs are joined and sorted stably (numpy's stable sort finds
+    the two runs and merges them: the same array as placing each code of ``b`` among
+    those of ``a``, and quicker on all but the longest runs)."""
     if not len(b):
         return a, a_vals
-    if not len(a):
-        return b.copy(), tuple(x.copy() for x in b_vals)
-    at = np.searchsorted(a, b) + np.arange(len(b))
-    of_a = np.ones(len(a) + len(b), dtype=bool)
-    of_a[at] = False
-    out = []
-    for x, y in ((a, b),) + tuple(zip(a_vals, b_vals)):
-        z = np.empty(len(of_a), dtype=x.dtype)
-        z[of_a], z[at] = x, y
-        out.append(z)
-    return out[0], tuple(out[1:])
+    merged = np.concatenate((a, b))
+    if not a_vals:
+        merged.sort(kind="stable")
+        return merged, ()
+    o = np.argsort(merged, kind="stable")
+    return merged[o], tuple(np.concatenate((x, y))[o] for x, y in zip(a_vals, b_vals))
 
 
 def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarray]]:
