@@ -128,13 +128,11 @@ class Grid:
         # would drop are never made; the rules across them are the grid's own
         b, toe, tb, ts, tt, kd, kw = axes
         pairs = _product(b, toe)
-        if self.toe_half:
-            pairs = pairs[2 * pairs[:, 1] <= pairs[:, 0]]
+        pairs = pairs[_toe_within_half(*pairs.T, self.toe_half)]
         thick = _product(tb, ts, tt)
-        thick = thick[(thick[:, 2] <= thick[:, 1]) & (thick[:, 1] <= thick[:, 0])]
+        thick = thick[_thicknesses_close(*thick.T)]
         keys = _product(kd, kw)
-        keys = keys[np.where(keys[:, 0] > 0, keys[:, 1] < max(len(self.key_widths), 1),
-                             keys[:, 1] == 0)]
+        keys = keys[_key_listed(*keys.T, self.key_widths)]
         mesh = np.empty((len(pairs) * len(thick) * len(keys), NDIM), dtype=np.int64)
         mesh[:, :TB] = np.repeat(pairs, len(thick) * len(keys), axis=0)
         mesh[:, TB:KD] = np.tile(np.repeat(thick, len(keys), axis=0), (len(pairs), 1))
@@ -207,6 +205,21 @@ def _product(*axes) -> np.ndarray:
     return np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, len(axes))
 
 
+def _toe_within_half(b, toe, toe_half):
+    """A toe of at most half the base where ``toe_half`` (a bool, or one per row)."""
+    return ~np.asarray(toe_half, dtype=bool) | (2 * toe <= b)
+
+
+def _thicknesses_close(tb, ts, tt):
+    """A stem top no thicker than the stem base, and a base no thinner."""
+    return (tt <= ts) & (tb >= ts)
+
+
+def _key_listed(kd, kw, key_widths):
+    """A key width of the list under a key, and none without (a key depth of 0)."""
+    return np.where(kd > 0, kw < max(len(key_widths), 1), kw == 0)
+
+
 _I32 = np.iinfo(np.int32)
 
 
@@ -229,11 +242,11 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     lo, hi = (np.asarray(x, dtype=np.int32).T for x in (lo, hi))
     ok = (b >= lo[0]) & (b <= hi[0]) & (tb >= lo[1]) & (tb <= hi[1])
     ok &= (ts >= lo[2]) & (ts <= hi[2]) & (tt >= lo[3]) & (tt <= hi[3])
-    ok &= (toe >= 0) & (tt <= ts) & (tb >= ts)
-    ok &= ~np.asarray(toe_half, dtype=bool) | (2 * toe <= b)
+    ok &= (toe >= 0) & _thicknesses_close(tb, ts, tt)
+    ok &= _toe_within_half(b, toe, toe_half)
     ok &= b - toe - ts >= 1  # a heel of at least one step
     ok &= (kd >= 0) & (kd <= len(key_depths)) & (kw >= 0)
-    ok &= np.where(kd > 0, kw < max(len(key_widths), 1), kw == 0)
+    ok &= _key_listed(kd, kw, key_widths)
     keyed = np.flatnonzero(ok & (kd > 0))  # (few rows have a key)
     if key_widths and len(keyed):
         w = np.asarray(key_widths)[kw[keyed]]

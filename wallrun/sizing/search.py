@@ -425,12 +425,10 @@ class Store:
         # with its (ok, cost) in its order once the store is indexed (:meth:`results`)
         none = np.zeros(0, dtype=np.int64)
         self._runs: list[tuple[np.ndarray, tuple]] = [(none, ()), (none, ())]
-        self._indexed = False
         # the record: arrays with room for more rows, and the batches committed since
         # it was last read, written into it at the next read (_n rows in all)
         self._rows: tuple = (np.zeros((0, NDIM), dtype=np.int64), np.zeros(0, dtype=bool),
                              np.zeros(0), np.zeros(0))
-        self._written = 0
         self._pending: list[tuple] = []
         self._n = 0
         self._best: int | None = None
@@ -440,6 +438,11 @@ class Store:
     @property
     def checked(self) -> int:
         return self._n
+
+    @property
+    def _indexed(self) -> bool:
+        """Whether the runs carry their (ok, cost): from the first :meth:`results` on."""
+        return bool(self._runs[0][1])
 
     @property
     def codes(self) -> np.ndarray:
@@ -475,7 +478,7 @@ class Store:
         """The record's arrays, the batches committed since the last read written after
         its rows first (its room doubled when full)."""
         if self._pending:
-            n0 = self._written
+            n0 = self._n - sum(len(part[1]) for part in self._pending)  # rows written
             if self._n > len(self._rows[1]):
                 room = max(self._n, 2 * len(self._rows[1]), 256)
                 grown = []
@@ -489,7 +492,7 @@ class Store:
                 for a, x in zip(self._rows, part):
                     a[n0:n1] = x
                 n0 = n1
-            self._pending, self._written = [], n0
+            self._pending = []
         return self._rows
 
     V = property(lambda self: self._record()[0][:self._n],
@@ -584,7 +587,6 @@ class Store:
             o = np.argsort(c, kind="stable")
             self._runs = [(c[o], (self.ok[o], self.cost[o])),
                           (c[:0], (self.ok[:0], self.cost[:0]))]
-            self._indexed = True
         ok, cost = np.zeros(len(v), dtype=bool), np.full(len(v), np.inf)
         if not (self._n and len(v)):
             return ok, cost
