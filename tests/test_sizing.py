@@ -1662,3 +1662,32 @@ def test_search_finds_a_thinner_base_on_a_wider_one():
     ref, ref_cost = _reference_on_widths(d, basis, 0.1, (80, 82))
     assert ref is not None and ref_cost == pytest.approx(3352.01, abs=0.01)
     assert sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
+def test_screen_in_pieces_gives_the_numbers_of_one_call(monkeypatch):
+    # the structure designed a few rows at a time (evaluate.STRUCTURE_ROWS) gives every
+    # candidate the numbers of one whole call: those passing stability, and the
+    # complete utilizations of a batch in which nothing passes
+    d1, d2 = demand(3.0), demand(4.5)
+    v1 = grid_for(d1, 0.1).every(3)
+    g2 = grid_for(d2, 0.1)
+    v2 = g2.every(4)
+    alone = ev_.screen(g2.sections(v2), Rows.of([d2], [len(v2)]), d2, BASIS, Costing(),
+                       np.zeros(len(v2), dtype=int), np.array([False]))
+    # a batch of d2 in which nothing passes (each failing by a finite margin)
+    v2 = v2[~alone[0] & np.isfinite(alone[2])][:40]
+    g1 = grid_for(d1, 0.1)
+    sec = SectionArrays(**{f: np.concatenate([np.asarray(getattr(s, f), dtype=float)
+                                              for s in (g1.sections(v1), g2.sections(v2))])
+                           for f in ("stem_top_m", "stem_base_m", "base_width_m", "toe_m",
+                                     "base_thickness_m", "key_depth_m", "key_width_m")})
+    rows = Rows.of([d1, d2], [len(v1), len(v2)])
+    seg = np.repeat([0, 1], [len(v1), len(v2)])
+    complete = np.array([False, True])
+    whole = ev_.screen(sec, rows, d1, BASIS, Costing(), seg, complete)
+    monkeypatch.setattr(ev_, "STRUCTURE_ROWS", 7)
+    pieces = ev_.screen(sec, rows, d1, BASIS, Costing(), seg, complete)
+    assert whole[0][:len(v1)].sum() > 7 and not whole[0][len(v1):].any()
+    assert np.isfinite(whole[1][len(v1):]).sum() > 7  # costed: their structure was designed
+    for a, b in zip(whole, pieces):
+        assert np.array_equal(a, b, equal_nan=True)

@@ -44,6 +44,14 @@ TOL = 1e-9
 #: :func:`_stem_moment_at`).
 CURTAIL_DEPTHS = 41
 
+#: Most candidates :func:`screen` designs the structure of in one call. The structure's
+#: temporaries hold a row per bar size and face of each candidate; in pieces this small
+#: they reuse the memory the process already holds, where whole batches of up to the
+#: search's ``CHUNK`` had the system map fresh pages for them at every call (10 km in
+#: one process, 2026-12-05: 0.84 M page faults became 0.30 M and the run took 8 % less
+#: time; the same numbers, each row being its own).
+STRUCTURE_ROWS = 16_384
+
 JOINT_PRESSURE_CLAUSE = ("design-basis section 1 (b): edge pressure ratio at a joint "
                          "(differential settlement, common practice)")
 
@@ -267,6 +275,13 @@ def _curtailed_structure(allx, sec: SectionArrays, rows: Rows, cond, ground: Dem
 
 # --- the search's evaluation -----------------------------------------------------------------
 
+def _pieces(idx: np.ndarray):
+    """``idx`` in consecutive pieces of at most ``STRUCTURE_ROWS`` entries (none when
+    empty)."""
+    size = STRUCTURE_ROWS
+    return (idx[a:a + size] for a in range(0, len(idx), size))
+
+
 def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing: Costing,
            seg: np.ndarray, complete: np.ndarray, caps: np.ndarray | None = None):
     """(ok, cost, utilization) of candidates, (n,) each, for the search; the
@@ -292,8 +307,7 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     stab = list(allx.checks) + _joint_pressure(allx, caps)
     util = max_util(stab, n, lim)  # scaled: passes at <= 1
     steel = np.full(n, np.nan)
-    idx = np.flatnonzero((util <= one) & ~bad)
-    if len(idx):
+    for idx in _pieces(np.flatnonzero((util <= one) & ~bad)):
         part = _curtailed_structure(allx, sec, rows, cond, ground, basis, idx)[0]
         util[idx] = np.maximum(util[idx], max_util(part.checks, len(idx), lim))
         steel[idx] = part.steel_kg_per_m
@@ -301,12 +315,11 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     if np.any(complete):
         passing = np.bincount(seg, weights=ok.astype(float), minlength=len(complete)) > 0
         need = np.asarray(complete, dtype=bool) & ~passing
-        rest = np.flatnonzero(need[seg] & np.isnan(steel))
-        if len(rest):
+        for rest in _pieces(np.flatnonzero(need[seg] & np.isnan(steel))):
             part = _structure_of(allx, sec, h_c, basis, rest)
             util[rest] = np.maximum(util[rest], max_util(part.checks, len(rest), lim))
             steel[rest] = part.steel_kg_per_m
-            ok = (util <= one) & ~bad
+        ok = (util <= one) & ~bad
     hs, D = stem_heights(sec, cond, rows)
     return ok, costing.per_metre(sec, hs, D, steel), util
 
