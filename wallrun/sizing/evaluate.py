@@ -295,7 +295,8 @@ def screen(sec: SectionArrays, rows: Rows, ground: Demand, basis: Basis, costing
     and cost nan. ``seg`` (n,) numbers the batch (demand) of each row; ``complete`` (per batch) asks, when no
     candidate of that batch passes, for the structure of all its candidates too (the
     descent then follows complete utilizations). ``caps`` (n,): an edge-pressure cap per
-    row (``joint_pressure``), inf for none.
+    row (``joint_pressure``), inf for none. The structure is designed in pieces of at
+    most ``STRUCTURE_ROWS`` candidates.
     """
     n = len(sec)
     lim, one = limit(basis), 1.0 + TOL
