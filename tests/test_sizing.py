@@ -73,6 +73,23 @@ def test_grid_candidates_close_and_codes_are_unique():
     assert np.array_equal(g.vector_of(s.take(i)), v[i])
 
 
+def test_codes_pack_each_entry_in_its_bits():
+    # the code of a vector is its entries written one after the other in 12, 12, 10,
+    # 10, 9, 5 and 5 bits (as a plain loop over the entries packs them), entries held
+    # within 0 and their bits' largest
+    from wallrun.sizing.grid import _BITS
+    rng = np.random.default_rng(3)
+    v = np.vstack([rng.integers(0, 40, size=(5000, NDIM)),
+                   [[-3, 5000, 2, 1, 0, 40, 1]]])
+    expect = []
+    for row in v.tolist():
+        c = 0
+        for e, bits in zip(row, _BITS):
+            c = (c << bits) | min(max(e, 0), (1 << bits) - 1)
+        expect.append(c)
+    assert codes(v).tolist() == expect
+
+
 def test_validity_of_entries_beyond_32_bits():
     # valid_rows reads int32 columns: an entry 2**32 away from a valid one (which a
     # plain cast would wrap onto it) or beyond the int32 range never passes

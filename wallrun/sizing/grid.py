@@ -26,9 +26,8 @@ B, TOE, TB, TS, TT, KD, KW = range(NDIM)
 #: Bits of each entry in a candidate's code (:func:`codes`): 63 in all.
 _BITS = (12, 12, 10, 10, 9, 5, 5)
 _MAX = np.array([(1 << b) - 1 for b in _BITS], dtype=np.int64)
-#: The place value of each entry in a code, and the rows :func:`codes` packs by product.
+#: The place value of each entry in a code (:func:`codes`).
 _PLACE = np.array([1 << sum(_BITS[k + 1:]) for k in range(len(_BITS))], dtype=np.int64)
-_FEW = 4096
 
 
 @dataclass(frozen=True)
@@ -256,18 +255,11 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
 
 def codes(v: np.ndarray) -> np.ndarray:
     """One int64 code per integer candidate (for set membership), entries packed in
-    :data:`_BITS` bits each (entries are never negative on a valid grid; an entry is
-    held within 0 and its bits' largest). A few thousand rows are packed as one
-    product with the entries' place values (quicker on few rows), more by shifts."""
+    :data:`_BITS` bits each: the product of the entries with their place values
+    (entries are never negative on a valid grid; an entry is held within 0 and its
+    bits' largest)."""
     v = np.asarray(v, dtype=np.int64).reshape(-1, NDIM)
-    if len(v) <= _FEW:
-        return np.minimum(np.maximum(v, 0), _MAX) @ _PLACE
-    c = np.clip(v, 0, _MAX).T
-    code = c[0].copy()
-    for k in range(1, NDIM):
-        code <<= _BITS[k]
-        code |= c[k]
-    return code
+    return np.clip(v, 0, _MAX) @ _PLACE
 
 
 def grid_for(demand: Demand, step: float, design: Design = Design()) -> Grid:
