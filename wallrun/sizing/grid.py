@@ -226,7 +226,7 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
                key_widths: tuple) -> np.ndarray:
     """Mask of integer candidates (m, NDIM) of one lattice (``step``, key options)
     inside the bounds ``lo``..``hi`` of base width, base thickness, stem base and stem
-    top ((4,), or (m, 4): a row's own) whose sections close: a toe from 0 (to B/2 where
+    top ((4,), or (4, m): a row's own, one column each) whose sections close: a toe from 0 (to B/2 where
     ``toe_half``, a bool or (m,)), a heel of at least one step, the stem top no thicker
     than the stem base and the base no thinner, a key of a listed depth and width that
     fits under the base behind the toe."""
@@ -238,7 +238,7 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     if len(v) and (v.min() < _I32.min or v.max() > _I32.max):
         v = np.clip(v, _I32.min, _I32.max)
     b, toe, tb, ts, tt, kd, kw = v.T.astype(np.int32)
-    lo, hi = (np.asarray(x, dtype=np.int32).T for x in (lo, hi))
+    lo, hi = (np.asarray(x, dtype=np.int32) for x in (lo, hi))
     ok = (b >= lo[0]) & (b <= hi[0]) & (tb >= lo[1]) & (tb <= hi[1])
     ok &= (ts >= lo[2]) & (ts <= hi[2]) & (tt >= lo[3]) & (tt <= hi[3])
     ok &= (toe >= 0) & _thicknesses_close(tb, ts, tt)

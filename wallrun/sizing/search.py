@@ -677,15 +677,13 @@ def fresh_many(stores: list[Store], vs: list) -> list[tuple[np.ndarray, np.ndarr
         j = k + 1
         while j < len(stores) and stores[j].grid.lattice == g.lattice:
             j += 1
-        # each store's bounds as columns (4, stores), taken per row as (4, m) and
-        # handed over as its (m, 4) view (valid_rows reads them by column)
-        lo, hi = (np.array(x, dtype=np.int32).T
+        # each store's bounds as columns (4, stores), repeated over its rows (a
+        # store's rows are consecutive) into a column per row (4, m)
+        lo, hi = (np.repeat(np.array(x, dtype=np.int32).T, counts[k:j], axis=1)
                   for x in zip(*(st.grid.bounds() for st in stores[k:j])))
-        half = np.array([st.grid.toe_half for st in stores[k:j]])
+        half = np.repeat([st.grid.toe_half for st in stores[k:j]], counts[k:j])
         rows = slice(start[k], start[j])
-        r = tid[rows] - k
-        ok[rows] = valid_rows(V[rows], lo[:, r].T, hi[:, r].T, half[r], g.step,
-                              g.key_depths, g.key_widths)
+        ok[rows] = valid_rows(V[rows], lo, hi, half, g.step, g.key_depths, g.key_widths)
         k = j
     V, tid = V[ok], tid[ok]
     c = codes(V)
