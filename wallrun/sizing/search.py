@@ -106,6 +106,9 @@ from .grid import B, KD, KW, NDIM, TB, TOE, TS, TT, Grid, codes, grid_for, valid
 BASIN_TOE_PARTS = 8
 #: Basin starts cost at most this times the best (:func:`basin_starts`).
 BASIN_SPAN = 1.10
+#: Rounds of :func:`basin_moves` once a weak-ground demand's search is done (after its
+#: second descent): the basins the later moves reached get their own descents too.
+LATE_BASIN_ROUNDS = 2
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
 #: About this many values of base width, toe, base thickness, stem base and stem top in
@@ -1299,10 +1302,28 @@ def far_cold_moves(store: Store, lower_bound):
     if store.reach is not FAR or store.best() is None:
         return
     yield from cold_moves(store, lower_bound, FAR_COARSE)
-    for v in [store.V[i].copy() for i in basin_starts(store)]:
-        for cand in descent(store, v, own=True):
-            yield Ask(cand)
-    yield from settle_moves(store)
+    yield from basin_moves(store)
+
+
+def basin_moves(store: Store, rounds: int = 1):
+    """Up to ``rounds`` rounds of: a descent that follows its own path
+    (``descent(own=True)``) from each of :func:`basin_starts` not started from before
+    in this store, then the planes about the best (:func:`settle_moves`). A round
+    ends the moves when every start was taken before. The planes and the descents
+    after them, and a demand's second descent, reach basins no start stood in: on an
+    invented weak wall a 5.08 m panel's search found a 0.55 m base eighteen steps
+    wider than its best on a 0.70 m base only in its second descent (2.7 % dearer
+    than that best), and a descent from there (its jumps: the base eight steps wider
+    again) ended 1.0 % below that best."""
+    for _ in range(rounds):
+        starts = [store.V[i].copy() for i in basin_starts(store)]
+        starts = [v for v in starts if store.first_ask(("basin", v.tobytes()))]
+        if not starts:
+            return
+        for v in starts:
+            for cand in descent(store, v, own=True):
+                yield Ask(cand)
+        yield from settle_moves(store)
 
 
 def basin_starts(store: Store) -> list[int]:
@@ -1781,6 +1802,10 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     # (the second descent takes single steps only)
     checked += _run_by_ground([_Task(t.demand, t.store, settle_moves(t.store))
                                for t in better], basis, costing)
+    # on weak ground, the basins reached since the search's own basin descents
+    checked += _run_by_ground([_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS))
+                               for t in tasks if t.store.reach is FAR
+                               and t.store.best() is not None], basis, costing)
     # 2c. a low wall's whole grid, widened as the exhaustive reference widens it, from
     # its first grid (grid_for's, before the search moved a bound)
     lows = [(t, grid_for(t.demand, step, basis.design)) for t in tasks]
