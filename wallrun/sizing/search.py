@@ -109,6 +109,8 @@ BASIN_SPAN = 1.10
 #: Rounds of :func:`basin_moves` once a weak-ground demand's search is done (after its
 #: second descent): the basins the later moves reached get their own descents too.
 LATE_BASIN_ROUNDS = 2
+#: Their basin starts cost at most this times the best (:func:`basin_starts`).
+LATE_BASIN_SPAN = 1.2
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
 #: About this many values of base width, toe, base thickness, stem base and stem top in
@@ -1305,10 +1307,11 @@ def far_cold_moves(store: Store, lower_bound):
     yield from basin_moves(store)
 
 
-def basin_moves(store: Store, rounds: int = 1):
+def basin_moves(store: Store, rounds: int = 1, span: float = BASIN_SPAN):
     """Up to ``rounds`` rounds of: a descent that follows its own path
-    (``descent(own=True)``) from each of :func:`basin_starts` not started from before
-    in this store, then the planes about the best (:func:`settle_moves`). A round
+    (``descent(own=True)``) from each of :func:`basin_starts` (within ``span``) not
+    started from before in this store, then the planes about the best
+    (:func:`settle_moves`). A round
     ends the moves when every start was taken before. The planes and the descents
     after them, and a demand's second descent, reach basins no start stood in: on an
     invented weak wall a 5.08 m panel's search found a 0.55 m base eighteen steps
@@ -1316,7 +1319,7 @@ def basin_moves(store: Store, rounds: int = 1):
     than that best), and a descent from there (its jumps: the base eight steps wider
     again) ended 1.0 % below that best."""
     for _ in range(rounds):
-        starts = [store.V[i].copy() for i in basin_starts(store)]
+        starts = [store.V[i].copy() for i in basin_starts(store, span)]
         starts = [v for v in starts if store.first_ask(("basin", v.tobytes()))]
         if not starts:
             return
@@ -1326,10 +1329,10 @@ def basin_moves(store: Store, rounds: int = 1):
         yield from settle_moves(store)
 
 
-def basin_starts(store: Store) -> list[int]:
+def basin_starts(store: Store, span: float = BASIN_SPAN) -> list[int]:
     """Indices of the store's cheapest passing candidate of each basin class (ties:
-    lower utilization), in increasing cost, those costing at most ``BASIN_SPAN`` times
-    the best: one per base thickness, toe length in eighths of the base width
+    lower utilization), in increasing cost, those costing at most ``span`` times
+    the best (``BASIN_SPAN`` unless given): one per base thickness, toe length in eighths of the base width
     (``BASIN_TOE_PARTS``) and keyed or not. On weak ground bearing governs, and the
     classes part the basins it makes: a base thickness sets the founding level (a step
     of it founds a step higher or lower, on another overburden), the toe where the
@@ -1341,7 +1344,7 @@ def basin_starts(store: Store) -> list[int]:
     if not len(ok):
         return []
     ok = ok[np.lexsort((store.util[ok], store.cost[ok]))]
-    ok = ok[store.cost[ok] <= BASIN_SPAN * store.best_cost()]
+    ok = ok[store.cost[ok] <= span * store.best_cost()]
     v = store.V[ok]
     cls = np.stack([v[:, TB], (BASIN_TOE_PARTS * v[:, TOE]) // np.maximum(v[:, B], 1),
                     v[:, KD] > 0], axis=1)
@@ -1803,9 +1806,10 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked += _run_by_ground([_Task(t.demand, t.store, settle_moves(t.store))
                                for t in better], basis, costing)
     # on weak ground, the basins reached since the search's own basin descents
-    checked += _run_by_ground([_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS))
-                               for t in tasks if t.store.reach is FAR
-                               and t.store.best() is not None], basis, costing)
+    late = [t for t in tasks if t.store.reach is FAR and t.store.best() is not None]
+    checked += _run_by_ground(
+        [_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS, LATE_BASIN_SPAN))
+         for t in late], basis, costing)
     # 2c. a low wall's whole grid, widened as the exhaustive reference widens it, from
     # its first grid (grid_for's, before the search moved a bound)
     lows = [(t, grid_for(t.demand, step, basis.design)) for t in tasks]
