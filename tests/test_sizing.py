@@ -415,6 +415,28 @@ def test_search_descends_each_basin_on_weak_ground():
     _at_part_reference_on_weak_ground(d, 188, basis, 2796.905)
 
 
+def test_search_descends_the_basins_its_later_moves_reach():
+    # A 5.08 m panel of an invented wall (DA3; backfill 20.6 kN/m3, 36 degrees under a
+    # 20 degree slope; base 19.6 kN/m3, 22 degrees, c' 0; surcharge 5 kPa; wall top
+    # 0.14 m above the retained level; 5 cm grid) on a base about twice its height to
+    # the underside: weak ground (search.FAR). Its search settled at B 10.05, toe 0,
+    # base 0.70, stem 0.30 to 0.25 (4720.2 a metre, 1.03 % above the cheapest below).
+    # Its second descent reached a 0.55 m base 10.95 m wide, 2.7 % dearer than that
+    # best, and stopped there; a descent that follows its own path from there (a late
+    # round of search.basin_moves) takes its jumps to a base 0.40 m wider again, and
+    # reaches B 11.35, toe 0.95, base 0.55, stem 0.30 to 0.25 at 4672.07 a metre. The
+    # reference is taken on the 11.35 m base width alone: the whole grid's (174 s)
+    # gives the same section.
+    basis = Basis(factors=resolve("DA3"), design=Design(approach="DA3"))
+    d = Demand(z_top=69.76, z_front=64.679,
+               backfill=Backfill(unit_weight_kn_m3=20.6, friction_angle_deg=36.0,
+                                 slope_deg=20.0),
+               foundation=Foundation(unit_weight_kn_m3=19.6, friction_angle_deg=22.0),
+               surcharge_kpa=5.0, water=None, wall_top_m=69.9, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    _at_part_reference_on_weak_ground(d, 227, basis, 4672.071)
+
+
 def test_a_move_asked_again_of_a_store_changes_nothing(monkeypatch):
     # On weak ground many descents of one demand settle at the same sections and ask
     # their jumps, toe lines and neighbourhoods again (Store.first_ask): those asks are
