@@ -72,8 +72,10 @@ and, after its search, a cold start of its own (:func:`far_cold_moves`, on a coa
 with about twice the base thicknesses, ``FAR_COARSE``: there the sections that pass
 can lie at one base thickness), then a descent from the cheapest section of each basin
 class it checked (:func:`basin_starts`) that follows its own path to the bottom of its
-basin (``descent(own=True)``; a plain descent goes back to the store's best). Elsewhere
-the search is as it was without ``FAR``.
+basin (``descent(own=True)``; a plain descent goes back to the store's best), and,
+after its second descent, the same again from the basins the later moves reached
+(:func:`basin_moves`, ``LATE_BASIN_ROUNDS``). Elsewhere the search is as it was
+without ``FAR``.
 
 The figures in the comments of the moves below were measured when a face took its
 cheapest bars even where they failed their shear or bend check (before 2026-12-03's
@@ -108,11 +110,14 @@ BASIN_TOE_PARTS = 8
 BASIN_SPAN = 1.10
 #: Rounds of :func:`basin_moves` once a weak-ground demand's search is done (after its
 #: second descent), from basins up to ``LATE_BASIN_SPAN`` times the best: the basins
-#: the later moves reached get their own descents too. On the 56 demands of the 70
-#: invented walls then over 0.5 % above the best section known (searched together),
-#: two rounds at 1.10 took none of them to it, two at 1.2 took 14 (20 % more
-#: candidates), five at 1.2 took 23 (35 %), and twenty at 1.2 the same 23 (39 %).
-LATE_BASIN_ROUNDS = 5
+#: the later moves reached get their own descents too. Of the 56 demands of the 70
+#: invented walls that two rounds from basins up to 1.10 times the best left over 0.5 %
+#: above the best section known (searched together), two rounds up to 1.2 took 14 to
+#: within it (20 % more candidates), five rounds 23 (35 %), twenty the same 23 (39 %).
+#: Five rounds took seed 71's ten walls 2.3 times as long as the search before them (a
+#: descent from a new start soon walks a path an earlier one walked, asking nothing
+#: new but reading the store at every step); two are kept.
+LATE_BASIN_ROUNDS = 2
 LATE_BASIN_SPAN = 1.2
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
