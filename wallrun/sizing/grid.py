@@ -226,10 +226,10 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
                key_widths: tuple) -> np.ndarray:
     """Mask of integer candidates (m, NDIM) of one lattice (``step``, key options)
     inside the bounds ``lo``..``hi`` of base width, base thickness, stem base and stem
-    top ((4,), or (4, m): a row's own, one column each) whose sections close: a toe from 0 (to B/2 where
-    ``toe_half``, a bool or (m,)), a heel of at least one step, the stem top no thicker
-    than the stem base and the base no thinner, a key of a listed depth and width that
-    fits under the base behind the toe."""
+    top ((4,), or (4, m): each row's own, one column per row) whose sections close: a
+    toe from 0 (to B/2 where ``toe_half``, a bool or (m,)), a heel of at least one
+    step, the stem top no thicker than the stem base and the base no thinner, a key of
+    a listed depth and width that fits under the base behind the toe."""
     # contiguous int32 columns first (every test below reads whole columns; int32
     # halves the memory they read): entries beyond its range are held at its ends,
     # where the tests fail them as they fail the entries themselves (a cast of the

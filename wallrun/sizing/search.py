@@ -1319,8 +1319,8 @@ def basin_moves(store: Store, rounds: int = 1, span: float = BASIN_SPAN):
     """Up to ``rounds`` rounds of: a descent that follows its own path
     (``descent(own=True)``) from each of :func:`basin_starts` (within ``span``) not
     started from before in this store, then the planes about the best
-    (:func:`settle_moves`). A round
-    ends the moves when every start was taken before. The planes and the descents
+    (:func:`settle_moves`); the moves end at a round whose every start was taken
+    before. The planes and the descents
     after them, and a demand's second descent, reach basins no start stood in: on an
     invented weak wall a 5.08 m panel's search found a 0.55 m base eighteen steps
     wider than its best on a 0.70 m base only in its second descent (2.7 % dearer
@@ -1339,15 +1339,16 @@ def basin_moves(store: Store, rounds: int = 1, span: float = BASIN_SPAN):
 
 def basin_starts(store: Store, span: float = BASIN_SPAN) -> list[int]:
     """Indices of the store's cheapest passing candidate of each basin class (ties:
-    lower utilization), in increasing cost, those costing at most ``span`` times
-    the best (``BASIN_SPAN`` unless given): one per base thickness, toe length in eighths of the base width
-    (``BASIN_TOE_PARTS``) and keyed or not. On weak ground bearing governs, and the
-    classes part the basins it makes: a base thickness sets the founding level (a step
-    of it founds a step higher or lower, on another overburden), the toe where the
-    resultant falls, and a key the sliding resistance. A descent from each that follows
-    its own path (``descent(own=True)``) settles at the bottom of its basin. (Every
-    class, not only those within ``BASIN_SPAN``: on three of the 70 walls 18 demands
-    more over 0.5 % cheaper, for 40 to 53 % more candidates.)"""
+    lower utilization), in increasing cost, those costing at most ``span`` times the
+    best (``BASIN_SPAN`` unless given): one per base thickness, toe length in eighths
+    of the base width (``BASIN_TOE_PARTS``) and keyed or not. On weak ground bearing
+    governs, and the classes part the basins it makes: a base thickness sets the
+    founding level (a step of it founds a step higher or lower, on another
+    overburden), the toe where the resultant falls, and a key the sliding resistance.
+    A descent from each that follows its own path (``descent(own=True)``) settles at
+    the bottom of its basin. (Every class, not only those within ``BASIN_SPAN``: on
+    three of the 70 walls 18 demands more over 0.5 % cheaper, for 40 to 53 % more
+    candidates.)"""
     ok = np.flatnonzero(store.ok)
     if not len(ok):
         return []
@@ -1485,9 +1486,8 @@ def second_moves(store: Store, start):
     cheaper than the first search's, and the planes about it one 3.3 % cheaper again).
     On the invented tall wall over undrained clay (``benchmarks/sites/tall-clay``) one
     panel ended 0.95 % above the grid's cheapest without it and at the cheapest with
-    it. Where it
-    finds a better section on a bound a wider grid could move, the bound moves
-    (:func:`rebound_moves`)."""
+    it. Where it finds a better section on a bound a wider grid could move, the bound
+    moves (:func:`rebound_moves`)."""
     for cand in descent(store, start, polish=False, max_jumps=0, toe_line=False,
                         overstress=OVERSTRESS_WEIGHT):
         yield Ask(cand)
