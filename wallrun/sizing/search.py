@@ -1321,12 +1321,11 @@ def basin_moves(store: Store, rounds: int = 1, span: float = BASIN_SPAN):
     (``descent(own=True)``) from each of :func:`basin_starts` (within ``span``) not
     started from before in this store, then the planes about the best
     (:func:`settle_moves`); the moves end at a round whose every start was taken
-    before. The planes and the descents
-    after them, and a demand's second descent, reach basins no start stood in: on an
-    invented weak wall a 5.08 m panel's search found a 0.55 m base eighteen steps
-    wider than its best on a 0.70 m base only in its second descent (2.7 % dearer
-    than that best), and a descent from there (its jumps: the base eight steps wider
-    again) ended 1.0 % below that best."""
+    before. The planes and the descents after them, and a demand's second descent,
+    reach basins no start stood in: on an invented weak wall a 5.08 m panel's search
+    found a 0.55 m base eighteen steps wider than its best on a 0.70 m base only in
+    its second descent (2.7 % dearer than that best), and a descent from there (its
+    jumps: the base eight steps wider again) ended 1.0 % below that best."""
     for _ in range(rounds):
         starts = [store.V[i].copy() for i in basin_starts(store, span)]
         starts = [v for v in starts if store.first_ask(("basin", v.tobytes()))]
