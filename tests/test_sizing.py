@@ -138,6 +138,14 @@ def test_validity_is_that_of_the_rules_one_by_one():
         want = np.array([_valid_plain(g, x) for x in v])
         assert want.sum() > 50 and (want & (v[:, 5] > 0)).sum() > 20
         assert np.array_equal(g.valid(v), want)
+        # the key rule alone (the search's filter of a keyed neighbourhood): the plain
+        # rule's key part, whatever the other entries
+        keys = np.array([kd == kw == 0 or (0 < kd <= len(g.key_depths)
+                                           and 0 <= kw < max(len(g.key_widths), 1))
+                         for kd, kw in v[:, 5:].tolist()])
+        assert 0 < keys.sum() < len(v)
+        assert np.array_equal(g.keys_listed(v), keys)
+        assert not np.any(g.valid(v) & ~g.keys_listed(v))
 
 
 def test_every_is_each_valid_combination_of_the_axes():

@@ -67,6 +67,12 @@ class Grid:
         return valid_rows(v, np.array(lo), np.array(hi), self.toe_half, self.step,
                           self.key_depths, self.key_widths)
 
+    def keys_listed(self, v: np.ndarray) -> np.ndarray:
+        """Mask of integer candidates (m, NDIM) whose key entries are a listed option
+        (:func:`key_listed`), whatever their other entries."""
+        v = np.asarray(v).reshape(-1, NDIM)
+        return key_listed(v[:, KD], v[:, KW], self.key_depths, self.key_widths)
+
     def sections(self, v: np.ndarray) -> SectionArrays:
         """The sections of integer candidates (m, NDIM), m."""
         s = self.step
@@ -131,7 +137,7 @@ class Grid:
         thick = _product(tb, ts, tt)
         thick = thick[_thicknesses_close(*thick.T)]
         keys = _product(kd, kw)
-        keys = keys[_key_listed(*keys.T, self.key_widths)]
+        keys = keys[key_listed(*keys.T, self.key_depths, self.key_widths)]
         mesh = np.empty((len(pairs) * len(thick) * len(keys), NDIM), dtype=np.int64)
         mesh[:, :TB] = np.repeat(pairs, len(thick) * len(keys), axis=0)
         mesh[:, TB:KD] = np.tile(np.repeat(thick, len(keys), axis=0), (len(pairs), 1))
@@ -214,9 +220,13 @@ def _thicknesses_close(tb, ts, tt):
     return (tt <= ts) & (tb >= ts)
 
 
-def _key_listed(kd, kw, key_widths):
-    """A key width of the list under a key, and none without (a key depth of 0)."""
-    return np.where(kd > 0, kw < max(len(key_widths), 1), kw == 0)
+def key_listed(kd, kw, key_depths: tuple, key_widths: tuple):
+    """Mask of key entries (depth index ``kd``, width index ``kw``) that are a listed
+    option: no key (depth 0, width 0), or a depth of the list (1 to its length) with a
+    width of the list (0 to its length less one). The grid's rule for keys, wherever
+    candidates are made or filtered."""
+    return (kd >= 0) & (kd <= len(key_depths)) & (kw >= 0) & np.where(
+        kd > 0, kw < max(len(key_widths), 1), kw == 0)
 
 
 _I32 = np.iinfo(np.int32)
@@ -244,8 +254,7 @@ def valid_rows(v: np.ndarray, lo, hi, toe_half, step: float, key_depths: tuple,
     ok &= (toe >= 0) & _thicknesses_close(tb, ts, tt)
     ok &= _toe_within_half(b, toe, toe_half)
     ok &= b - toe - ts >= 1  # a heel of at least one step
-    ok &= (kd >= 0) & (kd <= len(key_depths)) & (kw >= 0)
-    ok &= _key_listed(kd, kw, key_widths)
+    ok &= key_listed(kd, kw, key_depths, key_widths)
     keyed = np.flatnonzero(ok & (kd > 0))  # (few rows have a key)
     if key_widths and len(keyed):
         w = np.asarray(key_widths)[kw[keyed]]

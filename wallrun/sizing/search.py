@@ -758,16 +758,6 @@ _FULL[:, :5] = _offsets(5)
 _FULL_KEYED = _offsets(NDIM)
 
 
-def _keys_close(v: np.ndarray, grid: Grid) -> np.ndarray:
-    """Mask of the integer candidates ``v`` whose key entries are a listed option (no
-    key, or a listed depth with a listed width): two thirds of a full neighbourhood
-    are not, and are dropped before the driver's validity filter (which would drop
-    them too)."""
-    kd, kw = v[:, KD], v[:, KW]
-    return (kd >= 0) & (kd <= len(grid.key_depths)) & np.where(
-        kd > 0, (kw >= 0) & (kw < max(len(grid.key_widths), 1)), kw == 0)
-
-
 def _jump_window(reach: int) -> np.ndarray:
     """The moves of :func:`jumps`' window: base thickness by each of ``JUMP_BASE``
     steps and stem base by each of ``JUMP_STEM``, each with the base width moved by up
@@ -1084,8 +1074,10 @@ def descent(store: Store, start, max_iter: int = 60, extra=None, polish: bool = 
     for _ in range(max_iter):
         if use_full:
             if cur[KD] > 0:
+                # two thirds of a keyed neighbourhood are keys not listed: dropped
+                # here, before the driver's validity filter (which would drop them too)
                 cand = cur[None, :] + _FULL_KEYED
-                cand = cand[_keys_close(cand, store.grid)]
+                cand = cand[store.grid.keys_listed(cand)]
             else:
                 cand = cur[None, :] + _FULL
         else:
