@@ -423,6 +423,37 @@ def test_search_descends_each_basin_on_weak_ground():
     _at_part_reference_on_weak_ground(d, 188, basis, 2796.905)
 
 
+def test_search_descends_the_basins_its_references_descended():
+    # A 6.77 m panel of an invented wall (DA2; backfill 18.8 kN/m3, 34 degrees under a
+    # 16 degree slope; base 17.4 kN/m3, 27 degrees, c' 5 kPa, cu 61 kPa; surcharge 5 kPa;
+    # 10 cm grid) on a base wider than the wall is high: weak ground (search.FAR). Its
+    # own starts, basin classes and late rounds settled at B 8.80, toe 4.90, base 0.60,
+    # stem 0.50 to 0.30 (4743.21 a metre, 1.10 % above the cheapest below). Its
+    # references' searches, each followed by a descent from every basin class within
+    # search.REF_BASIN_SPAN of its best, hand it those basins' cheapest, and a descent
+    # from them reaches B 8.90, toe 5.00, base 0.50, stem 0.50 whole (4691.76 a metre):
+    # a toe beyond half the base, and a stem top thicker than its first bound, both
+    # moved as the search moves a bound its best sits on. The reference is taken on the
+    # 8.90 m width alone with those two bounds moved.
+    basis = Basis(factors=resolve("DA2"), design=Design(approach="DA2",
+                                                        dimension_step_m=0.1))
+    d = Demand(z_top=72.416, z_front=65.645,
+               backfill=Backfill(unit_weight_kn_m3=18.8, friction_angle_deg=34.0,
+                                 slope_deg=16.0),
+               foundation=Foundation(unit_weight_kn_m3=17.4, friction_angle_deg=27.0,
+                                     cohesion_kpa=5.0, undrained_strength_kpa=61.0),
+               surcharge_kpa=5.0, water=None, wall_top_m=72.45, min_founding_depth_m=0.6,
+               founding_step_m=0.15)
+    sd = bespoke([d], basis, Costing(), 0.1)[0]
+    g = grid_for(d, 0.1, basis.design)
+    part = type(g)(**{**g.__dict__, "b": (89, 89), "tt": (g.tt[0], g.ts[1]),
+                      "toe_half": False})
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1, grid=part, widen=False)
+    assert ref_cost == pytest.approx(4691.757, abs=0.01)
+    assert sd.status == "ok" and sd.section.base_width_m >= search.far_from(d)
+    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+
+
 def test_search_descends_the_basins_its_later_moves_reach():
     # A 5.08 m panel of an invented wall (DA3; backfill 20.6 kN/m3, 36 degrees under a
     # 20 degree slope; base 19.6 kN/m3, 22 degrees, c' 0; surcharge 5 kPa; wall top
@@ -1546,7 +1577,7 @@ def test_reference_searched_again_from_its_lattice_neighbours():
             mp.setattr(search, "NEIGHBOURS", neighbours)
             bespoke([d], basis, Costing(), 0.1, references=refs)
         g = grid_for(d, 0.1, basis.design)
-        sec = g.sections(refs[d][None, :])
+        sec = g.sections(refs[d].best[None, :])
         return float(ev_.evaluate(sec, Rows.of([d], [1]), d, basis, Costing()).cost[0])
 
     cold = reference_cost(0)

@@ -74,8 +74,12 @@ can lie at one base thickness), then a descent from the cheapest section of each
 class it checked (:func:`basin_starts`) that follows its own path to the bottom of its
 basin (``descent(own=True)``; a plain descent goes back to the store's best), and,
 after its second descent, the same again from the basins the later moves reached
-(:func:`basin_moves`, ``LATE_BASIN_ROUNDS``). Elsewhere the search is as it was
-without ``FAR``.
+(:func:`basin_moves`, ``LATE_BASIN_ROUNDS``), and last from the basins its
+references descended: a reference demand that looks far descends from each basin
+class of its own search too, and hands the cheapest of each to the demands next to it
+(:class:`Reference`, ``REF_BASIN_SPAN``, :func:`handed_basins`; its best section, their
+first start, stays that of its search). Elsewhere the search is as it was without
+``FAR``.
 
 The figures in the comments of the moves below were measured when a face took its
 cheapest bars even where they failed their shear or bend check (before 2026-12-03's
@@ -120,6 +124,11 @@ BASIN_SPAN = 1.10
 #: two are kept.
 LATE_BASIN_ROUNDS = 2
 LATE_BASIN_SPAN = 1.2
+#: On weak ground, a reference demand's search is followed by a descent from each basin
+#: class within this many times its best (:func:`basin_moves`, one round), and the
+#: cheapest of each class within it is handed to the demands next to it, which descend
+#: from them last (:class:`Reference`, :func:`handed_basins`).
+REF_BASIN_SPAN = 1.10
 #: Retained-height lattice of the reference demands, m.
 REF_STEP_M = 0.25
 #: About this many values of base width, toe, base thickness, stem base and stem top in
@@ -1319,14 +1328,31 @@ def basin_moves(store: Store, rounds: int = 1, span: float = BASIN_SPAN):
     its second descent (2.7 % dearer than that best), and a descent from there (its
     jumps: the base eight steps wider again) ended 1.0 % below that best."""
     for _ in range(rounds):
-        starts = [store.V[i].copy() for i in basin_starts(store, span)]
-        starts = [v for v in starts if store.first_ask(("basin", v.tobytes()))]
-        if not starts:
+        starts = [store.V[i] for i in basin_starts(store, span)]
+        if not (yield from own_descents(store, starts)):
             return
-        for v in starts:
-            for cand in descent(store, v, own=True):
-                yield Ask(cand)
+
+
+def own_descents(store: Store, starts):
+    """A descent that follows its own path (``descent(own=True)``) from each of the
+    integer candidates ``starts`` not started from before in this store (in this way,
+    by :func:`basin_moves` or :func:`handed_basins`: ``Store.first_ask``), then, where
+    there was any, the planes about the best (:func:`settle_moves`). Returns whether
+    there was any."""
+    starts = [np.array(v, dtype=np.int64) for v in starts]
+    starts = [v for v in starts if store.first_ask(("basin", v.tobytes()))]
+    for v in starts:
+        for cand in descent(store, v, own=True):
+            yield Ask(cand)
+    if starts:
         yield from settle_moves(store)
+    return bool(starts)
+
+
+def handed_basins(demand: Demand, known: dict) -> list[np.ndarray]:
+    """The basins handed by ``demand``'s references (:class:`Reference`), the taller
+    reference's first."""
+    return [v for h in reference_heights(demand.h) for v in known[reference(demand, h)].basins]
 
 
 def basin_starts(store: Store, span: float = BASIN_SPAN) -> list[int]:
@@ -1717,6 +1743,18 @@ def not_designable(demand: Demand, basis: Basis, costing: Costing,
 
 # --- the bespoke designs ----------------------------------------------------------------------
 
+@dataclass(frozen=True, eq=False)
+class Reference:
+    """What the search of a reference demand hands the demands next to it: its best
+    integer vector (None where nothing passed), the start of their descents, and on
+    weak ground (``FAR``) the cheapest of each basin class it descended within
+    ``REF_BASIN_SPAN`` of its best (:func:`basin_starts`; () elsewhere), from which
+    each of them descends last (:func:`own_descents`)."""
+
+    best: np.ndarray | None
+    basins: tuple = ()
+
+
 @dataclass(frozen=True)
 class SearchStats:
     """What a search did: candidates checked, demands searched, references searched."""
@@ -1732,8 +1770,8 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     """The bespoke design of each of ``demands`` (in their order), each distinct demand
     searched once (see the module docstring). ``stats``: a list to which a
     :class:`SearchStats` is appended. ``references``: the reference searches already
-    made with this basis, costing and step (reference demand -> its best integer vector,
-    None where nothing passed), which are not searched again; those searched here are
+    made with this basis, costing and step (reference demand -> its :class:`Reference`),
+    which are not searched again; those searched here are
     added to it (a reference's search depends on the reference demand alone, so the
     designs are the same with or without it)."""
     step = float(step if step is not None else basis.design.dimension_step_m)
@@ -1775,15 +1813,28 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked_refs += _run_by_ground([a for _, a in again], basis, costing)
     for t, a in again:
         t.store.absorb(a.store)
+    best_of = {r: None if ref_tasks[r].store.best() is None else ref_tasks[r].store.best_vector()
+               for r in refs}
+    # on weak ground, a descent from each basin class of the reference's search: what
+    # its demands descend from last (the reference's best, their first start, stays
+    # that of its search)
+    far = [ref_tasks[r] for r in refs
+           if ref_tasks[r].store.reach is FAR and best_of[r] is not None]
+    checked_refs += _run_by_ground(
+        [_Task(t.demand, t.store, basin_moves(t.store, 1, REF_BASIN_SPAN)) for t in far],
+        basis, costing)
     for r in refs:
-        known[r] = None if ref_tasks[r].store.best() is None else ref_tasks[r].store.best_vector()
+        st = ref_tasks[r].store
+        basins = (tuple(st.V[i].copy() for i in basin_starts(st, REF_BASIN_SPAN))
+                  if st.reach is FAR and best_of[r] is not None else ())
+        known[r] = Reference(best_of[r], basins)
 
     # 2. the demands, from their references' best sections
     tasks, starts_of = [], []
     for d in todo:
         s = Store(grid_for(d, step, basis.design), far_from_m=far_from(d))
-        starts = [known[reference(d, h)].copy() for h in reference_heights(d.h)
-                  if known[reference(d, h)] is not None]
+        starts = [known[reference(d, h)].best.copy() for h in reference_heights(d.h)
+                  if known[reference(d, h)].best is not None]
         starts_of.append(starts)
         tasks.append(_Task(d, s, search_moves(s, lb_of(d, s.grid), starts)))
     checked = checked_refs + _run_by_ground(tasks, basis, costing)
@@ -1809,6 +1860,10 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     late = [t for t in tasks if t.store.reach is FAR and t.store.best() is not None]
     checked += _run_by_ground(
         [_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS, LATE_BASIN_SPAN))
+         for t in late], basis, costing)
+    # then from the basins its references descended that none of its starts stood in
+    checked += _run_by_ground(
+        [_Task(t.demand, t.store, own_descents(t.store, handed_basins(t.demand, known)))
          for t in late], basis, costing)
     # 2c. a low wall's whole grid, widened as the exhaustive reference widens it, from
     # its first grid (grid_for's, before the search moved a bound)
