@@ -238,15 +238,17 @@ def _search_and_reference(d: Demand, basis: Basis, step: float = 0.05):
     return sd, ref_cost
 
 
-def _search_and_part_reference(d: Demand, widths: tuple[int, int], basis: Basis = BASIS):
-    """The search's design of ``d`` on a 5 cm grid, and the cheapest passing section of
-    the part of its grid with base widths ``widths`` (in steps) and its cost."""
+def _search_and_part_reference(d: Demand, widths: tuple[int, int], basis: Basis = BASIS,
+                               step: float = 0.05, moved: tuple[str, ...] = ()):
+    """The search's design of ``d`` on a grid of ``step`` (m), and the cheapest passing
+    section of the part of its grid with base widths ``widths`` (in steps), the bounds
+    named in ``moved`` moved as ``Grid.widened`` moves them, and its cost."""
     from dataclasses import replace as _replace
 
     from wallrun.sizing.grid import grid_for
-    sd = bespoke([d], basis, Costing(), 0.05)[0]
-    part = _replace(grid_for(d, 0.05, basis.design), b=widths)
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.05, grid=part, widen=False)
+    sd = bespoke([d], basis, Costing(), step)[0]
+    part = _replace(grid_for(d, step, basis.design).widened(moved), b=widths)
+    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), step, grid=part, widen=False)
     assert sd.status == "ok" and ref is not None
     return sd, ref_cost
 
@@ -318,12 +320,13 @@ def test_search_on_a_tall_wall_over_wet_low_friction_ground():
 
 
 def _at_part_reference_on_weak_ground(d: Demand, width: int, basis: Basis,
-                                      ref_cost_expected: float) -> None:
+                                      ref_cost_expected: float, step: float = 0.05,
+                                      moved: tuple[str, ...] = ()) -> None:
     """The search's design of the weak-ground demand ``d`` (its base at least
     ``search.far_from``) costs within 0.5 % of the cheapest passing section of the
-    part of its grid of one base width ``width`` (steps), which costs
-    ``ref_cost_expected``."""
-    sd, ref_cost = _search_and_part_reference(d, (width, width), basis)
+    part of its grid (``step``, m; the bounds ``moved`` moved) of one base width
+    ``width`` (steps), which costs ``ref_cost_expected``."""
+    sd, ref_cost = _search_and_part_reference(d, (width, width), basis, step, moved)
     assert ref_cost == pytest.approx(ref_cost_expected, abs=0.01)
     assert sd.section.base_width_m >= search.far_from(d)
     assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
@@ -444,14 +447,8 @@ def test_search_descends_the_basins_its_references_descended():
                                      cohesion_kpa=5.0, undrained_strength_kpa=61.0),
                surcharge_kpa=5.0, water=None, wall_top_m=72.45, min_founding_depth_m=0.6,
                founding_step_m=0.15)
-    sd = bespoke([d], basis, Costing(), 0.1)[0]
-    g = grid_for(d, 0.1, basis.design)
-    part = type(g)(**{**g.__dict__, "b": (89, 89), "tt": (g.tt[0], g.ts[1]),
-                      "toe_half": False})
-    ref, ref_cost = cheapest_on_grid(d, basis, Costing(), 0.1, grid=part, widen=False)
-    assert ref_cost == pytest.approx(4691.757, abs=0.01)
-    assert sd.status == "ok" and sd.section.base_width_m >= search.far_from(d)
-    assert ref_cost * 0.995 <= sd.cost_per_m <= ref_cost * 1.005, (sd.cost_per_m, ref_cost)
+    _at_part_reference_on_weak_ground(d, 89, basis, 4691.757, step=0.1,
+                                      moved=("tt_hi", "toe_hi"))
 
 
 def test_search_descends_the_basins_its_later_moves_reach():
