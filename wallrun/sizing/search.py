@@ -1861,7 +1861,7 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked += _run_by_ground(
         [_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS, LATE_BASIN_SPAN))
          for t in late], basis, costing)
-    # then from the basins its references descended that none of its starts stood in
+    # then from the basins its references descended (those it has not started from)
     checked += _run_by_ground(
         [_Task(t.demand, t.store, own_descents(t.store, handed_basins(t.demand, known)))
          for t in late], basis, costing)
