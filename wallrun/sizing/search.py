@@ -1349,6 +1349,15 @@ def own_descents(store: Store, starts):
     return bool(starts)
 
 
+def late_moves(store: Store, handed):
+    """After a weak-ground demand's second descent: ``LATE_BASIN_ROUNDS`` rounds of
+    :func:`basin_moves` (from basins up to ``LATE_BASIN_SPAN`` times the best), then
+    the descents from the sections its references hand it (:func:`handed_basins`) that
+    it has not started from (:func:`own_descents`)."""
+    yield from basin_moves(store, LATE_BASIN_ROUNDS, LATE_BASIN_SPAN)
+    yield from own_descents(store, handed)
+
+
 def handed_basins(demand: Demand, known: dict) -> list[np.ndarray]:
     """The basins handed by ``demand``'s references (:class:`Reference`), the taller
     reference's first."""
@@ -1823,11 +1832,10 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     checked_refs += _run_by_ground(
         [_Task(t.demand, t.store, basin_moves(t.store, 1, REF_BASIN_SPAN)) for t in far],
         basis, costing)
+    basins = {t.demand: tuple(t.store.V[i].copy() for i in basin_starts(t.store, REF_BASIN_SPAN))
+              for t in far}
     for r in refs:
-        st = ref_tasks[r].store
-        basins = (tuple(st.V[i].copy() for i in basin_starts(st, REF_BASIN_SPAN))
-                  if st.reach is FAR and best_of[r] is not None else ())
-        known[r] = Reference(best_of[r], basins)
+        known[r] = Reference(best_of[r], basins.get(r, ()))
 
     # 2. the demands, from their references' best sections
     tasks, starts_of = [], []
@@ -1856,15 +1864,12 @@ def bespoke(demands, basis: Basis, costing: Costing = Costing(), step: float | N
     # (the second descent takes single steps only)
     checked += _run_by_ground([_Task(t.demand, t.store, settle_moves(t.store))
                                for t in better], basis, costing)
-    # on weak ground, the basins reached since the search's own basin descents
-    late = [t for t in tasks if t.store.reach is FAR and t.store.best() is not None]
+    # on weak ground, the basins reached since the search's own basin descents, then
+    # those its references descended
     checked += _run_by_ground(
-        [_Task(t.demand, t.store, basin_moves(t.store, LATE_BASIN_ROUNDS, LATE_BASIN_SPAN))
-         for t in late], basis, costing)
-    # then from the basins its references descended (those it has not started from)
-    checked += _run_by_ground(
-        [_Task(t.demand, t.store, own_descents(t.store, handed_basins(t.demand, known)))
-         for t in late], basis, costing)
+        [_Task(t.demand, t.store, late_moves(t.store, handed_basins(t.demand, known)))
+         for t in tasks if t.store.reach is FAR and t.store.best() is not None],
+        basis, costing)
     # 2c. a low wall's whole grid, widened as the exhaustive reference widens it, from
     # its first grid (grid_for's, before the search moved a bound)
     lows = [(t, grid_for(t.demand, step, basis.design)) for t in tasks]
